@@ -1,0 +1,3 @@
+from reviewapp.cli import main
+
+raise SystemExit(main())

@@ -1,0 +1,1 @@
+"""Signal, measurement and marks logic. Never imports Qt."""

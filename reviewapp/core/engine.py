@@ -1,0 +1,164 @@
+"""The measurement pipeline: record -> beats -> fiducials (auto, then overrides) -> measurements.
+
+``analyse`` does the expensive part once per record (conditioning, beat detection, grouping,
+representative beat, delineation). ``Analysis.reading(overrides)`` applies reviewer overrides
+and recomputes every measurement and finding; it re-detects nothing, so it is cheap enough to
+run on every caliper or mark drag.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable
+from dataclasses import dataclass, replace
+
+import numpy as np
+
+from reviewapp import __version__
+from reviewapp.core.dsp.beats import classify_beats, representative_beat
+from reviewapp.core.dsp.delineate import delineate_beats, delineate_representative
+from reviewapp.core.dsp.filters import condition
+from reviewapp.core.dsp.qrs import detect_qrs
+from reviewapp.core.fiducials import (
+    Beat,
+    MarkedECG,
+    MarkOverride,
+    RepresentativeBeat,
+    WaveMarks,
+    match_beat,
+)
+from reviewapp.core.measure import Finding, Measurements, compute_measurements, evaluate_findings
+from reviewapp.core.record import Record
+
+ENGINE_VERSION = __version__
+
+
+@dataclass(frozen=True, eq=False)
+class Reading:
+    """Measurements and findings for one record under one set of overrides."""
+
+    marked: MarkedECG
+    measurements: Measurements
+    findings: tuple[Finding, ...]
+    overrides: tuple[MarkOverride, ...]
+    unmatched_overrides: tuple[MarkOverride, ...]  # beat overrides whose beat was not found
+
+
+@dataclass(frozen=True, eq=False)
+class Analysis:
+    """Automatic result for one record (no reviewer input)."""
+
+    record: Record
+    conditioned_mv: np.ndarray
+    usable: tuple[bool, ...]
+    beats: tuple[Beat, ...]
+    beat_marks: tuple[WaveMarks, ...]
+    beat_lead_marks: tuple[tuple[WaveMarks, ...], ...]
+    representative: RepresentativeBeat | None
+    notes: tuple[str, ...] = ()
+    engine_version: str = ENGINE_VERSION
+
+    @property
+    def fs_hz(self) -> float:
+        return self.record.fs_hz
+
+    def marked(self, overrides: Iterable[MarkOverride] = ()) -> tuple[MarkedECG, tuple[MarkOverride, ...]]:
+        """Apply overrides to the automatic marks; returns the marked ECG and unmatched overrides."""
+        names = self.record.lead_names
+        beat_marks = list(self.beat_marks)
+        beat_lead = [list(row) for row in self.beat_lead_marks]
+        rep = self.representative
+        rep_marks = rep.marks if rep is not None else None
+        rep_lead = list(rep.lead_marks) if rep is not None else []
+        unmatched: list[MarkOverride] = []
+        for ov in overrides:
+            lead_i = None
+            if ov.lead is not None:
+                try:
+                    lead_i = self.record.lead_index(ov.lead)
+                except KeyError:
+                    unmatched.append(ov)
+                    continue
+            if ov.scope == "representative":
+                if rep is None or rep_marks is None:
+                    unmatched.append(ov)
+                elif lead_i is None:
+                    rep_marks = rep_marks.with_mark(ov.fiducial, ov.sample)
+                else:
+                    rep_lead[lead_i] = rep_lead[lead_i].with_mark(ov.fiducial, ov.sample)
+                continue
+            bi = match_beat(self.beats, int(ov.beat_r or 0), self.fs_hz)
+            if bi is None:
+                unmatched.append(ov)
+            elif lead_i is None:
+                beat_marks[bi] = beat_marks[bi].with_mark(ov.fiducial, ov.sample)
+            else:
+                beat_lead[bi][lead_i] = beat_lead[bi][lead_i].with_mark(ov.fiducial, ov.sample)
+        if rep is not None and rep_marks is not None:
+            rep = replace(rep, marks=rep_marks, lead_marks=tuple(rep_lead))
+        marked = MarkedECG(
+            fs_hz=self.fs_hz,
+            lead_names=names,
+            usable=self.usable,
+            conditioned_mv=self.conditioned_mv,
+            beats=self.beats,
+            beat_marks=tuple(beat_marks),
+            beat_lead_marks=tuple(tuple(row) for row in beat_lead),
+            representative=rep,
+        )
+        return marked, tuple(unmatched)
+
+    def reading(self, overrides: Iterable[MarkOverride] = ()) -> Reading:
+        """Measurements and findings after applying ``overrides``."""
+        overrides = tuple(overrides)
+        marked, unmatched = self.marked(overrides)
+        measurements = compute_measurements(marked)
+        findings = evaluate_findings(measurements, self.record.subject)
+        return Reading(marked, measurements, findings, overrides, unmatched)
+
+
+def analyse(record: Record, *, mains_hz: float | None = None) -> Analysis:
+    """Run the automatic pipeline on a whole record (short records: resting ECG, minutes)."""
+    fs = record.fs_hz
+    raw = record.signal_mv
+    usable_mask = np.array(
+        [not (lead.flat or lead.missing) for lead in record.leads], dtype=bool
+    )
+    finite = np.isfinite(raw)
+    usable_mask &= finite.mean(axis=0) > 0.5
+    conditioned = condition(np.where(finite, raw, 0.0).astype(np.float32), fs, mains_hz=mains_hz)
+    notes: list[str] = []
+    if not usable_mask.any():
+        notes.append("no usable lead: every lead is flat, missing or invalid")
+        r = np.zeros(0, dtype=np.int64)
+    else:
+        r = detect_qrs(conditioned, fs, usable_mask)
+    if r.size == 0:
+        notes.append("no beats found")
+        return Analysis(
+            record=record,
+            conditioned_mv=conditioned,
+            usable=tuple(bool(u) for u in usable_mask),
+            beats=(),
+            beat_marks=(),
+            beat_lead_marks=(),
+            representative=None,
+            notes=tuple(notes),
+        )
+    beats = classify_beats(conditioned, fs, r, usable_mask)
+    rep = representative_beat(conditioned, fs, beats, usable_mask)
+    if rep is not None:
+        marks, lead_marks = delineate_representative(rep.waveform_mv, fs, rep.r_index, usable_mask)
+        rep = replace(rep, marks=marks, lead_marks=lead_marks)
+    else:
+        notes.append("no representative beat: too few dominant beats")
+    beat_marks, beat_lead_marks = delineate_beats(conditioned, fs, beats, usable_mask, rep)
+    return Analysis(
+        record=record,
+        conditioned_mv=conditioned,
+        usable=tuple(bool(u) for u in usable_mask),
+        beats=beats,
+        beat_marks=beat_marks,
+        beat_lead_marks=beat_lead_marks,
+        representative=rep,
+        notes=tuple(notes),
+    )

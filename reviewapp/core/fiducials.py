@@ -1,0 +1,171 @@
+"""Beats, wave boundaries (fiducials) and reviewer overrides: the values that cross layers.
+
+Inside core every boundary is an integer sample index; at every boundary with the outside world
+(JSON, CSV, sidecar) it is seconds. Absent is ``None``, never a guess.
+
+Three scopes of marks:
+- representative beat, global (all leads together): indices into the representative-beat window;
+- each beat, global: indices into the record;
+- each lead (of the representative beat and of each beat): per-lead boundaries for J point,
+  Q duration and ST level.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Mapping
+from dataclasses import dataclass, field, fields, replace
+from enum import Enum
+from typing import Literal
+
+import numpy as np
+
+FIDUCIALS: tuple[str, ...] = ("p_on", "p_off", "qrs_on", "qrs_off", "t_off")
+FIDUCIAL_LABELS: Mapping[str, str] = {
+    "p_on": "P onset",
+    "p_off": "P end",
+    "qrs_on": "QRS onset",
+    "qrs_off": "QRS end",
+    "t_off": "T end",
+}
+
+
+@dataclass(frozen=True)
+class WaveMarks:
+    """The five boundaries of one beat (sample indices), plus optional peaks; None = absent."""
+
+    p_on: int | None = None
+    p_off: int | None = None
+    qrs_on: int | None = None
+    qrs_off: int | None = None
+    t_off: int | None = None
+    p_peak: int | None = None
+    r_peak: int | None = None
+    t_peak: int | None = None
+
+    def get(self, name: str) -> int | None:
+        if name not in _ALL_MARK_NAMES:
+            raise KeyError(name)
+        return getattr(self, name)
+
+    def with_mark(self, name: str, sample: int | None) -> WaveMarks:
+        if name not in _ALL_MARK_NAMES:
+            raise KeyError(name)
+        return replace(self, **{name: None if sample is None else int(sample)})
+
+    def shifted(self, offset: int) -> WaveMarks:
+        """All present marks moved by ``offset`` samples (window <-> record coordinates)."""
+        return WaveMarks(**{
+            f.name: (None if getattr(self, f.name) is None else getattr(self, f.name) + offset)
+            for f in fields(self)
+        })
+
+    def as_seconds(self, fs_hz: float, offset: int = 0) -> dict[str, float | None]:
+        """Boundaries in seconds (``(index + offset) / fs_hz``), None where absent."""
+        return {
+            name: (None if (v := self.get(name)) is None else (v + offset) / fs_hz)
+            for name in FIDUCIALS
+        }
+
+    def as_array(self) -> np.ndarray:
+        """The five boundaries as int64 with -1 for absent (vectorised work)."""
+        return np.array([-1 if (v := self.get(n)) is None else v for n in FIDUCIALS], dtype=np.int64)
+
+    @classmethod
+    def from_array(cls, values: Iterable[int]) -> WaveMarks:
+        vals = [int(v) for v in values]
+        return cls(**{n: (None if v < 0 else v) for n, v in zip(FIDUCIALS, vals, strict=True)})
+
+
+_ALL_MARK_NAMES = frozenset(f.name for f in fields(WaveMarks))
+
+
+class BeatKind(str, Enum):
+    DOMINANT = "dominant"
+    PREMATURE = "premature"
+    PACED = "paced"
+    UNKNOWN = "unknown"
+
+
+@dataclass(frozen=True)
+class Beat:
+    """One detected beat: R (fiducial point) sample index, kind, and morphology group id."""
+
+    r: int
+    kind: BeatKind = BeatKind.DOMINANT
+    group: int = 0
+
+
+@dataclass(frozen=True, eq=False)
+class RepresentativeBeat:
+    """Median of the aligned dominant beats, per lead.
+
+    ``waveform_mv[k, lead]`` is the median at record-relative time ``k - r_index`` samples from
+    each beat's R. ``marks`` are global boundaries (indices into the window); ``lead_marks``
+    are each lead's own boundaries, in lead order.
+    """
+
+    waveform_mv: np.ndarray  # (n_window, n_leads) float32
+    r_index: int
+    n_beats_used: int
+    marks: WaveMarks = field(default_factory=WaveMarks)
+    lead_marks: tuple[WaveMarks, ...] = ()
+
+
+Scope = Literal["representative", "beat"]
+
+
+@dataclass(frozen=True)
+class MarkOverride:
+    """A reviewer's correction of one boundary.
+
+    scope: "representative" (the median beat) or "beat" (one beat of the record).
+    fiducial: one of FIDUCIALS.
+    sample: the corrected position (window index for the representative beat, record index for
+        a beat); None means the reader says the wave is absent.
+    beat_r: for scope "beat", the R sample of the beat (matched to the nearest detected beat
+        within 75 ms, so an override survives re-detection by a newer engine).
+    lead: None for the global (all-lead) boundary, else a lead name for that lead's own mark.
+    """
+
+    scope: Scope
+    fiducial: str
+    sample: int | None
+    beat_r: int | None = None
+    lead: str | None = None
+
+    def __post_init__(self) -> None:
+        if self.fiducial not in FIDUCIALS:
+            raise ValueError(f"unknown fiducial {self.fiducial!r}; expected one of {FIDUCIALS}")
+        if self.scope not in ("representative", "beat"):
+            raise ValueError(f"unknown scope {self.scope!r}")
+        if self.scope == "beat" and self.beat_r is None:
+            raise ValueError("a beat override needs beat_r")
+
+
+BEAT_MATCH_S = 0.075
+
+
+def match_beat(beats: tuple[Beat, ...] | list[Beat], r_sample: int, fs_hz: float) -> int | None:
+    """Index of the beat whose R is nearest ``r_sample`` within 75 ms, else None."""
+    if not beats:
+        return None
+    rs = np.fromiter((b.r for b in beats), dtype=np.int64, count=len(beats))
+    i = int(np.argmin(np.abs(rs - r_sample)))
+    return i if abs(int(rs[i]) - r_sample) <= BEAT_MATCH_S * fs_hz else None
+
+
+@dataclass(frozen=True, eq=False)
+class MarkedECG:
+    """Everything the measurement functions need, with reviewer overrides already applied.
+
+    Measurements are a pure function of this object; nothing here is a measured value.
+    """
+
+    fs_hz: float
+    lead_names: tuple[str, ...]
+    usable: tuple[bool, ...]  # leads fit for global boundaries and axes (not flat, not missing)
+    conditioned_mv: np.ndarray  # (n_samples, n_leads) float32, the signal measured on
+    beats: tuple[Beat, ...]
+    beat_marks: tuple[WaveMarks, ...]  # global, record indices, one per beat
+    beat_lead_marks: tuple[tuple[WaveMarks, ...], ...]  # [beat][lead], record indices
+    representative: RepresentativeBeat | None  # marks/lead_marks are the effective ones

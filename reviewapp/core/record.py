@@ -1,0 +1,411 @@
+"""The record model: one frozen ``Record`` every reader returns.
+
+Signals are physical values in millivolts, float32, shaped (n_samples, n_leads). Samples are
+served through a ``SignalSource`` so that a 24-hour recording can stay on disk (memory-mapped)
+and be read window by window; short resting ECGs are simply held in memory.
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Sequence
+from dataclasses import dataclass, field, replace
+from datetime import datetime
+from functools import cached_property
+from pathlib import Path
+from typing import Protocol
+
+import numpy as np
+
+from reviewapp.core.errors import RecordError
+
+STANDARD_12 = ("I", "II", "III", "aVR", "aVL", "aVF", "V1", "V2", "V3", "V4", "V5", "V6")
+LIMB_LEADS = STANDARD_12[:6]
+CABRERA_ORDER = ("aVL", "I", "-aVR", "II", "aVF", "III")
+
+# Peak-to-peak below this over the scanned span counts as a flat (disconnected) lead.
+# Common practice, no source: 20 uV is below any physiological ECG deflection.
+FLAT_PEAK_TO_PEAK_MV = 0.02
+
+_ALIASES = {
+    "i": "I", "ii": "II", "iii": "III", "avr": "aVR", "avl": "aVL", "avf": "aVF",
+    "lead i": "I", "lead ii": "II", "lead iii": "III",
+    "mdc_ecg_lead_i": "I", "mdc_ecg_lead_ii": "II", "mdc_ecg_lead_iii": "III",
+    "mdc_ecg_lead_avr": "aVR", "mdc_ecg_lead_avl": "aVL", "mdc_ecg_lead_avf": "aVF",
+    "vx": "X", "vy": "Y", "vz": "Z", "x": "X", "y": "Y", "z": "Z",
+}
+_V_LEAD = re.compile(r"^(?:lead\s*|mdc_ecg_lead_)?v\s*([1-9])([r]?)$", re.IGNORECASE)
+
+
+def normalise_lead_name(name: str) -> str:
+    """Return the standard spelling of a lead name (``avl`` -> ``aVL``, ``v1`` -> ``V1``).
+
+    Names that are not standard 12-lead or Frank leads are kept as given (stripped), e.g.
+    ``MLII`` on Holter-style records.
+
+    >>> normalise_lead_name("avf"), normalise_lead_name("MDC_ECG_LEAD_V2"), normalise_lead_name("MLII")
+    ('aVF', 'V2', 'MLII')
+    """
+    raw = name.strip()
+    key = raw.lower().replace("-", "_") if raw.upper().startswith("MDC") else raw.lower()
+    if key in _ALIASES:
+        return _ALIASES[key]
+    m = _V_LEAD.match(raw)
+    if m:
+        return f"V{m.group(1)}{'R' if m.group(2) else ''}"
+    return raw
+
+
+@dataclass(frozen=True)
+class LeadInfo:
+    """Facts about one lead. ``derived`` leads were computed, not recorded."""
+
+    name: str
+    original_name: str = ""
+    units: str = "mV"
+    derived: bool = False
+    missing: bool = False
+    flat: bool = False
+    adc_gain_per_mv: float | None = None
+    adc_baseline: int | None = None
+    adc_resolution_bits: int | None = None
+    signal_file: str | None = None
+
+
+@dataclass(frozen=True)
+class SubjectFacts:
+    """What the file says about the subject and acquisition; None where it says nothing."""
+
+    subject_id: str | None = None
+    age_years: float | None = None
+    sex: str | None = None  # "female" | "male" | None
+    acquired_at: datetime | None = None
+    comments: tuple[str, ...] = ()
+
+
+class SignalSource(Protocol):
+    """Serves windows of a signal in mV as float32 (n, n_leads)."""
+
+    @property
+    def n_samples(self) -> int: ...
+
+    @property
+    def n_leads(self) -> int: ...
+
+    def read(self, start: int, stop: int) -> np.ndarray: ...
+
+
+@dataclass(frozen=True)
+class ArraySource:
+    """A signal held in memory."""
+
+    data: np.ndarray  # (n_samples, n_leads) float32 mV
+
+    @property
+    def n_samples(self) -> int:
+        return int(self.data.shape[0])
+
+    @property
+    def n_leads(self) -> int:
+        return int(self.data.shape[1])
+
+    def read(self, start: int, stop: int) -> np.ndarray:
+        return self.data[start:stop]
+
+
+@dataclass(frozen=True)
+class DigitalMemmapSource:
+    """Integer samples on disk (memory-mapped), converted to mV window by window.
+
+    ``physical = (digital - baseline) / gain``; ``invalid`` digital codes (WFDB's NaN sentinel)
+    become NaN.
+    """
+
+    digital: np.ndarray  # (n_samples, n_leads) integer memmap
+    gain_per_mv: np.ndarray  # (n_leads,)
+    baseline: np.ndarray  # (n_leads,)
+    invalid_code: int | None = None
+
+    @property
+    def n_samples(self) -> int:
+        return int(self.digital.shape[0])
+
+    @property
+    def n_leads(self) -> int:
+        return int(self.digital.shape[1])
+
+    def read(self, start: int, stop: int) -> np.ndarray:
+        d = np.asarray(self.digital[start:stop])
+        out = (d.astype(np.float32) - self.baseline.astype(np.float32)) / self.gain_per_mv.astype(
+            np.float32
+        )
+        if self.invalid_code is not None:
+            out[d == self.invalid_code] = np.nan
+        return out
+
+
+@dataclass(frozen=True)
+class LinearSource:
+    """Leads computed as linear combinations of another source's leads: ``out = x @ matrix``.
+
+    Used to reorder leads and to derive III, aVR, aVL, aVF from I and II.
+    """
+
+    base: SignalSource
+    matrix: np.ndarray  # (base.n_leads, n_out) float32
+
+    @property
+    def n_samples(self) -> int:
+        return self.base.n_samples
+
+    @property
+    def n_leads(self) -> int:
+        return int(self.matrix.shape[1])
+
+    def read(self, start: int, stop: int) -> np.ndarray:
+        x = self.base.read(start, stop)
+        return (x @ self.matrix).astype(np.float32, copy=False)
+
+
+# Records longer than this are not loaded whole by ``signal_mv`` unless asked; readers may
+# still hold them in a memory map.
+_IN_MEMORY_LIMIT_SAMPLES = 50_000_000
+
+
+@dataclass(frozen=True, eq=False)
+class Record:
+    """One ECG recording, as every reader returns it.
+
+    Attributes:
+        name: record name (file stem).
+        fs_hz: sampling rate in Hz.
+        leads: per-lead facts, in signal column order; ``lead_names`` gives the names.
+        source: serves the signal in mV.
+        subject: subject and acquisition facts from the file.
+        source_path: the file the record came from (header file for WFDB).
+        source_format: short format name ("WFDB", "EDF", "CSV", "HL7 aECG", "DICOM", "synthetic").
+        notes: non-fatal remarks from reading (e.g. "units not given, assumed mV").
+    """
+
+    name: str
+    fs_hz: float
+    leads: tuple[LeadInfo, ...]
+    source: SignalSource
+    subject: SubjectFacts = field(default_factory=SubjectFacts)
+    source_path: Path | None = None
+    source_format: str = ""
+    notes: tuple[str, ...] = ()
+
+    def __post_init__(self) -> None:
+        where = self.source_path
+        if not np.isfinite(self.fs_hz) or self.fs_hz <= 0:
+            raise RecordError(f"sampling rate must be a positive number, got {self.fs_hz!r}", where)
+        if len(self.leads) != self.source.n_leads:
+            raise RecordError(
+                f"{len(self.leads)} lead names but {self.source.n_leads} signal columns", where
+            )
+        if len(self.leads) == 0:
+            raise RecordError("the record has no leads", where)
+        if self.source.n_samples <= 0:
+            raise RecordError("the record has no samples", where)
+
+    @property
+    def lead_names(self) -> tuple[str, ...]:
+        return tuple(lead.name for lead in self.leads)
+
+    @property
+    def n_samples(self) -> int:
+        return self.source.n_samples
+
+    @property
+    def n_leads(self) -> int:
+        return len(self.leads)
+
+    @property
+    def duration_s(self) -> float:
+        return self.n_samples / self.fs_hz
+
+    def lead_index(self, name: str) -> int:
+        """Column of a lead by (any spelling of) its name; KeyError if absent."""
+        want = normalise_lead_name(name)
+        for i, lead in enumerate(self.leads):
+            if lead.name == want:
+                return i
+        raise KeyError(name)
+
+    def window(self, start: int, stop: int) -> np.ndarray:
+        """Samples ``start:stop`` (clipped to the record) of every lead, mV float32 (n, n_leads)."""
+        start = max(0, int(start))
+        stop = min(self.n_samples, int(stop))
+        if stop <= start:
+            return np.zeros((0, self.n_leads), dtype=np.float32)
+        return np.asarray(self.source.read(start, stop), dtype=np.float32)
+
+    def window_s(self, start_s: float, stop_s: float) -> np.ndarray:
+        """Like ``window`` with times in seconds from record start."""
+        return self.window(round(start_s * self.fs_hz), round(stop_s * self.fs_hz))
+
+    @cached_property
+    def signal_mv(self) -> np.ndarray:
+        """The whole signal in mV, float32 (n_samples, n_leads), read-only. Loaded once."""
+        if self.n_samples * self.n_leads > _IN_MEMORY_LIMIT_SAMPLES:
+            raise RecordError(
+                f"record is too long to load whole ({self.duration_s / 3600:.1f} h); "
+                "read it in windows",
+                self.source_path,
+            )
+        data = np.ascontiguousarray(self.window(0, self.n_samples))
+        data.setflags(write=False)
+        return data
+
+    def with_leads(self, leads: Sequence[LeadInfo]) -> Record:
+        return replace(self, leads=tuple(leads))
+
+
+def flat_lead_mask(signal_mv: np.ndarray) -> np.ndarray:
+    """True for leads that are all NaN or whose peak-to-peak is below FLAT_PEAK_TO_PEAK_MV."""
+    with np.errstate(invalid="ignore"):
+        if signal_mv.shape[0] == 0:
+            return np.ones(signal_mv.shape[1], dtype=bool)
+        finite = np.isfinite(signal_mv)
+        all_nan = ~finite.any(axis=0)
+        safe = np.where(finite, signal_mv, np.nan)
+        ptp = np.nanmax(safe, axis=0, initial=-np.inf, where=finite) - np.nanmin(
+            safe, axis=0, initial=np.inf, where=finite
+        )
+        return all_nan | (ptp < FLAT_PEAK_TO_PEAK_MV)
+
+
+def build_record(
+    *,
+    name: str,
+    fs_hz: float,
+    source: SignalSource,
+    leads: Sequence[LeadInfo],
+    subject: SubjectFacts | None = None,
+    source_path: Path | None = None,
+    source_format: str = "",
+    notes: Sequence[str] = (),
+    derive_limb_leads: bool = True,
+    flat_scan_samples: int = 60_000,
+) -> Record:
+    """Assemble a Record: normalise names, flag flat leads, derive missing limb leads.
+
+    Readers call this rather than constructing ``Record`` directly so every format gets the
+    same treatment. Flatness is judged on the first ``flat_scan_samples`` samples (a minute at
+    1 kHz) so that opening a 24-hour file stays fast.
+    """
+    where = source_path
+    if not np.isfinite(fs_hz) or fs_hz <= 0:
+        raise RecordError(f"sampling rate must be a positive number, got {fs_hz!r}", where)
+    if source.n_samples <= 0:
+        raise RecordError("the record has no samples", where)
+    leads = [
+        replace(lead, name=normalise_lead_name(lead.name), original_name=lead.original_name or lead.name)
+        for lead in leads
+    ]
+    names = [lead.name for lead in leads]
+    dupes = {n for n in names if names.count(n) > 1}
+    if dupes:
+        raise RecordError(f"lead names appear more than once: {', '.join(sorted(dupes))}", where)
+    head = np.asarray(source.read(0, min(source.n_samples, flat_scan_samples)), dtype=np.float32)
+    flat = flat_lead_mask(head)
+    leads = [replace(lead, flat=bool(f) or lead.flat) for lead, f in zip(leads, flat, strict=True)]
+    record = Record(
+        name=name,
+        fs_hz=float(fs_hz),
+        leads=tuple(leads),
+        source=source,
+        subject=subject or SubjectFacts(),
+        source_path=source_path,
+        source_format=source_format,
+        notes=tuple(notes),
+    )
+    if derive_limb_leads:
+        record = with_derived_limb_leads(record)
+    return record
+
+
+def with_derived_limb_leads(record: Record) -> Record:
+    """Add III, aVR, aVL, aVF computed from I and II where the record lacks them.
+
+    Einthoven: III = II - I. Goldberger: aVR = -(I + II)/2, aVL = I - II/2, aVF = II - I/2.
+    (Standard lead relations; e.g. Malmivuo & Plonsey, Bioelectromagnetism, 1995, ch. 15.)
+    Derived leads are flagged ``derived=True`` and placed in standard order after II.
+    """
+    names = list(record.lead_names)
+    if "I" not in names or "II" not in names:
+        return record
+    recipes = {
+        "III": {"I": -1.0, "II": 1.0},
+        "aVR": {"I": -0.5, "II": -0.5},
+        "aVL": {"I": 1.0, "II": -0.5},
+        "aVF": {"I": -0.5, "II": 1.0},
+    }
+    wanted = [n for n in ("III", "aVR", "aVL", "aVF") if n not in names]
+    if not wanted:
+        return record
+    n_base = record.n_leads
+    i_col, ii_col = names.index("I"), names.index("II")
+    # Output order: existing leads, with derived ones inserted in standard limb order.
+    new_names = [n for n in STANDARD_12 if n in names or n in wanted]
+    new_names += [n for n in names if n not in new_names]
+    matrix = np.zeros((n_base, len(new_names)), dtype=np.float32)
+    new_leads: list[LeadInfo] = []
+    for j, n in enumerate(new_names):
+        if n in names:
+            matrix[names.index(n), j] = 1.0
+            new_leads.append(record.leads[names.index(n)])
+        else:
+            matrix[i_col, j] = recipes[n]["I"]
+            matrix[ii_col, j] = recipes[n]["II"]
+            src = record.leads[i_col]
+            new_leads.append(
+                LeadInfo(
+                    name=n,
+                    original_name=n,
+                    derived=True,
+                    flat=record.leads[i_col].flat and record.leads[ii_col].flat,
+                    units=src.units,
+                )
+            )
+    source = LinearSource(record.source, matrix)
+    return replace(
+        record,
+        leads=tuple(new_leads),
+        source=source,
+        notes=record.notes + (f"derived from I and II: {', '.join(wanted)}",),
+    )
+
+
+def record_from_array(
+    signal_mv: np.ndarray,
+    fs_hz: float,
+    lead_names: Sequence[str],
+    *,
+    name: str = "array",
+    source_format: str = "array",
+    subject: SubjectFacts | None = None,
+    source_path: Path | None = None,
+    derive_limb_leads: bool = True,
+) -> Record:
+    """Wrap an in-memory (n_samples, n_leads) mV array as a Record (tests, synth, CSV)."""
+    data = np.asarray(signal_mv, dtype=np.float32)
+    if data.ndim != 2:
+        raise RecordError(f"signal must be 2-D (samples x leads), got shape {data.shape}", source_path)
+    if data.shape[1] != len(lead_names):
+        raise RecordError(
+            f"{len(lead_names)} lead names but {data.shape[1]} signal columns", source_path
+        )
+    data = np.ascontiguousarray(data)
+    data.setflags(write=False)
+    return build_record(
+        name=name,
+        fs_hz=fs_hz,
+        source=ArraySource(data),
+        leads=[LeadInfo(name=n) for n in lead_names],
+        subject=subject,
+        source_path=source_path,
+        source_format=source_format,
+        derive_limb_leads=derive_limb_leads,
+    )
