@@ -1,0 +1,93 @@
+"""Measured values and findings: frozen, units in every field name, None = not measurable."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Literal
+
+
+@dataclass(frozen=True)
+class GlobalIntervals:
+    """Global (all-lead) values from the representative beat and the RR series."""
+
+    rr_ms: float | None = None
+    rr_sd_ms: float | None = None
+    hr_bpm: float | None = None
+    p_ms: float | None = None
+    pr_ms: float | None = None
+    qrs_ms: float | None = None
+    qt_ms: float | None = None
+    qtc_bazett_ms: float | None = None
+    qtc_fridericia_ms: float | None = None
+    qtc_framingham_ms: float | None = None
+    qtc_hodges_ms: float | None = None
+    p_axis_deg: float | None = None
+    qrs_axis_deg: float | None = None
+    t_axis_deg: float | None = None
+
+
+@dataclass(frozen=True)
+class LeadMeasurements:
+    """One lead's amplitudes (mV, from the isoelectric level at QRS onset) and ST levels."""
+
+    lead: str
+    p_mv: float | None = None
+    q_mv: float | None = None
+    r_mv: float | None = None
+    s_mv: float | None = None
+    r_prime_mv: float | None = None
+    t_mv: float | None = None
+    q_ms: float | None = None
+    st_j_mv: float | None = None
+    st_j60_mv: float | None = None
+    st_j80_mv: float | None = None
+
+
+@dataclass(frozen=True)
+class BeatIntervals:
+    """Beat-to-beat values for one beat (global marks of that beat)."""
+
+    r_s: float
+    kind: str
+    rr_ms: float | None = None  # from the previous beat's R
+    pr_ms: float | None = None
+    qrs_ms: float | None = None
+    qt_ms: float | None = None
+
+
+@dataclass(frozen=True)
+class Measurements:
+    intervals: GlobalIntervals
+    leads: tuple[LeadMeasurements, ...] = ()
+    beats: tuple[BeatIntervals, ...] = ()
+    sokolow_lyon_mv: float | None = None
+    cornell_mv: float | None = None
+    unmeasured: tuple[tuple[str, str], ...] = ()  # (quantity, reason it is None)
+
+    def lead(self, name: str) -> LeadMeasurements | None:
+        return next((m for m in self.leads if m.lead == name), None)
+
+
+@dataclass(frozen=True)
+class NormalRange:
+    """A limit pair for one quantity; either side may be open. ``source`` names the reference."""
+
+    quantity: str
+    low: float | None
+    high: float | None
+    unit: str
+    source: str
+
+
+@dataclass(frozen=True)
+class Finding:
+    """A value outside its limit: a flag for the reader, not a diagnosis."""
+
+    quantity: str
+    value: float
+    unit: str
+    limit: float
+    direction: Literal["above", "below"]
+    source: str
+    text: str
+    lead: str | None = None
