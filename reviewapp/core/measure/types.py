@@ -28,7 +28,11 @@ class GlobalIntervals:
 
 @dataclass(frozen=True)
 class LeadMeasurements:
-    """One lead's amplitudes (mV, from the isoelectric level at QRS onset) and ST levels."""
+    """One lead's amplitudes (mV, from the isoelectric level at QRS onset) and ST levels.
+
+    Amplitudes are signed: ``q_mv`` and ``s_mv`` <= 0, ``r_mv`` and ``r_prime_mv`` >= 0; a wave
+    looked for but absent is 0.0 (no Q: ``q_mv == q_ms == 0.0``); a QS complex is reported as Q.
+    """
 
     lead: str
     p_mv: float | None = None
@@ -62,7 +66,10 @@ class Measurements:
     beats: tuple[BeatIntervals, ...] = ()
     sokolow_lyon_mv: float | None = None
     cornell_mv: float | None = None
-    unmeasured: tuple[tuple[str, str], ...] = ()  # (quantity, reason it is None)
+    # (quantity, reason it is None). quantity: a field name ("qt_ms"), "<lead>.<field>"
+    # ("V4.p_mv"), "<lead>.qrs" / "<lead>.st" for a group of a lead's fields, or "<lead>" for
+    # a whole lead (flat or missing).
+    unmeasured: tuple[tuple[str, str], ...] = ()
 
     def lead(self, name: str) -> LeadMeasurements | None:
         return next((m for m in self.leads if m.lead == name), None)
@@ -77,6 +84,21 @@ class NormalRange:
     high: float | None
     unit: str
     source: str
+    # Whether a value equal to the limit is still normal (PR 200 ms is normal; QTc 450 ms in
+    # men is prolonged: ">= 450").
+    low_is_normal: bool = True
+    high_is_normal: bool = True
+    applies_to: str = ""  # who/where the limit is for: "female", "men >= 40 y, V2-V3", ...
+
+    def is_above(self, value: float) -> bool:
+        if self.high is None:
+            return False
+        return value > self.high or (not self.high_is_normal and value == self.high)
+
+    def is_below(self, value: float) -> bool:
+        if self.low is None:
+            return False
+        return value < self.low or (not self.low_is_normal and value == self.low)
 
 
 @dataclass(frozen=True)

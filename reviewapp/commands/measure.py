@@ -1,0 +1,95 @@
+"""`reviewapp measure PATH...`: automated measurements of records, as a table, JSON or CSV.
+
+The JSON schema is documented in ``reviewapp.core.measure.output`` (module docstring and
+``MEASURE_JSON_SCHEMA``). A record that fails to open or measure is reported on one line on
+stderr (and as an error object / CSV row); the others are still measured; exit code 2 if any
+record failed.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+from pathlib import Path
+from typing import Any
+
+from reviewapp import CLINICAL_CAUTION
+from reviewapp.core.errors import ReviewError
+
+
+def add_parser(sub: argparse._SubParsersAction) -> None:
+    p = sub.add_parser(
+        "measure",
+        help="measure records without the window (table, JSON or CSV)",
+        description=(
+            "Detect beats and wave boundaries and print intervals, QTc, axes, amplitudes, "
+            "ST levels and findings for each record. " + CLINICAL_CAUTION
+        ),
+    )
+    p.add_argument("paths", nargs="+", type=Path, metavar="PATH", help="record file(s)")
+    p.add_argument(
+        "--format",
+        choices=("table", "json", "csv"),
+        default="table",
+        help="table (readable summary, default), json (one object per record, JSON Lines), "
+        "csv (one row per record)",
+    )
+    p.add_argument(
+        "--per-lead",
+        action="store_true",
+        help="include each lead's marks per beat (json) / per-lead amplitudes (table)",
+    )
+    p.add_argument(
+        "--fs",
+        type=float,
+        default=None,
+        metavar="HZ",
+        help="sampling rate for text formats that do not state it",
+    )
+
+
+def measure_path(path: Path, *, fs_hz: float | None = None, per_lead: bool = False) -> dict:
+    """Open, analyse and measure one record; the JSON-ready dict (raises ReviewError)."""
+    from reviewapp.core.engine import analyse
+    from reviewapp.core.io import open_record
+    from reviewapp.core.measure.output import reading_to_dict
+
+    if fs_hz is not None and not fs_hz > 0:
+        raise ReviewError(f"--fs must be a positive number of Hz, got {fs_hz}")
+    record = open_record(path, fs_hz=fs_hz)
+    analysis = analyse(record)
+    return reading_to_dict(analysis, analysis.reading(), path=str(path), per_lead=per_lead)
+
+
+def run(args: argparse.Namespace) -> int:
+    from reviewapp.core.measure.output import csv_text, error_dict, table_text
+
+    results: list[dict[str, Any]] = []
+    failed = 0
+    for path in args.paths:
+        try:
+            d = measure_path(path, fs_hz=args.fs, per_lead=args.per_lead)
+        except ReviewError as err:
+            msg = str(err)
+        except MemoryError:
+            msg = f"{path}: not enough memory to measure this record"
+        except Exception as err:  # one bad record must not stop the others
+            msg = f"{path}: could not be measured ({type(err).__name__}: {err})"
+        else:
+            results.append(d)
+            if args.format == "json":
+                print(json.dumps(d, allow_nan=False), flush=True)
+            elif args.format == "table":
+                print(table_text(d, per_lead=args.per_lead), flush=True)
+            continue
+        failed += 1
+        msg = " ".join(msg.split())  # one line, whatever the underlying error said
+        print(f"reviewapp: {msg}", file=sys.stderr, flush=True)
+        e = error_dict(Path(path).stem, str(path), msg)
+        results.append(e)
+        if args.format == "json":
+            print(json.dumps(e), flush=True)
+    if args.format == "csv":
+        sys.stdout.write(csv_text(results))
+    return 2 if failed else 0

@@ -1,0 +1,152 @@
+"""Wave delineation: P onset/end, QRS onset/end and T end for the representative beat and every beat.
+
+The engine calls two functions:
+
+- ``delineate_representative(waveform_mv, fs_hz, r_index, usable)`` on the median beat;
+- ``delineate_beats(conditioned_mv, fs_hz, beats, usable, rep)`` on every detected beat.
+
+Both cut beat windows into one (beats, samples, leads) block and delineate the whole block at
+once with numpy (``delineate_core.delineate_block``), so the cost does not grow with Python
+loops over samples. Each lead gets its own marks; the global (all-lead) marks come from a
+multi-lead feature for QRS and from multi-lead rules over the lead marks for P and T (see
+``delineate_core``).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from reviewapp.core.dsp.delineate_core import (
+    BlockBounds,
+    DelineationParams,
+    delineate_block,
+    prefilter,
+)
+from reviewapp.core.fiducials import Beat, RepresentativeBeat, WaveMarks
+
+_MARK_ORDER = ("p_on", "p_off", "qrs_on", "qrs_off", "t_off", "p_peak", "r_peak", "t_peak")
+
+
+def _marks_from_row(row: np.ndarray, offset: int = 0) -> WaveMarks:
+    vals = {n: (None if v < 0 else int(v) + offset) for n, v in zip(_MARK_ORDER, row, strict=True)}
+    return WaveMarks(**vals)
+
+
+def delineate_representative(
+    waveform_mv: np.ndarray, fs_hz: float, r_index: int, usable: np.ndarray
+) -> tuple[WaveMarks, tuple[WaveMarks, ...]]:
+    """Global and per-lead wave boundaries of the representative (median) beat.
+
+    Args:
+        waveform_mv: (n_window, n_leads) median beat in mV.
+        fs_hz: sampling rate in Hz.
+        r_index: index of the R fiducial point in the window.
+        usable: (n_leads,) bool; unusable leads get all-None marks and do not vote.
+
+    Returns:
+        (global marks, per-lead marks), indices into the window; absent waves are None.
+
+    Example:
+        >>> import numpy as np
+        >>> fs = 500.0
+        >>> t = np.arange(600) / fs
+        >>> qrs = np.exp(-0.5 * ((t - 0.4) / 0.012) ** 2)
+        >>> tw = 0.3 * np.exp(-0.5 * ((t - 0.7) / 0.04) ** 2)
+        >>> w = np.stack([qrs + tw, 0.5 * (qrs + tw)], axis=1).astype(np.float32)
+        >>> marks, leads = delineate_representative(w, fs, 200, np.array([True, True]))
+        >>> 160 < marks.qrs_on < 200 < marks.qrs_off < 240, marks.t_off > 350
+        (True, True)
+    """
+    wave = np.asarray(waveform_mv, dtype=np.float64)
+    n, n_leads = wave.shape
+    usable = np.asarray(usable, dtype=bool)
+    if n == 0 or not usable.any() or not 0 <= r_index < n:
+        empty = WaveMarks()
+        return empty, tuple(empty for _ in range(n_leads))
+    params = DelineationParams.for_fs(fs_hz)
+    filt = prefilter(wave, fs_hz)
+    block = {k: v[None] for k, v in filt.items()}
+    bounds = BlockBounds(
+        r=np.array([r_index]),
+        lo=np.array([0]),
+        hi=np.array([n - 1]),
+        p_lo=np.array([0]),
+        t_hi=np.array([n - 1]),
+    )
+    glob, lead = delineate_block(block, bounds, usable, params)
+    return _marks_from_row(glob[0]), tuple(_marks_from_row(lead[0, j]) for j in range(n_leads))
+
+
+def _rep_p_present(rep: RepresentativeBeat | None) -> bool | None:
+    if rep is None:
+        return None
+    return rep.marks.p_on is not None or rep.marks.p_off is not None
+
+
+def delineate_beats(
+    conditioned_mv: np.ndarray,
+    fs_hz: float,
+    beats: tuple[Beat, ...],
+    usable: np.ndarray,
+    rep: RepresentativeBeat | None,
+) -> tuple[tuple[WaveMarks, ...], tuple[tuple[WaveMarks, ...], ...]]:
+    """Global and per-lead wave boundaries of every beat (record sample indices).
+
+    Each beat is delineated on its own signal, in a window from 450 ms before to 800 ms after
+    its R (clipped to the neighbouring beats: T is searched before the next beat's P, P after
+    the previous beat's T). Where the representative beat has no P wave (e.g. atrial
+    fibrillation: no organised P wave survives the median), no beat gets one either.
+
+    Args:
+        conditioned_mv: (n_samples, n_leads) conditioned signal in mV.
+        fs_hz: sampling rate in Hz.
+        beats: detected beats (R sample indices), in time order.
+        usable: (n_leads,) bool.
+        rep: the representative beat with its marks, or None.
+
+    Returns:
+        (global marks per beat, per-lead marks [beat][lead]); record indices, None = absent.
+    """
+    x = np.asarray(conditioned_mv, dtype=np.float64)
+    n, n_leads = x.shape
+    usable = np.asarray(usable, dtype=bool)
+    if not beats:
+        return (), ()
+    if n == 0 or not usable.any():
+        empty = WaveMarks()
+        return tuple(empty for _ in beats), tuple(tuple(empty for _ in range(n_leads)) for _ in beats)
+    params = DelineationParams.for_fs(fs_hz)
+    r = np.array([b.r for b in beats], dtype=np.int64)
+    pre = int(round(0.45 * fs_hz))
+    post = int(round(0.80 * fs_hz))
+    filt = prefilter(x, fs_hz)
+    # Windows r-pre .. r+post; samples outside the record are edge-padded and masked by bounds.
+    offs = np.arange(-pre, post + 1)
+    idx = r[:, None] + offs[None, :]
+    idx_c = np.clip(idx, 0, n - 1)
+    block = {k: v[idx_c] for k, v in filt.items()}  # (B, W, L)
+    rr_prev = np.diff(r, prepend=r[0] - int(round(1.0 * fs_hz)))
+    rr_next = np.diff(r, append=r[-1] + int(round(1.0 * fs_hz)))
+    rr_prev = np.where(rr_prev <= 0, int(fs_hz), rr_prev)
+    rr_next = np.where(rr_next <= 0, int(fs_hz), rr_next)
+    lo = np.maximum(0, pre - r)  # first in-record sample
+    hi = np.minimum(pre + post, pre + (n - 1 - r))
+    # T must end before the next beat's P: leave min(300 ms, 35 % RR) before the next R.
+    gap = np.minimum(int(0.30 * fs_hz), (0.35 * rr_next).astype(int))
+    t_hi = np.minimum(hi, pre + rr_next - gap)
+    # P of this beat starts after the previous beat's T: search at most 45 % of the RR back.
+    p_lo = np.maximum(lo, pre - (0.45 * rr_prev).astype(int))
+    p_lo = np.maximum(p_lo, 0)
+    bounds = BlockBounds(r=np.full(len(r), pre), lo=lo, hi=hi, p_lo=p_lo, t_hi=t_hi)
+    glob, lead = delineate_block(block, bounds, usable, params)
+    # Rhythm-level P decision: follow the representative beat when there is one.
+    rep_has_p = _rep_p_present(rep)
+    if rep_has_p is False:
+        glob[:, [0, 1, 5]] = -1
+        lead[:, :, [0, 1, 5]] = -1
+    shift = (r - pre)[:, None]
+    glob = np.where(glob >= 0, glob + shift, -1)
+    lead = np.where(lead >= 0, lead + shift[:, :, None], -1)
+    g_marks = tuple(_marks_from_row(row) for row in glob)
+    l_marks = tuple(tuple(_marks_from_row(lead[b, j]) for j in range(n_leads)) for b in range(len(r)))
+    return g_marks, l_marks

@@ -1,0 +1,180 @@
+"""Record readers: one entry point, ``open_record``, dispatching to one module per format.
+
+Formats: WFDB (PhysioNet), EDF/EDF+/BDF, CSV/TSV text, HL7 aECG XML, DICOM waveform objects.
+Every reader returns the same ``Record`` (mV, float32, lazily served) via ``build_record``, and
+every failure is a ``RecordError`` naming the file.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from reviewapp.core.errors import RecordError
+from reviewapp.core.record import Record
+
+WFDB_SUFFIXES = (".hea",)
+EDF_SUFFIXES = (".edf", ".bdf")
+CSV_SUFFIXES = (".csv", ".tsv", ".txt")
+AECG_SUFFIXES = (".xml",)
+DICOM_SUFFIXES = (".dcm", ".dicom")
+SUPPORTED_SUFFIXES: tuple[str, ...] = (
+    WFDB_SUFFIXES + EDF_SUFFIXES + CSV_SUFFIXES + AECG_SUFFIXES + DICOM_SUFFIXES
+)
+
+_DICOM_MAGIC_OFFSET = 128
+_SIDECAR_ENDINGS = (".marks.json",)
+
+
+def _sniff(path: Path) -> bytes:
+    try:
+        with path.open("rb") as fh:
+            return fh.read(_DICOM_MAGIC_OFFSET + 4)
+    except OSError as err:
+        raise RecordError(f"cannot open file: {err.strerror or err}", path) from None
+
+
+def _is_dicom(head: bytes) -> bool:
+    return len(head) >= _DICOM_MAGIC_OFFSET + 4 and head[128:132] == b"DICM"
+
+
+def detect_format(path: Path) -> str:
+    """Short format name for ``path`` ("WFDB", "EDF", "CSV", "HL7 aECG", "DICOM").
+
+    Extension first; files with other or no extension are sniffed (DICOM preamble, XML
+    declaration, EDF version field "0       ", a WFDB header beside the file).
+    """
+    from reviewapp.core.io.wfdb_format import is_wfdb_record
+
+    suffix = path.suffix.lower()
+    if suffix in WFDB_SUFFIXES:
+        return "WFDB"
+    if suffix in EDF_SUFFIXES:
+        return "EDF"
+    if suffix in CSV_SUFFIXES:
+        return "CSV"
+    if suffix in AECG_SUFFIXES:
+        return "HL7 aECG"
+    if suffix in DICOM_SUFFIXES:
+        return "DICOM"
+    if is_wfdb_record(path):
+        return "WFDB"
+    if not path.exists():
+        raise RecordError("file not found", path)
+    if path.is_dir():
+        raise RecordError("is a folder, not a record file", path)
+    head = _sniff(path)
+    if _is_dicom(head):
+        return "DICOM"
+    stripped = head.lstrip(b"\xef\xbb\xbf \t\r\n")
+    if stripped.startswith(b"<?xml") or stripped.startswith(b"<AnnotatedECG"):
+        return "HL7 aECG"
+    if head[:8] == b"0       " or head[:8] == b"\xffBIOSEMI":
+        return "EDF"
+    raise RecordError(
+        f"unsupported or unknown record format (supported: {', '.join(SUPPORTED_SUFFIXES)}, "
+        "a WFDB record name, or a DICOM file)",
+        path,
+    )
+
+
+def open_record(
+    path: str | Path, *, fs_hz: float | None = None, units: str | None = None
+) -> Record:
+    """Open any supported ECG record.
+
+    Args:
+        path: record file (for WFDB the ``.hea``, a signal file, or the record name).
+        fs_hz: sampling rate in Hz, for text formats that do not state it (CSV without a time
+            column). Ignored by formats that carry their own rate.
+        units: physical units of the samples where the file does not say (CSV) or to override
+            a WFDB header ("uV", "mV", "V").
+
+    Raises RecordError (naming the file) for missing, unsupported or damaged files.
+
+    >>> rec = open_record("ludb/1.hea")  # doctest: +SKIP
+    >>> rec.lead_names[:3], rec.fs_hz  # doctest: +SKIP
+    (('I', 'II', 'III'), 500.0)
+    """
+    path = Path(path)
+    fmt = detect_format(path)
+    if fmt != "WFDB" and not path.is_file():
+        raise RecordError("file not found" if not path.exists() else "not a regular file", path)
+    if fmt == "WFDB":
+        from reviewapp.core.io.wfdb_format import read_wfdb
+
+        return read_wfdb(path, units=units)
+    if fmt == "EDF":
+        from reviewapp.core.io.edf_format import read_edf
+
+        return read_edf(path)
+    if fmt == "CSV":
+        from reviewapp.core.io.csv_format import read_csv
+
+        return read_csv(path, fs_hz=fs_hz, units=units)
+    if fmt == "HL7 aECG":
+        from reviewapp.core.io.aecg_format import read_aecg
+
+        return read_aecg(path)
+    from reviewapp.core.io.dicom_format import read_dicom
+
+    return read_dicom(path)
+
+
+def find_records(folder: str | Path, recursive: bool = True) -> list[Path]:
+    """One path per record under ``folder``, sorted.
+
+    WFDB records are listed by their ``.hea`` (signal and annotation files are skipped);
+    marks sidecars (``*.marks.json``) and other JSON (ground truth) are not records. Segment
+    headers of multi-segment WFDB records are listed only through their master header.
+    """
+    from reviewapp.core.io.csv_format import looks_like_ecg_csv
+
+    folder = Path(folder)
+    if not folder.is_dir():
+        raise RecordError("not a folder", folder)
+    pattern = "**/*" if recursive else "*"
+    found: list[Path] = []
+    for p in folder.glob(pattern):
+        if not p.is_file() or p.name.startswith("."):
+            continue
+        name = p.name.lower()
+        if name.endswith(_SIDECAR_ENDINGS) or name.endswith(".json"):
+            continue
+        suffix = p.suffix.lower()
+        if suffix not in SUPPORTED_SUFFIXES:
+            continue
+        # Tables and XML beside the records (diagnosis lists, licences) are not ECGs.
+        if suffix in CSV_SUFFIXES and not looks_like_ecg_csv(p):
+            continue
+        if suffix in AECG_SUFFIXES and not _mentions(p, b"AnnotatedECG"):
+            continue
+        found.append(p)
+    found = sorted(set(found))
+    return _without_wfdb_segments(found)
+
+
+def _mentions(path: Path, marker: bytes) -> bool:
+    try:
+        with path.open("rb") as fh:
+            return marker in fh.read(4096)
+    except OSError:
+        return False
+
+
+def _without_wfdb_segments(paths: list[Path]) -> list[Path]:
+    """Drop headers that a multi-segment master header in the same folder names as segments."""
+    segments: set[Path] = set()
+    for p in paths:
+        if p.suffix.lower() != ".hea":
+            continue
+        try:
+            first = p.read_text(errors="replace").lstrip().split("\n", 1)[0]
+        except OSError:
+            continue
+        # A master header's record line reads "name/n_segments n_sig fs len".
+        if "/" in first.split(" ", 1)[0]:
+            for line in p.read_text(errors="replace").splitlines()[1:]:
+                parts = line.split()
+                if len(parts) >= 2 and not line.startswith("#") and parts[0] != "~":
+                    segments.add(p.with_name(parts[0] + ".hea"))
+    return [p for p in paths if p not in segments]

@@ -1,0 +1,235 @@
+"""Delimited text records: a header row of lead names, one row per sample.
+
+Accepted: comma, semicolon or tab separators; an optional time column (``time``, ``t``,
+``time_s``, ``time_ms``, ``time [s]``, ``seconds``, ``ms`` ...) that gives the sampling rate and
+must be uniformly spaced; units per column from a suffix (``I [uV]``, ``I (mV)``, ``I_uV``) or
+the ``units`` argument, else assumed mV with a note in ``Record.notes``.
+"""
+
+from __future__ import annotations
+
+import io
+import math
+import re
+from pathlib import Path
+
+import numpy as np
+
+from reviewapp.core.errors import RecordError
+from reviewapp.core.io._common import clean_lead_label, mv_factor, require_finite, unique_names
+from reviewapp.core.record import (
+    STANDARD_12,
+    ArraySource,
+    LeadInfo,
+    Record,
+    build_record,
+    normalise_lead_name,
+)
+
+# Text records are read whole; beyond this size the user should convert to a binary format.
+MAX_CSV_BYTES = 500_000_000
+# Relative spread of time steps accepted as "uniform": the time column is usually printed with
+# a few decimals, so allow rounding of the last printed digit (common practice, no source).
+_TIME_STEP_RTOL = 0.01
+
+_TIME_NAMES = {
+    "time": 1.0,
+    "t": 1.0,
+    "time_s": 1.0,
+    "times": 1.0,
+    "seconds": 1.0,
+    "sec": 1.0,
+    "s": 1.0,
+    "time_ms": 1e-3,
+    "ms": 1e-3,
+    "milliseconds": 1e-3,
+    "t_ms": 1e-3,
+    "t_s": 1.0,
+}
+_UNIT_SUFFIX = re.compile(
+    r"^(?P<name>.*?)\s*(?:\[(?P<u1>[^\]]+)\]|\((?P<u2>[^)]+)\)|[_ ](?P<u3>[munµμ]?V))\s*$",
+    re.IGNORECASE,
+)
+
+
+def _split_units(column: str) -> tuple[str, str | None]:
+    """``"I [uV]"`` -> (``"I"``, ``"uV"``); ``"V1_mV"`` -> (``"V1"``, ``"mV"``); else unit None."""
+    m = _UNIT_SUFFIX.match(column.strip())
+    if m and m.group("name"):
+        unit = m.group("u1") or m.group("u2") or m.group("u3")
+        return m.group("name").strip(), unit.strip()
+    return column.strip(), None
+
+
+def _time_scale(column: str) -> float | None:
+    """Seconds per unit when ``column`` names a time column, else None."""
+    name, unit = _split_units(column)
+    key = name.lower().replace(" ", "_")
+    if unit is not None and key in ("time", "t"):
+        u = unit.lower()
+        return {"s": 1.0, "sec": 1.0, "ms": 1e-3, "us": 1e-6}.get(u)
+    return _TIME_NAMES.get(key)
+
+
+def _delimiter(header_line: str) -> str:
+    counts = {d: header_line.count(d) for d in ("\t", ";", ",")}
+    best = max(counts, key=lambda d: counts[d])
+    return best if counts[best] > 0 else ","
+
+
+def looks_like_ecg_csv(path: Path) -> bool:
+    """Cheap check of the header row: a time column or a recognisable lead name."""
+    try:
+        with path.open("r", encoding="utf-8-sig", errors="replace") as fh:
+            first = fh.readline(10_000)
+    except OSError:
+        return False
+    cols = [c.strip().strip('"') for c in first.rstrip("\r\n").split(_delimiter(first))]
+    known = set(STANDARD_12) | {"X", "Y", "Z", "MLII", "MLI", "MLIII"}
+    for c in cols:
+        name, _ = _split_units(c)
+        if _time_scale(c) is not None or normalise_lead_name(clean_lead_label(name)) in known:
+            return True
+    return False
+
+
+def read_csv(path: Path, *, fs_hz: float | None = None, units: str | None = None) -> Record:
+    """Read a delimited text record; see the module docstring for the accepted layout.
+
+    Args:
+        path: the text file.
+        fs_hz: sampling rate in Hz, needed when there is no time column; when both are given
+            they must agree within 1 %.
+        units: units of every lead column ("uV", "mV", "V"), overriding header suffixes.
+    """
+    path = Path(path)
+    try:
+        size = path.stat().st_size
+        if size > MAX_CSV_BYTES:
+            raise RecordError(f"text file of {size / 1e6:.0f} MB is too large to read", path)
+        raw = path.read_bytes()
+    except OSError as err:
+        raise RecordError(f"cannot read file: {err.strerror or err}", path) from None
+    try:
+        text = raw.decode("utf-8-sig")
+    except UnicodeDecodeError:
+        raise RecordError("not a text file (not UTF-8)", path) from None
+    if "\x00" in text:
+        raise RecordError("not a text file (contains NUL bytes)", path)
+    lines = text.splitlines()
+    while lines and not lines[0].strip():
+        lines.pop(0)
+    if not lines:
+        raise RecordError("file is empty", path)
+    header_line = lines[0]
+    delim = _delimiter(header_line)
+    columns = [c.strip().strip('"').strip() for c in header_line.split(delim)]
+    if any(_is_number(c) for c in columns):
+        raise RecordError("first row must name the leads (e.g. 'time_s,I,II,V1')", path)
+    body = "\n".join(line for line in lines[1:] if line.strip())
+    if not body:
+        raise RecordError("no samples below the header row", path)
+    # Semicolon files from European locales may use a decimal comma.
+    if delim == ";" and "," in body and "." not in body:
+        body = body.replace(",", ".")
+    try:
+        values = np.loadtxt(io.StringIO(body), delimiter=delim, dtype=np.float64, ndmin=2)
+    except ValueError as err:
+        raise RecordError(f"cannot read the numbers: {err}", path) from None
+    if values.shape[1] != len(columns):
+        raise RecordError(
+            f"{len(columns)} column names but {values.shape[1]} columns of numbers", path
+        )
+    require_finite(values, path, "CSV")
+
+    notes: list[str] = []
+    time_cols = [i for i, c in enumerate(columns) if _time_scale(c) is not None]
+    lead_cols = [i for i in range(len(columns)) if i not in time_cols[:1]]
+    if not lead_cols:
+        raise RecordError("no lead columns besides the time column", path)
+    rate = _rate_from_time(values, time_cols, columns, path)
+    if rate is not None and fs_hz is not None and not math.isclose(rate, fs_hz, rel_tol=0.01):
+        raise RecordError(
+            f"time column gives {rate:.6g} Hz but the sampling rate was given as {fs_hz:g} Hz",
+            path,
+        )
+    if rate is None:
+        if fs_hz is None:
+            raise RecordError(
+                "no time column (time, t, time_s, time_ms) and no sampling rate given (--fs)", path
+            )
+        rate = float(fs_hz)
+        if not math.isfinite(rate) or rate <= 0:
+            raise RecordError(f"sampling rate must be a positive number, got {fs_hz!r}", path)
+
+    names, factors, leads = [], [], []
+    unstated = []
+    raw_names = [clean_lead_label(_split_units(columns[i])[0]) for i in lead_cols]
+    for i, name in zip(lead_cols, unique_names(raw_names), strict=True):
+        _, col_unit = _split_units(columns[i])
+        unit = units if units is not None else col_unit
+        if unit is None:
+            unstated.append(name)
+            unit = "mV"
+        f = mv_factor(unit)
+        if f is None:
+            raise RecordError(f"column {columns[i]!r}: units {unit!r} are not mV, uV or V", path)
+        names.append(name)
+        factors.append(f)
+        leads.append(LeadInfo(name=name, original_name=columns[i], units="mV"))
+    if unstated:
+        notes.append(f"units not given for {', '.join(unstated)}; assumed mV")
+    data = np.ascontiguousarray(values[:, lead_cols] * np.array(factors), dtype=np.float32)
+    if not np.isfinite(data).all():
+        raise RecordError("values overflow when converted to mV", path)
+    data.setflags(write=False)
+    return build_record(
+        name=path.stem,
+        fs_hz=rate,
+        source=ArraySource(data),
+        leads=leads,
+        source_path=path,
+        source_format="CSV",
+        notes=notes,
+    )
+
+
+def _is_number(s: str) -> bool:
+    try:
+        float(s)
+    except ValueError:
+        return False
+    return True
+
+
+def _rate_from_time(
+    values: np.ndarray, time_cols: list[int], columns: list[str], path: Path
+) -> float | None:
+    if not time_cols:
+        return None
+    col = time_cols[0]
+    scale = _time_scale(columns[col])
+    assert scale is not None
+    t = values[:, col] * scale
+    if t.shape[0] < 2:
+        raise RecordError("one sample is not enough to tell the sampling rate", path)
+    steps = np.diff(t)
+    step = float(np.median(steps))
+    if not step > 0:
+        raise RecordError(f"time column {columns[col]!r} does not increase", path)
+    spread = float(np.max(np.abs(steps - step)))
+    if spread > _TIME_STEP_RTOL * step:
+        bad = int(np.argmax(np.abs(steps - step)))
+        raise RecordError(
+            f"time column {columns[col]!r} is not evenly spaced (step {steps[bad]:.6g} s at "
+            f"row {bad + 2} vs median {step:.6g} s)",
+            path,
+        )
+    # The mean step over the whole column is more precise than any single printed step.
+    mean_step = (t[-1] - t[0]) / (t.shape[0] - 1)
+    rate = 1.0 / mean_step
+    if math.isfinite(rate) and abs(rate - round(rate)) < 1e-6 * rate:
+        rate = float(round(rate))  # printed times carry rounding noise; whole-Hz rates are usual
+    if not math.isfinite(rate) or rate <= 0:
+        raise RecordError(f"time column {columns[col]!r} gives no usable sampling rate", path)
+    return rate

@@ -1,0 +1,183 @@
+"""EDF, EDF+ and BDF records through pyedflib.
+
+ECG leads are the signals whose physical dimension is a voltage; annotation channels and other
+signals (respiration, SpO2, ...) are left out with a note. Leads must share one sampling rate:
+when they do not, the leads at the most common rate are kept and the others named in a note.
+Signals are read window by window, so long recordings stay on disk.
+"""
+
+from __future__ import annotations
+
+import math
+from collections import Counter
+from dataclasses import dataclass
+from datetime import date, datetime
+from pathlib import Path
+
+import numpy as np
+import pyedflib
+
+from reviewapp.core.errors import RecordError
+from reviewapp.core.io._common import (
+    clean_lead_label,
+    completed_years,
+    mv_factor,
+    reading,
+    unique_names,
+)
+from reviewapp.core.record import LeadInfo, Record, SubjectFacts, build_record
+
+_EDF_MIN_HEADER_BYTES = 256
+
+
+def _open(path: Path) -> pyedflib.EdfReader:
+    with reading(path, "EDF file"):
+        return pyedflib.EdfReader(str(path))
+
+
+@dataclass(frozen=True, eq=False)
+class EdfSource:
+    """Reads windows of selected EDF signals (physical values) and scales them to mV."""
+
+    path: Path
+    channels: tuple[int, ...]
+    factors_to_mv: np.ndarray  # (n_leads,)
+    total_samples: int
+
+    @property
+    def n_samples(self) -> int:
+        return self.total_samples
+
+    @property
+    def n_leads(self) -> int:
+        return len(self.channels)
+
+    def read(self, start: int, stop: int) -> np.ndarray:
+        start = max(0, int(start))
+        stop = min(self.total_samples, int(stop))
+        out = np.empty((max(stop - start, 0), self.n_leads), dtype=np.float32)
+        if stop <= start:
+            return out
+        reader = _open(self.path)
+        try:
+            with reading(self.path, "EDF signal"):
+                for j, ch in enumerate(self.channels):
+                    x = reader.readSignal(ch, start, stop - start)
+                    if x.shape[0] != stop - start:
+                        raise RecordError(
+                            f"signal {ch + 1} holds fewer samples than its header declares",
+                            self.path,
+                        )
+                    out[:, j] = x * self.factors_to_mv[j]
+        finally:
+            reader.close()
+        return out
+
+
+def read_edf(path: Path) -> Record:
+    """Open an EDF/EDF+/BDF file; see the module docstring for which signals become leads."""
+    path = Path(path)
+    if path.stat().st_size < _EDF_MIN_HEADER_BYTES:
+        raise RecordError("file is too short to be EDF (header is 256 bytes)", path)
+    reader = _open(path)
+    try:
+        with reading(path, "EDF header"):
+            n_sig = int(reader.signals_in_file)
+            labels = [str(reader.getLabel(i)).strip() for i in range(n_sig)]
+            dims = [str(reader.getPhysicalDimension(i)).strip() for i in range(n_sig)]
+            rates = [float(reader.getSampleFrequency(i)) for i in range(n_sig)]
+            n_samples = [int(n) for n in reader.getNSamples()]
+            phys_min = [float(reader.getPhysicalMinimum(i)) for i in range(n_sig)]
+            phys_max = [float(reader.getPhysicalMaximum(i)) for i in range(n_sig)]
+            dig_min = [int(reader.getDigitalMinimum(i)) for i in range(n_sig)]
+            dig_max = [int(reader.getDigitalMaximum(i)) for i in range(n_sig)]
+            subject = _subject(reader)
+    finally:
+        reader.close()
+    if n_sig == 0:
+        raise RecordError("EDF file holds no signals", path)
+    notes: list[str] = []
+    voltage = []
+    no_unit = []
+    other = []
+    for i in range(n_sig):
+        if mv_factor(dims[i]) is not None:
+            voltage.append(i)
+        elif dims[i] == "":
+            no_unit.append(i)
+        else:
+            other.append(i)
+    # Unlabelled dimensions count as leads (assumed mV) only when no signal names a voltage.
+    if not voltage and no_unit:
+        voltage = no_unit
+        notes.append("physical dimension not given; assumed mV")
+    elif no_unit:
+        other += no_unit
+    if other:
+        notes.append(
+            "non-voltage signals left out: "
+            + ", ".join(f"{labels[i]} ({dims[i] or 'no unit'})" for i in sorted(other))
+        )
+    if not voltage:
+        raise RecordError("no voltage (ECG) signals in the EDF file", path)
+    for i in voltage:
+        if not (math.isfinite(rates[i]) and rates[i] > 0):
+            raise RecordError(f"signal {labels[i]!r} has sampling rate {rates[i]!r}", path)
+        if phys_max[i] == phys_min[i] or dig_max[i] <= dig_min[i]:
+            raise RecordError(f"signal {labels[i]!r} has an empty physical or digital range", path)
+    common_rate, _ = Counter(rates[i] for i in voltage).most_common(1)[0]
+    off_rate = [i for i in voltage if rates[i] != common_rate]
+    if off_rate:
+        notes.append(
+            f"leads at other sampling rates than {common_rate:g} Hz left out: "
+            + ", ".join(f"{labels[i]} ({rates[i]:g} Hz)" for i in off_rate)
+        )
+    channels = [i for i in voltage if rates[i] == common_rate]
+    length = min(n_samples[i] for i in channels)
+    if length <= 0:
+        raise RecordError("EDF file holds no samples", path)
+    factors = np.array(
+        [mv_factor(dims[i]) if mv_factor(dims[i]) is not None else 1.0 for i in channels],
+        dtype=np.float32,
+    )
+    names = unique_names([clean_lead_label(labels[i]) or f"signal {i + 1}" for i in channels])
+    leads = [
+        LeadInfo(
+            name=n,
+            original_name=labels[i],
+            units="mV",
+            adc_gain_per_mv=(dig_max[i] - dig_min[i]) / (phys_max[i] - phys_min[i]) / float(f),
+            adc_resolution_bits=24 if path.suffix.lower() == ".bdf" else 16,
+        )
+        for n, i, f in zip(names, channels, factors, strict=True)
+    ]
+    source = EdfSource(
+        path=path, channels=tuple(channels), factors_to_mv=factors, total_samples=length
+    )
+    return build_record(
+        name=path.stem,
+        fs_hz=common_rate,
+        source=source,
+        leads=leads,
+        subject=subject,
+        source_path=path,
+        source_format="BDF" if path.suffix.lower() == ".bdf" else "EDF",
+        notes=notes,
+    )
+
+
+def _subject(reader: pyedflib.EdfReader) -> SubjectFacts:
+    sex_text = str(getattr(reader, "getSex", reader.getGender)() or "").strip().lower()
+    sex = {"female": "female", "f": "female", "male": "male", "m": "male"}.get(sex_text)
+    start = reader.getStartdatetime()
+    acquired = start if isinstance(start, datetime) else None
+    age = None
+    try:
+        birth = reader.getBirthdate(string=False)
+    except Exception:
+        birth = None
+    if isinstance(birth, (date, datetime)) and acquired is not None:
+        b = birth.date() if isinstance(birth, datetime) else birth
+        age = completed_years(b, acquired.date())
+    code = str(reader.getPatientCode() or "").strip() or None
+    return SubjectFacts(subject_id=code, age_years=age, sex=sex, acquired_at=acquired)

@@ -1,0 +1,183 @@
+"""Bytes <-> validated JSON for sidecars, safe against hostile files.
+
+Every failure becomes an ``UnreadableSidecarError`` naming the file: size above
+``MAX_SIDECAR_BYTES``, not UTF-8, nesting deeper than ``MAX_DEPTH``, NaN/Infinity or numbers
+too large for a float, duplicate keys, invalid JSON, a future schema version, or anything the
+JSON Schema (``sidecar.schema.json``) rejects. Output is diff-friendly: sorted keys, indent 2.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import math
+from functools import cache
+from importlib import resources
+from pathlib import Path
+from typing import Any
+
+from reviewapp.core.errors import MarksError
+from reviewapp.core.marks.errors import FutureVersionError, UnreadableSidecarError
+from reviewapp.core.marks.model import FORMAT_NAME, SCHEMA_VERSION, Sidecar, sidecar_from_json
+
+MAX_SIDECAR_BYTES = 50 * 1024 * 1024
+MAX_DEPTH = 32
+SCHEMA_FILE = "sidecar.schema.json"
+
+
+@cache
+def schema() -> dict[str, Any]:
+    """The JSON Schema of the current sidecar version (shipped as package data)."""
+    text = resources.files("reviewapp.core.marks").joinpath(SCHEMA_FILE).read_text("utf-8")
+    return json.loads(text)
+
+
+@cache
+def _validator() -> Any:
+    import jsonschema
+
+    return jsonschema.Draft202012Validator(schema())
+
+
+def sha256_hex(data: bytes) -> str:
+    return hashlib.sha256(data).hexdigest()
+
+
+def nesting_depth(doc: Any) -> int:
+    """Deepest container nesting of parsed JSON (iterative, so it cannot overflow the stack)."""
+    deepest = 0
+    stack: list[tuple[Any, int]] = [(doc, 1)]
+    while stack:
+        node, depth = stack.pop()
+        if isinstance(node, dict):
+            children = node.values()
+        elif isinstance(node, list):
+            children = node
+        else:
+            continue
+        deepest = max(deepest, depth)
+        stack.extend((c, depth + 1) for c in children if isinstance(c, dict | list))
+    return deepest
+
+
+def _reject_constant(name: str) -> Any:
+    raise ValueError(f"{name} is not allowed (numbers must be finite)")
+
+
+def _finite_float(text: str) -> float:
+    value = float(text)
+    if not math.isfinite(value):
+        raise ValueError(f"number {text[:20]} is too large")
+    return value
+
+
+def _no_duplicates(pairs: list[tuple[str, Any]]) -> dict[str, Any]:
+    out: dict[str, Any] = {}
+    for k, v in pairs:
+        if k in out:
+            raise ValueError(f"key {k[:40]!r} appears twice in one object")
+        out[k] = v
+    return out
+
+
+def parse_bytes(data: bytes, path: Path | None) -> dict[str, Any]:
+    """Parse and validate sidecar bytes into a schema-valid JSON document."""
+    if len(data) > MAX_SIDECAR_BYTES:
+        raise UnreadableSidecarError(
+            f"marks file is {len(data) / 1e6:.0f} MB, above the {MAX_SIDECAR_BYTES // 2**20} MB "
+            "limit; it is not a marks file this program wrote",
+            path,
+        )
+    try:
+        text = data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise UnreadableSidecarError(f"marks file is not UTF-8 text ({exc.reason})", path) from None
+    try:
+        doc = json.loads(
+            text,
+            parse_constant=_reject_constant,
+            parse_float=_finite_float,
+            object_pairs_hook=_no_duplicates,
+        )
+    except RecursionError:
+        # CPython's decoder guards its recursion, so absurd nesting fails fast and cleanly.
+        raise UnreadableSidecarError(
+            f"marks file nests too deeply (limit {MAX_DEPTH} levels); refusing to read it", path
+        ) from None
+    except ValueError as exc:
+        # json.JSONDecodeError is a ValueError; so are over-long integers (int max str digits).
+        raise UnreadableSidecarError(f"marks file is not valid JSON: {_short(exc)}", path) from None
+    depth = nesting_depth(doc)
+    if depth > MAX_DEPTH:
+        raise UnreadableSidecarError(
+            f"marks file nests {depth} levels deep (limit {MAX_DEPTH}); refusing to read it", path
+        )
+    return validate_document(doc, path)
+
+
+def validate_document(doc: Any, path: Path | None) -> dict[str, Any]:
+    """Check format, version and schema; returns ``doc`` unchanged when valid."""
+    if not isinstance(doc, dict):
+        raise UnreadableSidecarError("marks file does not hold a JSON object", path)
+    if doc.get("format") != FORMAT_NAME:
+        raise UnreadableSidecarError(
+            f"not a reviewapp marks file (format field is {_short(doc.get('format'))})", path
+        )
+    version = doc.get("schema_version")
+    if isinstance(version, int) and not isinstance(version, bool) and version > SCHEMA_VERSION:
+        raise FutureVersionError(
+            f"marks file has schema version {version}, written by a newer reviewapp; this one "
+            f"reads up to version {SCHEMA_VERSION}. Open it with the newer version",
+            path,
+        )
+    from jsonschema.exceptions import best_match
+
+    try:
+        error = best_match(_validator().iter_errors(doc))
+    except RecursionError:
+        raise UnreadableSidecarError("marks file nests too deeply", path) from None
+    if error is not None:
+        where = "/".join(str(p) for p in error.absolute_path) or "(top level)"
+        raise UnreadableSidecarError(
+            f"marks file does not match schema version {SCHEMA_VERSION} at {_short(where)}: "
+            f"{_short(error.message)}",
+            path,
+        )
+    return doc
+
+
+def decode(data: bytes, path: Path | None) -> Sidecar:
+    """Sidecar bytes -> ``Sidecar`` values (every failure is an UnreadableSidecarError)."""
+    doc = parse_bytes(data, path)
+    try:
+        return sidecar_from_json(doc)
+    except (KeyError, TypeError, ValueError) as exc:
+        raise UnreadableSidecarError(
+            f"marks file content is inconsistent: {_short(exc)}", path
+        ) from None
+
+
+def encode(sidecar: Sidecar, path: Path | None = None) -> bytes:
+    """``Sidecar`` -> validated, diff-friendly bytes (sorted keys, indent 2, trailing newline)."""
+    from reviewapp.core.marks.model import sidecar_to_json
+
+    doc = sidecar_to_json(sidecar)
+    try:
+        validate_document(doc, path)
+    except UnreadableSidecarError as exc:
+        raise MarksError(f"marks not saved, they are not valid: {exc.problem}", path) from None
+    try:
+        text = json.dumps(doc, sort_keys=True, indent=2, ensure_ascii=False, allow_nan=False)
+        data = (text + "\n").encode("utf-8")
+    except (ValueError, UnicodeEncodeError) as exc:
+        raise MarksError(
+            f"marks not saved, a value cannot be written: {_short(exc)}", path
+        ) from None
+    if len(data) > MAX_SIDECAR_BYTES:
+        raise MarksError("marks not saved: they would exceed the size limit", path)
+    return data
+
+
+def _short(value: Any, limit: int = 160) -> str:
+    text = str(value)
+    return text if len(text) <= limit else text[: limit - 3] + "..."

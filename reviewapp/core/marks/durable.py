@@ -1,0 +1,147 @@
+"""Crash-safe file writes and never-deleting file moves.
+
+``atomic_write`` writes a temporary file in the same folder, flushes and fsyncs it, renames it
+over the target with ``os.replace`` (atomic on POSIX and on Windows for one volume) and fsyncs
+the folder so the rename itself survives a power cut. A kill at any instant leaves the old or
+the new file, never a torn one; at worst a stray ``.<name>.tmp-<pid>-<hex>`` file, which
+``remove_stale_temps`` clears once its writer is dead.
+"""
+
+from __future__ import annotations
+
+import os
+import re
+import secrets
+import socket
+from datetime import UTC, datetime
+from pathlib import Path
+
+from reviewapp.core.errors import MarksError
+
+_TEMP = re.compile(r"^\.(?P<target>.+)\.tmp-(?P<pid>\d+)-[0-9a-f]+$")
+
+
+def utc_now() -> str:
+    """Current UTC time as ISO 8601 with microseconds and a ``Z`` suffix."""
+    return datetime.now(UTC).strftime("%Y-%m-%dT%H:%M:%S.%fZ")
+
+
+def utc_stamp() -> str:
+    """Current UTC time for file names (no colons): ``20261202T004501.123456Z``."""
+    return datetime.now(UTC).strftime("%Y%m%dT%H%M%S.%fZ")
+
+
+def fsync_dir(folder: Path) -> None:
+    """Make a rename in ``folder`` durable (no-op where folders cannot be opened, e.g. Windows)."""
+    try:
+        fd = os.open(folder, os.O_RDONLY)
+    except OSError:
+        return
+    try:
+        os.fsync(fd)
+    except OSError:
+        pass  # some file systems refuse fsync on folders; the rename is still atomic
+    finally:
+        os.close(fd)
+
+
+def atomic_write(path: Path, data: bytes) -> None:
+    """Replace ``path`` with ``data`` atomically and durably; MarksError on any OS failure."""
+    path = Path(path)
+    tmp = path.with_name(f".{path.name}.tmp-{os.getpid()}-{secrets.token_hex(4)}")
+    try:
+        fd = os.open(tmp, os.O_WRONLY | os.O_CREAT | os.O_EXCL | getattr(os, "O_BINARY", 0), 0o644)
+        try:
+            view = memoryview(data)
+            while view:
+                written = os.write(fd, view)
+                view = view[written:]
+            os.fsync(fd)
+        finally:
+            os.close(fd)
+        os.replace(tmp, path)
+    except OSError as exc:
+        try:
+            tmp.unlink(missing_ok=True)
+        except OSError:
+            pass
+        raise MarksError(f"could not save: {exc.strerror or exc}", path) from None
+    fsync_dir(path.parent)
+
+
+def pid_alive(pid: int) -> bool:
+    """Whether a process with this id runs on this machine."""
+    if pid <= 0:
+        return False
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except PermissionError:
+        return True  # it exists, it is just not ours
+    except OSError:
+        return False
+    return True
+
+
+def remove_stale_temps(path: Path) -> list[Path]:
+    """Remove this program's temporary files for ``path`` whose writing process is dead.
+
+    These are never a saved sidecar (a save is complete only once renamed), so removing them
+    loses nothing. Returns what was removed.
+    """
+    path = Path(path)
+    removed = []
+    try:
+        entries = list(os.scandir(path.parent))
+    except OSError:
+        return removed
+    for entry in entries:
+        m = _TEMP.match(entry.name)
+        if not m or not m.group("target").startswith(path.name):
+            continue
+        if int(m.group("pid")) == os.getpid() or pid_alive(int(m.group("pid"))):
+            continue
+        try:
+            os.unlink(entry.path)
+            removed.append(Path(entry.path))
+        except OSError:
+            pass
+    return removed
+
+
+def set_aside(path: Path, reason: str = "set-aside") -> Path:
+    """Rename ``path`` to ``<path>.<reason>-<utc>`` (content untouched); returns the new path.
+
+    Never overwrites: the name gets a counter if taken. Used to start a fresh reading beside a
+    sidecar that cannot be used.
+    """
+    path = Path(path)
+    base = f"{path.name}.{reason}-{utc_stamp()}"
+    for n in range(1000):
+        target = path.with_name(base if n == 0 else f"{base}.{n}")
+        try:
+            # link + unlink instead of rename: link fails if the target exists, so nothing is
+            # ever overwritten even if two processes race.
+            os.link(path, target)
+        except FileExistsError:
+            continue
+        except OSError:
+            if target.exists():
+                continue
+            try:
+                os.rename(path, target)  # file systems without hard links
+            except OSError as exc:
+                raise MarksError(
+                    f"could not move the file aside: {exc.strerror or exc}", path
+                ) from None
+            fsync_dir(path.parent)
+            return target
+        os.unlink(path)
+        fsync_dir(path.parent)
+        return target
+    raise MarksError("could not find a free name to move the file aside", path)
+
+
+def host_name() -> str:
+    return socket.gethostname()

@@ -1,0 +1,548 @@
+"""The marks store: one reviewer's session on one record's sidecar.
+
+Every change is saved at once (``durable.atomic_write``), the previous file kept as
+``<name>.marks.json.bak``. Before each save the file on disk is hashed and compared with the
+version this store loaded or last wrote; if another instance changed it, nothing is written
+and ``ConflictError`` is raised (resolve with ``resolve_reload``, ``resolve_save_aside`` or
+``resolve_merge``). A lock file detects a second window on the same record.
+"""
+
+from __future__ import annotations
+
+import os
+import re
+from collections.abc import Callable, Mapping
+from dataclasses import replace
+from pathlib import Path
+from typing import Any, Literal
+
+from reviewapp.core.errors import MarksError
+from reviewapp.core.marks import codec
+from reviewapp.core.marks.commands import Command
+from reviewapp.core.marks.convert import record_identity, sidecar_path_for
+from reviewapp.core.marks.durable import (
+    atomic_write,
+    remove_stale_temps,
+    set_aside,
+    utc_now,
+    utc_stamp,
+)
+from reviewapp.core.marks.edits import Edits
+from reviewapp.core.marks.errors import (
+    BlindedError,
+    ConflictError,
+    ForeignSidecarError,
+    ReadOnlyError,
+    UnreadableSidecarError,
+)
+from reviewapp.core.marks.lock import SidecarLock
+from reviewapp.core.marks.merge import merge_sidecars
+from reviewapp.core.marks.model import (
+    AuditEvent,
+    AutomaticMarks,
+    RecordIdentity,
+    ReviewerReading,
+    Role,
+    Sidecar,
+)
+from reviewapp.core.record import Record
+
+REVIEWER_ID = re.compile(r"^[A-Za-z0-9][A-Za-z0-9_.@-]{0,63}$")
+
+
+def _new_event_id() -> str:
+    import uuid
+
+    return uuid.uuid4().hex
+
+
+def backup_path_for(path: Path) -> Path:
+    return path.with_name(path.name + ".bak")
+
+
+def read_sidecar_bytes(path: Path) -> bytes | None:
+    """The file's bytes (None if absent), refusing files above the size cap before reading."""
+    try:
+        with open(path, "rb") as fh:
+            size = os.fstat(fh.fileno()).st_size
+            if size > codec.MAX_SIDECAR_BYTES:
+                raise UnreadableSidecarError(
+                    f"marks file is {size / 1e6:.0f} MB, above the "
+                    f"{codec.MAX_SIDECAR_BYTES // 2**20} MB limit; it is not a marks file this "
+                    "program wrote",
+                    path,
+                )
+            return fh.read(codec.MAX_SIDECAR_BYTES + 1)
+    except FileNotFoundError:
+        return None
+    except IsADirectoryError:
+        raise UnreadableSidecarError("expected a marks file but found a folder", path) from None
+    except OSError as exc:
+        raise UnreadableSidecarError(
+            f"cannot read the marks file: {exc.strerror or exc}", path
+        ) from None
+
+
+def load_sidecar(path: Path, identity: RecordIdentity | None = None) -> Sidecar:
+    """Read and validate a sidecar; with ``identity``, refuse one made for another record."""
+    path = Path(path)
+    data = read_sidecar_bytes(path)
+    if data is None:
+        raise MarksError("marks file not found", path)
+    sidecar = codec.decode(data, path)
+    if identity is not None:
+        check_identity(sidecar, identity, path)
+    return sidecar
+
+
+def check_identity(sidecar: Sidecar, identity: RecordIdentity, path: Path | None) -> None:
+    if sidecar.record.fingerprint != identity.fingerprint:
+        raise ForeignSidecarError(
+            f"these marks were made for a different record or an earlier version of its files "
+            f"(sidecar names record {sidecar.record.name!r}, fingerprint "
+            f"{sidecar.record.fingerprint[:19]}..., the record's is "
+            f"{identity.fingerprint[:19]}...); they are not applied",
+            path,
+            expected=identity.fingerprint,
+            found=sidecar.record.fingerprint,
+        )
+
+
+def blinded_view(sidecar: Sidecar, reviewer: str, *, show_automatic: bool) -> Sidecar:
+    """What a blinded reader may see: their own reading and audit events, and (if chosen) the
+    automatic marks; never another reader's marks, values or notes."""
+    own = sidecar.reading(reviewer)
+    return replace(
+        sidecar,
+        automatic=sidecar.automatic if show_automatic else None,
+        readings=() if own is None else (own,),
+        audit=tuple(e for e in sidecar.audit if e.reviewer == reviewer),
+    )
+
+
+class MarksStore:
+    """One reviewer's session on one sidecar. Use ``MarksStore.open``; close when done.
+
+    Reading side: ``reading`` (this reviewer's), ``automatic``, ``audit``, ``view``;
+    ``readings()`` and ``sidecar`` (everyone's) are refused to a blinded reader.
+    Writing side: ``edits`` makes commands, ``do``/``undo``/``redo`` run them and save
+    (``apply`` + ``save`` separately for undo stacks); ``set_automatic`` replaces the engine's
+    marks without touching any reading.
+    """
+
+    def __init__(
+        self,
+        path: Path,
+        identity: RecordIdentity,
+        reviewer: str,
+        role: Role,
+        blinded: bool,
+        show_automatic: bool,
+        read_only: bool,
+        lock: SidecarLock | None,
+        clock: Callable[[], str],
+    ) -> None:
+        self.path = path
+        self.identity = identity
+        self.reviewer = reviewer
+        self.role: Role = role
+        self.blinded = blinded
+        self.show_automatic = show_automatic
+        self.read_only = read_only
+        self.clock = clock
+        self.revision = 0  # bumped whenever the reading is replaced from disk
+        self.set_aside_paths: tuple[Path, ...] = ()
+        self._lock = lock
+        self._sidecar = Sidecar(record=identity)
+        self._base = self._sidecar  # the version on disk as last loaded or written
+        self._disk_hash: str | None = None
+        self._dirty = False
+        self._pending: bytes | None = None  # encoded unsaved state
+        self.edits = Edits(self)
+
+    # --- opening and closing --------------------------------------------------------------
+
+    @classmethod
+    def open(
+        cls,
+        record: Record,
+        reviewer: str,
+        *,
+        role: Role = "first",
+        blinded: bool | None = None,
+        show_automatic: bool = True,
+        path: Path | None = None,
+        fingerprint: str | None = None,
+        read_only: bool = False,
+        lock: bool = True,
+        force_lock: bool = False,
+        fresh_if_unreadable: bool = False,
+        clock: Callable[[], str] = utc_now,
+    ) -> MarksStore:
+        """Open (or start) the sidecar of ``record`` for ``reviewer``.
+
+        path: the sidecar file; default ``<record folder>/<record stem>.marks.json``.
+        role: "first", "second" or "adjudicator". A second reader is blinded unless
+            ``blinded=False`` is given; an adjudicator is never blinded.
+        show_automatic: a blinded reader sees the automatic marks only if True.
+        lock: take the record's lock (LockedError if another live window holds it);
+            ``force_lock`` takes over a lock held by another host's process.
+        fresh_if_unreadable: if the sidecar is corrupt, hostile, of a future version or made
+            for another record, move it (and its backup) aside to ``*.set-aside-<utc>`` and
+            start a fresh one; otherwise raise the UnreadableSidecarError and touch nothing.
+        fingerprint: the record's fingerprint if already computed (saves hashing twice).
+        """
+        if not REVIEWER_ID.match(reviewer or ""):
+            raise MarksError(
+                f"reviewer id {reviewer!r} is not usable: use 1-64 letters, digits, '.', '_', "
+                "'@' or '-', starting with a letter or digit"
+            )
+        if role not in ("first", "second", "adjudicator"):
+            raise MarksError(f"unknown reader role {role!r}")
+        if blinded is None:
+            blinded = role == "second"
+        if role == "adjudicator" and blinded:
+            raise MarksError("an adjudicator sees both readings and cannot be blinded")
+        path = Path(path) if path is not None else sidecar_path_for(record)
+        identity = record_identity(record, fingerprint)
+        held = None
+        if lock and not read_only:
+            remove_stale_temps(path)
+            held = SidecarLock.acquire(path, reviewer, force=force_lock)
+        store = cls(path, identity, reviewer, role, blinded, show_automatic, read_only, held, clock)
+        try:
+            try:
+                store._load()
+            except UnreadableSidecarError:
+                if not fresh_if_unreadable or read_only:
+                    raise
+                store._start_fresh()
+            store._check_role()
+        except BaseException:
+            store.close()
+            raise
+        return store
+
+    def close(self) -> None:
+        """Release the lock. Everything is already saved (or a save error was raised)."""
+        if self._lock is not None:
+            self._lock.release()
+            self._lock = None
+
+    def __enter__(self) -> MarksStore:
+        return self
+
+    def __exit__(self, *exc: object) -> None:
+        self.close()
+
+    def _load(self) -> None:
+        data = read_sidecar_bytes(self.path)
+        if data is None:
+            self._sidecar = self._base = Sidecar(record=self.identity)
+            self._disk_hash = None
+        else:
+            sidecar = codec.decode(data, self.path)
+            check_identity(sidecar, self.identity, self.path)
+            self._sidecar = self._base = sidecar
+            self._disk_hash = codec.sha256_hex(data)
+        self._dirty = False
+        self._pending = None
+
+    def _start_fresh(self) -> None:
+        moved = [set_aside(self.path)]
+        backup = backup_path_for(self.path)
+        if backup.exists():
+            moved.append(set_aside(backup))
+        self.set_aside_paths = tuple(moved)
+        self._sidecar = self._base = Sidecar(record=self.identity)
+        self._disk_hash = None
+        self._dirty = False
+        self._pending = None
+
+    def _check_role(self) -> None:
+        mine = self._sidecar.reading(self.reviewer)
+        if mine is not None and mine.role != self.role:
+            raise MarksError(
+                f"{self.reviewer} already reads this record as {mine.role} reader, "
+                f"not as {self.role}",
+                self.path,
+            )
+
+    # --- what the reader sees --------------------------------------------------------------
+
+    @property
+    def fs_hz(self) -> float:
+        return self.identity.fs_hz
+
+    @property
+    def reading(self) -> ReviewerReading:
+        """This reviewer's reading (a fresh unread one until their first edit)."""
+        mine = self._sidecar.reading(self.reviewer)
+        if mine is None:
+            mine = ReviewerReading(reviewer=self.reviewer, role=self.role, blinded=self.blinded)
+        return mine
+
+    @property
+    def automatic(self) -> AutomaticMarks | None:
+        """The engine's marks, or None (none computed, or hidden from a blinded reader)."""
+        if self.blinded and not self.show_automatic:
+            return None
+        return self._sidecar.automatic
+
+    @property
+    def automatic_internal(self) -> AutomaticMarks | None:
+        """The engine's marks for filling an override's old value (never shown as such)."""
+        return self._sidecar.automatic
+
+    @property
+    def audit(self) -> tuple[AuditEvent, ...]:
+        if self.blinded:
+            return tuple(e for e in self._sidecar.audit if e.reviewer == self.reviewer)
+        return self._sidecar.audit
+
+    @property
+    def view(self) -> Sidecar:
+        """The sidecar as this reader may see it (blinded view for a blinded reader)."""
+        if self.blinded:
+            return blinded_view(self._sidecar, self.reviewer, show_automatic=self.show_automatic)
+        return self._sidecar
+
+    @property
+    def sidecar(self) -> Sidecar:
+        """Everything in the file; refused to a blinded reader."""
+        self._refuse_if_blinded("the whole marks file")
+        return self._sidecar
+
+    def readings(self) -> dict[str, ReviewerReading]:
+        """All readings by reviewer id; refused to a blinded reader."""
+        self._refuse_if_blinded("other readers' marks")
+        return {r.reviewer: r for r in self._sidecar.readings}
+
+    @property
+    def dirty(self) -> bool:
+        """True while a change is held in memory but not yet on disk (after a save error)."""
+        return self._dirty
+
+    def _refuse_if_blinded(self, what: str) -> None:
+        if self.blinded:
+            raise BlindedError(
+                f"{self.reviewer} reads this record blinded and cannot see {what}", self.path
+            )
+
+    def require_adjudicator(self) -> None:
+        if self.role != "adjudicator":
+            raise MarksError(
+                f"{self.reviewer} is {self.role} reader; only an adjudicator sets final values",
+                self.path,
+            )
+
+    # --- changing ---------------------------------------------------------------------------
+
+    def _event(self, action: str, target: str, old: Any, new: Any) -> AuditEvent:
+        return AuditEvent(
+            _new_event_id(), self.clock(), self.reviewer, action, target[:500], old, new
+        )
+
+    def apply(self, cmd: Command, mode: Literal["do", "undo", "redo"] = "do") -> ReviewerReading:
+        """Run ``cmd`` (or revert it) on this reviewer's reading in memory and append the audit
+        events; nothing is written (``save`` does). Returns the new reading."""
+        if self.read_only:
+            raise ReadOnlyError("this marks file was opened read-only", self.path)
+        before = self.reading
+        after = cmd.revert(before) if mode == "undo" else cmd.apply(before)
+        events: list[AuditEvent] = []
+        if before.status == "signed_off" and after.status != "signed_off":
+            events.append(self._event("reopen", "reading status", "signed_off", after.status))
+        if mode == "undo":
+            events.append(
+                self._event(f"undo:{cmd.action}", cmd.target, cmd.new_value(), cmd.old_value())
+            )
+        else:
+            action = cmd.action if mode == "do" else f"redo:{cmd.action}"
+            events.append(self._event(action, cmd.target, cmd.old_value(), cmd.new_value()))
+        if after.status == "signed_off" and before.status != "signed_off" and mode == "undo":
+            events.append(
+                self._event("restore_sign_off", "reading status", before.status, "signed_off")
+            )
+        sidecar = self._sidecar.with_reading(after)
+        self._stage(replace(sidecar, audit=sidecar.audit + tuple(events)))
+        return after
+
+    def _stage(self, sidecar: Sidecar) -> None:
+        """Make ``sidecar`` the unsaved state, encoding it first: a value that cannot be
+        written (invalid, unencodable) is refused here and leaves the state unchanged."""
+        data = codec.encode(sidecar, self.path)
+        self._sidecar = sidecar
+        self._pending = data
+        self._dirty = True
+
+    def do(self, cmd: Command) -> ReviewerReading:
+        """Apply ``cmd`` and save at once. On a save error the edit stays applied in memory
+        (``dirty``) and the error (e.g. ConflictError) is raised."""
+        after = self.apply(cmd)
+        self.save()
+        return after
+
+    def undo(self, cmd: Command) -> ReviewerReading:
+        """Revert ``cmd`` (the latest applied edit) and save; recorded as an ``undo:`` event."""
+        after = self.apply(cmd, mode="undo")
+        self.save()
+        return after
+
+    def redo(self, cmd: Command) -> ReviewerReading:
+        after = self.apply(cmd, mode="redo")
+        self.save()
+        return after
+
+    def set_automatic(
+        self, automatic: AutomaticMarks, listing_cache: Mapping[str, Any] | None = None
+    ) -> None:
+        """Replace the engine's marks (e.g. a newer engine version); readings are untouched.
+        Saved at once; recorded in the audit trail with old and new engine versions.
+        ``listing_cache`` (batch step): the worklist cache made from these marks, stored with
+        them."""
+        if self.read_only:
+            raise ReadOnlyError("this marks file was opened read-only", self.path)
+        old = self._sidecar.automatic
+        if listing_cache is not None:
+            self._sidecar = replace(self._sidecar, listing_cache=dict(listing_cache))
+            self._dirty = True
+        if old == automatic:
+            self.save()
+            return
+        event = self._event("set_automatic", "automatic marks", _summary(old), _summary(automatic))
+        self._stage(
+            replace(self._sidecar, automatic=automatic, audit=(*self._sidecar.audit, event))
+        )
+        self.save()
+
+    # --- saving and conflicts ---------------------------------------------------------------
+
+    def _current_disk(self) -> tuple[bytes | None, str | None]:
+        try:
+            data = read_sidecar_bytes(self.path)
+        except UnreadableSidecarError as exc:
+            raise ConflictError(
+                f"the marks file was replaced on disk by something unreadable ({exc.problem}); "
+                "nothing was saved",
+                self.path,
+            ) from None
+        return data, None if data is None else codec.sha256_hex(data)
+
+    def save(self) -> None:
+        """Write the sidecar if there are unsaved changes (atomic, durable, with backup).
+
+        Raises ConflictError (nothing written) if the file changed on disk since it was
+        loaded or last written by this store, MarksError if it cannot be written.
+        """
+        if not self._dirty:
+            return
+        if self._lock is not None and not self._lock.still_ours():
+            raise ConflictError(
+                "another window took over this record's lock; nothing was saved", self.path
+            )
+        data = (
+            self._pending if self._pending is not None else codec.encode(self._sidecar, self.path)
+        )
+        current, current_hash = self._current_disk()
+        if current_hash != self._disk_hash:
+            what = "removed" if current is None else "changed by another window or program"
+            raise ConflictError(
+                f"the marks file was {what} since it was opened; nothing was saved. Reload it, "
+                "save this reading as a separate file, or merge the changes",
+                self.path,
+            )
+        if current is not None:
+            atomic_write(backup_path_for(self.path), current)
+        atomic_write(self.path, data)
+        self._disk_hash = codec.sha256_hex(data)
+        self._base = self._sidecar
+        self._dirty = False
+        self._pending = None
+
+    def changed_on_disk(self) -> bool:
+        """Whether another instance changed the file since this store loaded or wrote it."""
+        return self._current_disk()[1] != self._disk_hash
+
+    def resolve_reload(self) -> None:
+        """Drop unsaved changes and continue from the file on disk (undo history is reset)."""
+        self._load()
+        self._check_role()
+        self.revision += 1
+
+    def resolve_save_aside(self) -> Path:
+        """Keep this store's version as ``<name>.marks.<reviewer>.<utc>.json`` beside the
+        record, then continue from the file on disk. Returns the separate file's path."""
+        stem = (
+            self.path.name[: -len(".marks.json")]
+            if self.path.name.endswith(".marks.json")
+            else self.path.stem
+        )
+        data = codec.encode(self._sidecar, self.path)
+        for n in range(100):
+            aside = self.path.with_name(
+                f"{stem}.marks.{self.reviewer}.{utc_stamp()}{'' if n == 0 else f'.{n}'}.json"
+            )
+            if not aside.exists():
+                break
+        atomic_write(aside, data)
+        try:
+            self.resolve_reload()
+        except UnreadableSidecarError as exc:
+            raise UnreadableSidecarError(
+                f"{exc.problem}; this reading was kept as {aside.name}", exc.path
+            ) from None
+        return aside
+
+    def resolve_merge(self) -> None:
+        """Merge this store's changes with the file on disk and save the result.
+
+        Raises MergeConflictError (nothing written) if both changed the same item.
+        """
+        current, current_hash = self._current_disk()
+        if current is None:
+            self._disk_hash = None
+            self.save()
+            return
+        theirs = codec.decode(current, self.path)
+        check_identity(theirs, self.identity, self.path)
+        merged = merge_sidecars(self._base, self._sidecar, theirs, self.path)
+        event = self._event(
+            "merge",
+            "marks file",
+            {"their_events": len(theirs.audit) - len(self._base.audit)},
+            {"our_events": len(self._sidecar.audit) - len(self._base.audit)},
+        )
+        self._stage(replace(merged, audit=(*merged.audit, event)))
+        self._base = theirs
+        self._disk_hash = current_hash
+        self.revision += 1
+        self.save()
+
+
+def _summary(a: AutomaticMarks | None) -> dict[str, Any] | None:
+    if a is None:
+        return None
+    return {
+        "engine_version": a.engine_version,
+        "computed_at": a.computed_at,
+        "n_beats": len(a.beats),
+    }
+
+
+def write_automatic(
+    record: Record,
+    automatic: AutomaticMarks,
+    *,
+    actor: str = "batch",
+    path: Path | None = None,
+    fingerprint: str | None = None,
+    listing_cache: Mapping[str, Any] | None = None,
+) -> Path:
+    """Batch use: store the engine's marks in the record's sidecar (creating it if needed),
+    leaving every reading untouched. Raises LockedError if a window has the record open and
+    UnreadableSidecarError if the existing sidecar cannot be used. Returns the sidecar path.
+    ``listing_cache``: the worklist cache derived from these marks (see set_automatic)."""
+    with MarksStore.open(record, actor, path=path, fingerprint=fingerprint) as store:
+        store.set_automatic(automatic, listing_cache)
+        return store.path

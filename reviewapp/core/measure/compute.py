@@ -1,0 +1,150 @@
+"""``compute_measurements``: every measured value, as a pure function of a ``MarkedECG``.
+
+Runs on every mark drag, so it touches only the representative-beat window (a second or so of
+12 leads) and the beat/mark lists; nothing here reads the whole record signal.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from reviewapp.core.fiducials import MarkedECG, WaveMarks
+from reviewapp.core.measure.amplitudes import (
+    cornell_mv,
+    isoelectric_levels,
+    lead_measurements,
+    sokolow_lyon_mv,
+)
+from reviewapp.core.measure.axes import LIMB_LEADS, frontal_axis
+from reviewapp.core.measure.intervals import (
+    INTERVAL_MARKS,
+    beat_intervals,
+    interval_reason,
+    rr_statistics,
+    span_ms,
+)
+from reviewapp.core.measure.qtc import QTC_FORMULAS
+from reviewapp.core.measure.types import GlobalIntervals, LeadMeasurements, Measurements
+
+# Wave -> (start mark, end mark) for the axis net areas. T: from QRS end (J) to T end, i.e.
+# the whole ST-T, since the T onset is not a mark.
+_AXIS_WAVES: tuple[tuple[str, str, str], ...] = (
+    ("p_axis_deg", "p_on", "p_off"),
+    ("qrs_axis_deg", "qrs_on", "qrs_off"),
+    ("t_axis_deg", "qrs_off", "t_off"),
+)
+
+
+def compute_measurements(marked: MarkedECG) -> Measurements:
+    """Intervals, QTc, axes, per-lead amplitudes and ST levels, voltages, beat-by-beat values.
+
+    Global intervals use the representative beat's global marks; RR and heart rate use the
+    consecutive dominant beats (see ``rr_statistics``). Anything not measurable is None and
+    appears in ``Measurements.unmeasured`` with the reason.
+    """
+    fs = float(marked.fs_hz)
+    unmeasured: list[tuple[str, str]] = []
+    g: dict[str, float | None] = {}
+
+    rr = rr_statistics(marked.beats, fs)
+    g["rr_ms"], g["rr_sd_ms"] = rr.mean_ms, rr.sd_ms
+    g["hr_bpm"] = 60000.0 / rr.mean_ms if rr.mean_ms else None
+    if rr.mean_ms is None:
+        unmeasured += [("rr_ms", rr.basis), ("hr_bpm", rr.basis)]
+    elif rr.sd_ms is None:
+        unmeasured.append(("rr_sd_ms", "a single RR interval"))
+
+    rep = marked.representative
+    marks = rep.marks if rep is not None else WaveMarks()
+    for field, first, second in INTERVAL_MARKS:
+        g[field] = span_ms(marks.get(first), marks.get(second), fs)
+        if g[field] is None:
+            why = "no representative beat" if rep is None else interval_reason(marks, first, second)
+            unmeasured.append((field, why))
+
+    qt, rr_ms = g["qt_ms"], g["rr_ms"]
+    for name, formula in QTC_FORMULAS.items():
+        key = f"qtc_{name}_ms"
+        if qt is not None and rr_ms is not None and rr_ms > 0:
+            g[key] = formula(qt, rr_ms)
+        else:
+            g[key] = None
+            unmeasured.append((key, "no QT" if qt is None else "no RR"))
+
+    leads: list[LeadMeasurements] = []
+    if rep is None:
+        for key, *_ in _AXIS_WAVES:
+            g[key] = None
+            unmeasured.append((key, "no representative beat"))
+        unmeasured.append(("leads", "no representative beat"))
+    else:
+        wave = np.asarray(rep.waveform_mv)
+        lead_marks = rep.lead_marks
+        bases = None
+        if marks.qrs_on is not None and 0 < marks.qrs_on <= wave.shape[0]:
+            bases = isoelectric_levels(wave, marks.qrs_on, marks.p_off, fs)
+        for i, name in enumerate(marked.lead_names):
+            usable = marked.usable[i] if i < len(marked.usable) else False
+            if not usable:
+                leads.append(LeadMeasurements(lead=name))
+                unmeasured.append((name, f"lead {name} flat, missing or invalid"))
+                continue
+            own = lead_marks[i] if i < len(lead_marks) else None
+            base = None if bases is None else float(bases[i])
+            m, why = lead_measurements(name, wave[:, i], marks, own, fs, base)
+            leads.append(m)
+            unmeasured += why
+        g.update(_axes(marked, wave, marks, bases, unmeasured))
+
+    by_name = {m.lead: m for m in leads}
+    sokolow = sokolow_lyon_mv(by_name.get("V1"), by_name.get("V5"), by_name.get("V6"))
+    if sokolow is None:
+        unmeasured.append(("sokolow_lyon_mv", "needs S in V1 and R in V5 or V6"))
+    cornell = cornell_mv(by_name.get("aVL"), by_name.get("V3"))
+    if cornell is None:
+        unmeasured.append(("cornell_mv", "needs R in aVL and S in V3"))
+
+    return Measurements(
+        intervals=GlobalIntervals(**g),
+        leads=tuple(leads),
+        beats=beat_intervals(marked.beats, marked.beat_marks, fs),
+        sokolow_lyon_mv=sokolow,
+        cornell_mv=cornell,
+        unmeasured=tuple(unmeasured),
+    )
+
+
+def _axes(
+    marked: MarkedECG,
+    wave: np.ndarray,
+    marks: WaveMarks,
+    bases: np.ndarray | None,
+    unmeasured: list[tuple[str, str]],
+) -> dict[str, float | None]:
+    fs = float(marked.fs_hz)
+    cols = {
+        name: i
+        for i, name in enumerate(marked.lead_names)
+        if name in LIMB_LEADS and i < len(marked.usable) and marked.usable[i]
+    }
+    out: dict[str, float | None] = {}
+    idx = list(cols.values())
+    base = None if bases is None else bases[idx]
+    for key, first, second in _AXIS_WAVES:
+        a, b = marks.get(first), marks.get(second)
+        if len(cols) < 2:
+            out[key] = None
+            unmeasured.append((key, "fewer than two usable limb leads"))
+            continue
+        if base is None or a is None or b is None or b <= a or b >= wave.shape[0] or a < 0:
+            out[key] = None
+            unmeasured.append(
+                (key, f"no {first.replace('_', ' ')} / {second.replace('_', ' ')} marks")
+            )
+            continue
+        seg = wave[a : b + 1, idx].astype(np.float64) - base[None, :]
+        net = seg.sum(axis=0) / fs  # mV*s
+        out[key] = frontal_axis(dict(zip(cols, net.tolist(), strict=True)))
+        if out[key] is None:
+            unmeasured.append((key, "indeterminate: net area near zero"))
+    return out

@@ -1,0 +1,216 @@
+"""Findings: measured values outside their normal limits. Flags for the reader, not diagnoses.
+
+Global values (rate, intervals, QTc, axes, voltages) are compared with ``normal_range``.
+ST levels and Q waves follow the Fourth Universal Definition of Myocardial Infarction
+(Thygesen et al., 2018): a lead is flagged only when a *contiguous* lead meets the same
+criterion. Contiguity, as the 4th UDMI describes lead groups (anterior V1-V6, inferior II, III,
+aVF, lateral/apical I and aVL — from memory), is implemented as:
+
+- limb groups: any two leads of {II, III, aVF} or of {I, aVL};
+- chest leads: neighbours in the sequence V1-V2-...-V6 (and V7-V8-V9, V3R-V4R), which is how
+  "contiguous" chest leads are commonly read (common practice, no source).
+
+aVR belongs to no group. ST depression is flagged on level alone; the ST slope the 4th UDMI
+asks for (horizontal or downsloping) is not assessed, and the text says so.
+"""
+
+from __future__ import annotations
+
+import itertools
+from collections.abc import Callable, Iterable
+
+from reviewapp.core.measure.limits import normal_range
+from reviewapp.core.measure.types import Finding, LeadMeasurements, Measurements, NormalRange
+from reviewapp.core.record import SubjectFacts
+
+LABELS: dict[str, str] = {
+    "hr_bpm": "Heart rate",
+    "rr_ms": "RR",
+    "p_ms": "P duration",
+    "pr_ms": "PR",
+    "qrs_ms": "QRS duration",
+    "qt_ms": "QT",
+    "qtc_bazett_ms": "QTc (Bazett)",
+    "qtc_fridericia_ms": "QTc (Fridericia)",
+    "qtc_framingham_ms": "QTc (Framingham)",
+    "qtc_hodges_ms": "QTc (Hodges)",
+    "p_axis_deg": "P axis",
+    "qrs_axis_deg": "QRS axis",
+    "t_axis_deg": "T axis",
+    "sokolow_lyon_mv": "Sokolow-Lyon voltage",
+    "cornell_mv": "Cornell voltage",
+    "st_j_mv": "ST at J",
+    "q_ms": "Q duration",
+}
+
+GLOBAL_CHECKS: tuple[str, ...] = (
+    "hr_bpm",
+    "p_ms",
+    "pr_ms",
+    "qrs_ms",
+    "qtc_bazett_ms",
+    "qtc_fridericia_ms",
+    "qtc_framingham_ms",
+    "qtc_hodges_ms",
+    "p_axis_deg",
+    "qrs_axis_deg",
+)
+
+LIMB_GROUPS: tuple[tuple[str, ...], ...] = (("II", "III", "aVF"), ("I", "aVL"))
+CHEST_SEQUENCES: tuple[tuple[str, ...], ...] = (
+    ("V1", "V2", "V3", "V4", "V5", "V6"),
+    ("V7", "V8", "V9"),
+    ("V3R", "V4R"),
+)
+
+
+def contiguous_pairs() -> tuple[tuple[str, str], ...]:
+    """Every pair of leads counted as contiguous (see module docstring).
+
+    >>> ("V2", "V3") in contiguous_pairs(), ("V1", "V3") in contiguous_pairs()
+    (True, False)
+    >>> ("II", "III") in contiguous_pairs(), ("I", "II") in contiguous_pairs()
+    (True, False)
+    """
+    pairs: list[tuple[str, str]] = []
+    for grp in LIMB_GROUPS:
+        pairs += [(a, b) for i, a in enumerate(grp) for b in grp[i + 1 :]]
+    for seq in CHEST_SEQUENCES:
+        pairs += list(itertools.pairwise(seq))
+    return tuple(pairs)
+
+
+CONTIGUOUS: tuple[tuple[str, str], ...] = contiguous_pairs()
+
+
+def _fmt(value: float, unit: str, digits: int = 2) -> str:
+    if unit == "mV":
+        return f"{value:.{digits}f} mV"
+    if unit == "deg":
+        return f"{value:+.0f} deg"
+    return f"{value:.0f} {unit}"
+
+
+def _text(label: str, value: float, unit: str, limit: float, above: bool, nr: NormalRange) -> str:
+    if value == limit:
+        rel = "at"
+    else:
+        rel = "above" if above else "below"
+    who = f" ({nr.applies_to})" if nr.applies_to else ""
+    shown = _fmt(value, unit)
+    if shown == _fmt(limit, unit) and value != limit:  # e.g. -0.054 vs -0.05: show why
+        shown = _fmt(value, unit, 3)
+    return f"{label} {shown} {rel} {_fmt(limit, unit)}{who}"
+
+
+def _check(
+    quantity: str, value: float | None, nr: NormalRange | None, lead: str | None = None
+) -> Finding | None:
+    if value is None or nr is None:
+        return None
+    label = LABELS.get(quantity, quantity)
+    if lead:
+        label = f"{label} in {lead}"
+    if nr.is_above(value):
+        assert nr.high is not None
+        return Finding(
+            quantity,
+            value,
+            nr.unit,
+            nr.high,
+            "above",
+            nr.source,
+            _text(label, value, nr.unit, nr.high, True, nr),
+            lead,
+        )
+    if nr.is_below(value):
+        assert nr.low is not None
+        return Finding(
+            quantity,
+            value,
+            nr.unit,
+            nr.low,
+            "below",
+            nr.source,
+            _text(label, value, nr.unit, nr.low, False, nr),
+            lead,
+        )
+    return None
+
+
+def _contiguous_flags(
+    leads: Iterable[LeadMeasurements],
+    flag: Callable[[LeadMeasurements], Finding | None],
+) -> list[Finding]:
+    """Flags of leads that have a contiguous partner also flagged, with the partner named."""
+    hits: dict[str, Finding] = {}
+    for m in leads:
+        f = flag(m)
+        if f is not None:
+            hits[m.lead] = f
+    partners: dict[str, list[str]] = {}
+    for a, b in CONTIGUOUS:
+        if a in hits and b in hits and hits[a].direction == hits[b].direction:
+            partners.setdefault(a, []).append(b)
+            partners.setdefault(b, []).append(a)
+    out = []
+    for lead, f in hits.items():
+        if lead in partners:
+            with_ = ", ".join(partners[lead])
+            out.append(
+                Finding(
+                    f.quantity,
+                    f.value,
+                    f.unit,
+                    f.limit,
+                    f.direction,
+                    f.source,
+                    f"{f.text}; contiguous with {with_}",
+                    f.lead,
+                )
+            )
+    return out
+
+
+def evaluate_findings(measurements: Measurements, subject: SubjectFacts) -> tuple[Finding, ...]:
+    """Every measured value outside its limit, as reader flags (not diagnoses).
+
+    Order: global intervals and axes, voltages, ST levels (two contiguous leads), Q waves.
+    """
+    out: list[Finding] = []
+    iv = measurements.intervals
+    for q in GLOBAL_CHECKS:
+        f = _check(q, getattr(iv, q), normal_range(q, subject))
+        if f is not None:
+            out.append(f)
+    for q in ("sokolow_lyon_mv", "cornell_mv"):
+        f = _check(q, getattr(measurements, q), normal_range(q, subject))
+        if f is not None:
+            out.append(f)
+
+    def st_flag(m: LeadMeasurements) -> Finding | None:
+        f = _check("st_j_mv", m.st_j_mv, normal_range("st_j_mv", subject, m.lead), m.lead)
+        if f is None:
+            return None
+        word = "ST elevation" if f.direction == "above" else "ST depression (slope not assessed)"
+        return Finding(
+            f.quantity, f.value, f.unit, f.limit, f.direction, f.source, f"{word}: {f.text}", f.lead
+        )
+
+    out += _contiguous_flags(measurements.leads, st_flag)
+
+    def q_flag(m: LeadMeasurements) -> Finding | None:
+        nr = normal_range("q_ms", subject, m.lead)
+        if nr is None or m.q_ms is None or m.q_mv is None or m.q_ms == 0.0:
+            return None
+        # Outside V2-V3 the 4th UDMI also asks for depth >= 0.1 mV.
+        if m.lead not in ("V2", "V3") and -m.q_mv < 0.1:
+            return None
+        return _check("q_ms", m.q_ms, nr, m.lead)
+
+    v2v3 = [m for m in measurements.leads if m.lead in ("V2", "V3")]
+    others = [m for m in measurements.leads if m.lead not in ("V2", "V3")]
+    # V2-V3: any Q wave > 20 ms counts on its own (4th UDMI, from memory).
+    out += [f for m in v2v3 if (f := q_flag(m)) is not None]
+    out += _contiguous_flags(others, q_flag)
+    return tuple(out)

@@ -1,0 +1,474 @@
+"""Output of ``reviewapp measure``: JSON (one object per record, JSON Lines), CSV and a table.
+
+JSON schema (``MEASURE_JSON_SCHEMA`` below is the machine-readable form; version 1)
+--------------------------------------------------------------------------------------
+One object per record; several records give JSON Lines (one object per line). Times are
+seconds; absent or unmeasurable values are ``null``, never a guess.
+
+- ``record`` (str): record name; ``path`` (str): the file given.
+- ``format`` (str): file format; ``fs_hz`` (number): sampling rate; ``duration_s`` (number).
+- ``leads`` (list of str): lead names in signal order.
+- ``subject``: ``{"sex": "female"|"male"|null, "age_years": number|null}``, from the file.
+- ``beats`` (list): every detected beat, in time order, with its global (all-lead) marks:
+  ``r_s``, ``p_on_s``, ``p_off_s``, ``qrs_on_s``, ``qrs_off_s``, ``t_off_s`` (seconds from
+  record start), ``kind`` ("dominant" | "premature" | "paced" | "unknown"), and the beat's own
+  intervals ``rr_ms`` (from the previous R), ``pr_ms``, ``qrs_ms``, ``qt_ms``. With
+  ``--per-lead`` each beat also has ``leads``: ``{lead name: {"p_on_s": ..., ...}}``.
+- ``global``: ``rr_ms`` (mean of dominant-to-dominant intervals), ``rr_sd_ms``, ``hr_bpm``,
+  ``p_ms``, ``pr_ms``, ``qrs_ms``, ``qt_ms`` (representative beat), ``qtc_ms``
+  ``{"bazett", "fridericia", "framingham", "hodges"}``, ``axis_deg`` ``{"p", "qrs", "t"}``
+  (frontal plane, degrees on (-180, 180]).
+- ``voltages``: ``sokolow_lyon_mv``, ``cornell_mv``.
+- ``representative``: ``n_beats_used``, ``marks_s`` (``p_on_s`` ... ``t_off_s``, seconds
+  relative to the R of the median beat: negative before R), and ``lead_marks_s``
+  ``{lead: {...}}`` (each lead's own marks, same convention). null when there is none.
+- ``leads_measurements``: ``{lead: {p_mv, q_mv, r_mv, s_mv, r_prime_mv, t_mv, q_ms, st_j_mv,
+  st_j60_mv, st_j80_mv}}``; amplitudes signed mV from the isoelectric level (Q, S <= 0).
+- ``findings`` (list): ``{quantity, lead, value, unit, limit, direction ("above"|"below"),
+  source, text}``: values outside normal limits, flags for the reader, not diagnoses.
+- ``unmeasured`` (list): ``{quantity, reason}`` for every value left null.
+- ``notes`` (list of str): remarks from reading and analysis ("no beats found", ...).
+- ``engine_version`` (str); ``caution`` (str): the clinical caution, always present.
+- A record that cannot be read gives ``{"record", "path", "error", "caution"}`` instead.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import math
+from collections.abc import Iterable, Mapping
+from typing import Any
+
+from reviewapp import CLINICAL_CAUTION
+from reviewapp.core.fiducials import FIDUCIALS, WaveMarks
+from reviewapp.core.measure.findings import LABELS
+from reviewapp.core.measure.limits import normal_range
+from reviewapp.core.measure.types import LeadMeasurements, NormalRange
+from reviewapp.core.record import SubjectFacts
+
+SCHEMA_VERSION = 1
+QTC_NAMES = ("bazett", "fridericia", "framingham", "hodges")
+LEAD_FIELDS = (
+    "p_mv",
+    "q_mv",
+    "r_mv",
+    "s_mv",
+    "r_prime_mv",
+    "t_mv",
+    "q_ms",
+    "st_j_mv",
+    "st_j60_mv",
+    "st_j80_mv",
+)
+MARK_KEYS = tuple(f"{n}_s" for n in FIDUCIALS)
+
+_num = {"type": ["number", "null"]}
+_marks_obj = {
+    "type": "object",
+    "properties": {k: _num for k in MARK_KEYS},
+    "required": list(MARK_KEYS),
+}
+MEASURE_JSON_SCHEMA: dict[str, Any] = {
+    "$schema": "https://json-schema.org/draft/2020-12/schema",
+    "title": "reviewapp measure output (one record)",
+    "type": "object",
+    "oneOf": [
+        {"required": ["error"]},
+        {
+            "required": [
+                "record",
+                "fs_hz",
+                "leads",
+                "beats",
+                "global",
+                "representative",
+                "leads_measurements",
+                "findings",
+                "notes",
+                "engine_version",
+                "caution",
+            ]
+        },
+    ],
+    "properties": {
+        "schema_version": {"const": SCHEMA_VERSION},
+        "record": {"type": "string"},
+        "path": {"type": "string"},
+        "error": {"type": "string"},
+        "format": {"type": "string"},
+        "fs_hz": {"type": "number", "exclusiveMinimum": 0},
+        "duration_s": {"type": "number"},
+        "leads": {"type": "array", "items": {"type": "string"}},
+        "subject": {
+            "type": "object",
+            "properties": {"sex": {"type": ["string", "null"]}, "age_years": _num},
+        },
+        "beats": {
+            "type": "array",
+            "items": {
+                "type": "object",
+                "required": ["r_s", *MARK_KEYS, "kind"],
+                "properties": {
+                    "r_s": {"type": "number"},
+                    **{k: _num for k in MARK_KEYS},
+                    "kind": {"enum": ["dominant", "premature", "paced", "unknown"]},
+                    "rr_ms": _num,
+                    "pr_ms": _num,
+                    "qrs_ms": _num,
+                    "qt_ms": _num,
+                    "leads": {"type": "object", "additionalProperties": _marks_obj},
+                },
+            },
+        },
+        "global": {
+            "type": "object",
+            "required": [
+                "rr_ms",
+                "hr_bpm",
+                "p_ms",
+                "pr_ms",
+                "qrs_ms",
+                "qt_ms",
+                "qtc_ms",
+                "axis_deg",
+            ],
+            "properties": {
+                **{k: _num for k in ("rr_ms", "rr_sd_ms", "hr_bpm", "p_ms", "pr_ms")},
+                **{k: _num for k in ("qrs_ms", "qt_ms")},
+                "qtc_ms": {
+                    "type": "object",
+                    "required": list(QTC_NAMES),
+                    "properties": {k: _num for k in QTC_NAMES},
+                },
+                "axis_deg": {
+                    "type": "object",
+                    "required": ["p", "qrs", "t"],
+                    "properties": {k: _num for k in ("p", "qrs", "t")},
+                },
+            },
+        },
+        "voltages": {
+            "type": "object",
+            "properties": {"sokolow_lyon_mv": _num, "cornell_mv": _num},
+        },
+        "representative": {
+            "type": ["object", "null"],
+            "required": ["n_beats_used", "marks_s"],
+            "properties": {
+                "n_beats_used": {"type": "integer", "minimum": 0},
+                "marks_s": _marks_obj,
+                "lead_marks_s": {"type": "object", "additionalProperties": _marks_obj},
+            },
+        },
+        "leads_measurements": {
+            "type": "object",
+            "additionalProperties": {
+                "type": "object",
+                "properties": {k: _num for k in LEAD_FIELDS},
+            },
+        },
+        "findings": {
+            "type": "array",
+            "items": {
+                "type": "object",
+                "required": ["quantity", "value", "unit", "limit", "direction", "source", "text"],
+                "properties": {
+                    "quantity": {"type": "string"},
+                    "lead": {"type": ["string", "null"]},
+                    "value": {"type": "number"},
+                    "unit": {"type": "string"},
+                    "limit": {"type": "number"},
+                    "direction": {"enum": ["above", "below"]},
+                    "source": {"type": "string"},
+                    "text": {"type": "string"},
+                },
+            },
+        },
+        "unmeasured": {
+            "type": "array",
+            "items": {
+                "type": "object",
+                "properties": {"quantity": {"type": "string"}, "reason": {"type": "string"}},
+            },
+        },
+        "notes": {"type": "array", "items": {"type": "string"}},
+        "engine_version": {"type": "string"},
+        "caution": {"type": "string"},
+    },
+}
+
+CSV_COLUMNS: tuple[str, ...] = (
+    "record",
+    "path",
+    "fs_hz",
+    "n_beats",
+    "rr_ms",
+    "rr_sd_ms",
+    "hr_bpm",
+    "p_ms",
+    "pr_ms",
+    "qrs_ms",
+    "qt_ms",
+    *(f"qtc_{n}_ms" for n in QTC_NAMES),
+    "p_axis_deg",
+    "qrs_axis_deg",
+    "t_axis_deg",
+    "sokolow_lyon_mv",
+    "cornell_mv",
+    "n_findings",
+    "engine_version",
+    "error",
+)
+
+
+def _f(x: float | None, nd: int = 4) -> float | None:
+    """A finite float rounded to ``nd`` decimals, else None (JSON has no NaN)."""
+    if x is None:
+        return None
+    x = float(x)
+    return round(x, nd) if math.isfinite(x) else None
+
+
+def _marks_s(m: WaveMarks, fs: float, offset: int = 0) -> dict[str, float | None]:
+    return {f"{k}_s": _f(v, 6) for k, v in m.as_seconds(fs, offset).items()}
+
+
+def reading_to_dict(analysis: Any, reading: Any, *, path: str = "", per_lead: bool = False) -> dict:
+    """The JSON object for one record (see the module docstring for the schema).
+
+    ``analysis`` is an ``engine.Analysis``, ``reading`` its ``Reading``.
+    """
+    rec = analysis.record
+    fs = float(rec.fs_hz)
+    marked = reading.marked
+    ms = reading.measurements
+    iv = ms.intervals
+    names = list(rec.lead_names)
+    beats = []
+    for i, beat in enumerate(marked.beats):
+        bm = marked.beat_marks[i] if i < len(marked.beat_marks) else WaveMarks()
+        row: dict[str, Any] = {"r_s": _f(beat.r / fs, 6), **_marks_s(bm, fs)}
+        row["kind"] = beat.kind.value
+        if i < len(ms.beats):
+            bi = ms.beats[i]
+            row.update(rr_ms=_f(bi.rr_ms), pr_ms=_f(bi.pr_ms), qrs_ms=_f(bi.qrs_ms))
+            row["qt_ms"] = _f(bi.qt_ms)
+        if per_lead:
+            lm = marked.beat_lead_marks[i] if i < len(marked.beat_lead_marks) else ()
+            row["leads"] = {n: _marks_s(m, fs) for n, m in zip(names, lm, strict=False)}
+        beats.append(row)
+    rep = marked.representative
+    rep_d = None
+    if rep is not None:
+        rep_d = {
+            "n_beats_used": int(rep.n_beats_used),
+            "marks_s": _marks_s(rep.marks, fs, -rep.r_index),
+            "lead_marks_s": {
+                n: _marks_s(m, fs, -rep.r_index)
+                for n, m in zip(names, rep.lead_marks, strict=False)
+            },
+        }
+    notes = list(rec.notes) + list(analysis.notes)
+    if not marked.beats and "no beats found" not in notes:
+        notes.append("no beats found")
+    return {
+        "schema_version": SCHEMA_VERSION,
+        "record": rec.name,
+        "path": path,
+        "format": rec.source_format,
+        "fs_hz": fs,
+        "duration_s": _f(rec.duration_s, 6),
+        "leads": names,
+        "subject": {"sex": rec.subject.sex, "age_years": _f(rec.subject.age_years, 2)},
+        "beats": beats,
+        "global": {
+            "rr_ms": _f(iv.rr_ms),
+            "rr_sd_ms": _f(iv.rr_sd_ms),
+            "hr_bpm": _f(iv.hr_bpm),
+            "p_ms": _f(iv.p_ms),
+            "pr_ms": _f(iv.pr_ms),
+            "qrs_ms": _f(iv.qrs_ms),
+            "qt_ms": _f(iv.qt_ms),
+            "qtc_ms": {n: _f(getattr(iv, f"qtc_{n}_ms")) for n in QTC_NAMES},
+            "axis_deg": {
+                "p": _f(iv.p_axis_deg, 2),
+                "qrs": _f(iv.qrs_axis_deg, 2),
+                "t": _f(iv.t_axis_deg, 2),
+            },
+        },
+        "voltages": {"sokolow_lyon_mv": _f(ms.sokolow_lyon_mv), "cornell_mv": _f(ms.cornell_mv)},
+        "representative": rep_d,
+        "leads_measurements": {m.lead: _lead_dict(m) for m in ms.leads},
+        "findings": [
+            {
+                "quantity": f.quantity,
+                "lead": f.lead,
+                "value": _f(f.value),
+                "unit": f.unit,
+                "limit": _f(f.limit),
+                "direction": f.direction,
+                "source": f.source,
+                "text": f.text,
+            }
+            for f in reading.findings
+        ],
+        "unmeasured": [{"quantity": q, "reason": r} for q, r in ms.unmeasured],
+        "notes": notes,
+        "engine_version": analysis.engine_version,
+        "caution": CLINICAL_CAUTION,
+    }
+
+
+def _lead_dict(m: LeadMeasurements) -> dict[str, float | None]:
+    return {k: _f(getattr(m, k)) for k in LEAD_FIELDS}
+
+
+def error_dict(record: str, path: str, message: str) -> dict[str, Any]:
+    return {
+        "schema_version": SCHEMA_VERSION,
+        "record": record,
+        "path": path,
+        "error": message,
+        "caution": CLINICAL_CAUTION,
+    }
+
+
+def csv_text(results: Iterable[Mapping[str, Any]]) -> str:
+    """One CSV row per record (global values; ``error`` filled for records that failed)."""
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\n")
+    w.writerow(CSV_COLUMNS)
+    for d in results:
+        w.writerow(["" if v is None else v for v in csv_row(d).values()])
+    return buf.getvalue()
+
+
+def csv_row(d: Mapping[str, Any]) -> dict[str, Any]:
+    row: dict[str, Any] = dict.fromkeys(CSV_COLUMNS)
+    row["record"], row["path"] = d.get("record"), d.get("path")
+    if "error" in d:
+        row["error"] = d["error"]
+        return row
+    g = d["global"]
+    row.update(fs_hz=d["fs_hz"], n_beats=len(d["beats"]))
+    for k in ("rr_ms", "rr_sd_ms", "hr_bpm", "p_ms", "pr_ms", "qrs_ms", "qt_ms"):
+        row[k] = g.get(k)
+    for n in QTC_NAMES:
+        row[f"qtc_{n}_ms"] = g["qtc_ms"][n]
+    for n in ("p", "qrs", "t"):
+        row[f"{n}_axis_deg"] = g["axis_deg"][n]
+    row.update(d.get("voltages", {}))
+    row["n_findings"] = len(d["findings"])
+    row["engine_version"] = d["engine_version"]
+    return row
+
+
+def format_range(nr: NormalRange | None) -> str:
+    """A normal range as text: ``120 to 200 ms``, ``< 450 ms``, ``> 390 and < 460 ms``.
+
+    >>> format_range(NormalRange("pr_ms", 120.0, 200.0, "ms", ""))
+    '120 to 200 ms'
+    >>> format_range(NormalRange("q", 390.0, 450.0, "ms", "", False, False))
+    '> 390 and < 450 ms'
+    """
+    if nr is None:
+        return ""
+    lo, hi = nr.low, nr.high
+    g = "{:g}".format
+    if lo is not None and hi is not None and nr.low_is_normal and nr.high_is_normal:
+        return f"{g(lo)} to {g(hi)} {nr.unit}"
+    parts = []
+    if lo is not None:
+        parts.append(f"{'>=' if nr.low_is_normal else '>'} {g(lo)}")
+    if hi is not None:
+        parts.append(f"{'<=' if nr.high_is_normal else '<'} {g(hi)}")
+    return " and ".join(parts) + f" {nr.unit}"
+
+
+_TABLE_ROWS: tuple[tuple[str, str, str], ...] = (
+    # (quantity, where in the dict, unit)
+    ("hr_bpm", "global.hr_bpm", "bpm"),
+    ("rr_ms", "global.rr_ms", "ms"),
+    ("p_ms", "global.p_ms", "ms"),
+    ("pr_ms", "global.pr_ms", "ms"),
+    ("qrs_ms", "global.qrs_ms", "ms"),
+    ("qt_ms", "global.qt_ms", "ms"),
+    *((f"qtc_{n}_ms", f"global.qtc_ms.{n}", "ms") for n in QTC_NAMES),
+    ("p_axis_deg", "global.axis_deg.p", "deg"),
+    ("qrs_axis_deg", "global.axis_deg.qrs", "deg"),
+    ("t_axis_deg", "global.axis_deg.t", "deg"),
+    ("sokolow_lyon_mv", "voltages.sokolow_lyon_mv", "mV"),
+    ("cornell_mv", "voltages.cornell_mv", "mV"),
+)
+
+
+def _dig(d: Mapping[str, Any], dotted: str) -> Any:
+    cur: Any = d
+    for k in dotted.split("."):
+        cur = cur.get(k) if isinstance(cur, Mapping) else None
+    return cur
+
+
+def _val(v: float | None, unit: str) -> str:
+    if v is None:
+        return "-"
+    if unit == "mV":
+        return f"{v:.2f} mV"
+    if unit == "deg":
+        return f"{v:+.0f} deg"
+    return f"{v:.0f} {unit}"
+
+
+def table_text(d: Mapping[str, Any], *, per_lead: bool = False) -> str:
+    """A readable summary of one record: values, normal ranges, flags, findings, caution."""
+    if "error" in d:
+        return f"{d.get('record')}: ERROR {d['error']}\n{CLINICAL_CAUTION}\n"
+    sub = d.get("subject") or {}
+    subject = SubjectFacts(sex=sub.get("sex"), age_years=sub.get("age_years"))
+    who = ", ".join(
+        x
+        for x in (
+            sub.get("sex") or "sex not stated",
+            f"{sub['age_years']:g} y" if sub.get("age_years") is not None else "age not stated",
+        )
+    )
+    kinds: dict[str, int] = {}
+    for b in d["beats"]:
+        kinds[b["kind"]] = kinds.get(b["kind"], 0) + 1
+    rep = d.get("representative")
+    lines = [
+        f"Record {d['record']} ({d.get('format', '')}, {d['fs_hz']:g} Hz, {len(d['leads'])} leads, "
+        f"{d.get('duration_s') or 0:.1f} s); subject: {who}",
+        f"Beats: {len(d['beats'])}"
+        + (" (" + ", ".join(f"{n} {k}" for k, n in sorted(kinds.items())) + ")" if kinds else "")
+        + (f"; median beat of {rep['n_beats_used']} beats" if rep else "; no median beat"),
+        "",
+        f"{'Quantity':<22}{'Value':>12}  {'Normal':<22}Flag",
+    ]
+    flagged = {(f["quantity"], f["lead"]): f["direction"] for f in d["findings"]}
+    for q, where, unit in _TABLE_ROWS:
+        v = _dig(d, where)
+        nr = normal_range(q, subject)
+        flag = flagged.get((q, None), "")
+        flag = {"above": "HIGH", "below": "LOW"}.get(flag, "")
+        label = LABELS.get(q, q)
+        if q == "rr_ms" and d["global"].get("rr_sd_ms") is not None:
+            label = f"RR (SD {d['global']['rr_sd_ms']:.0f} ms)"
+        lines.append(f"{label:<22}{_val(v, unit):>12}  {format_range(nr):<22}{flag}")
+    if per_lead:
+        lines += ["", "Per lead (mV from the isoelectric level; Q ms; ST at J, J+60, J+80):"]
+        head = ["Lead", "P", "Q", "R", "S", "R'", "T", "Q ms", "ST J", "J+60", "J+80"]
+        lines.append("".join(f"{h:>7}" for h in head))
+        for lead, m in d["leads_measurements"].items():
+            cells = [lead] + [
+                "-" if m[k] is None else (f"{m[k]:.0f}" if k == "q_ms" else f"{m[k]:.2f}")
+                for k in LEAD_FIELDS
+            ]
+            lines.append("".join(f"{c:>7}" for c in cells))
+    lines += ["", "Findings (flags for the reader, not diagnoses):"]
+    lines += [f"  - {f['text']}" for f in d["findings"]] or ["  none"]
+    if d.get("notes"):
+        lines += ["Notes:"] + [f"  - {n}" for n in d["notes"]]
+    lines += ["", d.get("caution") or CLINICAL_CAUTION, ""]
+    return "\n".join(lines)

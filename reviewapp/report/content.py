@@ -1,0 +1,224 @@
+"""What goes on the report page, computed from signal + marks (no Qt).
+
+Values are recomputed here from the record, the automatic analysis and the reviewer's
+overrides; nothing measured is read from the sidecar.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Sequence
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from reviewapp.core.fiducials import FIDUCIALS, Beat, MarkOverride, WaveMarks
+from reviewapp.core.record import Record
+
+# Global quantities on the page, in order: (field of GlobalIntervals, label, unit).
+QUANTITIES: tuple[tuple[str, str, str], ...] = (
+    ("hr_bpm", "Heart rate", "bpm"),
+    ("rr_ms", "RR", "ms"),
+    ("p_ms", "P duration", "ms"),
+    ("pr_ms", "PR", "ms"),
+    ("qrs_ms", "QRS", "ms"),
+    ("qt_ms", "QT", "ms"),
+    ("qtc_bazett_ms", "QTc Bazett", "ms"),
+    ("qtc_fridericia_ms", "QTc Fridericia", "ms"),
+    ("p_axis_deg", "P axis", "deg"),
+    ("qrs_axis_deg", "QRS axis", "deg"),
+    ("t_axis_deg", "T axis", "deg"),
+)
+
+
+@dataclass(frozen=True)
+class MeasurementRow:
+    """One global value with its normal range and flag ("" when within range or no range)."""
+
+    quantity: str
+    label: str
+    value: float | None
+    unit: str
+    low: float | None = None
+    high: float | None = None
+    flag: str = ""
+    range_source: str = ""
+
+    @property
+    def range_text(self) -> str:
+        if self.low is None and self.high is None:
+            return ""
+        if self.low is None:
+            return f"<= {self.high:g}"
+        if self.high is None:
+            return f">= {self.low:g}"
+        return f"{self.low:g}-{self.high:g}"
+
+
+@dataclass(frozen=True)
+class MarkPair:
+    """One boundary: the automatic position and the final one (sample indices, None = absent)."""
+
+    fiducial: str
+    auto: int | None
+    final: int | None
+
+    @property
+    def corrected(self) -> bool:
+        return self.auto != self.final
+
+
+@dataclass(frozen=True, eq=False)
+class ReportContent:
+    """Everything the page draws; built by ``build_report_content``."""
+
+    record: Record
+    signal_mv: np.ndarray  # conditioned signal the marks were set on, (n, n_leads) mV
+    status: str
+    reviewer: str | None
+    signed_off_at: str | None
+    rows: tuple[MeasurementRow, ...]
+    other_findings: tuple[str, ...]
+    rep_waveform_mv: np.ndarray | None  # (n_window, n_leads)
+    rep_r_index: int | None
+    rep_marks: tuple[MarkPair, ...]
+    beat_r: tuple[int, ...]
+    beat_marks: tuple[tuple[MarkPair, ...], ...]
+    final_beat_marks: tuple[WaveMarks, ...]  # effective global marks of each beat
+    beats: tuple[Beat, ...]
+    engine_version: str
+    n_overrides: int
+    notes: tuple[str, ...] = ()
+
+    @property
+    def fs_hz(self) -> float:
+        return self.record.fs_hz
+
+    @property
+    def n_corrected(self) -> int:
+        n = sum(m.corrected for m in self.rep_marks)
+        return n + sum(m.corrected for row in self.beat_marks for m in row)
+
+
+def _pairs(auto: WaveMarks, final: WaveMarks) -> tuple[MarkPair, ...]:
+    return tuple(MarkPair(f, auto.get(f), final.get(f)) for f in FIDUCIALS)
+
+
+def _normal_range(quantity: str, subject: Any) -> Any:
+    """The measurement module's normal range for ``quantity`` (None if it has none)."""
+    try:
+        from reviewapp.core.measure import normal_range
+    except ImportError:
+        return None
+    try:
+        return normal_range(quantity, subject)
+    except (KeyError, ValueError):
+        return None
+
+
+def measurement_rows(
+    reading: Any, subject: Any
+) -> tuple[tuple[MeasurementRow, ...], tuple[str, ...]]:
+    """Global rows with ranges and flags, plus the text of every other finding."""
+    iv = reading.measurements.intervals
+    used: set[int] = set()
+    rows = []
+    for quantity, label, unit in QUANTITIES:
+        value = getattr(iv, quantity)
+        nr = _normal_range(quantity, subject)
+        flag = ""
+        for i, f in enumerate(reading.findings):
+            if f.quantity == quantity and f.lead is None:
+                flag = f"{f.direction} {f.limit:g}"
+                used.add(i)
+                break
+        rows.append(
+            MeasurementRow(
+                quantity=quantity,
+                label=label,
+                value=None if value is None else float(value),
+                unit=unit,
+                low=None if nr is None else nr.low,
+                high=None if nr is None else nr.high,
+                flag=flag,
+                range_source="" if nr is None else nr.source,
+            )
+        )
+    others = tuple(f.text for i, f in enumerate(reading.findings) if i not in used)
+    return tuple(rows), others
+
+
+def build_report_content(
+    analysis: Any,
+    overrides: Iterable[MarkOverride] = (),
+    *,
+    status: str = "unread",
+    reviewer: str | None = None,
+    signed_off_at: str | None = None,
+) -> ReportContent:
+    """Recompute the reading under ``overrides`` and collect what the page shows."""
+    overrides = tuple(overrides)
+    reading = analysis.reading(overrides)
+    marked = reading.marked
+    rows, others = measurement_rows(reading, analysis.record.subject)
+    rep_auto = analysis.representative
+    rep_final = marked.representative
+    rep_marks: tuple[MarkPair, ...] = ()
+    if rep_auto is not None and rep_final is not None:
+        rep_marks = _pairs(rep_auto.marks, rep_final.marks)
+    beat_marks = tuple(
+        _pairs(a, f) for a, f in zip(analysis.beat_marks, marked.beat_marks, strict=True)
+    )
+    notes = tuple(analysis.notes)
+    if reading.unmatched_overrides:
+        notes += (f"{len(reading.unmatched_overrides)} reviewer mark(s) could not be placed",)
+    return ReportContent(
+        record=analysis.record,
+        signal_mv=np.asarray(analysis.conditioned_mv, dtype=np.float32),
+        status=status,
+        reviewer=reviewer,
+        signed_off_at=signed_off_at,
+        rows=rows,
+        other_findings=others,
+        rep_waveform_mv=None if rep_final is None else rep_final.waveform_mv,
+        rep_r_index=None if rep_final is None else rep_final.r_index,
+        rep_marks=rep_marks,
+        beat_r=tuple(b.r for b in analysis.beats),
+        beat_marks=beat_marks,
+        final_beat_marks=tuple(marked.beat_marks),
+        beats=tuple(analysis.beats),
+        engine_version=analysis.engine_version,
+        n_overrides=len(overrides),
+        notes=notes,
+    )
+
+
+def load_report_content(path: Path, reviewer: str | None = None) -> ReportContent:
+    """Open ``path``, analyse it and apply the sidecar's reading (``reviewer``'s, else a
+    signed-off one, else the most recently edited; none = automatic marks only)."""
+    from reviewapp.batch.sidecar_adapter import reading_for_report
+    from reviewapp.core.engine import analyse
+    from reviewapp.core.io import open_record
+
+    record = open_record(path)
+    analysis = analyse(record)
+    chosen = reading_for_report(record, analysis, reviewer)
+    return build_report_content(
+        analysis,
+        chosen.overrides,
+        status=chosen.status,
+        reviewer=chosen.reviewer,
+        signed_off_at=chosen.signed_off_at,
+    )
+
+
+def final_fiducials_s(content: ReportContent) -> dict[str, Sequence[float]]:
+    """Final (effective) global beat fiducials in seconds from record start, per fiducial."""
+    fs = content.fs_hz
+    out: dict[str, list[float]] = {f: [] for f in FIDUCIALS}
+    for row in content.beat_marks:
+        for m in row:
+            if m.final is not None:
+                out[m.fiducial].append(m.final / fs)
+    return out

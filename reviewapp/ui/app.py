@@ -1,0 +1,86 @@
+"""Application start-up: QApplication with high-DPI settings, an error hook, the window."""
+
+from __future__ import annotations
+
+import logging
+import sys
+import traceback
+from pathlib import Path
+
+from PySide6 import QtCore, QtGui, QtWidgets
+
+import reviewapp
+from reviewapp.core.errors import ReviewError
+
+log = logging.getLogger(__name__)
+
+
+def sample_records_dir() -> Path:
+    """The bundled sample worklist folder (beside the package in a checkout)."""
+    return Path(reviewapp.__file__).resolve().parents[1] / "sample_records"
+
+
+def create_app(argv: list[str] | None = None) -> QtWidgets.QApplication:
+    app = QtWidgets.QApplication.instance()
+    if isinstance(app, QtWidgets.QApplication):
+        return app
+    # Fractional scale factors (125 %, 150 %) pass straight through, so 1 mm stays 1 mm.
+    QtGui.QGuiApplication.setHighDpiScaleFactorRoundingPolicy(
+        QtCore.Qt.HighDpiScaleFactorRoundingPolicy.PassThrough
+    )
+    QtCore.QCoreApplication.setOrganizationName("reviewapp")
+    QtCore.QCoreApplication.setApplicationName("reviewapp")
+    app = QtWidgets.QApplication(argv if argv is not None else [sys.argv[0]])
+    app.setApplicationDisplayName("reviewapp")
+    return app
+
+
+def install_excepthook(get_parent) -> None:
+    """Unexpected errors become a dialog with the message (the traceback goes to the log)."""
+
+    def hook(exc_type, exc, tb) -> None:
+        if issubclass(exc_type, KeyboardInterrupt):
+            sys.__excepthook__(exc_type, exc, tb)
+            return
+        log.error("unexpected error:\n%s", "".join(traceback.format_exception(exc_type, exc, tb)))
+        if isinstance(exc, ReviewError):
+            text = str(exc)
+        else:
+            text = (
+                f"Something went wrong: {exc_type.__name__}: {exc}\n\n"
+                "Your marks already saved are not affected. If this keeps happening, note what "
+                "you were doing and report it."
+            )
+        parent = get_parent()
+        if QtWidgets.QApplication.platformName() == "offscreen":
+            print(f"reviewapp: {text}", file=sys.stderr)
+            return
+        QtWidgets.QMessageBox.critical(parent, "reviewapp", text)
+
+    sys.excepthook = hook
+
+
+def run_app(
+    path: Path | None = None,
+    *,
+    speed_mm_per_s: float | None = None,
+    gain_mm_per_mv: float | None = None,
+    layout: str | None = None,
+) -> int:
+    from reviewapp.ui.main_window import MainWindow
+
+    app = create_app()
+    median = layout == "median"
+    window = MainWindow(
+        speed_mm_per_s=speed_mm_per_s,
+        gain_mm_per_mv=gain_mm_per_mv,
+        layout=None if median else layout,
+    )
+    install_excepthook(lambda: window)
+    window.show()
+    target = path if path is not None else sample_records_dir()
+    if path is not None or target.is_dir():
+        QtCore.QTimer.singleShot(0, lambda: window.open_path(target))
+    if median:
+        QtCore.QTimer.singleShot(0, lambda: window.show_median(True))
+    return int(app.exec())

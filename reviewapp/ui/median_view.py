@@ -1,0 +1,234 @@
+"""Representative-beat view: each lead's median beat on calibrated paper, optionally with every
+dominant beat superimposed, and the global (all-lead) fiducials as lines the reader can drag.
+
+x is milliseconds from the R fiducial point, y is millivolts; one grid square is one millimetre
+of paper at the current speed and gain, magnified so the beat fills its panel.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pyqtgraph as pg
+from PySide6 import QtCore, QtGui
+
+from reviewapp.core.fiducials import FIDUCIALS, BeatKind
+from reviewapp.ui.layouts import ordered_leads
+from reviewapp.ui.mark_items import SHORT_LABELS
+from reviewapp.ui.paper import PaperGrid, PaperScale
+from reviewapp.ui.session import ReadingSession
+from reviewapp.ui.theme import LIGHT, Theme, mark_colour
+
+MAX_SUPERIMPOSED = 300
+# Label heights (fraction of the panel) staggered so neighbouring marks' labels never overlap.
+LABEL_POSITIONS = {"p_on": 0.95, "p_off": 0.88, "qrs_on": 0.81, "qrs_off": 0.74, "t_off": 0.95}
+
+
+class MedianBeatView(pg.GraphicsLayoutWidget):
+    """Grid of median beats (4 columns) sharing one set of draggable global fiducial lines."""
+
+    mark_dragging = QtCore.Signal(str, int)  # fiducial, window sample
+    mark_dropped = QtCore.Signal(str, int)
+    mark_reset = QtCore.Signal(str)
+
+    def __init__(self, scale: PaperScale, theme: Theme = LIGHT, parent=None) -> None:
+        super().__init__(parent)
+        self.scale = scale
+        self.theme = theme
+        self.session: ReadingSession | None = None
+        self.superimpose = False
+        self.lead_order = "standard"
+        self.plots: list[pg.PlotItem] = []
+        self.lines: dict[str, list[pg.InfiniteLine]] = {}
+        self._syncing = False
+        self.setBackground(theme.window)
+
+    # --- configuration -------------------------------------------------------------------
+    def set_session(self, session: ReadingSession | None) -> None:
+        self.session = session
+        self.rebuild()
+
+    def set_scale(self, scale: PaperScale) -> None:
+        self.scale = scale
+        self.rebuild()
+
+    def set_theme(self, theme: Theme) -> None:
+        self.theme = theme
+        self.setBackground(theme.window)
+        self.rebuild()
+
+    def set_superimpose(self, on: bool) -> None:
+        self.superimpose = on
+        self.rebuild()
+
+    def set_lead_order(self, order: str) -> None:
+        self.lead_order = order
+        self.rebuild()
+
+    # --- building ------------------------------------------------------------------------
+    def rebuild(self) -> None:
+        self.clear()
+        self.plots.clear()
+        self.lines.clear()
+        s = self.session
+        if s is None or s.reading.marked.representative is None:
+            label = self.addLabel("No representative beat for this record.", color=self.theme.text)
+            label.setAttr("size", "12pt")
+            return
+        rep = s.reading.marked.representative
+        fs = s.fs_hz
+        wave = rep.waveform_mv
+        n = wave.shape[0]
+        t_ms = (np.arange(n) - rep.r_index) / fs * 1000.0
+        names = s.analysis.record.lead_names
+        leads = ordered_leads(names, self.lead_order)
+        minor_ms = 1000.0 / self.scale.speed_mm_per_s
+        minor_mv = 1.0 / self.scale.gain_mm_per_mv
+        lo = float(np.nanmin(wave)) if np.isfinite(wave).any() else -1.0
+        hi = float(np.nanmax(wave)) if np.isfinite(wave).any() else 1.0
+        lo = np.floor(min(lo, -0.5) / (5 * minor_mv)) * 5 * minor_mv
+        hi = np.ceil(max(hi, 0.5) / (5 * minor_mv)) * 5 * minor_mv
+        x0 = np.floor(t_ms[0] / (5 * minor_ms)) * 5 * minor_ms
+        x1 = np.ceil(t_ms[-1] / (5 * minor_ms)) * 5 * minor_ms
+        overlay = self._superimposed(s, rep.r_index, n) if self.superimpose else None
+        ncols = 4
+        pen = pg.mkPen(self.theme.trace, width=1.6, cosmetic=True)
+        over_pen = pg.mkPen(self.theme.superimposed, width=0.8, cosmetic=True)
+        for k, (lead, inverted) in enumerate(leads):
+            idx = names.index(lead)
+            sign = -1.0 if inverted else 1.0
+            p = self.addPlot(row=k // ncols, col=k % ncols)
+            p.hideAxis("left")
+            p.hideAxis("bottom")
+            p.setMenuEnabled(False)
+            p.hideButtons()
+            p.setMouseEnabled(x=False, y=False)
+            vb = p.getViewBox()
+            vb.setBackgroundColor(None)
+            # One paper millimetre is square: pyqtgraph's ratio is (ms per px) / (mV per px).
+            vb.setAspectLocked(True, ratio=self.scale.speed_mm_per_s / (self.scale.gain_mm_per_mv * 1000.0))
+            y_lo, y_hi = (-hi, -lo) if inverted else (lo, hi)
+            # The grid reaches well past the beat so the paper fills the panel whatever its shape.
+            gx0, gx1 = x0 - 100 * minor_ms, x1 + 100 * minor_ms
+            gy0, gy1 = y_lo - 100 * minor_mv, y_hi + 100 * minor_mv
+            grid = PaperGrid(QtCore.QRectF(gx0, gy0, gx1 - gx0, gy1 - gy0), minor_ms, minor_mv,
+                             minor_colour=self.theme.grid_minor, major_colour=self.theme.grid_major)
+            grid.set_colours(self.theme.grid_minor, self.theme.grid_major, self.theme.paper)
+            p.addItem(grid)
+            if overlay is not None:
+                ox, oy = overlay
+                p.addItem(pg.PlotCurveItem(ox, sign * oy[:, idx], pen=over_pen, connect="finite"))
+            p.addItem(pg.PlotCurveItem(t_ms, sign * wave[:, idx], pen=pen, antialias=True))
+            title = pg.TextItem(("-" if inverted else "") + lead, color=self.theme.text, anchor=(0, 0))
+            f = QtGui.QFont()
+            f.setPointSizeF(10.5)
+            f.setBold(True)
+            title.setFont(f)
+            title.setPos(x0, y_hi)
+            p.addItem(title)
+            p.setRange(xRange=(x0, x1), yRange=(y_lo, y_hi), padding=0.02)
+            self.plots.append(p)
+            self._add_lines(p, first_row=k == 0)
+        for k in range(len(leads), ((len(leads) + ncols - 1) // ncols) * ncols):
+            self.addLabel("", row=k // ncols, col=k % ncols)
+        legend = (
+            f"Median of {rep.n_beats_used} beats   {self.scale.speed_mm_per_s:g} mm/s   "
+            f"{self.scale.gain_mm_per_mv:g} mm/mV   "
+            "solid line = automatic, dashed line with ◆ = corrected by the reader"
+            + ("   grey = every dominant beat" if self.superimpose else "")
+        )
+        self.addLabel(legend, row=(len(leads) + ncols - 1) // ncols, col=0, colspan=ncols,
+                      color=self.theme.text_muted, size="9pt")
+
+    def _superimposed(self, s: ReadingSession, r_index: int, n: int) -> tuple[np.ndarray, np.ndarray]:
+        """Every dominant beat's window, aligned at R, joined with NaN breaks for one curve."""
+        x = s.analysis.conditioned_mv
+        rs = np.array([b.r for b in s.analysis.beats if b.kind == BeatKind.DOMINANT], dtype=np.int64)
+        rs = rs[(rs - r_index >= 0) & (rs - r_index + n <= x.shape[0])][:MAX_SUPERIMPOSED]
+        if rs.size == 0:
+            return np.zeros(0), np.zeros((0, x.shape[1]))
+        idx = (rs[:, None] - r_index) + np.arange(n)[None, :]
+        segs = x[idx]  # (beats, n, leads)
+        segs = np.concatenate([segs, np.full((rs.size, 1, x.shape[1]), np.nan, np.float32)], axis=1)
+        t = (np.arange(n + 1) - r_index) / s.fs_hz * 1000.0
+        t = np.tile(t, rs.size)
+        return t, segs.reshape(-1, x.shape[1])
+
+    def _add_lines(self, p: pg.PlotItem, first_row: bool) -> None:
+        s = self.session
+        assert s is not None
+        rep = s.reading.marked.representative
+        assert rep is not None
+        for fid in FIDUCIALS:
+            v = rep.marks.get(fid)
+            if v is None:
+                continue
+            corrected = s.is_corrected("representative", fid)
+            colour = QtGui.QColor(self.theme.mark_corrected if corrected else mark_colour(self.theme, fid))
+            style = QtCore.Qt.PenStyle.DashLine if corrected else QtCore.Qt.PenStyle.SolidLine
+            pen = pg.mkPen(colour, width=1.6, style=style, cosmetic=True)
+            hover = pg.mkPen(colour, width=3.0, style=style, cosmetic=True)
+            text = ("◆ " if corrected else "") + SHORT_LABELS[fid] if first_row else None
+            line = pg.InfiniteLine(
+                pos=(v - rep.r_index) / s.fs_hz * 1000.0, angle=90, movable=True, pen=pen, hoverPen=hover,
+                label=text,
+                labelOpts={"position": LABEL_POSITIONS[fid], "color": colour, "anchors": [(0, 0.5), (0, 0.5)],
+                           "fill": self.theme.paper},
+            )
+            line.fiducial = fid
+            line.setToolTip(
+                f"{SHORT_LABELS[fid]} of the median beat, "
+                f"{'corrected by the reader' if corrected else 'automatic'}; drag to correct "
+                "(all leads move together), double-click to reset"
+            )
+            line.sigDragged.connect(self._on_drag)
+            line.sigPositionChangeFinished.connect(self._on_drop)
+            line.mouseDoubleClickEvent = lambda ev, f=fid: (ev.accept(), self.mark_reset.emit(f))
+            p.addItem(line)
+            self.lines.setdefault(fid, []).append(line)
+
+    # --- dragging ------------------------------------------------------------------------
+    def window_sample(self, t_ms: float) -> int:
+        s = self.session
+        assert s is not None and s.reading.marked.representative is not None
+        return s.reading.marked.representative.r_index + round(t_ms / 1000.0 * s.fs_hz)
+
+    def _snap(self, fid: str, sample: int) -> None:
+        s = self.session
+        assert s is not None
+        rep = s.reading.marked.representative
+        assert rep is not None
+        pos = (sample - rep.r_index) / s.fs_hz * 1000.0
+        self._syncing = True
+        try:
+            for line in self.lines.get(fid, []):
+                line.setPos(pos)
+        finally:
+            self._syncing = False
+
+    def _on_drag(self, line: pg.InfiniteLine) -> None:
+        if self._syncing:
+            return
+        k = self.window_sample(line.value())
+        self._snap(line.fiducial, k)
+        self.mark_dragging.emit(line.fiducial, k)
+
+    def _on_drop(self, line: pg.InfiniteLine) -> None:
+        if self._syncing:
+            return
+        k = self.window_sample(line.value())
+        self.mark_dropped.emit(line.fiducial, k)
+
+    def line_point(self, fid: str, plot_index: int = 0, frac_y: float = 0.5) -> QtCore.QPoint:
+        """Viewport pixel on a fiducial line (tests and keyboard focus use it)."""
+        p = self.plots[plot_index]
+        line = self.lines[fid][plot_index]
+        vr = p.getViewBox().viewRect()
+        y = vr.top() + frac_y * vr.height()
+        scene = p.getViewBox().mapViewToScene(QtCore.QPointF(line.value(), y))
+        return self.mapFromScene(scene)
+
+    def time_point(self, t_ms: float, plot_index: int = 0, frac_y: float = 0.5) -> QtCore.QPoint:
+        p = self.plots[plot_index]
+        vr = p.getViewBox().viewRect()
+        scene = p.getViewBox().mapViewToScene(QtCore.QPointF(t_ms, vr.top() + frac_y * vr.height()))
+        return self.mapFromScene(scene)

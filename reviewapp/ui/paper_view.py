@@ -1,0 +1,374 @@
+"""The paper canvas: grid, traces, pulses, labels, marks and calipers for one page.
+
+Drawn in millimetres of paper (y down). At zoom 1 one millimetre is ``px_per_mm`` screen
+pixels, so the paper is true size; the wheel zooms, a drag on the paper pans, "0" returns to
+true size. Marks and calipers keep samples and millivolts; this view only places them.
+"""
+
+from __future__ import annotations
+
+from typing import Literal
+
+import numpy as np
+import pyqtgraph as pg
+from PySide6 import QtCore, QtGui
+
+from reviewapp.core.fiducials import FIDUCIALS
+from reviewapp.core.record import Record
+from reviewapp.ui.calipers import CaliperPair
+from reviewapp.ui.display_filters import DisplayFilters, apply_display_filters
+from reviewapp.ui.geometry import LEFT_MARGIN_MM, TOP_MARGIN_MM, PageGeometry
+from reviewapp.ui.layouts import DEFAULT_RHYTHM_LEADS, build_layout
+from reviewapp.ui.mark_items import FiducialMark
+from reviewapp.ui.paper import PaperGrid, PaperScale
+from reviewapp.ui.session import ReadingSession
+from reviewapp.ui.theme import LIGHT, Theme
+from reviewapp.ui.traces import CalibrationPulse, LeadTrace, lead_label
+
+DEFAULT_PAGE_S = 10.0
+FILTER_PAD_S = 1.0  # extra signal each side so display filters settle before the page edge
+
+
+class PaperView(pg.GraphicsView):
+    mark_dragging = QtCore.Signal(object, int)
+    mark_dropped = QtCore.Signal(object, int)
+    mark_reset = QtCore.Signal(object)
+    caliper_changed = QtCore.Signal(object)
+    zoom_changed = QtCore.Signal(float)
+
+    def __init__(self, scale: PaperScale, theme: Theme = LIGHT, parent=None) -> None:
+        super().__init__(parent)
+        self.theme = theme
+        self.scale = scale
+        self.record: Record | None = None
+        self.session: ReadingSession | None = None
+        self.filters = DisplayFilters()
+        self.layout_key = "12x1"
+        self.lead_order = "standard"
+        self.rhythm_leads: tuple[str, ...] = DEFAULT_RHYTHM_LEADS
+        self.page_s = DEFAULT_PAGE_S
+        self.page_start = 0
+        self.show_beat_marks = True
+        self.geom: PageGeometry | None = None
+        self.traces: list[LeadTrace] = []
+        self.marks: list[FiducialMark] = []
+        self.calipers: list[CaliperPair] = []
+        self.selected: CaliperPair | FiducialMark | None = None
+        self._furniture: list[QtCore.QObject] = []
+        self._zoom = 1.0
+
+        self.vb = pg.ViewBox(invertY=True, enableMenu=False, defaultPadding=0.0)
+        self.vb.disableAutoRange()
+        self.setCentralItem(self.vb)
+        self.setBackground(theme.window)
+        self.grid = PaperGrid(QtCore.QRectF(0, 0, 10, 10), 1.0, 1.0)
+        self.vb.addItem(self.grid)
+        self.header = pg.TextItem("", color=theme.text, anchor=(0, 0))
+        self.footer = pg.TextItem("", color=theme.text_muted, anchor=(0, 0))
+        for item in (self.header, self.footer):
+            f = QtGui.QFont()
+            f.setPointSizeF(10.0)
+            item.setFont(f)
+            item.setZValue(25)
+            self.vb.addItem(item)
+        self.vb.sigResized.connect(self._keep_zoom)
+        self.vb.sigRangeChanged.connect(self._range_changed)
+        self.setFocusPolicy(QtCore.Qt.FocusPolicy.StrongFocus)
+        self.setAcceptDrops(False)
+
+    # --- configuration ---------------------------------------------------------------------
+    def set_record(self, record: Record, page_s: float = DEFAULT_PAGE_S) -> None:
+        self.record = record
+        self.session = None
+        self.page_s = min(page_s, record.duration_s)
+        self.page_start = 0
+        for c in self.calipers:
+            self.vb.removeItem(c)
+        self.calipers.clear()
+        self.selected = None
+        self.rebuild()
+        self.true_size()
+
+    def set_session(self, session: ReadingSession | None) -> None:
+        self.session = session
+        self.rebuild_marks()
+
+    def set_scale(self, scale: PaperScale) -> None:
+        self.scale = scale
+        self.rebuild()
+        self._keep_zoom()
+
+    def set_layout(self, key: str, order: str | None = None, rhythm: tuple[str, ...] | None = None) -> None:
+        self.layout_key = key
+        if order is not None:
+            self.lead_order = order
+        if rhythm is not None:
+            self.rhythm_leads = rhythm
+        for c in self.calipers:
+            self.vb.removeItem(c)
+        self.calipers.clear()
+        self.selected = None
+        self.rebuild()
+
+    def set_filters(self, filters: DisplayFilters) -> None:
+        self.filters = filters
+        self.rebuild()
+
+    def set_page_start(self, sample: int) -> None:
+        if self.record is None:
+            return
+        n = self.record.n_samples
+        span = round(self.page_s * self.record.fs_hz)
+        self.page_start = int(min(max(0, sample), max(0, n - span)))
+        self.rebuild()
+
+    def set_theme(self, theme: Theme) -> None:
+        self.theme = theme
+        self.setBackground(theme.window)
+        for c in self.calipers:
+            c.set_theme(theme)
+        self.rebuild()
+
+    # --- building the page ---------------------------------------------------------------
+    def rebuild(self) -> None:
+        """Re-place everything for the current record, page, layout, scale and filters."""
+        for item in self._furniture:
+            self.vb.removeItem(item)
+        self._furniture.clear()
+        for t in self.traces:
+            self.vb.removeItem(t)
+        self.traces.clear()
+        self.grid.set_colours(self.theme.grid_minor, self.theme.grid_major, self.theme.paper)
+        if self.record is None:
+            self.geom = None
+            self.rebuild_marks()
+            return
+        rec = self.record
+        layout = build_layout(
+            self.layout_key, rec.lead_names, self.page_s, order=self.lead_order, rhythm_leads=self.rhythm_leads
+        )
+        geom = PageGeometry(layout, self.scale, rec.fs_hz, self.page_start)
+        self.geom = geom
+        self.grid.set_geometry(QtCore.QRectF(0, 0, geom.width_mm, geom.height_mm), 1.0, 1.0)
+        fs = rec.fs_hz
+        pad = round(FILTER_PAD_S * fs) if self.filters.any else 0
+        lo = max(0, self.page_start - pad)
+        hi = min(rec.n_samples, self.page_start + geom.page_samples + pad)
+        data = rec.window(lo, hi)
+        data = apply_display_filters(data, fs, self.filters)
+        for cell in layout.cells:
+            s0, s1 = geom.sample_range(cell)
+            s1 = min(s1 + 1, rec.n_samples)  # join the columns without a gap
+            idx = rec.lead_index(cell.lead)
+            seg = data[s0 - lo : s1 - lo, idx]
+            trace = LeadTrace(cell, self.theme)
+            trace.set_signal(geom, np.arange(s0, s0 + seg.shape[0]), seg)
+            self.vb.addItem(trace)
+            self.traces.append(trace)
+            label = lead_label(cell, geom, self.theme)
+            self.vb.addItem(label)
+            self._furniture.append(label)
+        for row in sorted({c.row for c in layout.cells}):
+            pulse = CalibrationPulse(row, self.theme)
+            pulse.set_geometry(geom)
+            self.vb.addItem(pulse)
+            self._furniture.append(pulse)
+        self._add_column_ticks(geom)
+        self.header.setColor(self.theme.text)
+        self.footer.setColor(self.theme.text_muted)
+        self.header.setText(self._header_text())
+        self.header.setPos(LEFT_MARGIN_MM, 1.5)
+        self.footer.setText(self.filters.legend())
+        self.footer.setPos(LEFT_MARGIN_MM, geom.height_mm - 8.5)
+        for c in self.calipers:
+            c.set_geometry(geom, self.scale.gain_mm_per_mv)
+        self.rebuild_marks()
+
+    def _header_text(self) -> str:
+        rec = self.record
+        assert rec is not None and self.geom is not None
+        t0 = self.page_start / rec.fs_hz
+        return (
+            f"{self.scale.speed_mm_per_s:g} mm/s     {self.scale.gain_mm_per_mv:g} mm/mV     "
+            f"{rec.name}   {_clock(t0)}–{_clock(t0 + self.page_s)} of {_clock(rec.duration_s)}"
+        )
+
+    def _add_column_ticks(self, geom: PageGeometry) -> None:
+        layout = geom.layout
+        if layout.n_cols <= 1:
+            return
+        xs, ys = [], []
+        for c in layout.cells:
+            if c.rhythm or c.col == 0:
+                continue
+            x = geom.x_of_time(c.t0_s)
+            base = geom.baseline_y(c.row)
+            xs += [x, x]
+            ys += [base - 3.0, base + 3.0]
+        if xs:
+            item = pg.PlotCurveItem(
+                np.array(xs), np.array(ys), connect="pairs",
+                pen=pg.mkPen(self.theme.trace, width=1.6, cosmetic=True),
+            )
+            item.setZValue(11)
+            self.vb.addItem(item)
+            self._furniture.append(item)
+
+    def rebuild_marks(self) -> None:
+        for m in self.marks:
+            self.vb.removeItem(m)
+        self.marks.clear()
+        if isinstance(self.selected, FiducialMark):
+            self.selected = None
+        geom, session = self.geom, self.session
+        if geom is None or session is None or not self.show_beat_marks:
+            return
+        beats = session.analysis.beats
+        marks = session.beat_marks()
+        end = self.page_start + geom.page_samples
+        for i, (beat, wm) in enumerate(zip(beats, marks, strict=False)):
+            if not (self.page_start <= beat.r < end):
+                continue
+            for fid in FIDUCIALS:
+                s = wm.get(fid)
+                if s is None or not (self.page_start <= s < end):
+                    continue
+                item = FiducialMark(
+                    fid, s, i,
+                    corrected=session.is_corrected("beat", fid, beat.r),
+                    theme=self.theme,
+                    x_of_sample=lambda v, g=geom: g.x_of_sample(v),
+                    sample_of_x=lambda x, g=geom: g.sample_of_x(x),
+                    bands=geom.bands_at_sample(s),
+                    fs_hz=geom.fs_hz,
+                )
+                item.dragging.connect(self._on_mark_dragging)
+                item.dropped.connect(self.mark_dropped)
+                item.reset_requested.connect(self.mark_reset)
+                self.vb.addItem(item)
+                self.marks.append(item)
+
+    def _on_mark_dragging(self, mark: FiducialMark, sample: int) -> None:
+        self._select(mark)
+        self.mark_dragging.emit(mark, sample)
+
+    # --- calipers ------------------------------------------------------------------------
+    def add_caliper(
+        self, kind: Literal["time", "amplitude"], row: int | None = None, center_sample: int | None = None
+    ) -> CaliperPair | None:
+        geom, rec = self.geom, self.record
+        if geom is None or rec is None:
+            return None
+        cells = geom.layout.cells
+        if row is None:
+            # Prefer the first rhythm strip (a full-length lead), else the top row.
+            rhythm = [c for c in cells if c.rhythm]
+            row = (rhythm[0] if rhythm else cells[0]).row
+        cell = next(c for c in cells if c.row == row)
+        if center_sample is None:
+            vr = self.vb.viewRect()
+            center_sample = geom.sample_of_x(min(max(vr.center().x(), geom.x_of_time(cell.t0_s)),
+                                                 geom.x_of_time(cell.t1_s)))
+        half = round(0.2 * rec.fs_hz)
+        n = len(self.calipers) + 1
+        if kind == "time":
+            c = CaliperPair("time", row, cell.lead, geom, self.scale.gain_mm_per_mv, self.theme,
+                            a=center_sample - half, b=center_sample + half, name=f"C{n}")
+        else:
+            c = CaliperPair("amplitude", row, cell.lead, geom, self.scale.gain_mm_per_mv, self.theme,
+                            at=center_sample, a_mv=0.0, b_mv=1.0, name=f"C{n}")
+        c.changed.connect(self.caliper_changed)
+        c.selected_changed.connect(self._on_caliper_selected)
+        self.vb.addItem(c)
+        self.calipers.append(c)
+        self._select(c)
+        self.caliper_changed.emit(c)
+        return c
+
+    def remove_caliper(self, c: CaliperPair) -> None:
+        if c in self.calipers:
+            self.calipers.remove(c)
+            self.vb.removeItem(c)
+            if self.selected is c:
+                self.selected = None
+            self.caliper_changed.emit(None)
+
+    def _on_caliper_selected(self, c: CaliperPair) -> None:
+        if c.selected:
+            self._select(c)
+
+    def _select(self, item: CaliperPair | FiducialMark | None) -> None:
+        if self.selected is item:
+            return
+        if isinstance(self.selected, CaliperPair):
+            self.selected.set_selected(False)
+        self.selected = item
+        if isinstance(item, CaliperPair):
+            item.set_selected(True)
+
+    # --- zoom: true size and back ---------------------------------------------------------
+    @property
+    def px_per_mm(self) -> float:
+        return self.scale.px_per_mm
+
+    @property
+    def zoom(self) -> float:
+        return self._zoom
+
+    def true_size(self) -> None:
+        self.set_zoom(1.0, top_left=QtCore.QPointF(0.0, 0.0))
+
+    def set_zoom(self, zoom: float, top_left: QtCore.QPointF | None = None) -> None:
+        zoom = float(min(max(zoom, 0.05), 40.0))
+        self._zoom = zoom
+        w, h = self.vb.width(), self.vb.height()
+        if w <= 1 or h <= 1:
+            return
+        ppu = self.px_per_mm * zoom
+        if top_left is None:
+            vr = self.vb.viewRect()
+            top_left = QtCore.QPointF(vr.left(), vr.top())
+        self.vb.setRange(
+            xRange=(top_left.x(), top_left.x() + w / ppu),
+            yRange=(top_left.y(), top_left.y() + h / ppu),
+            padding=0.0,
+        )
+
+    def zoom_by(self, factor: float) -> None:
+        vr = self.vb.viewRect()
+        c = vr.center()
+        new = min(max(self._zoom * factor, 0.05), 40.0)
+        w, h = self.vb.width() / (self.px_per_mm * new), self.vb.height() / (self.px_per_mm * new)
+        self.set_zoom(new, QtCore.QPointF(c.x() - w / 2, c.y() - h / 2))
+
+    def _keep_zoom(self, *_args) -> None:
+        self.set_zoom(self._zoom)
+
+    def _range_changed(self, *_args) -> None:
+        vr = self.vb.viewRect()
+        if vr.width() > 0 and self.vb.width() > 1:
+            z = self.vb.width() / vr.width() / self.px_per_mm
+            if abs(z - self._zoom) > 1e-6:
+                self._zoom = z
+                self.zoom_changed.emit(z)
+
+    def map_to_viewport(self, x_mm: float, y_mm: float) -> QtCore.QPointF:
+        """Paper mm -> viewport pixel (what a mouse event sees)."""
+        scene = self.vb.mapViewToScene(QtCore.QPointF(x_mm, y_mm))
+        return self.viewportTransform().map(scene)
+
+    def sample_point(self, row: int, sample: int, mv: float = 0.0) -> QtCore.QPoint:
+        """Viewport pixel of a sample on a row (for tests and keyboard placement)."""
+        assert self.geom is not None
+        p = self.map_to_viewport(self.geom.x_of_sample(sample), self.geom.y_of_mv(row, mv))
+        return p.toPoint()
+
+
+def _clock(seconds: float) -> str:
+    s = max(0.0, seconds)
+    h, rem = divmod(s, 3600)
+    m, sec = divmod(rem, 60)
+    return f"{int(h)}:{int(m):02d}:{sec:04.1f}" if h >= 1 else f"{int(m)}:{sec:04.1f}"
+
+
+__all__ = ["TOP_MARGIN_MM", "PaperView"]

@@ -1,0 +1,144 @@
+"""Write PNGs of the main views: ``python -m reviewapp.ui.screenshots OUTDIR [--record PATH]``.
+
+Runs without a screen (offscreen Qt) at a fixed 96 dpi scale, so the images are reproducible.
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import sys
+from pathlib import Path
+
+SIZE = (1760, 1120)
+PX_PER_MM = 96.0 / 25.4
+
+
+def _default_record() -> Path | None:
+    from reviewapp.ui.app import sample_records_dir
+    from reviewapp.ui.main_window import list_records
+
+    folder = sample_records_dir()
+    if folder.is_dir():
+        recs = list_records(folder)
+        if recs:
+            return recs[0]
+    return None
+
+
+def write_screenshots(outdir: Path, record_path: Path | None = None) -> list[Path]:
+    from PySide6 import QtCore
+
+    from reviewapp.ui.app import create_app
+    from reviewapp.ui.main_window import MainWindow
+
+    app = create_app()
+    outdir.mkdir(parents=True, exist_ok=True)
+    ini = outdir / ".screenshots-settings.ini"
+    settings = QtCore.QSettings(str(ini), QtCore.QSettings.Format.IniFormat)
+    settings.clear()
+    record_path = record_path or _default_record()
+    if record_path is None:
+        raise SystemExit("no sample record found; pass --record PATH")
+    w = MainWindow(settings, px_per_mm=PX_PER_MM, speed_mm_per_s=25.0, gain_mm_per_mv=10.0, theme="light")
+    w.resize(*SIZE)
+    w.show()
+    if not w.open_path(record_path, analyse_now=True):
+        raise SystemExit(f"cannot open {record_path}")
+    written: list[Path] = []
+
+    def shot(name: str) -> None:
+        for _ in range(3):
+            app.processEvents()
+        p = outdir / f"{name}.png"
+        w.grab().save(str(p))
+        written.append(p)
+
+    def fit_if_needed() -> None:
+        g = w.paper.geom
+        if g is not None and g.height_mm * PX_PER_MM > w.paper.vb.height():
+            w.fit_page()
+        else:
+            w.paper.true_size()
+
+    w.set_layout("12x1")
+    app.processEvents()
+    fit_if_needed()
+    shot("layout_12x1")
+    w.set_layout("6x2")
+    app.processEvents()
+    w.paper.true_size()
+    shot("layout_6x2")
+    w.set_layout("3x4+1")
+    app.processEvents()
+    w.paper.true_size()
+    _demo_calipers_and_correction(w)
+    shot("layout_3x4_rhythm1")
+    w.set_layout("3x4+3")
+    app.processEvents()
+    w.paper.true_size()
+    shot("layout_3x4_rhythm3")
+    w.show_median(True)
+    w.median.set_superimpose(True)
+    shot("median_beat")
+    w.show_median(False)
+    w.set_theme("dark")
+    w.set_layout("3x4+1")
+    app.processEvents()
+    w.paper.true_size()
+    _demo_calipers_and_correction(w)
+    shot("dark_3x4_rhythm1")
+    w.show_median(True)
+    shot("dark_median_beat")
+    w.settings.clear()
+    w.close()
+    ini.unlink(missing_ok=True)
+    return written
+
+
+def _demo_calipers_and_correction(w) -> None:
+    """One time caliper over an RR interval, one amplitude caliper on an R wave, one corrected
+    T end, so the images show what a reading looks like mid-review."""
+    s = w.session
+    if s is None or len(s.analysis.beats) < 3:
+        return
+    beats = s.analysis.beats
+    page_end = w.paper.page_start + w.paper.geom.page_samples
+    on_page = [b for b in beats if w.paper.page_start <= b.r < page_end]
+    if len(on_page) >= 3:
+        c = w.add_caliper("time", center_sample=on_page[1].r)
+        if c is not None:
+            c.set_legs(a=on_page[1].r, b=on_page[2].r)
+        amp = w.add_caliper("amplitude", center_sample=on_page[-2].r)
+        if amp is not None:
+            rec = w.record
+            rhythm = next(cell for cell in w.paper.geom.layout.cells if cell.row == amp.row)
+            v = float(rec.window(on_page[-2].r, on_page[-2].r + 1)[0, rec.lead_index(rhythm.lead)])
+            amp.set_levels(a_mv=0.0, b_mv=round(v, 2))
+    rep = s.reading.marked.representative
+    if rep is not None and rep.marks.t_off is not None and not s.is_corrected("representative", "t_off"):
+        s.commit(s.representative_override("t_off", rep.marks.t_off + round(0.02 * s.fs_hz)))
+    mid = on_page[len(on_page) // 2] if on_page else None
+    if mid is not None:
+        i = beats.index(mid)
+        wm = s.beat_marks()[i]
+        if wm.t_off is not None and not s.is_corrected("beat", "t_off", mid.r):
+            s.commit(s.beat_override(i, "t_off", wm.t_off + round(0.03 * s.fs_hz)))
+    w._refresh_marks()
+
+
+def main(argv: list[str] | None = None) -> int:
+    ap = argparse.ArgumentParser(prog="python -m reviewapp.ui.screenshots", description=__doc__)
+    ap.add_argument("outdir", type=Path)
+    ap.add_argument("--record", type=Path, default=None, help="record to show (default: first sample)")
+    args = ap.parse_args(argv)
+    if not os.environ.get("DISPLAY") and not os.environ.get("WAYLAND_DISPLAY"):
+        os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
+    os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
+    for p in write_screenshots(args.outdir, args.record):
+        print(p)
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,211 @@
+"""Summary dock: the reading's measurements beside their normal limits.
+
+Each value out of its limits is flagged in words and by a glyph (▲ above, ▼ below), never by
+colour alone; the tooltip names the limit's source and how the value was computed (which marks,
+which formula). Values are always the current ``Reading``'s, recomputed from the marks.
+"""
+
+from __future__ import annotations
+
+from typing import TYPE_CHECKING
+
+from PySide6 import QtCore, QtGui, QtWidgets
+
+from reviewapp.core.fiducials import FIDUCIAL_LABELS
+from reviewapp.core.measure import Finding, NormalRange, normal_range
+
+if TYPE_CHECKING:
+    from reviewapp.core.engine import Reading
+    from reviewapp.core.record import SubjectFacts
+
+# (field, label, unit, decimals, how it is computed)
+GLOBAL_ROWS: tuple[tuple[str, str, str, int, str], ...] = (
+    ("hr_bpm", "Heart rate", "bpm", 0, "60000 / mean RR of all beats"),
+    ("rr_ms", "RR", "ms", 0, "mean interval between successive R fiducial points (all beats)"),
+    ("p_ms", "P", "ms", 0, "P end − P onset of the median beat (global marks, all leads)"),
+    ("pr_ms", "PR", "ms", 0, "QRS onset − P onset of the median beat (global marks)"),
+    ("qrs_ms", "QRS", "ms", 0, "QRS end − QRS onset of the median beat (global marks)"),
+    ("qt_ms", "QT", "ms", 0, "T end − QRS onset of the median beat (global marks)"),
+    ("qtc_bazett_ms", "QTc Bazett", "ms", 0, "QT / √(RR in s) — Bazett, Heart 7:353, 1920"),
+    ("qtc_fridericia_ms", "QTc Fridericia", "ms", 0,
+     "QT / ∛(RR in s) — Fridericia, Acta Med Scand 53:469, 1920"),
+    ("qtc_framingham_ms", "QTc Framingham", "ms", 0,
+     "QT + 154 ms × (1 − RR in s) — Sagie et al., Am J Cardiol 70:797, 1992"),
+    ("qtc_hodges_ms", "QTc Hodges", "ms", 0, "QT + 1.75 ms × (HR − 60) — Hodges et al., 1983"),
+    ("p_axis_deg", "P axis", "°", 0, "frontal-plane axis from P areas in I and aVF"),
+    ("qrs_axis_deg", "QRS axis", "°", 0, "frontal-plane axis from QRS areas in I and aVF"),
+    ("t_axis_deg", "T axis", "°", 0, "frontal-plane axis from T areas in I and aVF"),
+)
+# The marks each interval depends on, to say in the tooltip which of them the reader corrected.
+USES_MARKS: dict[str, tuple[str, ...]] = {
+    "p_ms": ("p_on", "p_off"),
+    "pr_ms": ("p_on", "qrs_on"),
+    "qrs_ms": ("qrs_on", "qrs_off"),
+    "qt_ms": ("qrs_on", "t_off"),
+    "qtc_bazett_ms": ("qrs_on", "t_off"),
+    "qtc_fridericia_ms": ("qrs_on", "t_off"),
+    "qtc_framingham_ms": ("qrs_on", "t_off"),
+    "qtc_hodges_ms": ("qrs_on", "t_off"),
+}
+LEAD_COLUMNS: tuple[tuple[str, str], ...] = (
+    ("p_mv", "P"), ("q_mv", "Q"), ("r_mv", "R"), ("s_mv", "S"), ("t_mv", "T"),
+    ("st_j_mv", "ST J"), ("st_j60_mv", "ST J+60"), ("st_j80_mv", "ST J+80"),
+)
+ABOVE, BELOW = "▲", "▼"
+
+
+def range_text(r: NormalRange | None) -> str:
+    if r is None:
+        return "—"
+    u = "" if r.unit in ("°", "deg") else f" {r.unit}"
+    u = "°" if r.unit in ("°", "deg") else u
+    if r.low is not None and r.high is not None:
+        return f"{r.low:g} to {r.high:g}{u}"
+    if r.high is not None:
+        return f"{'≤' if getattr(r, 'high_is_normal', True) else '<'} {r.high:g}{u}"
+    if r.low is not None:
+        return f"{'≥' if getattr(r, 'low_is_normal', True) else '>'} {r.low:g}{u}"
+    return "—"
+
+
+def flag_for(
+    quantity: str, value: float | None, rng: NormalRange | None, findings: tuple[Finding, ...],
+    lead: str | None = None,
+) -> tuple[str, str]:
+    """(short flag text with glyph, long explanation) — empty strings when within limits."""
+    if value is None:
+        return "", ""
+    for f in findings:
+        if f.quantity == quantity and f.lead == lead:
+            glyph = ABOVE if f.direction == "above" else BELOW
+            return f"{glyph} {f.direction} {f.limit:g}", f.text
+    if rng is not None:
+        if hasattr(rng, "is_above") and rng.is_above(value):
+            return f"{ABOVE} above {rng.high:g}", f"{value:.0f} above the limit {rng.high:g}"
+        if hasattr(rng, "is_below") and rng.is_below(value):
+            return f"{BELOW} below {rng.low:g}", f"{value:.0f} below the limit {rng.low:g}"
+    return "", ""
+
+
+class SummaryPanel(QtWidgets.QWidget):
+    """Global values table, and per-lead amplitudes/ST levels on demand."""
+
+    def __init__(self, parent=None) -> None:
+        super().__init__(parent)
+        self.table = QtWidgets.QTableWidget(len(GLOBAL_ROWS), 4)
+        self.table.setHorizontalHeaderLabels(["", "Value", "Normal", "Flag"])
+        self.table.verticalHeader().hide()
+        self.table.setEditTriggers(QtWidgets.QAbstractItemView.EditTrigger.NoEditTriggers)
+        self.table.setSelectionMode(QtWidgets.QAbstractItemView.SelectionMode.NoSelection)
+        self.table.setFocusPolicy(QtCore.Qt.FocusPolicy.NoFocus)
+        hh = self.table.horizontalHeader()
+        hh.setSectionResizeMode(QtWidgets.QHeaderView.ResizeMode.ResizeToContents)
+        hh.setStretchLastSection(True)
+        self.per_lead_button = QtWidgets.QToolButton()
+        self.per_lead_button.setText("Per-lead amplitudes and ST levels")
+        self.per_lead_button.setCheckable(True)
+        self.per_lead_button.setToolButtonStyle(QtCore.Qt.ToolButtonStyle.ToolButtonTextOnly)
+        self.leads_table = QtWidgets.QTableWidget(0, len(LEAD_COLUMNS) + 1)
+        self.leads_table.setHorizontalHeaderLabels(["Lead", *[c for _, c in LEAD_COLUMNS]])
+        self.leads_table.verticalHeader().hide()
+        self.leads_table.setEditTriggers(QtWidgets.QAbstractItemView.EditTrigger.NoEditTriggers)
+        self.leads_table.horizontalHeader().setSectionResizeMode(
+            QtWidgets.QHeaderView.ResizeMode.ResizeToContents
+        )
+        self.leads_table.setVisible(False)
+        self.per_lead_button.toggled.connect(self.leads_table.setVisible)
+        self.caliper_label = QtWidgets.QLabel("")
+        self.caliper_label.setWordWrap(True)
+        self.status = QtWidgets.QLabel("")
+        self.status.setWordWrap(True)
+        lay = QtWidgets.QVBoxLayout(self)
+        lay.setContentsMargins(6, 6, 6, 6)
+        lay.addWidget(self.status)
+        lay.addWidget(self.table, 3)
+        lay.addWidget(self.per_lead_button)
+        lay.addWidget(self.leads_table, 2)
+        lay.addWidget(self.caliper_label)
+        f = self.table.font()
+        f.setPointSizeF(max(f.pointSizeF(), 10.5))
+        self.table.setFont(f)
+        self._values: dict[str, str] = {}
+
+    def value_text(self, quantity: str) -> str:
+        """The text shown for ``quantity`` (tests read what the reader reads)."""
+        return self._values.get(quantity, "")
+
+    def show_reading(self, reading: Reading | None, subject: SubjectFacts, corrected: set[str]) -> None:
+        """Fill the tables. ``corrected``: global fiducials of the median beat the reader moved."""
+        self._values.clear()
+        if reading is None:
+            self.status.setText("Analysing…")
+            self.table.clearContents()
+            self.leads_table.setRowCount(0)
+            return
+        iv = reading.measurements.intervals
+        n_flags = 0
+        bold = QtGui.QFont(self.table.font())
+        bold.setBold(True)
+        for row, (key, label, unit, dec, how) in enumerate(GLOBAL_ROWS):
+            v = getattr(iv, key, None)
+            rng = normal_range(key, subject)
+            flag, why = flag_for(key, v, rng, reading.findings)
+            text = "—" if v is None else f"{v:.{dec}f} {unit}".replace(" °", "°")
+            self._values[key] = text
+            moved = [FIDUCIAL_LABELS[m] for m in USES_MARKS.get(key, ()) if m in corrected]
+            tip = [f"How computed: {how}."]
+            if key in USES_MARKS:
+                marks = ", ".join(FIDUCIAL_LABELS[m] for m in USES_MARKS[key])
+                tip.append(f"Marks used: {marks}" + (f" (corrected by the reader: {', '.join(moved)})" if moved else " (automatic)"))
+            if rng is not None:
+                who = getattr(rng, "applies_to", "")
+                tip.append(f"Normal limits{f' ({who})' if who else ''}: {range_text(rng)}. Source: {rng.source}")
+            else:
+                tip.append("No normal limit in the table for this value.")
+            if v is None:
+                reason = dict(reading.measurements.unmeasured).get(key)
+                tip.append(f"Not measured{': ' + reason if reason else ''}.")
+            if why:
+                tip.append(why)
+            tip_text = "\n".join(tip)
+            cells = [label + (" ✎" if moved else ""), text, range_text(rng), flag]
+            for col, t in enumerate(cells):
+                item = QtWidgets.QTableWidgetItem(t)
+                item.setToolTip(tip_text)
+                if flag:
+                    item.setFont(bold)
+                if col == 1:
+                    item.setTextAlignment(QtCore.Qt.AlignmentFlag.AlignRight | QtCore.Qt.AlignmentFlag.AlignVCenter)
+                self.table.setItem(row, col, item)
+            n_flags += bool(flag)
+        extra = len([f for f in reading.findings if f.lead is not None])
+        self.status.setText(
+            f"{n_flags} value{'s' if n_flags != 1 else ''} outside limits"
+            + (f"; {extra} per-lead finding{'s' if extra != 1 else ''} (see per-lead table)" if extra else "")
+            + (f"; {len(corrected)} mark{'s' if len(corrected) != 1 else ''} corrected" if corrected else "")
+            + ". Hover a row for its source."
+        )
+        self._fill_leads(reading, subject)
+
+    def _fill_leads(self, reading: Reading, subject: SubjectFacts) -> None:
+        leads = reading.measurements.leads
+        self.leads_table.setRowCount(len(leads))
+        for r, lm in enumerate(leads):
+            self.leads_table.setItem(r, 0, QtWidgets.QTableWidgetItem(lm.lead))
+            for c, (key, _label) in enumerate(LEAD_COLUMNS, start=1):
+                v = getattr(lm, key, None)
+                rng = normal_range(key, subject, lead=lm.lead) if key.startswith("st_") else None
+                flag, why = flag_for(key, v, rng, reading.findings, lead=lm.lead)
+                text = "—" if v is None else f"{v:+.2f}"
+                item = QtWidgets.QTableWidgetItem(f"{text} {flag.split(' ')[0]}" if flag else text)
+                tip = f"{lm.lead} {_label}: {text} mV (from the isoelectric level at QRS onset)"
+                if rng is not None:
+                    tip += f"\nNormal limits: {range_text(rng)}. Source: {rng.source}"
+                if why:
+                    tip += f"\n{why}"
+                item.setToolTip(tip)
+                item.setTextAlignment(QtCore.Qt.AlignmentFlag.AlignRight | QtCore.Qt.AlignmentFlag.AlignVCenter)
+                self.leads_table.setItem(r, c, item)
+
+    def show_calipers(self, lines: list[str]) -> None:
+        self.caliper_label.setText("Calipers:\n" + "\n".join(lines) if lines else "")

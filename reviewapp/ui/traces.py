@@ -1,0 +1,106 @@
+"""Lead traces, 1 mV calibration pulses and lead labels on the paper canvas (mm coordinates)."""
+
+from __future__ import annotations
+
+import numpy as np
+import pyqtgraph as pg
+from PySide6 import QtCore, QtGui
+
+from reviewapp.ui.geometry import LEFT_MARGIN_MM, PageGeometry
+from reviewapp.ui.layouts import Cell
+from reviewapp.ui.theme import Theme
+
+
+class LeadTrace(pg.PlotCurveItem):
+    """One cell's signal, drawn with pyqtgraph's clip-to-view and peak-preserving decimation."""
+
+    def __init__(self, cell: Cell, theme: Theme) -> None:
+        super().__init__(
+            pen=pg.mkPen(theme.trace, width=theme.trace_width_px, cosmetic=True),
+            antialias=True,
+            skipFiniteCheck=False,
+        )
+        self.cell = cell
+        self.setZValue(10)
+
+    def set_signal(self, geom: PageGeometry, x_samples: np.ndarray, mv: np.ndarray) -> None:
+        """``x_samples``: record sample indices; ``mv``: that lead's values (NaN = gap)."""
+        sign = -1.0 if self.cell.inverted else 1.0
+        x_mm = LEFT_MARGIN_MM + (x_samples - geom.page_start) / geom.fs_hz * geom.scale.speed_mm_per_s
+        y_mm = geom.baseline_y(self.cell.row) - sign * mv * geom.scale.gain_mm_per_mv
+        x_mm, y_mm = _decimate_minmax(x_mm.astype(np.float64), y_mm.astype(np.float64), 6000)
+        self.setData(x_mm, y_mm, connect="finite")
+
+    def set_theme(self, theme: Theme) -> None:
+        self.setPen(pg.mkPen(theme.trace, width=theme.trace_width_px, cosmetic=True))
+
+
+def _decimate_minmax(x: np.ndarray, y: np.ndarray, max_points: int) -> tuple[np.ndarray, np.ndarray]:
+    """Keep each bin's min and max so spikes survive when a long page is squeezed."""
+    n = x.size
+    if n <= max_points:
+        return x, y
+    per = -(-n // (max_points // 2))
+    bins = -(-n // per)
+    m = per * bins
+    # Pad the last bin by repeating the final sample so no sample is dropped.
+    yb = np.concatenate([y, np.repeat(y[-1:], m - n)]).reshape(bins, per)
+    xb = np.concatenate([x, np.repeat(x[-1:], m - n)]).reshape(bins, per)
+    lo = np.nanargmin(np.where(np.isnan(yb), np.inf, yb), axis=1)
+    hi = np.nanargmax(np.where(np.isnan(yb), -np.inf, yb), axis=1)
+    first = np.minimum(lo, hi)
+    second = np.maximum(lo, hi)
+    rows = np.arange(bins)
+    xs = np.column_stack([xb[rows, first], xb[rows, second]]).ravel()
+    ys = np.column_stack([yb[rows, first], yb[rows, second]]).ravel()
+    return xs, ys
+
+
+class CalibrationPulse(pg.GraphicsObject):
+    """The 1 mV square pulse at the start of a row: its height is the gain, in millimetres."""
+
+    def __init__(self, row: int, theme: Theme) -> None:
+        super().__init__()
+        self.row = row
+        self._path = QtGui.QPainterPath()
+        self._pen = pg.mkPen(theme.trace, width=theme.trace_width_px, cosmetic=True)
+        self.setZValue(10)
+
+    def set_geometry(self, geom: PageGeometry) -> None:
+        self.prepareGeometryChange()
+        base = geom.baseline_y(self.row)
+        top = geom.y_of_mv(self.row, 1.0)
+        # Pulse width 0.2 s at the current speed, kept between 2.5 and 7 mm so it never crowds
+        # the trace (common practice, no source).
+        w = min(7.0, max(2.5, geom.scale.x_mm(0.2)))
+        x0 = LEFT_MARGIN_MM - w - 4.0
+        p = QtGui.QPainterPath(QtCore.QPointF(x0 - 2.0, base))
+        for x, y in ((x0, base), (x0, top), (x0 + w, top), (x0 + w, base), (x0 + w + 2.0, base)):
+            p.lineTo(x, y)
+        self._path = p
+        self.update()
+
+    def set_theme(self, theme: Theme) -> None:
+        self._pen = pg.mkPen(theme.trace, width=theme.trace_width_px, cosmetic=True)
+        self.update()
+
+    def boundingRect(self) -> QtCore.QRectF:
+        return self._path.boundingRect().adjusted(-1, -1, 1, 1)
+
+    def paint(self, painter: QtGui.QPainter, option, widget=None) -> None:
+        painter.setRenderHint(QtGui.QPainter.RenderHint.Antialiasing, True)
+        painter.setPen(self._pen)
+        painter.drawPath(self._path)
+
+
+def lead_label(cell: Cell, geom: PageGeometry, theme: Theme) -> pg.TextItem:
+    """The lead name at the top-left of its cell, in a fixed screen size."""
+    item = pg.TextItem(cell.label, color=theme.text, anchor=(0, 0))
+    f = QtGui.QFont()
+    f.setPointSizeF(10.5)
+    f.setBold(True)
+    item.setFont(f)
+    top, _bottom = geom.row_band(cell.row)
+    item.setPos(geom.x_of_time(cell.t0_s) + 1.5, top + 0.3)
+    item.setZValue(20)
+    return item

@@ -1,0 +1,565 @@
+"""The worklist: a folder's records with reading status and cached values, sortable and filterable.
+
+The folder is scanned on a QThreadPool worker (listing 10,000 records reads 10,000 sidecars),
+rows arrive in chunks while a progress bar runs, and the window stays responsive. Values shown
+are the sidecar's listing cache (derived from marks by the batch step, never truth); stale
+values (another engine version) are shown in grey italics. Opening a record never moves the
+list: ``refresh_record`` updates one row in place after the window saves.
+
+Keyboard: Enter opens the selected record; N / Shift+N go to the next / previous unread record
+and open it.
+"""
+
+from __future__ import annotations
+
+import math
+import threading
+import time
+from pathlib import Path
+
+from PySide6.QtCore import (
+    QAbstractTableModel,
+    QModelIndex,
+    QObject,
+    QPersistentModelIndex,
+    QRunnable,
+    QSortFilterProxyModel,
+    Qt,
+    QThreadPool,
+    Signal,
+)
+from PySide6.QtGui import QColor, QFont, QKeySequence, QShortcut
+from PySide6.QtWidgets import (
+    QAbstractItemView,
+    QCheckBox,
+    QDoubleSpinBox,
+    QHBoxLayout,
+    QHeaderView,
+    QLabel,
+    QProgressBar,
+    QTableView,
+    QVBoxLayout,
+    QWidget,
+)
+
+from reviewapp.batch.listing import ListingRow, listing_row
+
+COLUMNS: tuple[tuple[str, str], ...] = (
+    ("name", "Record"),
+    ("status", "Status"),
+    ("reviewer", "Reviewer"),
+    ("hr_bpm", "HR (bpm)"),
+    ("pr_ms", "PR (ms)"),
+    ("qrs_ms", "QRS (ms)"),
+    ("qt_ms", "QT (ms)"),
+    ("qtc", "QTc (ms)"),
+    ("flags", "Flags"),
+    ("folder", "Folder"),
+)
+NUMERIC = {"hr_bpm", "pr_ms", "qrs_ms", "qt_ms", "qtc"}
+STATUS_TEXT = {"unread": "unread", "in_progress": "in progress", "signed_off": "signed off"}
+SortKeyRole = Qt.ItemDataRole.UserRole + 1
+PathRole = Qt.ItemDataRole.UserRole + 2
+RowRole = Qt.ItemDataRole.UserRole + 3
+
+
+class WorklistModel(QAbstractTableModel):
+    """The rows of one listed folder."""
+
+    def __init__(self, parent: QObject | None = None, qtc_formula: str = "fridericia") -> None:
+        super().__init__(parent)
+        self._rows: list[ListingRow] = []
+        self._index: dict[Path, int] = {}
+        self.qtc_formula = qtc_formula
+
+    # --- Qt model API
+    def rowCount(self, parent: QModelIndex | QPersistentModelIndex = QModelIndex()) -> int:  # noqa: B008
+        return 0 if parent.isValid() else len(self._rows)
+
+    def columnCount(self, parent: QModelIndex | QPersistentModelIndex = QModelIndex()) -> int:  # noqa: B008
+        return 0 if parent.isValid() else len(COLUMNS)
+
+    def headerData(
+        self, section: int, orientation: Qt.Orientation, role: int = Qt.ItemDataRole.DisplayRole
+    ):  # type: ignore[override]
+        if orientation == Qt.Orientation.Horizontal and role == Qt.ItemDataRole.DisplayRole:
+            key, title = COLUMNS[section]
+            if key == "qtc":
+                return "QTcB (ms)" if self.qtc_formula == "bazett" else "QTcF (ms)"
+            return title
+        return None
+
+    def data(
+        self, index: QModelIndex | QPersistentModelIndex, role: int = Qt.ItemDataRole.DisplayRole
+    ):  # type: ignore[override]
+        if not index.isValid():
+            return None
+        row = self._rows[index.row()]
+        key = COLUMNS[index.column()][0]
+        if role == Qt.ItemDataRole.DisplayRole:
+            return self._display(row, key)
+        if role == SortKeyRole:
+            return self._sort_key(row, key)
+        if role == PathRole:
+            return str(row.path)
+        if role == RowRole:
+            return row
+        if role == Qt.ItemDataRole.TextAlignmentRole and key in NUMERIC:
+            return int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
+        if role == Qt.ItemDataRole.ToolTipRole:
+            return self._tooltip(row)
+        if role == Qt.ItemDataRole.ForegroundRole:
+            if row.problem:
+                return QColor(170, 0, 0)
+            if key in NUMERIC and row.stale:
+                return QColor(130, 130, 130)
+            if key == "flags" and row.flagged:
+                return QColor(170, 0, 0)
+        if role == Qt.ItemDataRole.FontRole:
+            if key in NUMERIC and row.stale:
+                f = QFont()
+                f.setItalic(True)
+                return f
+            if key == "status" and row.status == "unread":
+                f = QFont()
+                f.setBold(True)
+                return f
+        return None
+
+    def _value(self, row: ListingRow, key: str) -> float | None:
+        if key == "qtc":
+            return row.qtc_ms(self.qtc_formula)
+        return getattr(row, key)
+
+    def _display(self, row: ListingRow, key: str) -> str:
+        if key in NUMERIC:
+            v = self._value(row, key)
+            return "" if v is None else f"{v:.0f}"
+        if key == "status":
+            return STATUS_TEXT.get(row.status, row.status)
+        if key == "reviewer":
+            return row.reviewer or ""
+        if key == "flags":
+            if row.problem:
+                return "sidecar unreadable"
+            return "; ".join(row.flags)
+        return str(getattr(row, key))
+
+    def _sort_key(self, row: ListingRow, key: str) -> object:
+        if key in NUMERIC:
+            v = self._value(row, key)
+            return math.nan if v is None else float(v)
+        if key == "status":
+            return (
+                ("unread", "in_progress", "signed_off").index(row.status)
+                if row.status in ("unread", "in_progress", "signed_off")
+                else 3
+            )
+        if key == "flags":
+            return len(row.flags)
+        return self._display(row, key).lower()
+
+    @staticmethod
+    def _tooltip(row: ListingRow) -> str:
+        lines = [str(row.path)]
+        if row.problem:
+            lines.append(f"Sidecar problem: {row.problem}")
+        if row.stale:
+            lines.append("Values cached by another engine version; recomputed when opened.")
+        elif row.has_values:
+            lines.append("Values cached by the batch step; recomputed when opened.")
+        else:
+            lines.append("No cached values yet (run the batch step or open the record).")
+        lines += row.flags
+        return "\n".join(lines)
+
+    # --- our API
+    def clear(self) -> None:
+        self.beginResetModel()
+        self._rows = []
+        self._index = {}
+        self.endResetModel()
+
+    def append_rows(self, rows: list[ListingRow]) -> None:
+        if not rows:
+            return
+        first = len(self._rows)
+        self.beginInsertRows(QModelIndex(), first, first + len(rows) - 1)
+        for i, r in enumerate(rows):
+            self._index[r.path] = first + i
+        self._rows.extend(rows)
+        self.endInsertRows()
+
+    def update_row(self, row: ListingRow) -> bool:
+        """Replace the row of ``row.path`` in place (selection and scroll stay)."""
+        i = self._index.get(row.path)
+        if i is None:
+            return False
+        self._rows[i] = row
+        self.dataChanged.emit(self.index(i, 0), self.index(i, len(COLUMNS) - 1))
+        return True
+
+    def row_at(self, i: int) -> ListingRow:
+        return self._rows[i]
+
+    def row_of(self, path: Path) -> int | None:
+        return self._index.get(Path(path))
+
+    def set_qtc_formula(self, formula: str) -> None:
+        self.qtc_formula = formula
+        col = [k for k, _ in COLUMNS].index("qtc")
+        self.headerDataChanged.emit(Qt.Orientation.Horizontal, col, col)
+        if self._rows:
+            self.dataChanged.emit(self.index(0, col), self.index(len(self._rows) - 1, col))
+
+
+class WorklistFilter(QSortFilterProxyModel):
+    """Unread only, flagged only, QTc above a value; empty values sort last either way."""
+
+    def __init__(self, parent: QObject | None = None) -> None:
+        super().__init__(parent)
+        self.unread_only = False
+        self.flagged_only = False
+        self.qtc_above_ms: float | None = None
+        self.setSortRole(SortKeyRole)
+        self.setDynamicSortFilter(True)
+
+    def set_filters(
+        self, *, unread_only: bool, flagged_only: bool, qtc_above_ms: float | None
+    ) -> None:
+        self.unread_only = unread_only
+        self.flagged_only = flagged_only
+        self.qtc_above_ms = qtc_above_ms
+        self.invalidateFilter()
+
+    def filterAcceptsRow(
+        self, source_row: int, source_parent: QModelIndex | QPersistentModelIndex
+    ) -> bool:
+        model = self.sourceModel()
+        assert isinstance(model, WorklistModel)
+        row = model.row_at(source_row)
+        if self.unread_only and row.status != "unread":
+            return False
+        if self.flagged_only and not row.flagged:
+            return False
+        if self.qtc_above_ms is not None:
+            q = row.qtc_ms(model.qtc_formula)
+            if q is None or q <= self.qtc_above_ms:
+                return False
+        return True
+
+    def lessThan(
+        self, left: QModelIndex | QPersistentModelIndex, right: QModelIndex | QPersistentModelIndex
+    ) -> bool:
+        a = left.data(SortKeyRole)
+        b = right.data(SortKeyRole)
+        a_none = isinstance(a, float) and math.isnan(a)
+        b_none = isinstance(b, float) and math.isnan(b)
+        if a_none or b_none:
+            # Qt reverses lessThan for descending order; keep empty values at the bottom.
+            desc = self.sortOrder() == Qt.SortOrder.DescendingOrder
+            if a_none and b_none:
+                return False
+            return (not a_none) != desc
+        try:
+            return a < b  # type: ignore[operator]
+        except TypeError:
+            return str(a) < str(b)
+
+
+class _ScanSignals(QObject):
+    rows = Signal(int, list)  # generation, rows
+    progress = Signal(int, int, int)  # generation, done, total (total 0 = still searching)
+    finished = Signal(int, int)  # generation, n rows
+    failed = Signal(int, str)
+
+
+class _ScanTask(QRunnable):
+    """Lists ``root`` off the GUI thread, emitting rows in chunks."""
+
+    CHUNK_S = 0.1
+    CHUNK_ROWS = 500
+
+    def __init__(self, root: Path, generation: int, engine_version: str | None) -> None:
+        super().__init__()
+        self.setAutoDelete(False)
+        self.root = root
+        self.generation = generation
+        self.engine_version = engine_version
+        self.signals = _ScanSignals()
+        self.cancelled = threading.Event()
+        self.thread_id: int | None = None
+
+    def run(self) -> None:
+        from reviewapp.core.errors import ReviewError
+        from reviewapp.core.io import find_records
+
+        self.thread_id = threading.get_ident()
+        gen = self.generation
+        try:
+            self.signals.progress.emit(gen, 0, 0)
+            paths = find_records(self.root, recursive=True)
+            total = len(paths)
+            self.signals.progress.emit(gen, 0, total)
+            chunk: list[ListingRow] = []
+            last = time.monotonic()
+            for i, p in enumerate(paths):
+                if self.cancelled.is_set():
+                    return
+                chunk.append(listing_row(p, self.root, self.engine_version))
+                now = time.monotonic()
+                if len(chunk) >= self.CHUNK_ROWS or now - last >= self.CHUNK_S:
+                    self.signals.rows.emit(gen, chunk)
+                    self.signals.progress.emit(gen, i + 1, total)
+                    chunk, last = [], now
+            if chunk:
+                self.signals.rows.emit(gen, chunk)
+            self.signals.progress.emit(gen, total, total)
+            self.signals.finished.emit(gen, total)
+        except ReviewError as err:
+            self.signals.failed.emit(gen, str(err))
+        except Exception as err:  # shown in the widget, never a crash of the window
+            self.signals.failed.emit(gen, f"{self.root}: cannot list the folder: {err}")
+
+
+class WorklistWidget(QWidget):
+    """A folder's records; emits ``recordActivated(Path)`` when one is opened."""
+
+    recordActivated = Signal(Path)
+    scanFinished = Signal(int)
+
+    def __init__(self, parent: QWidget | None = None, *, qtc_formula: str = "fridericia") -> None:
+        super().__init__(parent)
+        self.model = WorklistModel(self, qtc_formula)
+        self.proxy = WorklistFilter(self)
+        self.proxy.setSourceModel(self.model)
+        self.root: Path | None = None
+        self._generation = 0
+        self._task: _ScanTask | None = None
+        self._pool = QThreadPool.globalInstance()
+        self._engine_version = _engine_version()
+
+        self.table = QTableView(self)
+        self.table.setModel(self.proxy)
+        self.table.setSortingEnabled(True)
+        self.table.sortByColumn(0, Qt.SortOrder.AscendingOrder)
+        self.table.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
+        self.table.setSelectionMode(QAbstractItemView.SelectionMode.SingleSelection)
+        self.table.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
+        self.table.setAlternatingRowColors(True)
+        self.table.verticalHeader().setVisible(False)
+        self.table.verticalHeader().setDefaultSectionSize(20)
+        header = self.table.horizontalHeader()
+        header.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
+        header.setStretchLastSection(True)
+        self.table.activated.connect(self._on_activated)
+
+        self.unread_box = QCheckBox("Unread only", self)
+        self.flagged_box = QCheckBox("Flagged only", self)
+        self.qtc_box = QCheckBox("QTc above", self)
+        self.qtc_spin = QDoubleSpinBox(self)
+        self.qtc_spin.setRange(200.0, 800.0)
+        self.qtc_spin.setDecimals(0)
+        self.qtc_spin.setSingleStep(10.0)
+        self.qtc_spin.setSuffix(" ms")
+        # Common practice, no source: 450 ms is the usual starting threshold for QTc review.
+        self.qtc_spin.setValue(450.0)
+        for w in (self.unread_box, self.flagged_box, self.qtc_box):
+            w.toggled.connect(self._apply_filters)
+        self.qtc_spin.valueChanged.connect(self._apply_filters)
+        self.count_label = QLabel("", self)
+        self.progress = QProgressBar(self)
+        self.progress.setMaximumHeight(14)
+        self.progress.setTextVisible(True)
+        self.progress.hide()
+
+        bar = QHBoxLayout()
+        bar.addWidget(self.unread_box)
+        bar.addWidget(self.flagged_box)
+        bar.addWidget(self.qtc_box)
+        bar.addWidget(self.qtc_spin)
+        bar.addStretch(1)
+        bar.addWidget(self.count_label)
+        layout = QVBoxLayout(self)
+        layout.setContentsMargins(2, 2, 2, 2)
+        layout.addLayout(bar)
+        layout.addWidget(self.progress)
+        layout.addWidget(self.table, 1)
+
+        ctx = Qt.ShortcutContext.WidgetWithChildrenShortcut
+        for keys, slot in (
+            ("N", self.select_next_unread),
+            ("Shift+N", self.select_previous_unread),
+        ):
+            sc = QShortcut(QKeySequence(keys), self)
+            sc.setContext(ctx)
+            sc.activated.connect(slot)
+
+    # --- folder listing
+    def open_folder(self, folder: str | Path) -> None:
+        """List ``folder`` recursively in the background; previous listing is replaced."""
+        self.cancel_scan()
+        self.root = Path(folder)
+        self._generation += 1
+        self.model.clear()
+        self.progress.setRange(0, 0)
+        self.progress.setFormat("searching for records ...")
+        self.progress.show()
+        task = _ScanTask(self.root, self._generation, self._engine_version)
+        task.signals.rows.connect(self._on_rows)
+        task.signals.progress.connect(self._on_progress)
+        task.signals.finished.connect(self._on_finished)
+        task.signals.failed.connect(self._on_failed)
+        self._task = task
+        self._pool.start(task)
+
+    def cancel_scan(self) -> None:
+        if self._task is not None:
+            self._task.cancelled.set()
+            self._task = None
+
+    def is_scanning(self) -> bool:
+        return self._task is not None
+
+    def _on_rows(self, generation: int, rows: list) -> None:
+        if generation != self._generation:
+            return
+        self.model.append_rows(rows)
+        self._update_count()
+
+    def _on_progress(self, generation: int, done: int, total: int) -> None:
+        if generation != self._generation:
+            return
+        if total == 0:
+            self.progress.setRange(0, 0)
+            return
+        self.progress.setRange(0, total)
+        self.progress.setValue(done)
+        self.progress.setFormat("listing %v of %m records")
+
+    def _on_finished(self, generation: int, n: int) -> None:
+        if generation != self._generation:
+            return
+        self._task = None
+        self.progress.hide()
+        self._update_count()
+        self.scanFinished.emit(n)
+
+    def _on_failed(self, generation: int, message: str) -> None:
+        if generation != self._generation:
+            return
+        self._task = None
+        self.progress.hide()
+        self.count_label.setText(message)
+        self.scanFinished.emit(-1)
+
+    def _update_count(self) -> None:
+        shown, total = self.proxy.rowCount(), self.model.rowCount()
+        unread = sum(1 for i in range(total) if self.model.row_at(i).status == "unread")
+        text = f"{total} records, {unread} unread"
+        if shown != total:
+            text += f" ({shown} shown)"
+        self.count_label.setText(text)
+
+    # --- filters
+    def _apply_filters(self) -> None:
+        self.proxy.set_filters(
+            unread_only=self.unread_box.isChecked(),
+            flagged_only=self.flagged_box.isChecked(),
+            qtc_above_ms=self.qtc_spin.value() if self.qtc_box.isChecked() else None,
+        )
+        self._update_count()
+
+    def set_filters(
+        self,
+        *,
+        unread_only: bool = False,
+        flagged_only: bool = False,
+        qtc_above_ms: float | None = None,
+    ) -> None:
+        """Set the filter controls (and so the filter) programmatically."""
+        for box in (self.unread_box, self.flagged_box, self.qtc_box, self.qtc_spin):
+            box.blockSignals(True)
+        self.unread_box.setChecked(unread_only)
+        self.flagged_box.setChecked(flagged_only)
+        self.qtc_box.setChecked(qtc_above_ms is not None)
+        if qtc_above_ms is not None:
+            self.qtc_spin.setValue(qtc_above_ms)
+        for box in (self.unread_box, self.flagged_box, self.qtc_box, self.qtc_spin):
+            box.blockSignals(False)
+        self._apply_filters()
+
+    # --- navigation
+    def current_path(self) -> Path | None:
+        idx = self.table.currentIndex()
+        if not idx.isValid():
+            return None
+        return Path(idx.siblingAtColumn(0).data(PathRole))
+
+    def visible_paths(self) -> list[Path]:
+        return [Path(self.proxy.index(r, 0).data(PathRole)) for r in range(self.proxy.rowCount())]
+
+    def select_path(self, path: Path) -> bool:
+        i = self.model.row_of(Path(path))
+        if i is None:
+            return False
+        pidx = self.proxy.mapFromSource(self.model.index(i, 0))
+        if not pidx.isValid():
+            return False
+        self._select_proxy_row(pidx.row())
+        return True
+
+    def _select_proxy_row(self, r: int) -> None:
+        idx = self.proxy.index(r, 0)
+        self.table.setCurrentIndex(idx)
+        self.table.selectRow(r)
+        self.table.scrollTo(idx, QAbstractItemView.ScrollHint.EnsureVisible)
+
+    def _step_unread(self, step: int, activate: bool) -> Path | None:
+        n = self.proxy.rowCount()
+        if n == 0:
+            return None
+        cur = self.table.currentIndex()
+        start = cur.row() if cur.isValid() else (-1 if step > 0 else n)
+        r = start + step
+        while 0 <= r < n:
+            row = self.proxy.index(r, 0).data(RowRole)
+            if row.status == "unread":
+                self._select_proxy_row(r)
+                if activate:
+                    self.recordActivated.emit(row.path)
+                return row.path
+            r += step
+        return None
+
+    def select_next_unread(self, activate: bool = True) -> Path | None:
+        """Move to (and open) the next unread record below the current one."""
+        return self._step_unread(+1, activate)
+
+    def select_previous_unread(self, activate: bool = True) -> Path | None:
+        return self._step_unread(-1, activate)
+
+    def _on_activated(self, index: QModelIndex) -> None:
+        path = index.siblingAtColumn(0).data(PathRole)
+        if path:
+            self.recordActivated.emit(Path(path))
+
+    def refresh_record(self, path: str | Path) -> None:
+        """Re-read one record's sidecar (after the window saved); the list keeps its place."""
+        path = Path(path)
+        if self.model.row_of(path) is None:
+            return
+        self.model.update_row(listing_row(path, self.root, self._engine_version))
+        self._update_count()
+
+    def closeEvent(self, event) -> None:  # type: ignore[no-untyped-def]
+        self.cancel_scan()
+        super().closeEvent(event)
+
+
+def _engine_version() -> str | None:
+    try:
+        from reviewapp.core.engine import ENGINE_VERSION
+    except ImportError:
+        return None
+    return ENGINE_VERSION

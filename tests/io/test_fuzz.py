@@ -1,0 +1,429 @@
+"""Property-based fuzzing of every reader with mutated copies of REAL files.
+
+Seeds: LUDB record 1 and MIT-BIH record 100 (PhysioNet, via the shared_data fixture, trimmed
+to a few seconds in tmp), pydicom's waveform_ecg.dcm test file (trimmed), the hand-written aECG
+fixture, and a CSV and an EDF+ file written from LUDB record 1. Mutations: truncation, byte
+flips, insertions, deletions, and edits of header fields / XML attributes / DICOM elements.
+
+Property: ``open_record`` either returns a valid Record (finite fs > 0, consistent shapes,
+window reads work) or raises RecordError naming a file in the test folder. Any other
+exception, or a hang, is a reader bug.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+import signal
+import tempfile
+from collections import Counter
+from collections.abc import Callable, Iterator
+from datetime import timedelta
+from pathlib import Path
+
+import numpy as np
+import pydicom
+import pytest
+import wfdb
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+from pydicom.data import get_testdata_file
+
+from reviewapp.core.errors import RecordError
+from reviewapp.core.io import open_record
+
+FUZZ_COUNTS: Counter[str] = Counter()
+# Per-example wall-clock limit: opening any of these small files takes milliseconds, so
+# seconds mean a hang (an endless loop or a huge allocation).
+HANG_LIMIT_S = 20.0
+FUZZ_SETTINGS = dict(
+    deadline=timedelta(seconds=10),
+    derandomize=True,  # the same inputs every run: CI stays reproducible
+    database=None,
+    suppress_health_check=[HealthCheck.too_slow, HealthCheck.function_scoped_fixture],
+)
+
+
+class Hang(BaseException):
+    """Raised by the alarm; BaseException so no reader's error wrapping can swallow it."""
+
+
+def _on_alarm(signum, frame):
+    raise Hang(f"open_record did not return within {HANG_LIMIT_S} s")
+
+
+def check_outcome(path: Path, folder: Path, **kw) -> str:
+    """Open ``path``; assert the property; return "ok" or "error"."""
+    old = signal.signal(signal.SIGALRM, _on_alarm)
+    signal.setitimer(signal.ITIMER_REAL, HANG_LIMIT_S)
+    try:
+        try:
+            rec = open_record(path, **kw)
+            assert math.isfinite(rec.fs_hz) and rec.fs_hz > 0
+            n = rec.n_samples
+            assert n > 0 and rec.n_leads == len(rec.leads) == rec.source.n_leads
+            for a, b in ((0, min(n, 64)), (max(n - 32, 0), n), (n // 2, n // 2 + 7)):
+                w = rec.window(a, b)
+                assert w.shape == (min(b, n) - a, rec.n_leads) and w.dtype == np.float32
+            return "ok"
+        except RecordError as err:
+            assert err.path is not None, f"RecordError without a file: {err}"
+            assert err.path.resolve().parent == folder.resolve(), str(err)
+            assert err.path.name in str(err)
+            return "error"
+    finally:
+        signal.setitimer(signal.ITIMER_REAL, 0)
+        signal.signal(signal.SIGALRM, old)
+
+
+# ---------------------------------------------------------------- mutation strategies
+
+
+@st.composite
+def byte_mutations(draw, size: int) -> list[tuple]:
+    ops = []
+    for _ in range(draw(st.integers(1, 4))):
+        kind = draw(st.sampled_from(["truncate", "flip", "insert", "delete", "zero"]))
+        pos = draw(st.integers(0, max(size - 1, 0)))
+        if kind == "flip":
+            ops.append((kind, pos, draw(st.integers(1, 255))))
+        elif kind == "insert":
+            ops.append((kind, pos, draw(st.binary(min_size=1, max_size=16))))
+        elif kind in ("delete", "zero"):
+            ops.append((kind, pos, draw(st.integers(1, 64))))
+        else:
+            ops.append((kind, pos, None))
+    return ops
+
+
+def apply_bytes(data: bytes, ops: list[tuple]) -> bytes:
+    buf = bytearray(data)
+    for kind, pos, arg in ops:
+        pos = min(pos, len(buf))
+        if kind == "truncate":
+            del buf[pos:]
+        elif kind == "flip" and pos < len(buf):
+            buf[pos] ^= arg
+        elif kind == "insert":
+            buf[pos:pos] = arg
+        elif kind == "delete":
+            del buf[pos : pos + arg]
+        elif kind == "zero":
+            buf[pos : pos + arg] = bytes(len(buf[pos : pos + arg]))
+    return bytes(buf)
+
+
+NASTY_VALUES = [
+    "0",
+    "-1",
+    "-500",
+    "1e308",
+    "nan",
+    "inf",
+    "",
+    "abc",
+    "99999999999",
+    "999999999999999999999999",
+    "0.000001",
+    "16",
+    "212",
+    "8",
+    "80",
+    "24",
+    "310",
+    "1/0",
+    "(",
+    ")",
+    "/",
+    "#",
+    "-0",
+    "2147483648",
+    "1.5",
+    "\u00e9",
+    "mV",
+    "uV",
+    "V",
+    "x" * 300,
+]
+token_values = st.one_of(
+    st.sampled_from(NASTY_VALUES),
+    st.integers(-(2**40), 2**40).map(str),
+    st.floats(allow_nan=True, allow_infinity=True).map(repr),
+    st.text(max_size=12),
+)
+
+
+@st.composite
+def token_edits(draw, n_tokens: int) -> list[tuple[int, str]]:
+    k = draw(st.integers(1, 3))
+    return [(draw(st.integers(0, max(n_tokens - 1, 0))), draw(token_values)) for _ in range(k)]
+
+
+def apply_token_edits(text: str, edits: list[tuple[int, str]], pattern: str = r"(\s+)") -> str:
+    parts = re.split(pattern, text)
+    slots = [i for i, p in enumerate(parts) if p and not re.fullmatch(pattern, p)]
+    for idx, value in edits:
+        if slots:
+            parts[slots[idx % len(slots)]] = value
+    return "".join(parts)
+
+
+# ---------------------------------------------------------------- seeds (real files)
+
+
+@pytest.fixture(scope="module")
+def seeds(shared_data: Path, tmp_path_factory) -> dict[str, Path]:
+    root = tmp_path_factory.mktemp("fuzz_seeds")
+    out: dict[str, Path] = {}
+    # LUDB record 1, trimmed to 2 s (12 leads, format 16): header + data, sig_len edited.
+    n = 1000
+    text = (shared_data / "ludb" / "1.hea").read_text().replace("1 12 500 5000", f"1 12 500 {n}")
+    (root / "1.hea").write_text(text)
+    (root / "1.dat").write_bytes((shared_data / "ludb" / "1.dat").read_bytes()[: n * 12 * 2])
+    out["ludb"] = root / "1.hea"
+    # MIT-BIH 100, 5 s (format 212: 3 bytes per frame of 2 samples), sig_len edited.
+    n = 1800
+    text = (shared_data / "mitdb" / "100.hea").read_text().replace("650000", str(n))
+    (root / "100.hea").write_text(text)
+    (root / "100.dat").write_bytes((shared_data / "mitdb" / "100.dat").read_bytes()[: n * 3])
+    out["mit"] = root / "100.hea"
+    # pydicom's waveform_ecg.dcm, each multiplex group trimmed to 300 samples.
+    src = get_testdata_file("waveform_ecg.dcm")
+    if src is not None:
+        ds = pydicom.dcmread(src)
+        for g in ds.WaveformSequence:
+            keep = 300 * int(g.NumberOfWaveformChannels) * int(g.WaveformBitsAllocated) // 8
+            g.WaveformData = bytes(g.WaveformData)[:keep]
+            g.NumberOfWaveformSamples = 300
+        ds.save_as(root / "ecg.dcm")
+        out["dicom"] = root / "ecg.dcm"
+    out["aecg"] = Path(__file__).parent / "fixtures" / "small_aecg.xml"
+    # CSV and EDF+ written from LUDB record 1 (3 leads, 1 s).
+    rec = wfdb.rdrecord(str(shared_data / "ludb" / "1"), sampto=500, channels=[0, 1, 6])
+    t = np.arange(500) / 500
+    np.savetxt(
+        root / "ludb.csv",
+        np.column_stack([t, rec.p_signal]),
+        delimiter=",",
+        header="time_s,I [mV],II [mV],V1 [mV]",
+        comments="",
+        fmt="%.6g",
+    )
+    out["csv"] = root / "ludb.csv"
+    from pyedflib import highlevel
+
+    headers = [
+        highlevel.make_signal_header(
+            f"ECG {n}", dimension="mV", sample_frequency=500, physical_min=-5, physical_max=5
+        )
+        for n in ("I", "II", "V1")
+    ]
+    highlevel.write_edf(
+        str(root / "ludb.edf"), [np.ascontiguousarray(c) for c in rec.p_signal.T], headers
+    )
+    out["edf"] = root / "ludb.edf"
+    return out
+
+
+@pytest.fixture(scope="module", autouse=True)
+def report_counts(request) -> Iterator[None]:
+    yield
+    total = sum(FUZZ_COUNTS.values())
+    line = f"fuzz: {total} mutated inputs opened ({dict(FUZZ_COUNTS)})"
+    reporter = request.config.pluginmanager.get_plugin("terminalreporter")
+    if reporter is not None:
+        reporter.write_line(line)
+    print(line)
+
+
+def _case(files: dict[str, bytes], name: str, main: str) -> str:
+    """Write ``files`` into a fresh folder and open ``main`` there."""
+    with tempfile.TemporaryDirectory(prefix="fuzz_") as d:
+        folder = Path(d)
+        for fname, data in files.items():
+            (folder / fname).write_bytes(data)
+        outcome = check_outcome(folder / main, folder)
+    FUZZ_COUNTS[name] += 1
+    FUZZ_COUNTS[f"outcome:{outcome}"] += 1
+    return outcome
+
+
+# ---------------------------------------------------------------- the properties
+
+
+def _wfdb_files(seed: Path) -> dict[str, bytes]:
+    stem = seed.stem
+    return {p.name: p.read_bytes() for p in seed.parent.glob(f"{stem}.*")}
+
+
+@settings(max_examples=350, **FUZZ_SETTINGS)
+@given(data=st.data())
+def test_fuzz_wfdb_header_fields_ludb(seeds, data) -> None:
+    files = _wfdb_files(seeds["ludb"])
+    text = files["1.hea"].decode()
+    edits = data.draw(token_edits(len(text.split())))
+    files["1.hea"] = apply_token_edits(text, edits).encode("utf-8", "replace")
+    _case(files, "wfdb_header_ludb", "1.hea")
+
+
+@settings(max_examples=250, **FUZZ_SETTINGS)
+@given(data=st.data())
+def test_fuzz_wfdb_bytes_ludb(seeds, data) -> None:
+    files = _wfdb_files(seeds["ludb"])
+    target = data.draw(st.sampled_from(["1.hea", "1.dat"]))
+    files[target] = apply_bytes(files[target], data.draw(byte_mutations(len(files[target]))))
+    _case(files, "wfdb_bytes_ludb", "1.hea")
+
+
+@settings(max_examples=300, **FUZZ_SETTINGS)
+@given(data=st.data())
+def test_fuzz_wfdb_mit_header_and_212_data(seeds, data) -> None:
+    files = _wfdb_files(seeds["mit"])
+    if data.draw(st.booleans()):
+        text = files["100.hea"].decode()
+        files["100.hea"] = apply_token_edits(
+            text, data.draw(token_edits(len(text.split())))
+        ).encode("utf-8", "replace")
+    else:
+        target = data.draw(st.sampled_from(["100.hea", "100.dat"]))
+        files[target] = apply_bytes(files[target], data.draw(byte_mutations(len(files[target]))))
+    _case(files, "wfdb_mit", "100.hea")
+
+
+@settings(max_examples=250, **FUZZ_SETTINGS)
+@given(data=st.data())
+def test_fuzz_dicom_bytes(seeds, data) -> None:
+    if "dicom" not in seeds:
+        pytest.skip("pydicom test file not available")
+    raw = seeds["dicom"].read_bytes()
+    mutated = apply_bytes(raw, data.draw(byte_mutations(len(raw))))
+    _case({"ecg.dcm": mutated}, "dicom_bytes", "ecg.dcm")
+
+
+DICOM_ELEMENTS: dict[str, Callable] = {
+    "NumberOfWaveformSamples": st.integers(-5, 2**32 - 1),
+    "NumberOfWaveformChannels": st.integers(0, 2**16 - 1),
+    "SamplingFrequency": st.sampled_from(["0", "-500", "1e300", "500", "0.001", "nan", "abc"]),
+    "WaveformBitsAllocated": st.sampled_from([0, 1, 8, 12, 16, 32, 64]),
+    "WaveformSampleInterpretation": st.sampled_from(["SS", "US", "SB", "UB", "MB", "AB", "XX"]),
+}
+CHANNEL_ELEMENTS = {
+    "ChannelSensitivity": st.sampled_from(["0", "-1.25", "1e308", "nan", "abc", "", "2.5"]),
+    "ChannelSensitivityCorrectionFactor": st.sampled_from(["0", "1", "inf", "-2", ""]),
+    "ChannelBaseline": st.sampled_from(["0", "-1e308", "nan", "7.5", ""]),
+}
+
+
+@settings(max_examples=250, **FUZZ_SETTINGS)
+@given(data=st.data())
+def test_fuzz_dicom_elements(seeds, data, tmp_path_factory) -> None:
+    if "dicom" not in seeds:
+        pytest.skip("pydicom test file not available")
+    ds = pydicom.dcmread(seeds["dicom"])
+    group = ds.WaveformSequence[data.draw(st.integers(0, len(ds.WaveformSequence) - 1))]
+    if data.draw(st.booleans()):
+        key = data.draw(st.sampled_from(sorted(DICOM_ELEMENTS)))
+        setattr(group, key, data.draw(DICOM_ELEMENTS[key]))
+    else:
+        ch = group.ChannelDefinitionSequence[data.draw(st.integers(0, 11))]
+        key = data.draw(st.sampled_from(sorted(CHANNEL_ELEMENTS)))
+        setattr(ch, key, data.draw(CHANNEL_ELEMENTS[key]))
+        if data.draw(st.booleans()):
+            ch.ChannelSensitivityUnitsSequence[0].CodeValue = data.draw(
+                st.sampled_from(["uV", "mV", "V", "mmHg", "", "%"])
+            )
+    with tempfile.TemporaryDirectory() as d:
+        try:
+            ds.save_as(Path(d) / "x.dcm")
+        except Exception:
+            return
+        raw = (Path(d) / "x.dcm").read_bytes()
+    _case({"ecg.dcm": raw}, "dicom_elements", "ecg.dcm")
+
+
+_EDITABLE = re.compile(r'(?:value|unit|code)="([^"]*)"|<digits>([^<]*)<')
+
+
+def _editable_spans(text: str) -> list[tuple[int, int]]:
+    """Spans of attribute values (value/unit/code) and digit lists in an aECG file."""
+    return [m.span(1) if m.group(1) is not None else m.span(2) for m in _EDITABLE.finditer(text)]
+
+
+@settings(max_examples=350, **FUZZ_SETTINGS)
+@given(data=st.data())
+def test_fuzz_aecg(seeds, data) -> None:
+    text = seeds["aecg"].read_text()
+    how = data.draw(st.sampled_from(["attr", "token", "bytes"]))
+    if how == "attr":
+        # Edit attribute values (increment, scale, origin, codes, units) and digit lists.
+        for idx, value in data.draw(token_edits(len(_editable_spans(text)))):
+            spans = _editable_spans(text)
+            a, b = spans[idx % len(spans)]
+            text = text[:a] + value.replace('"', "").replace("<", "") + text[b:]
+        raw = text.encode("utf-8", "replace")
+    elif how == "token":
+        raw = apply_token_edits(text, data.draw(token_edits(len(text.split())))).encode()
+    else:
+        raw = apply_bytes(text.encode(), data.draw(byte_mutations(len(text))))
+    _case({"ecg.xml": raw}, "aecg", "ecg.xml")
+
+
+@settings(max_examples=300, **FUZZ_SETTINGS)
+@given(data=st.data())
+def test_fuzz_csv(seeds, data) -> None:
+    text = seeds["csv"].read_text()
+    if data.draw(st.booleans()):
+        raw = apply_token_edits(text, data.draw(token_edits(len(text.split(",")))), r"([,\n])")
+        raw = raw.encode("utf-8", "replace")
+    else:
+        raw = apply_bytes(text.encode(), data.draw(byte_mutations(len(text))))
+    kw = data.draw(st.sampled_from([{}, {"fs_hz": 500.0}, {"units": "uV"}]))
+    with tempfile.TemporaryDirectory() as d:
+        folder = Path(d)
+        (folder / "ecg.csv").write_bytes(raw)
+        outcome = check_outcome(folder / "ecg.csv", folder, **kw)
+    FUZZ_COUNTS["csv"] += 1
+    FUZZ_COUNTS[f"outcome:{outcome}"] += 1
+
+
+@settings(max_examples=200, **FUZZ_SETTINGS)
+@given(data=st.data())
+def test_fuzz_edf(seeds, data) -> None:
+    raw = seeds["edf"].read_bytes()
+    if data.draw(st.booleans()):
+        # Edit a header field (the first 256 + 3 * 256 bytes are ASCII fields).
+        pos = data.draw(st.integers(0, 1023))
+        field = data.draw(st.text(alphabet="0123456789 .-+eEabc", min_size=1, max_size=8))
+        buf = bytearray(raw)
+        buf[pos : pos + len(field)] = field.encode()
+        raw = bytes(buf)
+    else:
+        raw = apply_bytes(raw, data.draw(byte_mutations(len(raw))))
+    _case({"ecg.edf": raw}, "edf", "ecg.edf")
+
+
+def test_fuzz_seeds_open_cleanly(seeds) -> None:
+    """The unmutated seeds are valid records (so mutations start from real, readable files)."""
+    for key, path in seeds.items():
+        rec = open_record(path)
+        assert rec.n_samples > 0, key
+
+
+def test_zz_fuzz_total(request) -> None:
+    """At least 2,000 mutated inputs across the suite (when every fuzz test above ran)."""
+    names = {
+        "wfdb_header_ludb",
+        "wfdb_bytes_ludb",
+        "wfdb_mit",
+        "dicom_bytes",
+        "dicom_elements",
+        "aecg",
+        "csv",
+        "edf",
+    }
+    if not names <= {k for k, v in FUZZ_COUNTS.items() if v > 0}:
+        pytest.skip("not every fuzz test ran in this session")
+    total = sum(FUZZ_COUNTS[n] for n in names)
+    assert total >= 2000, FUZZ_COUNTS
+    # Both outcomes must occur, or the mutations are too weak (or too strong) to test anything.
+    assert FUZZ_COUNTS["outcome:ok"] > 0 and FUZZ_COUNTS["outcome:error"] > 0, FUZZ_COUNTS

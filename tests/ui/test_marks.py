@@ -1,0 +1,117 @@
+"""Dragging a fiducial mark corrects it: intervals, QTc and findings recompute at once."""
+
+from __future__ import annotations
+
+import math
+
+import pytest
+from PySide6 import QtCore
+
+from tests.ui.test_calipers import drag
+
+L = QtCore.Qt.MouseButton.LeftButton
+
+
+def _median_drag(w, qtbot, fid: str, dx_px: int) -> tuple[int, int]:
+    """Drag the median-beat line of ``fid`` sideways by ``dx_px`` pixels with the mouse (past
+    pyqtgraph's drag threshold); return (expected window sample under the release point, the
+    sample the mark landed on)."""
+    w.show_median(True)
+    qtbot.wait(20)
+    mv = w.median
+    start = mv.line_point(fid, plot_index=1, frac_y=0.3)
+    end = QtCore.QPoint(start.x() + dx_px, start.y())
+    drag(qtbot, mv.viewport(), start, end, steps=8)
+    vb = mv.plots[1].getViewBox()
+    x0 = vb.mapSceneToView(mv.mapToScene(start)).x()
+    x1 = vb.mapSceneToView(mv.mapToScene(end)).x()
+    rep = w.session.reading.marked.representative
+    return rep.marks.get(fid), round((x1 - x0) / 1000.0 * w.record.fs_hz)
+
+
+def test_dragging_t_end_changes_qt_by_n_over_fs(loaded, qtbot):
+    w = loaded
+    fs = w.record.fs_hz
+    before = w.session.reading.measurements.intervals
+    assert before.qt_ms is not None and before.rr_ms is not None
+    k0 = w.session.reading.marked.representative.marks.t_off
+    k1, expected_n = _median_drag(w, qtbot, "t_off", 40)
+    n = k1 - k0
+    assert n != 0 and abs(n - expected_n) <= 1  # landed where the mouse let go (snapped)
+    after = w.session.reading.measurements.intervals
+    # QT changes by exactly N / fs; QTc follows its published formula on the new QT.
+    assert after.qt_ms - before.qt_ms == pytest.approx(n / fs * 1000.0, abs=1e-6)
+    rr_s = after.rr_ms / 1000.0
+    # Bazett, Heart 7:353-370, 1920: QTc = QT / sqrt(RR); Fridericia, 1920: QT / RR^(1/3).
+    assert after.qtc_bazett_ms == pytest.approx(after.qt_ms / math.sqrt(rr_s), rel=1e-9)
+    assert after.qtc_fridericia_ms == pytest.approx(after.qt_ms / rr_s ** (1 / 3), rel=1e-9)
+    # The summary shows the new value, and the mark is now drawn as corrected.
+    assert w.summary.value_text("qt_ms") == f"{after.qt_ms:.0f} ms"
+    assert w.session.is_corrected("representative", "t_off")
+    qtbot.wait(20)
+    line = w.median.lines["t_off"][0]
+    assert line.pen.style() == QtCore.Qt.PenStyle.DashLine
+    assert line.label is not None and "◆" in line.label.format
+    # Undo restores the automatic mark and the automatic QT.
+    w.session.undo_stack.undo()
+    assert w.session.reading.measurements.intervals.qt_ms == pytest.approx(before.qt_ms)
+    w.session.undo_stack.redo()
+    assert w.session.reading.measurements.intervals.qt_ms == pytest.approx(after.qt_ms)
+    # Reset all to automatic.
+    w.session.reset_all()
+    assert not w.session.overrides()
+    assert w.session.reading.measurements.intervals.qt_ms == pytest.approx(before.qt_ms)
+
+
+@pytest.mark.parametrize(("fid", "interval", "sign"), [("qrs_on", "qrs_ms", -1), ("p_on", "pr_ms", -1)])
+def test_dragging_onsets_changes_qrs_and_pr(loaded, qtbot, fid, interval, sign):
+    w = loaded
+    fs = w.record.fs_hz
+    before = getattr(w.session.reading.measurements.intervals, interval)
+    k0 = w.session.reading.marked.representative.marks.get(fid)
+    k1, expected_n = _median_drag(w, qtbot, fid, -30)
+    n = k1 - k0
+    assert n < 0 and abs(n - expected_n) <= 1
+    after = getattr(w.session.reading.measurements.intervals, interval)
+    # Moving an onset earlier by N samples lengthens the interval by N / fs.
+    assert after - before == pytest.approx(sign * n / fs * 1000.0, abs=1e-6)
+
+
+def test_beat_mark_drag_on_paper_changes_that_beats_qt(loaded, qtbot):
+    w = loaded
+    w.set_layout("12x1")
+    qtbot.wait(20)
+    fs = w.record.fs_hz
+    mark = next(m for m in w.paper.marks if m.fiducial == "t_off" and m.beat_index == 3)
+    beat_r = w.session.analysis.beats[3].r
+    qt0 = _beat_qt(w, beat_r)
+    s0 = mark.sample
+    g = w.paper.geom
+    top, bottom = mark._bands[0]
+    y = top + 0.5 * (bottom - top)
+    start = w.paper.map_to_viewport(g.x_of_sample(s0), y).toPoint()
+    end = w.paper.map_to_viewport(g.x_of_sample(s0 + 30), y).toPoint()
+    drag(qtbot, w.paper.viewport(), start, end)
+    qtbot.wait(20)
+    s1 = w.session.reading.marked.beat_marks[3].t_off
+    assert s1 != s0 and abs(s1 - (s0 + 30)) <= 3
+    assert w.session.is_corrected("beat", "t_off", beat_r)
+    if qt0 is not None:
+        assert _beat_qt(w, beat_r) - qt0 == pytest.approx((s1 - s0) / fs * 1000.0, abs=1e-6)
+    # The corrected mark is drawn dashed with a glyph (not colour alone).
+    redrawn = next(m for m in w.paper.marks if m.fiducial == "t_off" and m.beat_index == 3)
+    assert redrawn.corrected and redrawn._pen.style() == QtCore.Qt.PenStyle.DashLine
+    # Double-click resets it to automatic.
+    p = w.paper.map_to_viewport(g.x_of_sample(s1), y).toPoint()
+    qtbot.mouseDClick(w.paper.viewport(), L, pos=p)
+    qtbot.wait(20)
+    assert not w.session.is_corrected("beat", "t_off", beat_r)
+    assert w.session.reading.marked.beat_marks[3].t_off == s0
+
+
+def _beat_qt(w, beat_r):
+    fs = w.record.fs_hz
+    for b in w.session.reading.measurements.beats:
+        if round(b.r_s * fs) == beat_r:
+            return b.qt_ms
+    return None
