@@ -28,9 +28,10 @@ class RecordOutcome:
     status: str | None = None  # reading status in the sidecar
     reviewer: str | None = None
     summary: CachedSummary | None = None
-    seconds: float = 0.0
+    seconds: float = 0.0  # wall time on the worker
     error: str = ""
     note: str = ""
+    cpu_seconds: float = 0.0  # CPU time of the worker process on this record
 
 
 def engine_version() -> str:
@@ -60,6 +61,7 @@ def process_record(path: str, force: bool = False) -> RecordOutcome:
     marks and the listing cache).
     """
     t0 = time.perf_counter()
+    c0 = time.process_time()
     p = Path(path)
     name = p.stem
     view = None
@@ -74,6 +76,7 @@ def process_record(path: str, force: bool = False) -> RecordOutcome:
             summary,
             time.perf_counter() - t0,
             **kw,
+            cpu_seconds=time.process_time() - c0,
         )
 
     try:

@@ -164,7 +164,14 @@ class LinearSource:
 
     def read(self, start: int, stop: int) -> np.ndarray:
         x = self.base.read(start, stop)
-        return (x @ self.matrix).astype(np.float32, copy=False)
+        gaps = np.isnan(x)
+        if not gaps.any():
+            return (x @ self.matrix).astype(np.float32, copy=False)
+        # NaN * 0 is NaN: a gap in one lead must not blank the leads that do not use it.
+        out = (np.where(gaps, np.float32(0), x) @ self.matrix).astype(np.float32, copy=False)
+        uses = (self.matrix != 0).astype(np.float32)
+        out[(gaps.astype(np.float32) @ uses) > 0] = np.nan
+        return out
 
 
 # Records longer than this are not loaded whole by ``signal_mv`` unless asked; readers may

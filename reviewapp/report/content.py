@@ -6,7 +6,7 @@ overrides; nothing measured is read from the sidecar.
 
 from __future__ import annotations
 
-from collections.abc import Iterable, Sequence
+from collections.abc import Iterable
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -211,14 +211,3 @@ def load_report_content(path: Path, reviewer: str | None = None) -> ReportConten
         reviewer=chosen.reviewer,
         signed_off_at=chosen.signed_off_at,
     )
-
-
-def final_fiducials_s(content: ReportContent) -> dict[str, Sequence[float]]:
-    """Final (effective) global beat fiducials in seconds from record start, per fiducial."""
-    fs = content.fs_hz
-    out: dict[str, list[float]] = {f: [] for f in FIDUCIALS}
-    for row in content.beat_marks:
-        for m in row:
-            if m.final is not None:
-                out[m.fiducial].append(m.final / fs)
-    return out

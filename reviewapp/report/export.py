@@ -21,12 +21,16 @@ MM_PER_INCH = 25.4
 
 
 def _ensure_gui() -> None:
-    """Fonts need a QGuiApplication; headless exports run on the offscreen platform."""
-    from PySide6.QtGui import QGuiApplication
+    """Fonts need a Qt application; headless exports run on the offscreen platform.
 
-    if QGuiApplication.instance() is None:
+    A QApplication (not a bare QGuiApplication), so that widgets created later in the same
+    process (the window, tests) still work.
+    """
+    from PySide6.QtWidgets import QApplication
+
+    if QApplication.instance() is None:
         os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
-        _ensure_gui.app = QGuiApplication([])  # type: ignore[attr-defined]
+        _ensure_gui.app = QApplication([])  # type: ignore[attr-defined]
 
 
 def write_pdf(path: Path, content: ReportContent, layout: PageLayout | None = None) -> PageLayout:

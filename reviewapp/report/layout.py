@@ -11,6 +11,8 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
+from reviewapp.core.record import STANDARD_12
+
 # ISO 216 A4 and ANSI Letter, portrait width x height in mm (landscape swaps them).
 PAPER_MM = {"a4": (210.0, 297.0), "letter": (215.9, 279.4)}
 
@@ -20,6 +22,7 @@ LAYOUT_3X4 = (
     ("III", "aVF", "V3", "V6"),
 )
 RHYTHM_LEAD = "II"
+__all__ = ["LAYOUT_3X4", "RHYTHM_LEAD", "STANDARD_12", "PageLayout", "Rect", "page_layout"]
 
 TRACE_WIDTH_MM = 250.0
 MINOR_MM = 1.0
@@ -104,7 +107,7 @@ def page_layout(
     top = (height - block_h) / 2.0
     left = (width - grid_w) / 2.0
     header = Rect(left, top, grid_w, header_h)
-    beat_w = 40.0
+    beat_w = 50.0
     beat_panel = Rect(header.right - beat_w, top + 1.0, beat_w, header_h - 2.0)
     grid = Rect(left, header.bottom + gap, grid_w, grid_h)
     baselines = tuple(grid.y + b for b in (25.0, 60.0, 95.0, 130.0))

@@ -24,6 +24,7 @@ from reviewapp.report.layout import (
     MAJOR_MM,
     MINOR_MM,
     RHYTHM_LEAD,
+    STANDARD_12,
     TRACE_WIDTH_MM,
     PageLayout,
     Rect,
@@ -148,7 +149,7 @@ def paint_page(
     """Paint the whole page; the device origin must be the sheet's top-left corner."""
     c = _Canvas(painter, px_per_mm)
     _draw_grid(c, layout.grid)
-    _draw_calibration(c, layout)
+    _draw_calibration(c, layout, _used_rows(content))
     _draw_leads(c, layout, content)
     _draw_header(c, layout, content)
     _draw_beat_panel(c, layout, content)
@@ -174,7 +175,18 @@ def _draw_grid(c: _Canvas, g: Rect) -> None:
         c.lines(segs)
 
 
-def _draw_calibration(c: _Canvas, lo: PageLayout) -> None:
+def is_standard_12(content: ReportContent) -> bool:
+    """Enough standard leads for the 3 x 4 layout; otherwise each lead gets a full strip."""
+    return sum(n in content.record.lead_names for n in STANDARD_12) >= 8
+
+
+def _used_rows(content: ReportContent) -> tuple[int, ...]:
+    if is_standard_12(content):
+        return (0, 1, 2, 3)
+    return tuple(range(min(4, content.record.n_leads)))
+
+
+def _draw_calibration(c: _Canvas, lo: PageLayout, rows: tuple[int, ...]) -> None:
     pulse_w = CAL_PULSE_S * lo.speed_mm_per_s
     h = CAL_PULSE_MV * lo.gain_mm_per_mv
     x0 = lo.grid.x + 1.0
@@ -182,7 +194,7 @@ def _draw_calibration(c: _Canvas, lo: PageLayout) -> None:
     x2 = x1 + pulse_w
     x3 = lo.trace_x0_mm - 1.0
     c.pen(TRACE, 0.25)
-    for base in lo.row_baselines_mm:
+    for base in (lo.row_baselines_mm[r] for r in rows):
         xs = np.array([x0, x1, x1, x2, x2, x3])
         ys = np.array([base, base, base - h, base - h, base, base])
         c.polyline(xs, ys)
@@ -215,6 +227,24 @@ def _draw_leads(c: _Canvas, lo: PageLayout, content: ReportContent) -> None:
     col_s = lo.column_s
     col_w = TRACE_WIDTH_MM / 4.0
     duration = content.record.duration_s
+    if not is_standard_12(content):
+        # Not a standard 12-lead (e.g. two Holter-style leads): each lead, full width.
+        for r in _used_rows(content):
+            lead = content.record.leads[r]
+            c.pen(TRACE, 0.22)
+            _trace(c, lo, content, r, r, 0.0, min(lo.shown_s, duration))
+            label = lead.name + (" (derived)" if lead.derived else "")
+            c.text(
+                lo.trace_x0_mm + 1.0,
+                lo.row_baselines_mm[r] - 12.0,
+                label,
+                7.5,
+                bold=True,
+                backdrop=True,
+            )
+        _draw_beat_marks(c, lo, content, row=0)
+        c.p.restore()
+        return
     for r, row_leads in enumerate(LAYOUT_3X4):
         base = lo.row_baselines_mm[r]
         for k, name in enumerate(row_leads):
@@ -230,7 +260,7 @@ def _draw_leads(c: _Canvas, lo: PageLayout, content: ReportContent) -> None:
                 c.text(
                     x_seg + 1.0,
                     base - 12.0,
-                    f"{name}: not recorded",
+                    f"{name}: not recorded" if col is None else f"{name}: record ended",
                     7.0,
                     colour=MARK_AUTO,
                     backdrop=True,
@@ -249,14 +279,14 @@ def _draw_leads(c: _Canvas, lo: PageLayout, content: ReportContent) -> None:
     c.text(
         lo.trace_x0_mm + 1.0, base - 12.0, f"{rhythm_name}  rhythm", 7.5, bold=True, backdrop=True
     )
-    _draw_beat_marks(c, lo, content)
+    _draw_beat_marks(c, lo, content, row=3)
     c.p.restore()
 
 
-def _draw_beat_marks(c: _Canvas, lo: PageLayout, content: ReportContent) -> None:
-    """Each beat's global boundaries as ticks under the rhythm strip (reviewed ones in blue)."""
+def _draw_beat_marks(c: _Canvas, lo: PageLayout, content: ReportContent, row: int) -> None:
+    """Each beat's global boundaries as ticks under a full-width strip (reviewed in blue)."""
     fs = content.fs_hz
-    base = lo.row_baselines_mm[3]
+    base = lo.row_baselines_mm[row]
     y_top, y_bot = base + 9.0, base + 12.5
     for row in content.beat_marks:
         for m in row:
@@ -312,7 +342,7 @@ def _draw_header(c: _Canvas, lo: PageLayout, content: ReportContent) -> None:
     if content.reviewer:
         who = f"  ·  reviewer {content.reviewer}"
     if content.status == "signed_off" and content.signed_off_at:
-        who += f"  ·  signed {content.signed_off_at}"
+        who += f"  ·  signed {_utc_text(content.signed_off_at)}"
     w = c.text(x, y, "Reading: ", 8.0, bold=True)
     w += c.text(
         x + w, y, status_text, 8.0, bold=True, colour=STATUS_COLOURS.get(content.status, TRACE)
@@ -327,11 +357,20 @@ def _draw_header(c: _Canvas, lo: PageLayout, content: ReportContent) -> None:
     _draw_table(c, x, y + 1.2, content)
 
 
+def _utc_text(iso: str) -> str:
+    """``2026-12-02T00:59:01.98Z`` -> ``2026-12-02 00:59 UTC`` (unparseable text kept as is)."""
+    try:
+        t = datetime.fromisoformat(iso.replace("Z", "+00:00"))
+    except ValueError:
+        return iso
+    return f"{t.astimezone(UTC):%Y-%m-%d %H:%M} UTC"
+
+
 def _draw_table(c: _Canvas, x0: float, y0: float, content: ReportContent) -> None:
     """Global values in three column groups: name, value, unit, normal range, flag."""
     row_h = 3.5
-    group_w = 72.0
-    cols = (0.0, 34.0, 35.5, 44.0, 62.0)  # label, value (right edge), unit, range, flag
+    group_w = 68.0
+    cols = (0.0, 32.0, 33.5, 42.0, 58.0)  # label, value (right edge), unit, range, flag
     rows = content.rows
     per_group = (len(rows) + 2) // 3
     for gi in range(3):

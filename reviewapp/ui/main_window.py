@@ -620,7 +620,7 @@ class MainWindow(QtWidgets.QMainWindow):
 
     def _refresh_marks(self) -> None:
         self.paper.rebuild_marks()
-        self.median.rebuild()
+        self.median.refresh_marks()
 
     # --- errors, drag and drop, state ----------------------------------------------------
     def show_error(self, err: BaseException) -> None:

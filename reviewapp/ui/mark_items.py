@@ -90,7 +90,7 @@ class FiducialMark(pg.GraphicsObject):
 
     # --- geometry ----------------------------------------------------------------------------
     @property
-    def x(self) -> float:  # type: ignore[override]
+    def line_x(self) -> float:
         return self._x_of_sample(self.sample)
 
     def set_sample(self, sample: int) -> None:
@@ -108,19 +108,19 @@ class FiducialMark(pg.GraphicsObject):
         hw = self._halfwidth() * 2.0
         top = min(b[0] for b in self._bands)
         bottom = max(b[1] for b in self._bands)
-        return QtCore.QRectF(self.x - hw, top - hw, 2 * hw, bottom - top + 2 * hw)
+        return QtCore.QRectF(self.line_x - hw, top - hw, 2 * hw, bottom - top + 2 * hw)
 
     def shape(self) -> QtGui.QPainterPath:
         path = QtGui.QPainterPath()
         hw = self._halfwidth()
         for top, bottom in self._bands:
-            path.addRect(QtCore.QRectF(self.x - hw, top, 2 * hw, bottom - top))
+            path.addRect(QtCore.QRectF(self.line_x - hw, top, 2 * hw, bottom - top))
         return path
 
     def paint(self, painter: QtGui.QPainter, option, widget=None) -> None:
         painter.setRenderHint(QtGui.QPainter.RenderHint.Antialiasing, True)
         painter.setPen(self._hover_pen if self._hover else self._pen)
-        x = self.x
+        x = self.line_x
         for top, bottom in self._bands:
             painter.drawLine(QtCore.QPointF(x, top), QtCore.QPointF(x, bottom))
         if not self.corrected and not self._hover:
@@ -154,8 +154,21 @@ class FiducialMark(pg.GraphicsObject):
         self._hover = False
         self.update()
 
+    def _closer_mark_exists(self, ev) -> bool:
+        """Marks a few pixels apart have overlapping grab zones: the nearest one takes the mouse."""
+        scene = self.scene()
+        if scene is None:
+            return False
+        mine = abs(ev.pos().x() - self.line_x)
+        for item in scene.items(ev.scenePos()):
+            if item is not self and isinstance(item, FiducialMark):
+                other = abs(item.mapFromScene(ev.scenePos()).x() - item.line_x)
+                if other < mine:
+                    return True
+        return False
+
     def mousePressEvent(self, ev) -> None:
-        if ev.button() != QtCore.Qt.MouseButton.LeftButton:
+        if ev.button() != QtCore.Qt.MouseButton.LeftButton or self._closer_mark_exists(ev):
             ev.ignore()
             return
         self._start_sample = self.sample
@@ -181,6 +194,9 @@ class FiducialMark(pg.GraphicsObject):
         ev.accept()
 
     def mouseDoubleClickEvent(self, ev) -> None:
+        if self._closer_mark_exists(ev):
+            ev.ignore()
+            return
         self.reset_requested.emit(self)
         ev.accept()
 

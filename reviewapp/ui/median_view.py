@@ -37,35 +37,48 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
         self.session: ReadingSession | None = None
         self.superimpose = False
         self.lead_order = "standard"
-        self.plots: list[pg.PlotItem] = []
+        self.plots: list[pg.ViewBox] = []
         self.lines: dict[str, list[pg.InfiniteLine]] = {}
         self._syncing = False
+        self._dirty = True
         self.setBackground(theme.window)
 
     # --- configuration -------------------------------------------------------------------
     def set_session(self, session: ReadingSession | None) -> None:
         self.session = session
-        self.rebuild()
+        self.invalidate()
 
     def set_scale(self, scale: PaperScale) -> None:
         self.scale = scale
-        self.rebuild()
+        self.invalidate()
 
     def set_theme(self, theme: Theme) -> None:
         self.theme = theme
         self.setBackground(theme.window)
-        self.rebuild()
+        self.invalidate()
 
     def set_superimpose(self, on: bool) -> None:
         self.superimpose = on
-        self.rebuild()
+        self.invalidate()
 
     def set_lead_order(self, order: str) -> None:
         self.lead_order = order
-        self.rebuild()
+        self.invalidate()
+
+    def invalidate(self) -> None:
+        """Rebuild now if shown, else on the next show (building twelve panels is not free)."""
+        self._dirty = True
+        if self.isVisible():
+            self.rebuild()
+
+    def showEvent(self, ev) -> None:
+        if self._dirty:
+            self.rebuild()
+        super().showEvent(ev)
 
     # --- building ------------------------------------------------------------------------
     def rebuild(self) -> None:
+        self._dirty = False
         self.clear()
         self.plots.clear()
         self.lines.clear()
@@ -96,14 +109,8 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
         for k, (lead, inverted) in enumerate(leads):
             idx = names.index(lead)
             sign = -1.0 if inverted else 1.0
-            p = self.addPlot(row=k // ncols, col=k % ncols)
-            p.hideAxis("left")
-            p.hideAxis("bottom")
-            p.setMenuEnabled(False)
-            p.hideButtons()
-            p.setMouseEnabled(x=False, y=False)
-            vb = p.getViewBox()
-            vb.setBackgroundColor(None)
+            p = self.addViewBox(row=k // ncols, col=k % ncols, enableMenu=False, enableMouse=False)
+            vb = p
             # One paper millimetre is square: pyqtgraph's ratio is (ms per px) / (mV per px).
             vb.setAspectLocked(True, ratio=self.scale.speed_mm_per_s / (self.scale.gain_mm_per_mv * 1000.0))
             y_lo, y_hi = (-hi, -lo) if inverted else (lo, hi)
@@ -153,7 +160,52 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
         t = np.tile(t, rs.size)
         return t, segs.reshape(-1, x.shape[1])
 
-    def _add_lines(self, p: pg.PlotItem, first_row: bool) -> None:
+    def refresh_marks(self) -> None:
+        """Move and restyle the existing lines after an edit (no rebuild)."""
+        s = self.session
+        if self._dirty or s is None or s.reading.marked.representative is None or not self.plots:
+            self.invalidate()
+            return
+        rep = s.reading.marked.representative
+        have = set(self.lines)
+        want = {f for f in FIDUCIALS if rep.marks.get(f) is not None}
+        if have != want:
+            self.rebuild()
+            return
+        for fid, lines in self.lines.items():
+            pos = (rep.marks.get(fid) - rep.r_index) / s.fs_hz * 1000.0
+            corrected = s.is_corrected("representative", fid)
+            pen, hover, colour = self._pens(fid, corrected)
+            self._syncing = True
+            try:
+                for i, line in enumerate(lines):
+                    line.setPos(pos)
+                    line.setPen(pen)
+                    line.setHoverPen(hover)
+                    if getattr(line, "label", None) is not None:
+                        line.label.setFormat(("◆ " if corrected else "") + SHORT_LABELS[fid])
+                        line.label.setColor(colour)
+                    line.setToolTip(self._tip(fid, corrected))
+                    del i
+            finally:
+                self._syncing = False
+
+    def _pens(self, fid: str, corrected: bool):
+        colour = QtGui.QColor(self.theme.mark_corrected if corrected else mark_colour(self.theme, fid))
+        style = QtCore.Qt.PenStyle.DashLine if corrected else QtCore.Qt.PenStyle.SolidLine
+        pen = pg.mkPen(colour, width=1.6, style=style, cosmetic=True)
+        hover = pg.mkPen(colour, width=3.0, style=style, cosmetic=True)
+        return pen, hover, colour
+
+    @staticmethod
+    def _tip(fid: str, corrected: bool) -> str:
+        return (
+            f"{SHORT_LABELS[fid]} of the median beat, "
+            f"{'corrected by the reader' if corrected else 'automatic'}; drag to correct "
+            "(all leads move together), double-click to reset"
+        )
+
+    def _add_lines(self, p: pg.ViewBox, first_row: bool) -> None:
         s = self.session
         assert s is not None
         rep = s.reading.marked.representative
@@ -163,10 +215,7 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
             if v is None:
                 continue
             corrected = s.is_corrected("representative", fid)
-            colour = QtGui.QColor(self.theme.mark_corrected if corrected else mark_colour(self.theme, fid))
-            style = QtCore.Qt.PenStyle.DashLine if corrected else QtCore.Qt.PenStyle.SolidLine
-            pen = pg.mkPen(colour, width=1.6, style=style, cosmetic=True)
-            hover = pg.mkPen(colour, width=3.0, style=style, cosmetic=True)
+            pen, hover, colour = self._pens(fid, corrected)
             text = ("◆ " if corrected else "") + SHORT_LABELS[fid] if first_row else None
             line = pg.InfiniteLine(
                 pos=(v - rep.r_index) / s.fs_hz * 1000.0, angle=90, movable=True, pen=pen, hoverPen=hover,
@@ -175,11 +224,7 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
                            "fill": self.theme.paper},
             )
             line.fiducial = fid
-            line.setToolTip(
-                f"{SHORT_LABELS[fid]} of the median beat, "
-                f"{'corrected by the reader' if corrected else 'automatic'}; drag to correct "
-                "(all leads move together), double-click to reset"
-            )
+            line.setToolTip(self._tip(fid, corrected))
             line.sigDragged.connect(self._on_drag)
             line.sigPositionChangeFinished.connect(self._on_drop)
             line.mouseDoubleClickEvent = lambda ev, f=fid: (ev.accept(), self.mark_reset.emit(f))
@@ -220,15 +265,15 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
 
     def line_point(self, fid: str, plot_index: int = 0, frac_y: float = 0.5) -> QtCore.QPoint:
         """Viewport pixel on a fiducial line (tests and keyboard focus use it)."""
-        p = self.plots[plot_index]
+        vb = self.plots[plot_index]
         line = self.lines[fid][plot_index]
-        vr = p.getViewBox().viewRect()
+        vr = vb.viewRect()
         y = vr.top() + frac_y * vr.height()
-        scene = p.getViewBox().mapViewToScene(QtCore.QPointF(line.value(), y))
+        scene = vb.mapViewToScene(QtCore.QPointF(line.value(), y))
         return self.mapFromScene(scene)
 
     def time_point(self, t_ms: float, plot_index: int = 0, frac_y: float = 0.5) -> QtCore.QPoint:
-        p = self.plots[plot_index]
-        vr = p.getViewBox().viewRect()
-        scene = p.getViewBox().mapViewToScene(QtCore.QPointF(t_ms, vr.top() + frac_y * vr.height()))
+        vb = self.plots[plot_index]
+        vr = vb.viewRect()
+        scene = vb.mapViewToScene(QtCore.QPointF(t_ms, vr.top() + frac_y * vr.height()))
         return self.mapFromScene(scene)

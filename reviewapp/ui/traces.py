@@ -11,15 +11,18 @@ from reviewapp.ui.layouts import Cell
 from reviewapp.ui.theme import Theme
 
 
-class LeadTrace(pg.PlotCurveItem):
-    """One cell's signal, drawn with pyqtgraph's clip-to-view and peak-preserving decimation."""
+class LeadTrace(pg.PlotDataItem):
+    """One cell's signal, drawn with pyqtgraph's clip-to-view and peak-preserving decimation
+    (``autoDownsample`` with method "peak"), so a zoomed-out page costs what the screen shows."""
 
     def __init__(self, cell: Cell, theme: Theme) -> None:
         super().__init__(
             pen=pg.mkPen(theme.trace, width=theme.trace_width_px, cosmetic=True),
             antialias=True,
-            skipFiniteCheck=False,
+            connect="finite",
         )
+        self.setDownsampling(auto=True, method="peak")
+        self.setClipToView(True)
         self.cell = cell
         self.setZValue(10)
 
@@ -28,8 +31,7 @@ class LeadTrace(pg.PlotCurveItem):
         sign = -1.0 if self.cell.inverted else 1.0
         x_mm = LEFT_MARGIN_MM + (x_samples - geom.page_start) / geom.fs_hz * geom.scale.speed_mm_per_s
         y_mm = geom.baseline_y(self.cell.row) - sign * mv * geom.scale.gain_mm_per_mv
-        x_mm, y_mm = _decimate_minmax(x_mm.astype(np.float64), y_mm.astype(np.float64), 6000)
-        self.setData(x_mm, y_mm, connect="finite")
+        self.setData(x_mm.astype(np.float64), y_mm.astype(np.float64))
 
     def set_theme(self, theme: Theme) -> None:
         self.setPen(pg.mkPen(theme.trace, width=theme.trace_width_px, cosmetic=True))

@@ -19,6 +19,7 @@ from pathlib import Path
 
 from PySide6.QtCore import (
     QAbstractTableModel,
+    QEvent,
     QModelIndex,
     QObject,
     QPersistentModelIndex,
@@ -28,7 +29,7 @@ from PySide6.QtCore import (
     QThreadPool,
     Signal,
 )
-from PySide6.QtGui import QColor, QFont, QKeySequence, QShortcut
+from PySide6.QtGui import QColor, QFont, QKeyEvent
 from PySide6.QtWidgets import (
     QAbstractItemView,
     QCheckBox,
@@ -337,6 +338,7 @@ class WorklistWidget(QWidget):
         self._generation = 0
         self._task: _ScanTask | None = None
         self._pool = QThreadPool.globalInstance()
+        self.last_scan_thread_id: int | None = None  # thread the last listing ran on
         self._engine_version = _engine_version()
 
         self.table = QTableView(self)
@@ -386,14 +388,21 @@ class WorklistWidget(QWidget):
         layout.addWidget(self.progress)
         layout.addWidget(self.table, 1)
 
-        ctx = Qt.ShortcutContext.WidgetWithChildrenShortcut
-        for keys, slot in (
-            ("N", self.select_next_unread),
-            ("Shift+N", self.select_previous_unread),
-        ):
-            sc = QShortcut(QKeySequence(keys), self)
-            sc.setContext(ctx)
-            sc.activated.connect(slot)
+        # Keys are taken on the table itself (an event filter, before its type-ahead search):
+        # N = next unread, Shift+N = previous unread. The window may also call the methods.
+        self.table.installEventFilter(self)
+
+    def eventFilter(self, obj: QObject, event: QEvent) -> bool:
+        if obj is self.table and event.type() == QEvent.Type.KeyPress:
+            assert isinstance(event, QKeyEvent)
+            mods = event.modifiers() & ~Qt.KeyboardModifier.KeypadModifier
+            if event.key() == Qt.Key.Key_N and mods == Qt.KeyboardModifier.NoModifier:
+                self.select_next_unread()
+                return True
+            if event.key() == Qt.Key.Key_N and mods == Qt.KeyboardModifier.ShiftModifier:
+                self.select_previous_unread()
+                return True
+        return super().eventFilter(obj, event)
 
     # --- folder listing
     def open_folder(self, folder: str | Path) -> None:
@@ -440,6 +449,7 @@ class WorklistWidget(QWidget):
     def _on_finished(self, generation: int, n: int) -> None:
         if generation != self._generation:
             return
+        self.last_scan_thread_id = self._task.thread_id if self._task is not None else None
         self._task = None
         self.progress.hide()
         self._update_count()

@@ -20,6 +20,7 @@ import pytest
 from reviewapp.batch import sidecar_adapter as sidecars
 from reviewapp.batch.runner import run_batch
 from reviewapp.batch.summary_csv import write_summary_csv
+from reviewapp.cli import main
 from reviewapp.core.engine import ENGINE_VERSION, analyse
 from reviewapp.core.io import find_records, open_record
 from reviewapp.core.marks import MarksStore, load_sidecar, record_identity
@@ -36,46 +37,76 @@ def _env() -> dict[str, str]:
     return env
 
 
-def test_local_cluster_batch_marks_every_good_record_and_reports_the_bad(record_folder: Path):
+def test_batch_command_on_a_local_cluster_marks_good_records_and_reports_the_bad(
+    record_folder: Path, tmp_path: Path, capsys: pytest.CaptureFixture[str]
+):
+    """`reviewapp batch FOLDER --scheduler ADDRESS` on a real 2-process LocalCluster."""
+    import logging
+
+    from dask.distributed import LocalCluster
+
     paths = find_records(record_folder)
     assert {p.stem for p in paths} == GOOD | BAD
-    seen: list[str] = []
-    result = run_batch(paths, workers=2, processes=True, progress=lambda o: seen.append(o.record))
-    by_name = {o.record: o for o in result.outcomes}
-    assert sorted(seen) == sorted(by_name)  # progress called once per record, as they finish
-    assert {n for n, o in by_name.items() if o.outcome == "done"} == GOOD
-    assert {n for n, o in by_name.items() if o.outcome == "failed"} == BAD
+    summary = tmp_path / "summary.csv"
+    with LocalCluster(
+        n_workers=2,
+        threads_per_worker=1,
+        processes=True,
+        dashboard_address=None,
+        silence_logs=logging.ERROR,
+    ) as cluster:
+        rc = main(
+            [
+                "batch",
+                str(record_folder),
+                "--scheduler",
+                cluster.scheduler_address,
+                "--summary",
+                str(summary),
+            ]
+        )
+    out = capsys.readouterr()
+    assert rc == 1  # ran to the end; some records failed
+    assert f"{len(paths)} records: {len(GOOD)} done, 0 skipped, {len(BAD)} failed" in out.out
+    with open(summary, newline="") as fh:
+        rows = {r["record"]: r for r in csv.DictReader(fh)}
+    assert set(rows) == GOOD | BAD
+    assert {n for n, r in rows.items() if r["outcome"] == "done"} == GOOD
     for name in BAD:
-        assert by_name[name].error.startswith(str(Path(by_name[name].path)))  # names the file
+        assert rows[name]["outcome"] == "failed"
+        assert rows[name]["error"].startswith(rows[name]["path"])  # names the file
+    assert not any(rows[n]["error"] for n in GOOD)
     # Every sidecar passes the marks store's schema and identity check.
     for p in paths:
         if p.stem in GOOD:
             rec = open_record(p)
             sc = load_sidecar(sidecars.sidecar_path(p), record_identity(rec))
             assert sc.automatic is not None and sc.automatic.engine_version == ENGINE_VERSION
-            assert sc.listing_cache is not None
-            assert sc.readings == ()
+            assert sc.listing_cache is not None and sc.readings == ()
         else:
             assert not sidecars.sidecar_path(p).exists()
     # Synthetic records: the cached heart rate is the generator's (60 and 75 bpm exactly by
     # construction, invented data); a check of the cache, not of the engine.
     for name, hr in (("syn60", 60.0), ("syn75", 75.0)):
-        assert by_name[name].summary.hr_bpm == pytest.approx(hr, abs=1.5)
+        assert float(rows[name]["hr_bpm"]) == pytest.approx(hr, abs=1.5)
     # The stored automatic marks are what an in-process analysis of the same file gives.
     p1 = record_folder / "1.hea"
     sc = load_sidecar(sidecars.sidecar_path(p1))
     a = analyse(open_record(p1))
-    assert len(sc.automatic.beats) == len(a.beats)
     assert [round(b.r_s * 500) for b in sc.automatic.beats] == [b.r for b in a.beats]
 
-    summary = record_folder.parent / "summary.csv"
-    write_summary_csv(summary, result.outcomes)
-    with open(summary, newline="") as fh:
-        rows = {r["record"]: r for r in csv.DictReader(fh)}
-    assert set(rows) == GOOD | BAD
-    assert all(rows[n]["error"] for n in BAD)
-    assert not any(rows[n]["error"] for n in GOOD)
-    assert float(rows["syn60"]["hr_bpm"]) == pytest.approx(60.0, abs=1.5)
+
+def test_run_batch_starts_its_own_cluster_and_reports_progress(record_folder: Path):
+    """The default path: run_batch makes (and closes) a LocalCluster of 2 workers (threads here,
+    to keep CI short; the command above runs on processes)."""
+    paths = [p for p in find_records(record_folder) if p.stem in {"syn60", "syn75", "garbage"}]
+    seen: list[str] = []
+    result = run_batch(paths, workers=2, processes=False, progress=lambda o: seen.append(o.record))
+    assert sorted(seen) == sorted(o.record for o in result.outcomes)  # once per record
+    assert (result.done, result.skipped, result.failed) == (2, 0, 1)
+    write_summary_csv(record_folder / "s.csv", result.outcomes)
+    again = run_batch(paths, workers=2, processes=False)
+    assert (again.done, again.skipped, again.failed) == (0, 2, 1)
 
 
 def _edit(record_path: Path, reviewer: str, *, t_off_s: float, sign: bool) -> bytes:
@@ -114,6 +145,10 @@ def test_rerun_keeps_overrides_and_leaves_signed_off_readings_alone(
     assert after.readings == before.readings
     assert after.readings[0].overrides[0].new_s == pytest.approx(0.41)
     assert by_name["1"].outcome == "done"
+    # The listing cache holds automatic values only (nothing of a reader's work, so a blinded
+    # second reader's worklist shows nothing of the first reading).
+    auto_qt = analyse(open_record(p_edit)).reading().measurements.intervals.qt_ms
+    assert after.listing_cache["qt_ms"] == pytest.approx(auto_qt, abs=0.05)
     assert any(e.action == "set_automatic" for e in after.audit[len(before.audit) :])
 
 

@@ -21,12 +21,22 @@ from reviewapp.core.record import (
     ("given", "expected"),
     [
         # Standard 12-lead spellings (IEC 60601-2-25 / AHA lead names; common practice, no source).
-        ("i", "I"), ("II", "II"), ("iii", "III"), ("AVR", "aVR"), ("avl", "aVL"), ("aVF", "aVF"),
-        ("v1", "V1"), ("V6", "V6"), ("V4R", "V4R"),
+        ("i", "I"),
+        ("II", "II"),
+        ("iii", "III"),
+        ("AVR", "aVR"),
+        ("avl", "aVL"),
+        ("aVF", "aVF"),
+        ("v1", "V1"),
+        ("V6", "V6"),
+        ("V4R", "V4R"),
         # HL7 aECG uses the ISO/IEEE 11073 MDC codes (HL7 aECG implementation guide).
-        ("MDC_ECG_LEAD_AVL", "aVL"), ("MDC_ECG_LEAD_V3", "V3"),
+        ("MDC_ECG_LEAD_AVL", "aVL"),
+        ("MDC_ECG_LEAD_V3", "V3"),
         # Holter-style and Frank leads are kept (PhysioNet MIT-BIH uses "MLII").
-        ("MLII", "MLII"), ("vx", "X"), ("CM5", "CM5"),
+        ("MLII", "MLII"),
+        ("vx", "X"),
+        ("CM5", "CM5"),
     ],
 )
 def test_normalise_lead_name(given: str, expected: str) -> None:
@@ -38,7 +48,9 @@ def test_limb_leads_derived_from_i_and_ii_follow_einthoven_and_goldberger() -> N
     # (standard lead relations; Malmivuo & Plonsey, Bioelectromagnetism, 1995, ch. 15).
     rng = np.random.default_rng(1)
     lead_i, lead_ii = rng.normal(size=(2, 1000)).astype(np.float32)
-    rec = record_from_array(np.stack([lead_i, lead_ii, lead_i * 0.3], axis=1), 500, ["I", "II", "V1"])
+    rec = record_from_array(
+        np.stack([lead_i, lead_ii, lead_i * 0.3], axis=1), 500, ["I", "II", "V1"]
+    )
     assert rec.lead_names == ("I", "II", "III", "aVR", "aVL", "aVF", "V1")
     sig = rec.signal_mv
     np.testing.assert_allclose(sig[:, 2], lead_ii - lead_i, atol=1e-6)
@@ -84,8 +96,12 @@ def test_flat_and_nan_leads_are_flagged() -> None:
 @pytest.mark.parametrize("fs", [0, -250, float("nan"), float("inf")])
 def test_bad_sampling_rate_is_a_clear_error(fs: float) -> None:
     with pytest.raises(RecordError, match="sampling rate"):
-        build_record(name="x", fs_hz=fs, source=ArraySource(np.zeros((10, 1), np.float32)),
-                     leads=[LeadInfo("I")])
+        build_record(
+            name="x",
+            fs_hz=fs,
+            source=ArraySource(np.zeros((10, 1), np.float32)),
+            leads=[LeadInfo("I")],
+        )
 
 
 def test_duplicate_and_mismatched_leads_are_clear_errors(tmp_path) -> None:

@@ -73,8 +73,10 @@ def match_beats(det_r: np.ndarray, ref_r: np.ndarray, fs_hz: float) -> np.ndarra
     det_r = np.asarray(det_r, dtype=np.int64)
     if det_r.size == 0:
         return np.full(len(ref_r), -1, dtype=np.int64)
-    j = np.clip(np.searchsorted(det_r, ref_r), 1, det_r.size - 1) if det_r.size > 1 else np.zeros(
-        len(ref_r), dtype=np.int64
+    j = (
+        np.clip(np.searchsorted(det_r, ref_r), 1, det_r.size - 1)
+        if det_r.size > 1
+        else np.zeros(len(ref_r), dtype=np.int64)
     )
     if det_r.size > 1:
         left = det_r[j - 1]
@@ -95,8 +97,12 @@ class ErrorPool:
 
     @classmethod
     def empty(cls) -> ErrorPool:
-        return cls({f: [] for f in FIDS}, dict.fromkeys(FIDS, 0), dict.fromkeys(FIDS, 0),
-                   dict.fromkeys(FIDS, 0))
+        return cls(
+            {f: [] for f in FIDS},
+            dict.fromkeys(FIDS, 0),
+            dict.fromkeys(FIDS, 0),
+            dict.fromkeys(FIDS, 0),
+        )
 
     def add(self, det: np.ndarray, ref: np.ndarray, fs_hz: float, count_extra: bool = True) -> None:
         """``det`` and ``ref``: (n, 5) sample indices, -1 = absent (rows already matched)."""
@@ -113,14 +119,22 @@ class ErrorPool:
         out = {}
         for f in FIDS:
             e = np.asarray(self.errors[f])
-            out[f] = (float(e.mean()) if e.size else np.nan, float(e.std()) if e.size else np.nan,
-                      int(e.size))
+            out[f] = (
+                float(e.mean()) if e.size else np.nan,
+                float(e.std()) if e.size else np.nan,
+                int(e.size),
+            )
         return out
 
     def table(self, title: str) -> str:
-        lines = [title, f"{'fiducial':8s} {'mean ms':>8s} {'SD ms':>7s} {'CSE tol':>7s} {'n':>6s}"
-                 f" {'missed':>7s} {'extra':>6s}"]
+        lines = [
+            title,
+            f"{'fiducial':8s} {'mean ms':>8s} {'SD ms':>7s} {'CSE tol':>7s} {'n':>6s}"
+            f" {'missed':>7s} {'extra':>6s}",
+        ]
         for f, (m, s, n) in self.stats().items():
-            lines.append(f"{f:8s} {m:8.1f} {s:7.1f} {CSE_TOLERANCE_MS[f]:7.1f} {n:6d} "
-                         f"{self.missed[f]:7d} {self.extra[f]:6d}")
+            lines.append(
+                f"{f:8s} {m:8.1f} {s:7.1f} {CSE_TOLERANCE_MS[f]:7.1f} {n:6d} "
+                f"{self.missed[f]:7d} {self.extra[f]:6d}"
+            )
         return "\n".join(lines)

@@ -9,7 +9,7 @@ import pytest
 import wfdb
 
 from reviewapp.core.io import open_record
-from reviewapp.core.io.wfdb_format import WfdbWindowSource, read_wfdb
+from reviewapp.core.io.wfdb_format import Format212Source, WfdbWindowSource, read_wfdb
 from reviewapp.core.record import DigitalMemmapSource
 
 # float32 output vs wfdb's float64: relative rounding of float32 (2^-24 ~ 6e-8) times the
@@ -103,7 +103,7 @@ def test_mit_header_comment_age_sex(shared_data: Path) -> None:
     rec = read_wfdb(shared_data / "mitdb" / "100.hea")
     # 100.hea first comment line "69 M 1085 1629 x1" (MIT-BIH: age, sex, ...).
     assert rec.subject.age_years == 69 and rec.subject.sex == "male"
-    assert isinstance(rec.source, WfdbWindowSource)  # format 212: read in windows
+    assert isinstance(rec.source, Format212Source)  # format 212: decoded from a memory map
 
 
 @pytest.mark.parametrize("name", ["mitdb/100", "ptbdb/s0010_re", "ludb/1"])
@@ -153,6 +153,8 @@ def test_wfdb_formats_written_by_wfdb(shared_data: Path, tmp_path: Path, fmt: st
     except ImportError as err:  # FLAC needs the optional soundfile package
         pytest.skip(f"wfdb cannot write format {fmt} here: {err}")
     rec = open_record(tmp_path / "rec.hea")
+    if fmt in ("24", "516"):
+        assert isinstance(rec.source, WfdbWindowSource)  # read through wfdb.rdrecord windows
     # Reference: wfdb.rdrecord physical values of the same file.
     ref = wfdb.rdrecord(str(tmp_path / "rec")).p_signal
     np.testing.assert_allclose(rec.signal_mv, ref, rtol=0, atol=ATOL_MV)
@@ -173,6 +175,40 @@ def test_wfdb_formats_packed_by_spec(shared_data: Path, tmp_path: Path, fmt: str
     np.testing.assert_allclose(rec.signal_mv, ref, rtol=0, atol=ATOL_MV)
     # Hand check of the spec: physical = digital / gain.
     np.testing.assert_allclose(rec.signal_mv[:, 0], d[:, 0] / 200.0, rtol=1e-6)
+
+
+def _pack_212(d: np.ndarray) -> bytes:
+    """Pack digital samples in WFDB format 212 (signal(5)): two 12-bit samples in 3 bytes."""
+    flat = d.reshape(-1).astype(np.int64) & 0xFFF
+    if flat.size % 2:
+        flat = np.append(flat, 0)
+    a, b = flat[0::2], flat[1::2]
+    out = np.empty((a.size, 3), dtype=np.uint8)
+    out[:, 0] = a & 0xFF
+    out[:, 1] = ((a >> 8) & 0x0F) | (((b >> 8) & 0x0F) << 4)
+    out[:, 2] = b & 0xFF
+    return out.tobytes()
+
+
+def test_format_212_odd_signal_count_and_windows(shared_data: Path, tmp_path: Path) -> None:
+    """Three interleaved signals, odd length: sample pairs straddle frames."""
+    d = wfdb.rdrecord(
+        str(shared_data / "ludb" / "1"), sampto=501, channels=[0, 1, 6], physical=False
+    ).d_signal.astype(np.int64)
+    d = np.clip(d, -2047, 2047)
+    d[7, 1] = -2048  # WFDB's "no sample" code for format 212
+    (tmp_path / "r.dat").write_bytes(_pack_212(d))
+    (tmp_path / "r.hea").write_text(
+        "r 3 500 501\n" + "".join(f"r.dat 212 100(3) 12 0 0 0 0 {n}\n" for n in ("I", "II", "V1"))
+    )
+    rec = open_record(tmp_path / "r.hea")
+    assert isinstance(rec.source.base, Format212Source)  # under the derived-lead matrix
+    ref = wfdb.rdrecord(str(tmp_path / "r")).p_signal  # reference: wfdb-python
+    cols = [rec.lead_index(n) for n in ("I", "II", "V1")]
+    np.testing.assert_allclose(rec.signal_mv[:, cols], ref, rtol=0, atol=ATOL_MV)
+    assert np.isnan(rec.signal_mv[7, cols[1]]) and np.isnan(ref[7, 1])
+    for a, b in [(0, 1), (1, 2), (3, 10), (250, 501), (500, 501)]:
+        np.testing.assert_allclose(rec.window(a, b)[:, cols], ref[a:b], rtol=0, atol=ATOL_MV)
 
 
 def test_units_in_uv_and_non_voltage_signal(shared_data: Path, tmp_path: Path) -> None:
@@ -247,3 +283,16 @@ def test_long_record_is_not_loaded(tmp_path: Path) -> None:
     assert last[0, rec.lead_index("I")] == pytest.approx(1.0)
     assert last[0, rec.lead_index("III")] == pytest.approx(-3.0)
     assert rec.leads[0].flat  # the first minute is all zeros
+
+
+def test_header_without_signal_length(shared_data: Path, tmp_path: Path) -> None:
+    """header(5) makes the length optional; it then follows from the signal file's size."""
+    for ext in (".hea", ".dat"):
+        (tmp_path / f"1{ext}").write_bytes((shared_data / "ludb" / f"1{ext}").read_bytes())
+    hea = tmp_path / "1.hea"
+    hea.write_text(hea.read_text().replace("1 12 500 5000", "1 12 500"))
+    rec = open_record(hea)
+    ref = wfdb.rdrecord(str(tmp_path / "1")).p_signal  # reference: wfdb infers it too
+    assert rec.n_samples == ref.shape[0] == 5000
+    np.testing.assert_allclose(rec.signal_mv, ref, rtol=0, atol=ATOL_MV)
+    assert any("from file size" in n for n in rec.notes)

@@ -24,7 +24,10 @@ KILLS = 500
 TIME_CAP_S = 110.0
 ROUNDS_PER_FILE = 25  # a new sidecar now and then keeps the audit trail (and saves) small
 
-pytestmark = pytest.mark.skipif(not hasattr(os, "fork"), reason="needs os.fork (POSIX)")
+pytestmark = [
+    pytest.mark.slow,
+    pytest.mark.skipif(not hasattr(os, "fork"), reason="needs os.fork (POSIX)"),
+]
 
 
 def _child(rec, path, wfd: int) -> None:
@@ -69,7 +72,7 @@ def test_sigkill_at_random_moments_never_leaves_a_torn_sidecar(scratch, kit):
         warm.do(warm.edits.move_fiducial("t_off", 0.1))
     gc.collect()
     gc.freeze()  # keep the parent's objects out of the children's collections (copy-on-write)
-    kills = mid_save = saves = 0
+    kills = mid_save = saves = after_rename = 0
     t0 = time.monotonic()
     path = None
     while kills < KILLS and time.monotonic() - t0 < TIME_CAP_S:
@@ -109,17 +112,21 @@ def test_sigkill_at_random_moments_never_leaves_a_torn_sidecar(scratch, kit):
             assert in_flight == known_k + 1, (kills, k, known_k, begun[-3:])
             assert k == in_flight  # the state after it, complete and valid
             known_k, known_hash = k, hashlib.sha256(data).hexdigest()
+            after_rename += 1
         if in_flight is not None:
             mid_save += 1
         bak = backup_path_for(path)
         if bak.exists():
             kb, _ = _state(bak, ident, fs)
             assert kb in (known_k - 1, known_k - 2, known_k)  # an earlier complete version
-    print(f"kills={kills} saves={saves} mid_save={mid_save} s={time.monotonic() - t0:.1f}")
+    print(f"kills={kills} saves={saves} mid_save={mid_save} after_rename={after_rename}")
     gc.unfreeze()
     assert kills >= KILLS, f"only {kills} kills in {TIME_CAP_S} s"
-    assert saves > kills  # the child really wrote between kills
-    assert mid_save >= KILLS // 5, mid_save  # and many kills landed inside a save
+    # The children really wrote, and many kills landed inside a save (between B and D); the
+    # exact counts depend on machine load, so only loose floors are checked.
+    assert saves >= KILLS // 10, saves
+    assert mid_save >= KILLS // 10, mid_save
+    assert after_rename > 0, after_rename  # some kills hit between the rename and "D"
     # A last open cleans the dead writers' temporary files and takes over their lock.
     with MarksStore.open(rec, "writer", path=path) as store:
         assert store.reading.override(("representative", None, None, "t_off")) is not None

@@ -25,9 +25,7 @@ ops = st.one_of(
         st.sampled_from([None, "I", "II"]),
     ),
     st.tuples(st.just("reset"), index),
-    st.tuples(
-        st.just("add_caliper"), st.sampled_from(["time", "amplitude"]), times, times, texts
-    ),
+    st.tuples(st.just("add_caliper"), st.sampled_from(["time", "amplitude"]), times, times, texts),
     st.tuples(st.just("move_caliper"), index, times, st.floats(-5, 5, allow_nan=False)),
     st.tuples(st.just("delete_caliper"), index),
     st.tuples(st.just("add_note"), texts),

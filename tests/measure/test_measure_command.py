@@ -74,6 +74,7 @@ def test_csv_one_row_per_record_and_failures(shared_data, tmp_path, capsys):
     rows = list(csv.DictReader(io.StringIO(out.out)))
     assert [r["record"] for r in rows] == ["1", "garbage", "2"]
     assert rows[1]["error"] and not rows[0]["error"] and float(rows[2]["qt_ms"]) > 0
+    assert all(r["caution"] == CLINICAL_CAUTION for r in rows)
     assert len(out.err.strip().splitlines()) == 1 and "garbage.edf" in out.err
 
 

@@ -48,7 +48,9 @@ def _pdf_content_stream(data: bytes) -> bytes:
     raise AssertionError("no page content stream found")
 
 
-def _stroked_segments(stream: bytes) -> tuple[float, dict[tuple[str, ...], list[tuple[float, ...]]]]:
+def _stroked_segments(
+    stream: bytes,
+) -> tuple[float, dict[tuple[str, ...], list[tuple[float, ...]]]]:
     """(points per device unit from the page ``cm``, line segments grouped by stroke colour)."""
     tokens = stream.split()
     scale = None
@@ -89,7 +91,9 @@ def test_pdf_mediabox_is_the_landscape_sheet(tmp_path: Path, synth_content, pape
     # A4 landscape = 841.89 x 595.28 pt (297 x 210 mm at 72 pt/in); within 1 %.
     assert (x1 - x0) * MM_PER_PT == pytest.approx(w_mm, rel=0.01)
     assert (y1 - y0) * MM_PER_PT == pytest.approx(h_mm, rel=0.01)
-    assert data.count(b"/Type /Page\n") + data.count(b"/Type /Page ") + data.count(b"/Type/Page") >= 1
+    assert (
+        data.count(b"/Type /Page\n") + data.count(b"/Type /Page ") + data.count(b"/Type/Page") >= 1
+    )
 
 
 def test_pdf_grid_lines_are_1_mm_and_5_mm_apart(tmp_path: Path, synth_content):
@@ -99,8 +103,13 @@ def test_pdf_grid_lines_are_1_mm_and_5_mm_apart(tmp_path: Path, synth_content):
     pitches = {}
     for colour, lines in segs.items():
         # Vertical grid lines span the whole grid height.
-        xs = sorted({round(x1, 3) for x1, y1, x2, y2 in lines
-                     if x1 == x2 and abs(y2 - y1) * scale * MM_PER_PT > 100})
+        xs = sorted(
+            {
+                round(x1, 3)
+                for x1, y1, x2, y2 in lines
+                if x1 == x2 and abs(y2 - y1) * scale * MM_PER_PT > 100
+            }
+        )
         if len(xs) > 20:
             pitches[colour] = np.median(np.diff(xs)) * scale * MM_PER_PT
     values = sorted(pitches.values())
@@ -207,7 +216,9 @@ def _cmap(text: bytes) -> dict[int, str]:
     out: dict[int, str] = {}
     h = lambda b: int(b, 16)  # noqa: E731
     for block in re.findall(rb"beginbfrange(.*?)endbfrange", text, re.S):
-        for lo, hi, dst in re.findall(rb"<([0-9A-Fa-f]+)>\s*<([0-9A-Fa-f]+)>\s*(\[[^\]]*\]|<[0-9A-Fa-f]+>)", block):
+        for lo, hi, dst in re.findall(
+            rb"<([0-9A-Fa-f]+)>\s*<([0-9A-Fa-f]+)>\s*(\[[^\]]*\]|<[0-9A-Fa-f]+>)", block
+        ):
             if dst.startswith(b"["):
                 for k, u in enumerate(re.findall(rb"<([0-9A-Fa-f]+)>", dst)):
                     out[h(lo) + k] = chr(h(u))

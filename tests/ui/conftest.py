@@ -22,7 +22,10 @@ def ptb_12lead(shared_data: Path):
     w = wfdb.rdrecord(str(shared_data / "ptbdb" / "s0010_re"), sampto=10_000)
     names = [n for n in w.sig_name][:12]
     return record_from_array(
-        np.asarray(w.p_signal[:, :12], dtype=np.float32), float(w.fs), names, name="s0010_re",
+        np.asarray(w.p_signal[:, :12], dtype=np.float32),
+        float(w.fs),
+        names,
+        name="s0010_re",
         source_format="WFDB",
     )
 

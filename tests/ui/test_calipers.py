@@ -11,10 +11,16 @@ L = QtCore.Qt.MouseButton.LeftButton
 
 
 def drag(qtbot, widget, a: QtCore.QPoint, b: QtCore.QPoint, steps: int = 6) -> None:
-    """Press at a, move in steps, release at b: real mouse events on the viewport."""
+    """Press at a, move in steps, release at b: real mouse events on the viewport.
+
+    The short waits matter: pyqtgraph drops move events closer than ~16 ms apart.
+    """
     qtbot.mousePress(widget, L, pos=a)
     for k in range(1, steps + 1):
-        p = QtCore.QPoint(a.x() + (b.x() - a.x()) * k // steps, a.y() + (b.y() - a.y()) * k // steps)
+        p = QtCore.QPoint(
+            a.x() + (b.x() - a.x()) * k // steps, a.y() + (b.y() - a.y()) * k // steps
+        )
+        qtbot.wait(20)
         qtbot.mouseMove(widget, p)
     qtbot.mouseRelease(widget, L, pos=b)
 

@@ -41,11 +41,36 @@ ALIGN_POST_S = 0.06
 MAX_REP_BEATS = 120
 
 
-def _windows(x: np.ndarray, r: np.ndarray, pre: int, post: int) -> np.ndarray:
-    """(n_beats, pre+post+1, n_leads) windows around r, edge values repeated past the ends."""
+def _windows(
+    x: np.ndarray, r: np.ndarray, pre: int, post: int, leads: np.ndarray | None = None
+) -> np.ndarray:
+    """(n_beats, pre+post+1, n_leads) windows around r, edge values repeated past the ends.
+
+    ``leads`` (bool mask) selects columns after gathering, so the record is never copied.
+    """
     n = x.shape[0]
     idx = np.clip(r[:, None] + np.arange(-pre, post + 1)[None, :], 0, n - 1)
-    return x[idx]
+    seg = x[idx]
+    if leads is not None and not leads.all():
+        seg = seg[..., leads]
+    return seg
+
+
+def median_axis0(a: np.ndarray) -> np.ndarray:
+    """``np.median(a, axis=0)`` for finite data, several times faster (one partition pass).
+
+    >>> median_axis0(np.array([[1.0, 5.0], [3.0, 2.0], [2.0, 9.0], [4.0, 0.0]]))
+    array([2.5, 3.5])
+    """
+    n = a.shape[0]
+    flat = np.ascontiguousarray(a.reshape(n, -1).T)
+    k = n // 2
+    if n % 2:
+        out = np.partition(flat, k, axis=1)[:, k]
+    else:
+        part = np.partition(flat, (k - 1, k), axis=1)
+        out = 0.5 * (part[:, k - 1] + part[:, k])
+    return out.reshape(a.shape[1:])
 
 
 def _normalise(seg: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -78,21 +103,27 @@ def group_beats(
     >= ``CORRELATION_MIN`` among a sample of the unassigned beats), form the template as the
     median of the seed's look-alikes, then take every unassigned beat that correlates with the
     template at >= ``CORRELATION_MIN`` and whose RMS is within ``AMPLITUDE_RATIO_RANGE`` of it.
-    Groups are renumbered by size. Returns (group ids, correlation with own template).
+    Beats cut by the record's ends join the group whose template they match best over their
+    recorded part. Groups are renumbered by size. Returns (group ids, correlation with own
+    template).
     """
     nb = r.size
     groups = np.full(nb, -1, dtype=np.int64)
     corr = np.zeros(nb)
     if nb == 0:
         return groups, corr
-    pre = int(round(TEMPLATE_PRE_S * fs_hz))
-    post = int(round(TEMPLATE_POST_S * fs_hz))
-    seg = _windows(np.asarray(conditioned_mv, dtype=np.float32)[:, usable], r, pre, post)
+    pre = round(TEMPLATE_PRE_S * fs_hz)
+    post = round(TEMPLATE_POST_S * fs_hz)
+    n = conditioned_mv.shape[0]
+    seg = _windows(conditioned_mv, r, pre, post, usable).astype(np.float32, copy=False)
     z, norms = _normalise(seg.astype(np.float64))
+    cut = (r - pre < 0) | (r + post >= n)
+    groups[cut] = -2  # kept out of clustering, matched afterwards
+    templates: list[np.ndarray] = []
     rng = np.random.default_rng(0)
     k = 0
     while k < MAX_GROUPS:
-        free = np.flatnonzero(groups < 0)
+        free = np.flatnonzero(groups == -1)
         if free.size == 0:
             break
         sample = free if free.size <= SEED_SAMPLE else np.sort(rng.choice(free, SEED_SAMPLE, False))
@@ -102,7 +133,7 @@ def group_beats(
         if counts[seed_i] < 1:
             break
         members = sample[c[seed_i] >= CORRELATION_MIN]
-        template = np.median(seg[members], axis=0)
+        template = median_axis0(seg[members])
         tz, tnorm = _normalise(template[None].astype(np.float64))
         cf = z[free] @ tz[0]
         ratio = norms[free] / tnorm[0] if tnorm[0] > 0 else np.ones(free.size)
@@ -114,7 +145,11 @@ def group_beats(
         take[np.searchsorted(free, sample[seed_i])] = True  # the seed always joins its group
         groups[free[take]] = k
         corr[free[take]] = cf[take]
+        templates.append(template)
         k += 1
+    groups[cut] = -1
+    for b in np.flatnonzero(cut):
+        groups[b], corr[b] = _match_cut_beat(seg[b], r[b] - pre, n, templates)
     # Renumber groups by size (largest first); singletons that matched nothing stay -1.
     ids, counts = np.unique(groups[groups >= 0], return_counts=True)
     order = ids[np.argsort(-counts, kind="stable")]
@@ -122,6 +157,24 @@ def group_beats(
     remap[order] = np.arange(order.size)
     out = np.where(groups >= 0, remap[np.maximum(groups, 0)], -1)
     return out, corr
+
+
+def _match_cut_beat(
+    window: np.ndarray, start: int, n: int, templates: list[np.ndarray]
+) -> tuple[int, float]:
+    """Best group for a beat whose window runs past the record: correlate the recorded part."""
+    k = np.arange(window.shape[0]) + start
+    valid = (k >= 0) & (k < n)
+    if valid.sum() < 0.5 * valid.size or not templates:
+        return -1, 0.0
+    part, _ = _normalise(window[valid][None].astype(np.float64))
+    best, best_c = -1, CORRELATION_MIN
+    for g, t in enumerate(templates):
+        tz, _ = _normalise(t[valid][None].astype(np.float64))
+        c = float(part[0] @ tz[0])
+        if c >= best_c:
+            best, best_c = g, c
+    return best, (best_c if best >= 0 else 0.0)
 
 
 def classify_beats(
@@ -172,7 +225,13 @@ def classify_beats(
 
 
 def _align(
-    x: np.ndarray, r: np.ndarray, template: np.ndarray, pre: int, post: int, max_lag: int
+    x: np.ndarray,
+    leads: np.ndarray,
+    r: np.ndarray,
+    template: np.ndarray,
+    pre: int,
+    post: int,
+    max_lag: int,
 ) -> np.ndarray:
     """Shift of each beat (samples, |shift| <= max_lag) maximising correlation with template."""
     t = template - template.mean(axis=0, keepdims=True)
@@ -181,11 +240,13 @@ def _align(
         return np.zeros(r.size, dtype=np.int64)
     lags = np.arange(-max_lag, max_lag + 1)
     scores = np.empty((r.size, lags.size))
-    for j, lag in enumerate(lags):
-        seg = _windows(x, r + lag, pre, post).astype(np.float64)
-        seg -= seg.mean(axis=1, keepdims=True)
+    wide = _windows(x, r, pre + max_lag, post + max_lag, leads).astype(np.float64)
+    width = pre + post + 1
+    for j in range(lags.size):
+        seg = wide[:, j : j + width]
+        seg = seg - seg.mean(axis=1, keepdims=True)
         num = np.einsum("bwl,wl->b", seg, t)
-        den = np.linalg.norm(seg.reshape(r.size, -1), axis=1) * tn
+        den = np.sqrt(np.einsum("bwl,bwl->b", seg, seg)) * tn
         scores[:, j] = np.where(den > 0, num / np.where(den > 0, den, 1.0), -np.inf)
     best = np.argmax(scores, axis=1)
     # Ties (e.g. identical copies) resolve to the smallest |lag|: argmax takes the first, so
@@ -227,26 +288,25 @@ def representative_beat(
     all_r = np.array([b.r for b in beats], dtype=np.int64)
     rr = np.diff(np.sort(all_r))
     rr_med = float(np.median(rr)) / fs_hz if rr.size else np.inf
-    pre = int(round(min(REP_PRE_S, REP_PRE_RR * rr_med) * fs_hz))
-    post = int(round(min(REP_POST_S, REP_POST_RR * rr_med) * fs_hz))
-    max_lag = max(2, int(round(ALIGN_MAX_S * fs_hz)))
+    pre = round(min(REP_PRE_S, REP_PRE_RR * rr_med) * fs_hz)
+    post = round(min(REP_POST_S, REP_POST_RR * rr_med) * fs_hz)
+    max_lag = max(2, round(ALIGN_MAX_S * fs_hz))
     fits = (dom - pre - max_lag >= 0) & (dom + post + max_lag < n)
     dom = dom[fits]
     if dom.size == 0:
         return None
-    a_pre = int(round(ALIGN_PRE_S * fs_hz))
-    a_post = int(round(ALIGN_POST_S * fs_hz))
-    xu = x[:, usable]
-    qrs = _windows(xu, dom, a_pre, a_post)
-    template = np.median(qrs, axis=0)
+    a_pre = round(ALIGN_PRE_S * fs_hz)
+    a_post = round(ALIGN_POST_S * fs_hz)
+    qrs = _windows(x, dom, a_pre, a_post, usable)
+    template = median_axis0(qrs)
     if dom.size > MAX_REP_BEATS:
         # Long records: keep the beats most like the template (before the costlier alignment).
         z, _ = _normalise(qrs.astype(np.float64))
         tz, _ = _normalise(template[None].astype(np.float64))
         keep = np.argsort(-(z @ tz[0]), kind="stable")[:MAX_REP_BEATS]
         dom = np.sort(dom[keep])
-        template = np.median(_windows(xu, dom, a_pre, a_post), axis=0)
-    aligned = dom + _align(xu, dom, template, a_pre, a_post, max_lag)
+        template = median_axis0(_windows(x, dom, a_pre, a_post, usable))
+    aligned = dom + _align(x, usable, dom, template, a_pre, a_post, max_lag)
     seg = _windows(x, aligned, pre, post)
-    wave = np.median(seg, axis=0).astype(np.float32)
+    wave = median_axis0(seg).astype(np.float32)
     return RepresentativeBeat(waveform_mv=wave, r_index=pre, n_beats_used=int(aligned.size))

@@ -16,13 +16,23 @@ from __future__ import annotations
 
 import numpy as np
 
+from reviewapp.core.dsp.beats import REP_POST_RR, REP_POST_S
+from reviewapp.core.dsp.delineate_align import ALIGN_SPEC, align_lags
 from reviewapp.core.dsp.delineate_core import (
+    N_MARKS,
+    P_OFF,
+    P_ON,
+    P_PEAK,
+    QRS_ON,
+    R_PEAK,
+    T_OFF,
+    T_PEAK,
     BlockBounds,
     DelineationParams,
     delineate_block,
     prefilter,
 )
-from reviewapp.core.fiducials import Beat, RepresentativeBeat, WaveMarks
+from reviewapp.core.fiducials import Beat, BeatKind, RepresentativeBeat, WaveMarks
 
 _MARK_ORDER = ("p_on", "p_off", "qrs_on", "qrs_off", "t_off", "p_peak", "r_peak", "t_peak")
 
@@ -30,6 +40,18 @@ _MARK_ORDER = ("p_on", "p_off", "qrs_on", "qrs_off", "t_off", "p_peak", "r_peak"
 def _marks_from_row(row: np.ndarray, offset: int = 0) -> WaveMarks:
     vals = {n: (None if v < 0 else int(v) + offset) for n, v in zip(_MARK_ORDER, row, strict=True)}
     return WaveMarks(**vals)
+
+
+def _rep_rr_samples(n: int, r_index: int, fs_hz: float) -> int:
+    """The RR the representative window was cut for, where its length tells (else -1).
+
+    beats.representative_beat ends the window at R + min(REP_POST_S, REP_POST_RR x RR); a
+    window shorter than REP_POST_S therefore gives RR = post / REP_POST_RR.
+    """
+    post = n - 1 - r_index
+    if post < int(round(REP_POST_S * fs_hz)) - 1:
+        return int(round(post / REP_POST_RR))
+    return -1
 
 
 def delineate_representative(
@@ -72,9 +94,73 @@ def delineate_representative(
         hi=np.array([n - 1]),
         p_lo=np.array([0]),
         t_hi=np.array([n - 1]),
+        rr=np.array([_rep_rr_samples(n, r_index, fs_hz)]),
     )
     glob, lead = delineate_block(block, bounds, usable, params)
     return _marks_from_row(glob[0]), tuple(_marks_from_row(lead[0, j]) for j in range(n_leads))
+
+
+# Below this correlation with the median beat, a beat is delineated on its own.
+ALIGN_MIN_CORR = 0.5
+# Peaks follow the lag of a boundary of the same wave.
+_PEAK_FOLLOWS = {P_PEAK: P_ON, R_PEAK: QRS_ON, T_PEAK: T_OFF}
+
+
+def _marks_from_rep(
+    filt: dict[str, np.ndarray],
+    fs_hz: float,
+    r: np.ndarray,
+    beats: tuple[Beat, ...],
+    usable: np.ndarray,
+    rep: RepresentativeBeat,
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Representative-beat boundaries carried to the dominant beats by local matching.
+
+    Returns (global (B, 8), per-lead (B, L, 8)) record indices (-1 absent) and a (B,) bool of
+    beats fully covered (dominant, every boundary present on the median beat matched with
+    correlation >= ALIGN_MIN_CORR).
+    """
+    nb, nl = r.size, len(usable)
+    glob = np.full((nb, N_MARKS), -1, dtype=np.int64)
+    lead = np.full((nb, nl, N_MARKS), -1, dtype=np.int64)
+    covered = np.array([b.kind == BeatKind.DOMINANT for b in beats])
+    dom = np.flatnonzero(covered)
+    if dom.size == 0:
+        return glob, lead, covered
+    ui = np.flatnonzero(usable)
+    rep_f = prefilter(np.asarray(rep.waveform_mv, dtype=np.float64)[:, ui], fs_hz)
+    rep_g = np.array([-1 if v is None else v for v in _mark_values(rep.marks)], dtype=np.int64)
+    rep_l = np.array(
+        [[-1 if v is None else v for v in _mark_values(m)] for m in rep.lead_marks], dtype=np.int64
+    ).reshape(-1, N_MARKS)
+    stride = max(1, int(round(fs_hz / 250.0)))
+
+    def to_s(ms: float) -> int:
+        return max(1, int(round(ms * fs_hz / 1000.0)))
+
+    lag_of = np.zeros((dom.size, N_MARKS), dtype=np.int64)
+    for col, (before_ms, after_ms, lag_ms, key) in enumerate(ALIGN_SPEC):
+        m = int(rep_g[col])
+        if m < 0:
+            continue
+        expected = r[dom] + (m - rep.r_index)
+        lags, corr = align_lags(
+            filt[key][:, ui], rep_f[key], expected, m, to_s(before_ms), to_s(after_ms),
+            to_s(lag_ms), stride,
+        )
+        covered[dom[corr < ALIGN_MIN_CORR]] = False
+        lag_of[:, col] = lags
+    for pk, col in _PEAK_FOLLOWS.items():
+        lag_of[:, pk] = lag_of[:, col]
+    base = (r[dom] - rep.r_index)[:, None] + lag_of  # (D, 8)
+    glob[dom] = np.where(rep_g[None, :] >= 0, base + rep_g[None, :], -1)
+    if rep_l.shape[0] == nl:
+        lead[dom] = np.where(rep_l[None] >= 0, base[:, None, :] + rep_l[None], -1)
+    return glob, lead, covered
+
+
+def _mark_values(m: WaveMarks) -> list[int | None]:
+    return [getattr(m, name) for name in _MARK_ORDER]
 
 
 def _rep_p_present(rep: RepresentativeBeat | None) -> bool | None:
@@ -117,18 +203,45 @@ def delineate_beats(
         return tuple(empty for _ in beats), tuple(tuple(empty for _ in range(n_leads)) for _ in beats)
     params = DelineationParams.for_fs(fs_hz)
     r = np.array([b.r for b in beats], dtype=np.int64)
+    filt = prefilter(x, fs_hz)
+    glob = np.full((len(r), N_MARKS), -1, dtype=np.int64)
+    lead = np.full((len(r), n_leads, N_MARKS), -1, dtype=np.int64)
+    own = np.ones(len(r), dtype=bool)
+    if rep is not None:
+        glob, lead, covered = _marks_from_rep(filt, fs_hz, r, beats, usable, rep)
+        own = ~covered
+    if own.any():
+        g_own, l_own = _delineate_own(filt, fs_hz, r, np.flatnonzero(own), usable, params)
+        glob[own], lead[own] = g_own, l_own
+    # Rhythm-level P decision: follow the representative beat when there is one.
+    if _rep_p_present(rep) is False:
+        glob[:, [P_ON, P_OFF, P_PEAK]] = -1
+        lead[:, :, [P_ON, P_OFF, P_PEAK]] = -1
+    g_marks = tuple(_marks_from_row(row) for row in glob)
+    l_marks = tuple(tuple(_marks_from_row(lead[b, j]) for j in range(n_leads)) for b in range(len(r)))
+    return g_marks, l_marks
+
+
+def _delineate_own(
+    filt: dict[str, np.ndarray],
+    fs_hz: float,
+    r_all: np.ndarray,
+    sel: np.ndarray,
+    usable: np.ndarray,
+    params: DelineationParams,
+) -> tuple[np.ndarray, np.ndarray]:
+    """Delineate beats ``sel`` on their own signal; record indices, -1 absent."""
+    n = filt["fast"].shape[0]
     pre = int(round(0.45 * fs_hz))
     post = int(round(0.80 * fs_hz))
-    filt = prefilter(x, fs_hz)
+    rr_prev_all = np.diff(r_all, prepend=r_all[0] - int(round(fs_hz)))
+    rr_next_all = np.diff(r_all, append=r_all[-1] + int(round(fs_hz)))
+    r = r_all[sel]
+    rr_prev = np.where(rr_prev_all[sel] <= 0, int(fs_hz), rr_prev_all[sel])
+    rr_next = np.where(rr_next_all[sel] <= 0, int(fs_hz), rr_next_all[sel])
     # Windows r-pre .. r+post; samples outside the record are edge-padded and masked by bounds.
-    offs = np.arange(-pre, post + 1)
-    idx = r[:, None] + offs[None, :]
-    idx_c = np.clip(idx, 0, n - 1)
+    idx_c = np.clip(r[:, None] + np.arange(-pre, post + 1)[None, :], 0, n - 1)
     block = {k: v[idx_c] for k, v in filt.items()}  # (B, W, L)
-    rr_prev = np.diff(r, prepend=r[0] - int(round(1.0 * fs_hz)))
-    rr_next = np.diff(r, append=r[-1] + int(round(1.0 * fs_hz)))
-    rr_prev = np.where(rr_prev <= 0, int(fs_hz), rr_prev)
-    rr_next = np.where(rr_next <= 0, int(fs_hz), rr_next)
     lo = np.maximum(0, pre - r)  # first in-record sample
     hi = np.minimum(pre + post, pre + (n - 1 - r))
     # T must end before the next beat's P: leave min(300 ms, 35 % RR) before the next R.
@@ -136,17 +249,9 @@ def delineate_beats(
     t_hi = np.minimum(hi, pre + rr_next - gap)
     # P of this beat starts after the previous beat's T: search at most 45 % of the RR back.
     p_lo = np.maximum(lo, pre - (0.45 * rr_prev).astype(int))
-    p_lo = np.maximum(p_lo, 0)
-    bounds = BlockBounds(r=np.full(len(r), pre), lo=lo, hi=hi, p_lo=p_lo, t_hi=t_hi)
+    bounds = BlockBounds(r=np.full(len(r), pre), lo=lo, hi=hi, p_lo=p_lo, t_hi=t_hi, rr=rr_next)
     glob, lead = delineate_block(block, bounds, usable, params)
-    # Rhythm-level P decision: follow the representative beat when there is one.
-    rep_has_p = _rep_p_present(rep)
-    if rep_has_p is False:
-        glob[:, [0, 1, 5]] = -1
-        lead[:, :, [0, 1, 5]] = -1
     shift = (r - pre)[:, None]
     glob = np.where(glob >= 0, glob + shift, -1)
     lead = np.where(lead >= 0, lead + shift[:, :, None], -1)
-    g_marks = tuple(_marks_from_row(row) for row in glob)
-    l_marks = tuple(tuple(_marks_from_row(lead[b, j]) for j in range(n_leads)) for b in range(len(r)))
-    return g_marks, l_marks
+    return glob, lead

@@ -29,7 +29,7 @@ from dataclasses import dataclass
 from functools import lru_cache
 
 import numpy as np
-from scipy import signal
+from scipy import ndimage, signal
 
 # Column order of the mark arrays returned by delineate_block.
 P_ON, P_OFF, QRS_ON, QRS_OFF, T_OFF, P_PEAK, R_PEAK, T_PEAK = range(8)
@@ -46,6 +46,9 @@ class DelineationParams:
     qrs_off_search: int  # samples after R searched for the last significant QRS slope
     qrs_off_limit: int  # samples after R searched for QRS end
     qrs_lead_slack: int = 0  # per-lead QRS marks stay within this of the global ones
+    qrs_env: int = 1  # moving-average length of the QRS slope envelope, samples
+    qrs_env_frac: float = 0.05  # the envelope below this fraction of its peak bounds the QRS
+    qrs_lead_global: bool = True  # per-lead QRS marks = global ones (LUDB: closer to readers)
     qrs_sig: float = 0.25  # "significant slope" fraction of the max QRS slope
     qrs_on_frac: float = 0.06  # onset where slope falls below this fraction of the max
     qrs_off_frac: float = 0.08
@@ -54,12 +57,17 @@ class DelineationParams:
     t_peak_limit: int = 0  # samples after R beyond which no T peak is sought
     t_xm_max: int = 0  # samples after the T peak searched for its steepest down-slope
     t_xr: int = 0  # samples from the steepest T down-slope to x_r
+    t_smooth: int = 1  # moving-average length applied to the T slope, samples
+    t_flank_frac: float = 0.3  # a T flank counts if its slope is this fraction of the steepest
     t_min_mv: float = 0.04  # smaller T waves count as absent in that lead
     p_gap: int = 0  # samples kept free before QRS onset
     p_max: int = 0  # samples before QRS onset searched for P
     p_xr: int = 0  # samples from the steepest P slopes to x_r
     p_xm_max: int = 0  # samples either side of the P peak searched for its steepest slopes
     p_min_mv: float = 0.03  # smaller P waves count as absent in that lead
+    p_on_q: float = 0.25  # global onset: this order statistic of the lead onsets (0 = earliest)
+    p_off_q: float = 0.75
+    t_off_q: float = 0.75
     p_min_lead_frac: float = 0.3  # global P needs a P in at least this fraction of usable leads
 
     @classmethod
@@ -80,10 +88,12 @@ DURATIONS_MS: dict[str, float] = {
     "qrs_off_search": 160,
     "qrs_off_limit": 260,
     "qrs_lead_slack": 20,
+    "qrs_env": 20,
     "t_start": 80,
     "t_peak_limit": 600,
     "t_xm_max": 150,
     "t_xr": 120,
+    "t_smooth": 30,
     "p_gap": 20,
     "p_max": 300,
     "p_xr": 50,
@@ -100,6 +110,7 @@ class BlockBounds:
     hi: np.ndarray  # last valid sample
     p_lo: np.ndarray  # earliest P onset allowed
     t_hi: np.ndarray  # latest T end allowed
+    rr: np.ndarray | None = None  # RR to the next beat, samples (<= 0 unknown)
 
 
 SLOW_HZ = 20.0  # low-pass for P and T (their content lies below ~15 Hz)
@@ -175,17 +186,41 @@ def qrs_bounds(
     fmax = np.max(np.where(_range_mask(w, c_lo, c_hi), f, 0.0), axis=1)
     floor = p.noise_mult * np.median(f, axis=1)
     sig = p.qrs_sig * fmax
-    thr_on = np.maximum(p.qrs_on_frac * fmax, floor)
-    thr_off = np.maximum(p.qrs_off_frac * fmax, floor)
     on_lo = np.maximum(lo, r - p.qrs_on_search)
+    off_lim = np.minimum(hi, r + p.qrs_off_limit)
+    # The complex ends where its smoothed slope envelope first drops near zero on either side
+    # of its peak; searching only inside that span keeps a steep P or T wave out of the QRS.
+    env = ndimage.uniform_filter1d(f, size=p.qrs_env, axis=1, mode="nearest")
+    env_pk = _masked_argmax(env, _range_mask(w, c_lo, c_hi))
+    low = env < (p.qrs_env_frac * _take(env, env_pk))[:, None]
+    e_on = _last_true(_range_mask(w, on_lo, env_pk) & low)
+    e_off = _first_true(_range_mask(w, env_pk, off_lim) & low)
+    on_lo = np.where(e_on >= 0, np.maximum(on_lo, e_on - p.qrs_env // 2), on_lo)
+    hi = np.where(e_off >= 0, np.minimum(hi, e_off + p.qrs_env // 2), hi)
+    # First significant slope lobe; the onset threshold is relative to that lobe's own peak
+    # (Martinez 2004: threshold on the first modulus maximum, not the largest one), so a small
+    # initial q wave is not cut off by a threshold set by the tall R.
     i0 = _first_true(_range_mask(w, on_lo, r) & (f > sig[:, None]))
     i0 = np.where(i0 < 0, r, i0)
+    falling = np.zeros_like(f, dtype=bool)
+    falling[:, :-1] = f[:, 1:] < f[:, :-1]
+    pk0 = _first_true(_range_mask(w, i0, r) & falling)
+    pk0 = np.where(pk0 < 0, i0, pk0)
+    thr_on = np.maximum(p.qrs_on_frac * _take(f, pk0), floor)
     on = _last_true(_range_mask(w, on_lo, i0) & (f < thr_on[:, None]))
     off_sig_hi = np.minimum(hi, r + p.qrs_off_search)
     i1 = _last_true(_range_mask(w, r, off_sig_hi) & (f > sig[:, None]))
     i1 = np.where(i1 < 0, r, i1)
-    off_hi = np.minimum(hi, r + p.qrs_off_limit)
+    rising = np.zeros_like(f, dtype=bool)
+    rising[:, 1:] = f[:, :-1] < f[:, 1:]
+    pk1 = _last_true(_range_mask(w, r, i1) & rising)
+    pk1 = np.where(pk1 < 0, i1, pk1)
+    thr_off = np.maximum(p.qrs_off_frac * _take(f, pk1), floor)
+    off_hi = np.minimum(hi, off_lim)
     off = _first_true(_range_mask(w, i1, off_hi) & (f < thr_off[:, None]))
+    # No sample below threshold inside the envelope span: the span's edge is the boundary.
+    on = np.where((on < 0) & (e_on >= 0), on_lo, on)
+    off = np.where((off < 0) & (e_off >= 0), hi, off)
     bad = fmax <= 0
     return np.where(bad, -1, on), np.where(bad, -1, off)
 
@@ -289,6 +324,8 @@ def delineate_block(
         on_min=rep(np.where(g_on >= 0, g_on - p.qrs_lead_slack, 0)),
         off_max=rep(np.where(g_off >= 0, g_off + p.qrs_lead_slack, w - 1)),
     )
+    if p.qrs_lead_global:
+        l_on, l_off = rep(g_on), rep(g_off)
     # A lead whose own boundary failed falls back to the global one.
     l_on = np.where(l_on < 0, rep(g_on), l_on)
     l_off = np.where(l_off < 0, rep(g_off), l_off)
@@ -306,26 +343,6 @@ def delineate_block(
     # R peak per lead: largest deflection of the fast signal inside its own QRS.
     qm = _range_mask(w, np.where(l_on >= 0, l_on, rep(r)), np.where(l_off >= 0, l_off, rep(r)))
     l_r = _masked_argmax(np.abs(xf - base[:, None]), qm)
-
-    # --- T wave ------------------------------------------------------------------------------
-    off_c = np.where(l_off >= 0, l_off, rep(r))
-    t_a = off_c + p.t_start
-    t_hi_rows = rep(bounds.t_hi)
-    t_b = np.minimum(t_hi_rows, rep(r) + p.t_peak_limit)
-    # Straight line through the ST point and the end of the search window removed, so an ST
-    # shift or the S-wave tail does not pass for the T peak.
-    yt = _detrend_between(y, t_a, t_b, k_iso)
-    t_win = _range_mask(w, t_a, t_b)
-    t_pk = _masked_argmax(np.abs(yt), t_win)
-    t_amp = np.abs(_take(yt, t_pk))
-    t_ok = (t_pk >= 0) & (t_amp >= p.t_min_mv) & (t_b > t_a)
-    # Steepest down-slope after the peak (towards baseline), then x_r beyond it.
-    dyt = np.gradient(yt, axis=1) * fs
-    down = -np.sign(_take(yt, t_pk))[:, None] * dyt  # positive where heading back to baseline
-    xm = _masked_argmax(down, _range_mask(w, t_pk, np.minimum(t_hi_rows, t_pk + p.t_xm_max)))
-    xr = np.minimum(t_hi_rows, xm + p.t_xr)
-    t_end = trapezium_boundary(yt, xm, xr)
-    t_ok &= t_end > t_pk
 
     # --- P wave ------------------------------------------------------------------------------
     p_b = np.where(l_on >= 0, l_on, rep(r)) - p.p_gap
@@ -346,6 +363,39 @@ def delineate_block(
     p_off = trapezium_boundary(yp, xm_off, xr_off)
     p_ok &= (p_on >= 0) & (p_off > p_on)
 
+    # Where the RR is known, T must end before the next beat's P (same PR as this beat).
+    p_on_b = _order_stat(np.where(p_ok, p_on, -1).reshape(nb, nu), p.p_on_q)
+    t_hi_b = bounds.t_hi.copy()
+    if bounds.rr is not None:
+        next_p = r + bounds.rr - np.where(p_on_b >= 0, r - p_on_b, 0) - p.p_gap
+        t_hi_b = np.where(bounds.rr > 0, np.minimum(t_hi_b, next_p), t_hi_b)
+
+    # --- T wave ------------------------------------------------------------------------------
+    off_c = np.where(l_off >= 0, l_off, rep(r))
+    t_a = off_c + p.t_start
+    t_hi_rows = rep(t_hi_b)
+    t_b = np.minimum(t_hi_rows, rep(r) + p.t_peak_limit)
+    # The T wave's flanks are its steepest slopes after the ST segment (the pair of opposite
+    # modulus maxima of Martinez 2004 at the T scale): the later significant flank is the one
+    # returning to baseline; its sign gives the polarity, the extreme before it is the peak.
+    t_win = _range_mask(w, t_a, t_b)
+    dyt = ndimage.uniform_filter1d(dy, size=p.t_smooth, axis=1, mode="nearest")
+    up = _masked_argmax(dyt, t_win)
+    dn = _masked_argmax(-dyt, t_win)
+    v_up = np.maximum(_take(dyt, up), 0.0)
+    v_dn = np.maximum(-_take(dyt, dn), 0.0)
+    big = np.maximum(v_up, v_dn)
+    up_sig = v_up >= p.t_flank_frac * big
+    dn_sig = v_dn >= p.t_flank_frac * big
+    last_is_dn = np.where(up_sig & dn_sig, dn > up, dn_sig)
+    xm = np.where(last_is_dn, dn, up)
+    pol = np.where(last_is_dn, 1.0, -1.0)  # +1: upright T (falls back to baseline)
+    t_pk = _masked_argmax(pol[:, None] * y, _range_mask(w, t_a, xm))
+    xr = np.minimum(t_hi_rows, xm + p.t_xr)
+    t_end = trapezium_boundary(y, xm, xr)
+    t_amp = np.abs(_take(y, t_pk) - _take(y, t_end))
+    t_ok = (t_pk >= 0) & (xm >= 0) & (t_amp >= p.t_min_mv) & (t_b > t_a) & (t_end > t_pk)
+
     # --- assemble per-lead ---------------------------------------------------------------------
     cols = np.full((nb * nu, N_MARKS), -1, dtype=np.int64)
     cols[:, QRS_ON], cols[:, QRS_OFF], cols[:, R_PEAK] = l_on, l_off, l_r
@@ -358,14 +408,16 @@ def delineate_block(
 
     # --- global P and T by multi-lead rules -----------------------------------------------------
     lu = lead[:, ui, :]
-    glob[:, T_OFF] = _order_stat(lu[:, :, T_OFF], 0.75)
+    glob[:, T_OFF] = _order_stat(lu[:, :, T_OFF], p.t_off_q)
     t_amp_b = np.where(t_ok, t_amp, -1.0).reshape(nb, nu)
     best_t = np.argmax(t_amp_b, axis=1)
+    if p.t_off_q < 0:
+        glob[:, T_OFF] = lu[np.arange(nb), best_t, T_OFF]
     glob[:, T_PEAK] = np.where(glob[:, T_OFF] >= 0, lu[np.arange(nb), best_t, T_PEAK], -1)
     n_p = (lu[:, :, P_ON] >= 0).sum(axis=1)
     has_p = n_p >= np.maximum(1, np.ceil(p.p_min_lead_frac * nu))
-    glob[:, P_ON] = np.where(has_p, _order_stat(lu[:, :, P_ON], 0.25), -1)
-    glob[:, P_OFF] = np.where(has_p, _order_stat(lu[:, :, P_OFF], 0.75), -1)
+    glob[:, P_ON] = np.where(has_p, _order_stat(lu[:, :, P_ON], p.p_on_q), -1)
+    glob[:, P_OFF] = np.where(has_p, _order_stat(lu[:, :, P_OFF], p.p_off_q), -1)
     p_amp_b = np.where(p_ok, p_amp, -1.0).reshape(nb, nu)
     best_p = np.argmax(p_amp_b, axis=1)
     glob[:, P_PEAK] = np.where(has_p, lu[np.arange(nb), best_p, P_PEAK], -1)

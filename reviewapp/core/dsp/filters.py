@@ -86,7 +86,7 @@ def detect_mains_hz(signal_mv: np.ndarray, fs_hz: float) -> float | None:
     best, best_ratio = None, MAINS_PROMINENCE
     df = f[1] - f[0]
     for f0 in cands:
-        k = int(round(f0 / df))
+        k = round(f0 / df)
         line = p[max(0, k - 1) : k + 2].max()
         side = (np.abs(f - f0) >= 3.0) & (np.abs(f - f0) <= 8.0)
         if not side.any():
@@ -128,9 +128,7 @@ def filter_plan(fs_hz: float, notch_hz: float | None) -> FilterPlan:
     return FilterPlan(fs_hz, HIGHPASS_HZ, lowpass, notch, sos)
 
 
-def condition(
-    signal_mv: np.ndarray, fs_hz: float, mains_hz: float | None = None
-) -> np.ndarray:
+def condition(signal_mv: np.ndarray, fs_hz: float, mains_hz: float | None = None) -> np.ndarray:
     """Zero-phase conditioning of an ECG: baseline removal, mains notch, low-pass.
 
     Method: one chain of second-order sections (``filter_plan``) applied forward and backward
@@ -162,7 +160,7 @@ def condition(
         return out[:, 0] if squeeze else out
     notch = mains_hz if mains_hz is not None else detect_mains_hz(x, fs_hz)
     plan = filter_plan(float(fs_hz), None if notch is None else float(notch))
-    padlen = min(n - 1, int(round(PAD_PERIODS * fs_hz / HIGHPASS_HZ)))
+    padlen = min(n - 1, round(PAD_PERIODS * fs_hz / HIGHPASS_HZ))
     # Filter along contiguous rows (leads x samples): sosfilt is several times faster so.
     xt = np.array(x.T, dtype=np.float64, order="C")
     # Remove each lead's first value so the reflection and the filter state start near zero;

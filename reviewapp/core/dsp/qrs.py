@@ -92,7 +92,7 @@ def _features(
     f = d * d
     typical, w = _lead_weights(f.T, int(LEVEL_BLOCK_S * fs_d))
     e = (w / typical) @ f
-    win = max(1, int(round(INTEGRATION_S * fs_d)))
+    win = max(1, round(INTEGRATION_S * fs_d))
     integ = ndimage.uniform_filter1d(e, size=win, mode="nearest")
     return np.sqrt(np.maximum(e, 0.0)), np.sqrt(np.maximum(integ, 0.0)), fs_d
 
@@ -116,7 +116,7 @@ def detection_feature(
     >>> fs_d, int(np.argmax(feat) * fs / fs_d) in range(1990, 2030)
     (166.66666666666666, True)
     """
-    slope, feat, fs_d = _features(conditioned_mv, fs_hz, usable)
+    _slope, feat, fs_d = _features(conditioned_mv, fs_hz, usable)
     return feat, fs_d
 
 
@@ -135,16 +135,26 @@ def _local_level(feature: np.ndarray, block: int) -> np.ndarray:
 def _refine_fiducial(
     conditioned_mv: np.ndarray, usable: np.ndarray, peaks: np.ndarray, half: int
 ) -> np.ndarray:
-    """Move each peak to the largest all-lead magnitude sqrt(sum x^2) within +-half samples."""
+    """Move each peak to the R peak along the record's dominant QRS direction (+-half samples).
+
+    The largest all-lead magnitude alone can flip between R and S from beat to beat when they
+    are of similar size; projecting every lead onto one spatial direction (the principal axis
+    of the magnitude peaks, signed towards the larger deflection) picks the same wave in every
+    beat of one morphology.
+    """
     if peaks.size == 0:
         return peaks
     n = conditioned_mv.shape[0]
     offs = np.arange(-half, half + 1)
     idx = np.clip(peaks[:, None] + offs[None, :], 0, n - 1)
-    x = conditioned_mv[:, usable]
-    seg = x[idx]  # (n_peaks, 2*half+1, n_usable)
+    seg = np.asarray(conditioned_mv[:, usable], dtype=np.float64)[idx]  # (beats, 2h+1, leads)
     mag = np.einsum("bwl,bwl->bw", seg, seg)
-    return idx[np.arange(peaks.size), np.argmax(mag, axis=1)]
+    rows = np.arange(peaks.size)
+    tops = seg[rows, np.argmax(mag, axis=1)]  # (beats, leads) vectors at the magnitude peaks
+    _, _, vt = np.linalg.svd(tops, full_matrices=False)
+    proj = seg @ vt[0]
+    sign = 1.0 if np.median(proj.max(axis=1)) >= np.median((-proj).max(axis=1)) else -1.0
+    return idx[rows, np.argmax(sign * proj, axis=1)]
 
 
 def detect_qrs(conditioned_mv: np.ndarray, fs_hz: float, usable: np.ndarray) -> np.ndarray:
@@ -156,8 +166,10 @@ def detect_qrs(conditioned_mv: np.ndarray, fs_hz: float, usable: np.ndarray) -> 
     local typical QRS level (median of 2-s block maxima over +-6 s); a peak within 360 ms of
     the previous QRS with under half its maximal slope is a T wave; gaps longer than 166 % of the
     local median RR are searched again at half the threshold. The fiducial point is the
-    sample of largest all-lead magnitude sqrt(sum_leads x^2) within +-80 ms, the same rule for
-    every beat (so beats align; it sits on the R/S peak of the largest leads).
+    largest deflection within +-80 ms along the record's dominant spatial QRS direction
+    (principal axis of the all-lead vectors at each beat's largest magnitude, signed towards
+    the larger deflection): the same rule for every beat, so beats of one morphology align on
+    the same wave (the R or S peak of the largest leads).
 
     Parameters:
         conditioned_mv: (n_samples, n_leads) output of ``condition``.
@@ -180,14 +192,14 @@ def detect_qrs(conditioned_mv: np.ndarray, fs_hz: float, usable: np.ndarray) -> 
         return empty
     slope, feat, fs_d = _features(x, fs_hz, usable)
     k = decimation_factor(fs_hz)
-    refr = max(1, int(round(REFRACTORY_S * fs_d)))
+    refr = max(1, round(REFRACTORY_S * fs_d))
     # Zero guards at both ends so a QRS cut by the record edge still forms a peak.
     peaks, _ = signal.find_peaks(np.concatenate([[0.0], feat, [0.0]]), distance=refr)
     peaks = peaks - 1
     if peaks.size == 0:
         return empty
     heights = feat[peaks]
-    win = max(1, int(round(INTEGRATION_S * fs_d)))
+    win = max(1, round(INTEGRATION_S * fs_d))
     slopes = ndimage.maximum_filter1d(slope, size=win, mode="nearest")[peaks]
     block = max(1, int(LEVEL_BLOCK_S * fs_d))
     level = _local_level(feat, block)[peaks // block]
@@ -195,7 +207,7 @@ def detect_qrs(conditioned_mv: np.ndarray, fs_hz: float, usable: np.ndarray) -> 
     accepted = _accept(peaks, heights, slopes, thr, fs_d)
     accepted = _search_back(peaks, heights, slopes, thr, accepted, fs_d)
     coarse = peaks[accepted] * k + (k - 1) // 2
-    r = _refine_fiducial(x, usable, coarse, int(round(FIDUCIAL_SEARCH_S * fs_hz)))
+    r = _refine_fiducial(x, usable, coarse, round(FIDUCIAL_SEARCH_S * fs_hz))
     return np.unique(r).astype(np.int64)
 
 

@@ -97,6 +97,26 @@ def open_record(
     """
     path = Path(path)
     fmt = detect_format(path)
+    try:
+        return _open_as(path, fmt, fs_hz=fs_hz, units=units)
+    except RecordError:
+        raise
+    except MemoryError:
+        raise RecordError(f"not enough memory to read this {fmt} file", path) from None
+    except Exception as err:
+        # Readers wrap every failure they know of; anything else is a reader bug. The user
+        # still gets one line naming the file, and the fuzz tests look for this wording.
+        raise RecordError(
+            f"{UNEXPECTED} while reading {fmt} ({type(err).__name__}: {err}); "
+            "please report this file",
+            path,
+        ) from err
+
+
+UNEXPECTED = "unexpected failure"
+
+
+def _open_as(path: Path, fmt: str, *, fs_hz: float | None, units: str | None) -> Record:
     if fmt != "WFDB" and not path.is_file():
         raise RecordError("file not found" if not path.exists() else "not a regular file", path)
     if fmt == "WFDB":

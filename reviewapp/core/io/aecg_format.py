@@ -116,7 +116,10 @@ def read_aecg(path: Path, *, series: Series = "rhythm") -> Record:
         raise RecordError("no waveform series in the aECG file", path)
     fs_hz, names, columns, more_notes = _read_series(chosen, path)
     notes += more_notes
-    data = np.ascontiguousarray(np.column_stack(columns), dtype=np.float32)
+    with np.errstate(over="ignore", invalid="ignore"):
+        data = np.ascontiguousarray(np.column_stack(columns), dtype=np.float32)
+    if not np.isfinite(data).all():
+        raise RecordError("origin and scale give values beyond any voltage", path)
     data.setflags(write=False)
     leads = [LeadInfo(name=n, original_name=o, units="mV") for n, o in names]
     return build_record(
@@ -146,7 +149,7 @@ def _parse(path: Path) -> Element:
         raise RecordError(f"refused unsafe XML: {err}", path) from None
     except StdET.ParseError as err:
         raise RecordError(f"not well-formed XML: {err}", path) from None
-    except (UnicodeError, ValueError) as err:
+    except (UnicodeError, ValueError, LookupError) as err:
         raise RecordError(f"cannot decode XML: {err}", path) from None
     except RecursionError:
         raise RecordError("XML is nested too deeply", path) from None

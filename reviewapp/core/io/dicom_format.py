@@ -172,7 +172,10 @@ def _read_group(ds: Dataset, g: Dataset, index: int, notes: list[str], path: Pat
             + ", ".join(str(k + 1) for k in assumed)
             + "; assumed uV"
         )
-    data = np.ascontiguousarray(out, dtype=np.float32)
+    with np.errstate(over="ignore", invalid="ignore"):
+        data = np.ascontiguousarray(out, dtype=np.float32)
+    if not np.isfinite(data).all():
+        raise RecordError("sensitivity or baseline give values beyond any voltage", path)
     data.setflags(write=False)
     lead_infos = [
         LeadInfo(name=n, original_name=n, units="mV", **facts)

@@ -68,9 +68,12 @@ class EdfSource:
                             f"signal {ch + 1} holds fewer samples than its header declares",
                             self.path,
                         )
-                    out[:, j] = x * self.factors_to_mv[j]
+                    with np.errstate(over="ignore", invalid="ignore"):
+                        out[:, j] = x * self.factors_to_mv[j]
         finally:
             reader.close()
+        if np.isinf(out).any():
+            raise RecordError("physical range gives values beyond any voltage", self.path)
         return out
 
 

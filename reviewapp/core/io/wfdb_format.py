@@ -61,6 +61,7 @@ _MAX_HEADER_BYTES = 1_000_000
 _MAX_SIG_LEN = 100_000_000_000
 
 HEADER_SUFFIX = ".hea"
+_MIN_ABS_GAIN = 1e-6
 
 
 def record_base(path: Path) -> Path:
@@ -119,7 +120,11 @@ class WfdbWindowSource:
             raise RecordError(
                 f"WFDB signal read returned {got} for samples {start}:{stop}", self.header_path
             )
-        return np.asarray(sig, dtype=np.float32) * self.factors_to_mv
+        with np.errstate(over="ignore", invalid="ignore"):
+            out = np.asarray(sig, dtype=np.float32) * self.factors_to_mv
+        if np.isinf(out).any():
+            raise RecordError("gain and baseline give values beyond any voltage", self.header_path)
+        return out
 
 
 @dataclass(frozen=True, eq=False)
@@ -137,6 +142,7 @@ class Format212Source:
     total_samples: int
     gain_per_mv: np.ndarray  # (n_signals,) adu per mV
     baseline: np.ndarray  # (n_signals,)
+    path: Path | None = None  # for error messages
 
     @property
     def n_samples(self) -> int:
@@ -160,6 +166,11 @@ class Format212Source:
         flat[0::2] = raw[:, 0] | ((raw[:, 1] & 0x0F) << 8)
         flat[1::2] = raw[:, 2] | ((raw[:, 1] & 0xF0) << 4)
         flat[flat > 2047] -= 4096
+        if flat.size < last - pair0 * 2:
+            raise RecordError(
+                f"format 212 signal file ends before sample {stop} of {self.total_samples}",
+                self.path,
+            )
         d = flat[first - pair0 * 2 : last - pair0 * 2].reshape(stop - start, self.n_signals)
         out = (d.astype(np.float32) - self.baseline.astype(np.float32)) / self.gain_per_mv.astype(
             np.float32
@@ -241,6 +252,22 @@ def _check_record_line(hea: Path) -> str | None:
     return None
 
 
+def _length_from_file_size(base: Path, hea: Path, header: wfdb.Record) -> int:
+    """Samples per signal implied by the first signal file's size (header(5): length optional)."""
+    name = header.file_name[0]
+    chans = [c for c, f in enumerate(header.file_name) if f == name]
+    fmt = header.fmt[chans[0]]
+    fpath = base.with_name(name)
+    if fmt not in _BITS_PER_SAMPLE or not fpath.is_file():
+        raise RecordError("header gives no signal length and it cannot be told from the file", hea)
+    offset = max(int(header.byte_offset[chans[0]] or 0), 0)
+    spf = sum(int(header.samps_per_frame[c] or 1) for c in chans)
+    n = int(max(fpath.stat().st_size - offset, 0) * 8 // (_BITS_PER_SAMPLE[fmt] * spf))
+    if n <= 0:
+        raise RecordError(f"signal file {name} holds no samples", hea)
+    return n
+
+
 def _check_fs(fs: object, hea: Path) -> float:
     try:
         fs_hz = float(fs)  # type: ignore[arg-type]
@@ -315,8 +342,8 @@ def _check_signal_files(base: Path, hea: Path, header: wfdb.Record, sig_len: int
         spf = sum(int(header.samps_per_frame[c] or 1) for c in chans)
         need = offset + _expected_bytes(fmt, sig_len, spf)
         have = fpath.stat().st_size
-        # Format 212/310/311 pack samples in groups; allow the last partial group.
-        slack = 3 if fmt in ("212", "310", "311") else 0
+        # Formats 310/311 pack three samples in a 32-bit word; allow the last partial word.
+        slack = 3 if fmt in ("310", "311") else 0
         if have + slack < need:
             held = max(have - offset, 0) * 8 // int(_BITS_PER_SAMPLE[fmt] * spf or 1)
             raise RecordError(
@@ -356,6 +383,7 @@ def _memmap_source(
                     n_signals=len(chans),
                     total_samples=sig_len,
                     gain_per_mv=gains.astype(np.float32),
+                    path=base.with_name(name),
                     baseline=np.array(
                         [float(header.baseline[c] or 0) for c in chans], dtype=np.float32
                     ),
@@ -414,14 +442,21 @@ def _read_single_segment(base: Path, hea: Path, header: wfdb.Record, units: str 
     n_sig = int(header.n_sig or 0)
     if n_sig <= 0 or not header.sig_name:
         raise RecordError("the header declares no signals", hea)
+    notes: list[str] = []
+    if header.sig_len is None:
+        header.sig_len = _length_from_file_size(base, hea, header)
+        notes.append(f"signal length not in the header; {header.sig_len} samples from file size")
     sig_len = _check_sig_len(header.sig_len, hea)
     with reading(hea, "WFDB header"):
         _check_signal_files(base, hea, header, sig_len)
         gains = [float(g) for g in header.adc_gain]
-    if not all(math.isfinite(g) and g != 0 for g in gains):
-        raise RecordError(f"ADC gains must be finite and non-zero, header says {gains}", hea)
+    # Below 1e-6 adu per unit one step would exceed a kilovolt: a damaged header, and float32
+    # mV values could overflow.
+    if not all(math.isfinite(g) and abs(g) >= _MIN_ABS_GAIN for g in gains):
+        raise RecordError(f"ADC gains must be finite and not near zero, header says {gains}", hea)
     names = [str(n) for n in header.sig_name]
-    kept, factors, unit_names, notes = _units_factors(names, list(header.units), units, hea)
+    kept, factors, unit_names, unit_notes = _units_factors(names, list(header.units), units, hea)
+    notes += unit_notes
     source: SignalSource | None = None
     with reading(hea, "WFDB signal file"):
         source = _memmap_source(base, header, kept, factors, sig_len)

@@ -18,7 +18,17 @@ from typing import Any
 
 from reviewapp.core.errors import MarksError
 from reviewapp.core.marks.errors import FutureVersionError, UnreadableSidecarError
-from reviewapp.core.marks.model import FORMAT_NAME, SCHEMA_VERSION, Sidecar, sidecar_from_json
+from reviewapp.core.marks.model import (
+    FORMAT_NAME,
+    SCHEMA_VERSION,
+    AuditEvent,
+    AutomaticMarks,
+    Sidecar,
+    automatic_to_json,
+    event_to_json,
+    sidecar_from_json,
+    sidecar_to_json,
+)
 
 MAX_SIDECAR_BYTES = 50 * 1024 * 1024
 MAX_DEPTH = 32
@@ -157,18 +167,26 @@ def decode(data: bytes, path: Path | None) -> Sidecar:
         ) from None
 
 
-def encode(sidecar: Sidecar, path: Path | None = None) -> bytes:
-    """``Sidecar`` -> validated, diff-friendly bytes (sorted keys, indent 2, trailing newline)."""
-    from reviewapp.core.marks.model import sidecar_to_json
+def encode(sidecar: Sidecar, path: Path | None = None, trusted: Sidecar | None = None) -> bytes:
+    """``Sidecar`` -> validated, diff-friendly bytes (sorted keys, indent 2, trailing newline).
 
-    doc = sidecar_to_json(sidecar)
+    ``trusted``: a sidecar already validated (as loaded, or as last encoded). Audit events it
+    shares with ``sidecar`` (the same objects: the trail only grows) and an unchanged
+    ``automatic`` are not validated again, and each event's text is rendered once, so a
+    save costs about the same however long the trail grows.
+    """
+    doc = sidecar_to_json(sidecar, with_audit=False)
+    n = 0 if trusted is None else _shared_prefix(trusted.audit, sidecar.audit)
+    check = {**doc, "audit": [event_to_json(e) for e in sidecar.audit[n:]]}
+    if trusted is not None and sidecar.automatic is not None:
+        if sidecar.automatic is trusted.automatic:
+            check["automatic"] = None
     try:
-        validate_document(doc, path)
+        validate_document(check, path)
     except UnreadableSidecarError as exc:
         raise MarksError(f"marks not saved, they are not valid: {exc.problem}", path) from None
     try:
-        text = json.dumps(doc, sort_keys=True, indent=2, ensure_ascii=False, allow_nan=False)
-        data = (text + "\n").encode("utf-8")
+        data = (_render(doc, sidecar) + "\n").encode("utf-8")
     except (ValueError, UnicodeEncodeError) as exc:
         raise MarksError(
             f"marks not saved, a value cannot be written: {_short(exc)}", path
@@ -176,6 +194,69 @@ def encode(sidecar: Sidecar, path: Path | None = None) -> bytes:
     if len(data) > MAX_SIDECAR_BYTES:
         raise MarksError("marks not saved: they would exceed the size limit", path)
     return data
+
+
+def dumps(doc: Any) -> str:
+    """The one text form: sorted keys, indent 2, UTF-8 characters as is, no NaN."""
+    return json.dumps(doc, sort_keys=True, indent=2, ensure_ascii=False, allow_nan=False)
+
+
+# Rendered text of audit events (by event id, with the event object to check identity) and of
+# the last automatic marks: the indenting encoder is pure Python, so each is rendered once.
+_EVENT_TEXT: dict[str, tuple[AuditEvent, str]] = {}
+_AUTO_TEXT: list[tuple[AutomaticMarks, str]] = []
+_SENTINEL = "\u0000automatic\u0000"
+
+
+def _event_text(e: AuditEvent) -> str:
+    hit = _EVENT_TEXT.get(e.id)
+    if hit is not None and hit[0] is e:
+        return hit[1]
+    text = _indent(dumps(event_to_json(e)), 4)
+    if len(_EVENT_TEXT) > 200_000:
+        _EVENT_TEXT.clear()
+    _EVENT_TEXT[e.id] = (e, text)
+    return text
+
+
+def _automatic_text(a: AutomaticMarks) -> str:
+    if _AUTO_TEXT and _AUTO_TEXT[0][0] is a:
+        return _AUTO_TEXT[0][1]
+    text = _indent(dumps(automatic_to_json(a)), 2).lstrip()
+    _AUTO_TEXT[:] = [(a, text)]
+    return text
+
+
+def _indent(text: str, spaces: int) -> str:
+    pad = " " * spaces
+    return "\n".join(pad + line for line in text.split("\n"))
+
+
+def _render(doc: dict[str, Any], sidecar: Sidecar) -> str:
+    """Exactly ``dumps(full document)``, assembled from cached pieces."""
+    top = {**doc, "audit": []}
+    if sidecar.automatic is not None:
+        top["automatic"] = _SENTINEL
+    text = dumps(top)
+    # "audit" sorts first of the top-level keys, "automatic" second, before any user text.
+    head = '{\n  "audit": []'
+    assert text.startswith(head)
+    if sidecar.audit:
+        events = ",\n".join(_event_text(e) for e in sidecar.audit)
+        text = '{\n  "audit": [\n' + events + "\n  ]" + text[len(head) :]
+    if sidecar.automatic is not None:
+        marker = '"automatic": ' + json.dumps(_SENTINEL)
+        text = text.replace(marker, '"automatic": ' + _automatic_text(sidecar.automatic), 1)
+    return text
+
+
+def _shared_prefix(a: tuple, b: tuple) -> int:
+    n = 0
+    for x, y in zip(a, b, strict=False):
+        if x is not y:
+            break
+        n += 1
+    return n
 
 
 def _short(value: Any, limit: int = 160) -> str:

@@ -374,8 +374,8 @@ def event_from_json(d: Mapping[str, Any]) -> AuditEvent:
     )
 
 
-def sidecar_to_json(s: Sidecar) -> dict[str, Any]:
-    return {
+def sidecar_to_json(s: Sidecar, *, with_audit: bool = True) -> dict[str, Any]:
+    doc = {
         "format": FORMAT_NAME,
         "schema_version": s.schema_version,
         "record": {
@@ -387,8 +387,12 @@ def sidecar_to_json(s: Sidecar) -> dict[str, Any]:
         },
         "automatic": None if s.automatic is None else automatic_to_json(s.automatic),
         "readings": {r.reviewer: reading_to_json(r) for r in s.readings},
-        "audit": [event_to_json(e) for e in s.audit],
-    } | ({} if s.listing_cache is None else {"listing_cache": dict(s.listing_cache)})
+    }
+    if s.listing_cache is not None:
+        doc["listing_cache"] = dict(s.listing_cache)
+    if with_audit:
+        doc["audit"] = [event_to_json(e) for e in s.audit]
+    return doc
 
 
 def sidecar_from_json(d: Mapping[str, Any]) -> Sidecar:

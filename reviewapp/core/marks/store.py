@@ -371,7 +371,7 @@ class MarksStore:
     def _stage(self, sidecar: Sidecar) -> None:
         """Make ``sidecar`` the unsaved state, encoding it first: a value that cannot be
         written (invalid, unencodable) is refused here and leaves the state unchanged."""
-        data = codec.encode(sidecar, self.path)
+        data = codec.encode(sidecar, self.path, trusted=self._sidecar)
         self._sidecar = sidecar
         self._pending = data
         self._dirty = True
@@ -404,17 +404,17 @@ class MarksStore:
         if self.read_only:
             raise ReadOnlyError("this marks file was opened read-only", self.path)
         old = self._sidecar.automatic
+        new = self._sidecar
         if listing_cache is not None:
-            self._sidecar = replace(self._sidecar, listing_cache=dict(listing_cache))
-            self._dirty = True
-        if old == automatic:
+            new = replace(new, listing_cache=dict(listing_cache))
+        if old != automatic:
+            event = self._event(
+                "set_automatic", "automatic marks", _summary(old), _summary(automatic)
+            )
+            new = replace(new, automatic=automatic, audit=(*new.audit, event))
+        if new != self._sidecar:
+            self._stage(new)
             self.save()
-            return
-        event = self._event("set_automatic", "automatic marks", _summary(old), _summary(automatic))
-        self._stage(
-            replace(self._sidecar, automatic=automatic, audit=(*self._sidecar.audit, event))
-        )
-        self.save()
 
     # --- saving and conflicts ---------------------------------------------------------------
 

@@ -219,6 +219,7 @@ CSV_COLUMNS: tuple[str, ...] = (
     "n_findings",
     "engine_version",
     "error",
+    "caution",
 )
 
 
@@ -347,6 +348,7 @@ def csv_text(results: Iterable[Mapping[str, Any]]) -> str:
 def csv_row(d: Mapping[str, Any]) -> dict[str, Any]:
     row: dict[str, Any] = dict.fromkeys(CSV_COLUMNS)
     row["record"], row["path"] = d.get("record"), d.get("path")
+    row["caution"] = CLINICAL_CAUTION  # every export carries it, CSV included
     if "error" in d:
         row["error"] = d["error"]
         return row

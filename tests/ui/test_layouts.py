@@ -1,0 +1,75 @@
+"""Every layout shows every lead; standard and Cabrera orders; 1 mV pulses; rhythm strips."""
+
+from __future__ import annotations
+
+import pytest
+
+from reviewapp.core.record import STANDARD_12
+from reviewapp.ui.layouts import LAYOUTS, build_layout
+
+
+@pytest.mark.parametrize("key", list(LAYOUTS))
+def test_each_layout_shows_all_leads_on_the_paper(loaded, key):
+    w = loaded
+    w.set_layout(key)
+    shown = {t.cell.lead for t in w.paper.traces}
+    assert shown == set(w.record.lead_names) == set(STANDARD_12)
+    labels = {
+        item.textItem.toPlainText() for item in w.paper._furniture if hasattr(item, "textItem")
+    }
+    assert set(STANDARD_12) <= labels
+    # One 1 mV calibration pulse per row, as tall as the gain.
+    from reviewapp.ui.traces import CalibrationPulse
+
+    pulses = [i for i in w.paper._furniture if isinstance(i, CalibrationPulse)]
+    assert len(pulses) == w.paper.geom.layout.n_rows
+    h = pulses[0].boundingRect().height() - 2  # minus the 1 mm pad each side
+    assert h == pytest.approx(w.scale.gain_mm_per_mv)
+
+
+def test_3x4_grid_and_rhythm_strips():
+    lay = build_layout("3x4+3", STANDARD_12, 10.0, rhythm_leads=("V1", "II", "V5"))
+    grid = [c for c in lay.cells if not c.rhythm]
+    rhythm = [c for c in lay.cells if c.rhythm]
+    # Conventional 3x4 print: columns I-III, aVR-aVF, V1-V3, V4-V6, each 2.5 s of a 10 s page.
+    assert [[c.lead for c in grid if c.col == k] for k in range(4)] == [
+        ["I", "II", "III"],
+        ["aVR", "aVL", "aVF"],
+        ["V1", "V2", "V3"],
+        ["V4", "V5", "V6"],
+    ]
+    assert {(c.t0_s, c.t1_s) for c in grid if c.col == 1} == {(2.5, 5.0)}
+    assert [c.lead for c in rhythm] == ["V1", "II", "V5"]
+    assert all(c.t0_s == 0.0 and c.t1_s == 10.0 for c in rhythm)
+
+
+def test_cabrera_order():
+    # Cabrera sequence (frontal-plane order; e.g. Anderson et al., "The Cabrera format",
+    # J Electrocardiol 2000 — from memory): aVL, I, -aVR, II, aVF, III.
+    lay = build_layout("12x1", STANDARD_12, 10.0, order="cabrera")
+    assert [c.label for c in lay.cells][:6] == ["aVL", "I", "-aVR", "II", "aVF", "III"]
+    assert [c.inverted for c in lay.cells][2] is True
+
+
+def test_cabrera_in_window_inverts_avr(loaded):
+    import numpy as np
+
+    w = loaded
+    w.set_layout("12x1")
+    w.act_cabrera.trigger()
+    avr = next(t for t in w.paper.traces if t.cell.lead == "aVR")
+    assert avr.cell.inverted and avr.cell.row == 2
+    g = w.paper.geom
+    _x, y = avr.getData()
+    raw = w.record.window(0, g.page_samples)[:, w.record.lead_index("aVR")]
+    # Drawn y (mm, down) = baseline + mV * gain when inverted.
+    assert np.nanmax(y) == pytest.approx(
+        g.baseline_y(2) + np.nanmax(raw) * w.scale.gain_mm_per_mv, abs=0.05
+    )
+
+
+def test_extra_leads_are_kept(loaded):
+    names = (*STANDARD_12, "X", "Y", "Z")
+    for key in LAYOUTS:
+        lay = build_layout(key, names, 10.0)
+        assert lay.leads_shown() == set(names)

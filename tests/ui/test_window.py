@@ -1,0 +1,198 @@
+"""Everyday use: opening, errors as dialogs, drag and drop, state, help, About, CLI."""
+
+from __future__ import annotations
+
+import argparse
+from pathlib import Path
+
+import pytest
+from PySide6 import QtCore, QtGui, QtWidgets
+
+from reviewapp import CLINICAL_CAUTION
+
+
+def test_open_sample_folder_lists_it_and_opens_first_record(window, sample_records_dir, qtbot):
+    if not sample_records_dir.is_dir():
+        pytest.skip("no sample_records folder in this checkout")
+    assert window.open_path(sample_records_dir, analyse_now=True)
+    assert window.record is not None and window.session is not None
+    assert window.records_list.count() >= 1
+    first = Path(window.records_list.item(0).data(QtCore.Qt.ItemDataRole.UserRole))
+    assert window.record.name == first.stem
+
+
+def test_open_ptb_by_path_matches_wfdb(window, shared_data):
+    import wfdb
+
+    hea = shared_data / "ptbdb" / "s0010_re.hea"
+    assert window.open_path(hea, analyse_now=True)
+    ref = wfdb.rdheader(str(hea.with_suffix("")))
+    assert window.record.fs_hz == ref.fs and window.record.n_samples == ref.sig_len
+    # 38.4 s record, 10 s page: the overview strip appears to move through it.
+    assert not window.overview.isHidden()
+    window._step_page(+1)
+    assert window.paper.page_start == round(10.0 * ref.fs)
+
+
+def test_bad_file_shows_the_review_error_in_a_dialog(window, tmp_path, qtbot):
+    bad = tmp_path / "broken.hea"
+    bad.write_text("this is not a WFDB header\n")
+    assert not window.open_path(bad)
+    box = window.last_error_box
+    assert isinstance(box, QtWidgets.QMessageBox)
+    assert "broken.hea" in box.text()
+    assert "Traceback" not in box.text()
+    box.close()
+
+
+def test_drop_a_file_opens_it(window, shared_data, qtbot):
+    mime = QtCore.QMimeData()
+    mime.setUrls([QtCore.QUrl.fromLocalFile(str(shared_data / "ptbdb" / "s0010_re.hea"))])
+    pos = QtCore.QPointF(200, 200)
+    actions = QtCore.Qt.DropAction.CopyAction
+    enter = QtGui.QDragEnterEvent(
+        pos.toPoint(),
+        actions,
+        mime,
+        QtCore.Qt.MouseButton.LeftButton,
+        QtCore.Qt.KeyboardModifier.NoModifier,
+    )
+    window.dragEnterEvent(enter)
+    assert enter.isAccepted()
+    drop = QtGui.QDropEvent(
+        pos, actions, mime, QtCore.Qt.MouseButton.LeftButton, QtCore.Qt.KeyboardModifier.NoModifier
+    )
+    window.dropEvent(drop)
+    assert window.record is not None and window.record.name == "s0010_re"
+
+
+def test_window_state_and_view_settings_are_restored(settings, qtbot):
+    from reviewapp.ui.main_window import MainWindow
+
+    w = MainWindow(settings, px_per_mm=4.0)
+    qtbot.addWidget(w)
+    w.resize(1234, 876)
+    w.set_speed(50.0)
+    w.set_gain(20.0)
+    w.set_layout("6x2")
+    w.set_theme("dark")
+    w.close()
+    w2 = MainWindow(settings, px_per_mm=4.0)
+    qtbot.addWidget(w2)
+    assert w2.scale.speed_mm_per_s == 50.0 and w2.scale.gain_mm_per_mv == 20.0
+    assert w2.paper.layout_key == "6x2" and w2.theme.name == "dark"
+    assert w2.size() == QtCore.QSize(1234, 876)
+    w2.set_theme("light")
+
+
+def test_keyboard_speed_gain_layout(loaded, qtbot):
+    w = loaded
+    qtbot.keyClick(w, QtCore.Qt.Key.Key_BracketRight)
+    assert w.scale.speed_mm_per_s == 50.0
+    qtbot.keyClick(w, QtCore.Qt.Key.Key_BracketLeft)
+    qtbot.keyClick(w, QtCore.Qt.Key.Key_BracketLeft)
+    assert w.scale.speed_mm_per_s == 12.5
+    qtbot.keyClick(w, QtCore.Qt.Key.Key_Equal)
+    assert w.scale.gain_mm_per_mv == 20.0
+    qtbot.keyClick(w, QtCore.Qt.Key.Key_2)
+    assert w.paper.layout_key == "6x2"
+    qtbot.keyClick(w, QtCore.Qt.Key.Key_B)
+    assert w.stack.currentIndex() == 1
+
+
+def test_help_lists_every_shortcut_and_about_shows_caution(window):
+    from reviewapp.ui.help_panel import SHORTCUTS, about_text
+
+    listed = " ".join(k for k, _ in SHORTCUTS)
+    for action in window.actions():
+        seq = action.shortcut().toString(QtGui.QKeySequence.SequenceFormat.PortableText)
+        if not seq or seq in (
+            "Ctrl+O",
+            "Ctrl+Q",
+            "Del",
+            "Tab",
+            "PgUp",
+            "PgDown",
+            "Home",
+            "End",
+            "Left",
+            "Right",
+            "Up",
+            "Down",
+        ):
+            continue
+        assert seq in listed or seq.replace("Ctrl+Shift+Z", "Ctrl+Shift+Z") in listed, seq
+    assert CLINICAL_CAUTION in about_text()
+
+
+def test_summary_flags_in_words_and_glyph_with_source_tooltip(loaded):
+    from reviewapp.core.measure import normal_range
+
+    w = loaded
+    t = w.summary.table
+    iv = w.session.reading.measurements.intervals
+    rows = {t.item(r, 0).text().rstrip(" ✎"): r for r in range(t.rowCount())}
+    for f in w.session.reading.findings:
+        if f.lead is not None or f.quantity not in ("qrs_ms", "qtc_bazett_ms", "pr_ms", "hr_bpm"):
+            continue
+        label = {
+            "qrs_ms": "QRS",
+            "qtc_bazett_ms": "QTc Bazett",
+            "pr_ms": "PR",
+            "hr_bpm": "Heart rate",
+        }[f.quantity]
+        flag = t.item(rows[label], 3).text()
+        assert ("▲ above" if f.direction == "above" else "▼ below") in flag
+        tip = t.item(rows[label], 1).toolTip()
+        assert "Source:" in tip and "How computed" in tip
+    rng = normal_range("pr_ms", w.record.subject)
+    assert rng is not None and t.item(rows["PR"], 2).text().startswith(f"{rng.low:g}")
+    assert w.summary.value_text("qt_ms") == f"{iv.qt_ms:.0f} ms"
+
+
+def test_open_command_parser_and_platform_message():
+    from reviewapp.commands import open as open_cmd
+    from reviewapp.ui.layouts import LAYOUTS
+    from reviewapp.ui.paper import GAINS_MM_PER_MV, SPEEDS_MM_PER_S
+
+    assert open_cmd.SPEEDS == SPEEDS_MM_PER_S and open_cmd.GAINS == GAINS_MM_PER_MV
+    assert set(open_cmd.LAYOUT_CHOICES) == {*LAYOUTS, "median"}
+    p = argparse.ArgumentParser()
+    sub = p.add_subparsers(dest="command")
+    open_cmd.add_parser(sub)
+    args = p.parse_args(["open", "x.hea", "--speed", "50", "--gain", "20", "--layout", "3x4+1"])
+    assert args.speed == 50.0 and args.gain == 20.0 and args.layout == "3x4+1"
+    with pytest.raises(SystemExit):
+        p.parse_args(["open", "--speed", "30"])
+    msg = open_cmd.qt_platform_problem({}, "linux")
+    assert msg and "DISPLAY" in msg and "QT_QPA_PLATFORM=offscreen" in msg
+    assert open_cmd.qt_platform_problem({"QT_QPA_PLATFORM": "offscreen"}, "linux") is None
+
+
+def test_cli_without_display_exits_2_with_words(monkeypatch, capsys):
+    from reviewapp.cli import main
+
+    monkeypatch.delenv("DISPLAY", raising=False)
+    monkeypatch.delenv("WAYLAND_DISPLAY", raising=False)
+    monkeypatch.delenv("QT_QPA_PLATFORM", raising=False)
+    monkeypatch.setattr("sys.platform", "linux")
+    assert main([]) == 2
+    err = capsys.readouterr().err
+    assert "cannot open the window" in err and "Traceback" not in err
+    monkeypatch.setenv("QT_QPA_PLATFORM", "offscreen")
+
+
+def test_excepthook_shows_message_not_traceback(qtbot, capsys, monkeypatch):
+    import sys
+
+    from reviewapp.core.errors import RecordError
+    from reviewapp.ui.app import install_excepthook
+
+    monkeypatch.setattr(sys, "excepthook", sys.excepthook)
+    install_excepthook(lambda: None)
+    try:
+        raise RecordError("the header names 3 signal files but 2 exist", "/data/x.hea")
+    except RecordError as e:
+        sys.excepthook(type(e), e, e.__traceback__)
+    err = capsys.readouterr().err
+    assert "/data/x.hea: the header names 3 signal files" in err and "Traceback" not in err
