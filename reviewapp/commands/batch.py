@@ -8,6 +8,10 @@ from pathlib import Path
 
 from reviewapp.core.errors import ReviewError
 
+# Below this many records a local cluster (seconds to start worker processes and import the
+# pipeline in each) costs more than it saves; measured with benchmarks/bench_batch.py.
+SMALL_BATCH = 50
+
 
 def add_parser(sub: argparse._SubParsersAction) -> None:
     p = sub.add_parser(
@@ -26,7 +30,9 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
         type=int,
         default=None,
         metavar="N",
-        help="worker processes on this machine (default: all cores; 1 = in-process, no cluster)",
+        help="worker processes on this machine (default: all cores, or in-process for fewer "
+        f"than {SMALL_BATCH} records, where starting a cluster costs more than it saves; "
+        "1 = in-process, no cluster)",
     )
     p.add_argument(
         "--scheduler",
@@ -66,6 +72,9 @@ def run(args: argparse.Namespace) -> int:
         if args.summary is not None:
             write_summary_csv(args.summary, [])
         return 0
+    workers = args.workers
+    if workers is None and args.scheduler is None and len(paths) < SMALL_BATCH:
+        workers = 1
     counts = {"done": 0, "skipped": 0, "failed": 0}
     bar = tqdm(total=len(paths), unit="rec", desc="batch", file=sys.stderr, dynamic_ncols=True)
 
@@ -77,7 +86,7 @@ def run(args: argparse.Namespace) -> int:
     try:
         result = run_batch(
             paths,
-            workers=args.workers,
+            workers=workers,
             scheduler=args.scheduler,
             force=args.force,
             progress=on_outcome,

@@ -1,4 +1,7 @@
-"""``reviewapp open [PATH]``: the workbench window (also what ``reviewapp`` and ``reviewapp PATH`` do)."""
+"""``reviewapp open [PATH]``: the workbench window.
+
+``reviewapp`` and ``reviewapp PATH`` do the same.
+"""
 
 from __future__ import annotations
 
@@ -35,14 +38,26 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
         "Without PATH, the bundled sample records open.",
     )
     p.add_argument("path", nargs="?", type=Path, metavar="PATH", help="record file or folder")
-    p.add_argument("--speed", type=float, choices=SPEEDS, metavar="MM_S",
-                   help="paper speed in mm/s: 12.5, 25, 50 or 100")
-    p.add_argument("--gain", type=float, choices=GAINS, metavar="MM_MV",
-                   help="gain in mm/mV: 2.5, 5, 10, 20 or 40")
+    p.add_argument(
+        "--speed",
+        type=float,
+        choices=SPEEDS,
+        metavar="MM_S",
+        help="paper speed in mm/s: 12.5, 25, 50 or 100",
+    )
+    p.add_argument(
+        "--gain",
+        type=float,
+        choices=GAINS,
+        metavar="MM_MV",
+        help="gain in mm/mV: 2.5, 5, 10, 20 or 40",
+    )
     p.add_argument("--layout", choices=LAYOUT_CHOICES, help="page layout (or the median-beat view)")
 
 
-def qt_platform_problem(env: dict[str, str] | None = None, platform: str | None = None) -> str | None:
+def qt_platform_problem(
+    env: dict[str, str] | None = None, platform: str | None = None
+) -> str | None:
     """Why the window cannot open here, in words; None when it should.
 
     Checked before QApplication exists, because a missing platform plugin aborts the process

@@ -288,6 +288,7 @@ def _draw_beat_marks(c: _Canvas, lo: PageLayout, content: ReportContent, row: in
     fs = content.fs_hz
     base = lo.row_baselines_mm[row]
     y_top, y_bot = base + 9.0, base + 12.5
+    c.text(lo.grid.x + 0.8, y_bot - 0.6, "marks", 5.0, colour=MARK_AUTO, backdrop=True)
     for row in content.beat_marks:
         for m in row:
             _tick(c, lo, m, fs, y_top, y_bot)
@@ -527,7 +528,7 @@ def _draw_footer(c: _Canvas, lo: PageLayout, content: ReportContent, when: datet
     shown = min(lo.shown_s, content.record.duration_s)
     scale = (
         f"{lo.speed_mm_per_s:g} mm/s  ·  {lo.gain_mm_per_mv:g} mm/mV  ·  grid 1 mm / 5 mm  ·  "
-        f"{shown:.1f} s of {content.record.duration_s:.1f} s shown  ·  "
+        f"{shown:.1f} s of {content.record.duration_s:.1f} s shown, filtered as measured  ·  "
     )
     w = c.text(f.x, y, scale, 6.5)
     w += c.text(f.x + w, y, "Marks: ", 6.5)

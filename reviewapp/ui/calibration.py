@@ -55,7 +55,9 @@ class _Bar(QtWidgets.QWidget):
 
 
 class CalibrationDialog(QtWidgets.QDialog):
-    def __init__(self, screen: QtGui.QScreen | None, settings: QtCore.QSettings, parent=None) -> None:
+    def __init__(
+        self, screen: QtGui.QScreen | None, settings: QtCore.QSettings, parent=None
+    ) -> None:
         super().__init__(parent)
         self.setWindowTitle("Calibrate screen scale")
         self.screen_ = screen
@@ -85,7 +87,8 @@ class CalibrationDialog(QtWidgets.QDialog):
         reset = QtWidgets.QPushButton("Use the screen's reported size")
         reset.clicked.connect(lambda: self.set_value(reported))
         buttons = QtWidgets.QDialogButtonBox(
-            QtWidgets.QDialogButtonBox.StandardButton.Save | QtWidgets.QDialogButtonBox.StandardButton.Cancel
+            QtWidgets.QDialogButtonBox.StandardButton.Save
+            | QtWidgets.QDialogButtonBox.StandardButton.Cancel
         )
         buttons.accepted.connect(self.accept)
         buttons.rejected.connect(self.reject)

@@ -122,7 +122,9 @@ class CaliperPair(pg.GraphicsObject):
     def set_theme(self, theme: Theme) -> None:
         self._pen = pg.mkPen(theme.caliper, width=1.4, cosmetic=True)
         self._sel_pen = pg.mkPen(theme.caliper_selected, width=2.0, cosmetic=True)
-        self._march_pen = pg.mkPen(theme.caliper, width=1.0, style=QtCore.Qt.PenStyle.DotLine, cosmetic=True)
+        self._march_pen = pg.mkPen(
+            theme.caliper, width=1.0, style=QtCore.Qt.PenStyle.DotLine, cosmetic=True
+        )
         self._text = QtGui.QColor(theme.text)
         self._label_bg = QtGui.QColor(theme.paper)
         self._label_bg.setAlphaF(0.85)
@@ -215,7 +217,7 @@ class CaliperPair(pg.GraphicsObject):
         return legs, QtCore.QLineF(x, ya, x, yb)
 
     def _label_anchor(self) -> QtCore.QPointF:
-        legs, bar = self._segments()
+        _legs, bar = self._segments()
         if self.kind == "time":
             return QtCore.QPointF(min(bar.x1(), bar.x2()), bar.y1())
         return QtCore.QPointF(bar.x1() + AMP_LEG_HALF_MM, (bar.y1() + bar.y2()) / 2)
@@ -276,7 +278,7 @@ class CaliperPair(pg.GraphicsObject):
 
     # --- mouse -------------------------------------------------------------------------
     def _hit_part(self, pos: QtCore.QPointF) -> Part:
-        legs, bar = self._segments()
+        legs, _bar = self._segments()
         pw, ph = self._pix()
 
         def dist_px(ln: QtCore.QLineF) -> float:
@@ -304,7 +306,7 @@ class CaliperPair(pg.GraphicsObject):
         if self._drag is None:
             ev.ignore()
             return
-        part, x0, a0, b0, at0, amv0, bmv0 = self._drag
+        part, x0, a0, b0, at0, _amv0, _bmv0 = self._drag
         g = self.geom
         pos = ev.pos()
         if self.kind == "time":

@@ -43,7 +43,8 @@ def apply_display_filters(x_mv: np.ndarray, fs_hz: float, f: DisplayFilters) -> 
     filtfilt so waves do not shift in time on the screen).
 
     >>> import numpy as np
-    >>> y = apply_display_filters(np.ones((2000, 1), np.float32), 500.0, DisplayFilters(baseline=True))
+    >>> x = np.ones((2000, 1), np.float32)
+    >>> y = apply_display_filters(x, 500.0, DisplayFilters(baseline=True))
     >>> bool(abs(y[1000, 0]) < 0.05)
     True
     """

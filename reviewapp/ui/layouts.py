@@ -55,7 +55,9 @@ class PageLayout:
 
     def cells_at(self, t_s: float) -> tuple[Cell, ...]:
         """Cells whose time span contains page time ``t_s``."""
-        return tuple(c for c in self.cells if c.t0_s <= t_s < c.t1_s or (t_s == c.t1_s == self.page_s))
+        return tuple(
+            c for c in self.cells if c.t0_s <= t_s < c.t1_s or (t_s == c.t1_s == self.page_s)
+        )
 
 
 def ordered_leads(available: Sequence[str], order: str = "standard") -> list[tuple[str, bool]]:

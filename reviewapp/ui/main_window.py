@@ -28,6 +28,7 @@ from reviewapp.ui.theme import DARK, LIGHT, THEMES, Theme, apply_palette
 log = logging.getLogger(__name__)
 RECORD_SUFFIXES = (".hea", ".edf", ".bdf", ".csv", ".tsv", ".txt", ".xml", ".dcm", ".dicom")
 SIDECAR_SUFFIXES = (".marks.json",)
+PART_NAMES = {"a": "leg 1", "b": "leg 2", "bar": "the whole pair"}
 
 
 def default_settings() -> QtCore.QSettings:
@@ -93,12 +94,20 @@ class MainWindow(QtWidgets.QMainWindow):
         self.setCentralWidget(self.stack)
 
         self.summary = SummaryPanel()
-        self.summary_dock = self._dock("Measurements", self.summary, QtCore.Qt.DockWidgetArea.RightDockWidgetArea)
+        self.summary_dock = self._dock(
+            "Measurements", self.summary, QtCore.Qt.DockWidgetArea.RightDockWidgetArea
+        )
         self.records_list = QtWidgets.QListWidget()
-        self.records_list.itemActivated.connect(lambda it: self.open_path(Path(it.data(QtCore.Qt.ItemDataRole.UserRole))))
-        self.records_dock = self._dock("Records", self.records_list, QtCore.Qt.DockWidgetArea.LeftDockWidgetArea)
+        self.records_list.itemActivated.connect(
+            lambda it: self.open_path(Path(it.data(QtCore.Qt.ItemDataRole.UserRole)))
+        )
+        self.records_dock = self._dock(
+            "Records", self.records_list, QtCore.Qt.DockWidgetArea.LeftDockWidgetArea
+        )
         self.records_dock.setVisible(False)
-        self.help_dock = self._dock("Keyboard", HelpPanel(), QtCore.Qt.DockWidgetArea.RightDockWidgetArea)
+        self.help_dock = self._dock(
+            "Keyboard", HelpPanel(), QtCore.Qt.DockWidgetArea.RightDockWidgetArea
+        )
         self.help_dock.setVisible(False)
 
         self._build_actions()
@@ -146,8 +155,14 @@ class MainWindow(QtWidgets.QMainWindow):
         self.addDockWidget(area, dock)
         return dock
 
-    def _act(self, text: str, slot, shortcut: str | QtGui.QKeySequence | None = None,
-             checkable: bool = False, tip: str = "") -> QtGui.QAction:
+    def _act(
+        self,
+        text: str,
+        slot,
+        shortcut: str | QtGui.QKeySequence | None = None,
+        checkable: bool = False,
+        tip: str = "",
+    ) -> QtGui.QAction:
         a = QtGui.QAction(text, self)
         if shortcut:
             a.setShortcut(QtGui.QKeySequence(shortcut))
@@ -170,45 +185,117 @@ class MainWindow(QtWidgets.QMainWindow):
             key: A(text, lambda _=False, k=key: self.set_layout(k), str(i + 1), True)
             for i, (key, text) in enumerate(LAYOUTS.items())
         }
-        self.act_median = A("&Median beat", lambda on: self.show_median(on), "B", True,
-                            "Each lead's representative (median) beat with the global marks")
-        self.act_superimpose = A("Superimpose beats", lambda on: self.median.set_superimpose(on),
-                                 "Shift+B", True, "Draw every dominant beat under the median beat")
+        self.act_median = A(
+            "&Median beat",
+            lambda on: self.show_median(on),
+            "B",
+            True,
+            "Each lead's representative (median) beat with the global marks",
+        )
+        self.act_superimpose = A(
+            "Superimpose beats",
+            lambda on: self.median.set_superimpose(on),
+            "Shift+B",
+            True,
+            "Draw every dominant beat under the median beat",
+        )
         self.act_cabrera = A("Cabrera lead order", self._toggle_cabrera, "Ctrl+L", True)
         self.act_slower = A("Slower paper", lambda: self._step_speed(-1), "[")
         self.act_faster = A("Faster paper", lambda: self._step_speed(+1), "]")
         self.act_gain_down = A("Lower gain", lambda: self._step_gain(-1), "-")
         self.act_gain_up = A("Higher gain", lambda: self._step_gain(+1), "=")
-        self.act_zoom_in = A("Zoom in", lambda: self.paper.zoom_by(1.25), QtGui.QKeySequence(K.ZoomIn))
-        self.act_zoom_out = A("Zoom out", lambda: self.paper.zoom_by(0.8), QtGui.QKeySequence(K.ZoomOut))
-        self.act_true = A("True size", self.paper.true_size, "Ctrl+0",
-                          tip="1 mm of paper = 1 mm on the screen (see Tools ▸ Calibrate)")
+        self.act_zoom_in = A("Zoom in", lambda: self.paper.zoom_by(1.25), "Ctrl+=")
+        self.act_zoom_out = A("Zoom out", lambda: self.paper.zoom_by(0.8), "Ctrl+-")
+        self.act_true = A(
+            "True size",
+            self.paper.true_size,
+            "Ctrl+0",
+            tip="1 mm of paper = 1 mm on the screen (see Tools ▸ Calibrate)",
+        )
         self.act_fit = A("Fit page", self.fit_page, "F")
-        self.act_prev = A("Previous page", lambda: self._step_page(-1), QtGui.QKeySequence(QtCore.Qt.Key.Key_PageUp))
-        self.act_next = A("Next page", lambda: self._step_page(+1), QtGui.QKeySequence(QtCore.Qt.Key.Key_PageDown))
-        self.act_first = A("First page", lambda: self._go_page(0), QtGui.QKeySequence(QtCore.Qt.Key.Key_Home))
-        self.act_last = A("Last page", lambda: self._go_page(10**12), QtGui.QKeySequence(QtCore.Qt.Key.Key_End))
-        self.act_time_cal = A("Time caliper", lambda: self.add_caliper("time"), "C", tip="New time caliper: ms and bpm")
-        self.act_amp_cal = A("Amplitude caliper", lambda: self.add_caliper("amplitude"), "A", tip="New amplitude caliper: mV and mm")
-        self.act_march = A("March-out", self._toggle_march, "M", tip="Repeat the selected time caliper along the strip")
-        self.act_delete = A("Delete caliper", self._delete_selected, QtGui.QKeySequence(QtCore.Qt.Key.Key_Delete))
-        self.act_tab = A("Next caliper part", self._cycle_part, QtGui.QKeySequence(QtCore.Qt.Key.Key_Tab))
-        self.act_left = A("Nudge left", lambda: self._nudge(-1, 0), QtGui.QKeySequence(QtCore.Qt.Key.Key_Left))
-        self.act_right = A("Nudge right", lambda: self._nudge(+1, 0), QtGui.QKeySequence(QtCore.Qt.Key.Key_Right))
-        self.act_up = A("Nudge up", lambda: self._nudge(0, +1), QtGui.QKeySequence(QtCore.Qt.Key.Key_Up))
-        self.act_down = A("Nudge down", lambda: self._nudge(0, -1), QtGui.QKeySequence(QtCore.Qt.Key.Key_Down))
+        self.act_prev = A(
+            "Previous page",
+            lambda: self._step_page(-1),
+            QtGui.QKeySequence(QtCore.Qt.Key.Key_PageUp),
+        )
+        self.act_next = A(
+            "Next page", lambda: self._step_page(+1), QtGui.QKeySequence(QtCore.Qt.Key.Key_PageDown)
+        )
+        self.act_first = A(
+            "First page", lambda: self._go_page(0), QtGui.QKeySequence(QtCore.Qt.Key.Key_Home)
+        )
+        self.act_last = A(
+            "Last page", lambda: self._go_page(10**12), QtGui.QKeySequence(QtCore.Qt.Key.Key_End)
+        )
+        self.act_time_cal = A(
+            "Time caliper",
+            lambda: self.add_caliper("time"),
+            "C",
+            tip="New time caliper: ms and bpm",
+        )
+        self.act_amp_cal = A(
+            "Amplitude caliper",
+            lambda: self.add_caliper("amplitude"),
+            "A",
+            tip="New amplitude caliper: mV and mm",
+        )
+        self.act_march = A(
+            "March-out",
+            self._toggle_march,
+            "M",
+            tip="Repeat the selected time caliper along the strip",
+        )
+        self.act_delete = A(
+            "Delete caliper", self._delete_selected, QtGui.QKeySequence(QtCore.Qt.Key.Key_Delete)
+        )
+        self.act_tab = A(
+            "Next caliper part", self._cycle_part, QtGui.QKeySequence(QtCore.Qt.Key.Key_Tab)
+        )
+        self.act_left = A(
+            "Nudge left", lambda: self._nudge(-1, 0), QtGui.QKeySequence(QtCore.Qt.Key.Key_Left)
+        )
+        self.act_right = A(
+            "Nudge right", lambda: self._nudge(+1, 0), QtGui.QKeySequence(QtCore.Qt.Key.Key_Right)
+        )
+        self.act_up = A(
+            "Nudge up", lambda: self._nudge(0, +1), QtGui.QKeySequence(QtCore.Qt.Key.Key_Up)
+        )
+        self.act_down = A(
+            "Nudge down", lambda: self._nudge(0, -1), QtGui.QKeySequence(QtCore.Qt.Key.Key_Down)
+        )
         self.act_reset_marks = A("Reset all marks to automatic", self._reset_all, "Ctrl+Shift+R")
         self.act_undo = A("Undo", self._undo, QtGui.QKeySequence(K.Undo))
-        self.act_redo = A("Redo", self._redo, QtGui.QKeySequence(K.Redo))
-        self.act_f_base = A("Baseline filter", lambda: self._filters_changed(), "Alt+1", True,
-                            "Display only: high-pass 0.5 Hz")
-        self.act_f_mains = A("Mains filter", lambda: self._filters_changed(), "Alt+2", True,
-                             "Display only: notch at the mains frequency")
-        self.act_f_low = A("Low-pass filter", lambda: self._filters_changed(), "Alt+3", True,
-                           "Display only: low-pass 40 Hz")
-        self.act_theme = A("Dark theme", lambda on: self.set_theme("dark" if on else "light"), "Ctrl+T", True)
+        self.act_redo = A("Redo", self._redo, "Ctrl+Shift+Z")
+        self.act_f_base = A(
+            "Baseline filter",
+            lambda: self._filters_changed(),
+            "Alt+1",
+            True,
+            "Display only: high-pass 0.5 Hz",
+        )
+        self.act_f_mains = A(
+            "Mains filter",
+            lambda: self._filters_changed(),
+            "Alt+2",
+            True,
+            "Display only: notch at the mains frequency",
+        )
+        self.act_f_low = A(
+            "Low-pass filter",
+            lambda: self._filters_changed(),
+            "Alt+3",
+            True,
+            "Display only: low-pass 40 Hz",
+        )
+        self.act_theme = A(
+            "Dark theme", lambda on: self.set_theme("dark" if on else "light"), "Ctrl+T", True
+        )
         self.act_calibrate = A("Calibrate screen scale…", self.calibrate)
-        self.act_help = A("Keyboard shortcuts", lambda: self.help_dock.setVisible(not self.help_dock.isVisible()), "F1")
+        self.act_help = A(
+            "Keyboard shortcuts",
+            lambda: self.help_dock.setVisible(not self.help_dock.isVisible()),
+            "F1",
+        )
         self.act_about = A("About reviewapp", lambda: show_about(self))
 
     def _build_toolbar(self) -> None:
@@ -274,8 +361,16 @@ class MainWindow(QtWidgets.QMainWindow):
         for a in (self.act_median, self.act_superimpose, self.act_cabrera):
             m.addAction(a)
         m.addSeparator()
-        for a in (self.act_slower, self.act_faster, self.act_gain_down, self.act_gain_up,
-                  self.act_zoom_in, self.act_zoom_out, self.act_true, self.act_fit):
+        for a in (
+            self.act_slower,
+            self.act_faster,
+            self.act_gain_down,
+            self.act_gain_up,
+            self.act_zoom_in,
+            self.act_zoom_out,
+            self.act_true,
+            self.act_fit,
+        ):
             m.addAction(a)
         m.addSeparator()
         for a in (self.act_prev, self.act_next, self.act_first, self.act_last):
@@ -297,14 +392,18 @@ class MainWindow(QtWidgets.QMainWindow):
     def open_dialog(self) -> None:
         start = str(self.folder or self.settings.value("files/last_dir", str(Path.home())))
         path, _ = QtWidgets.QFileDialog.getOpenFileName(
-            self, "Open ECG record", start,
+            self,
+            "Open ECG record",
+            start,
             "ECG records (*.hea *.edf *.bdf *.csv *.tsv *.txt *.xml *.dcm);;All files (*)",
         )
         if path:
             self.open_path(Path(path))
 
     def open_folder_dialog(self) -> None:
-        path = QtWidgets.QFileDialog.getExistingDirectory(self, "Open folder of records", str(self.folder or Path.home()))
+        path = QtWidgets.QFileDialog.getExistingDirectory(
+            self, "Open folder of records", str(self.folder or Path.home())
+        )
         if path:
             self.open_path(Path(path))
 
@@ -490,7 +589,10 @@ class MainWindow(QtWidgets.QMainWindow):
         if g is None:
             return
         vb = self.paper.vb
-        z = min(vb.width() / (g.width_mm * self.scale.px_per_mm), vb.height() / (g.height_mm * self.scale.px_per_mm))
+        z = min(
+            vb.width() / (g.width_mm * self.scale.px_per_mm),
+            vb.height() / (g.height_mm * self.scale.px_per_mm),
+        )
         self.paper.set_zoom(z, QtCore.QPointF(0, 0))
 
     def _step_page(self, d: int) -> None:
@@ -532,7 +634,9 @@ class MainWindow(QtWidgets.QMainWindow):
             )
 
     # --- calipers ------------------------------------------------------------------------
-    def add_caliper(self, kind: str, row: int | None = None, center_sample: int | None = None) -> CaliperPair | None:
+    def add_caliper(
+        self, kind: str, row: int | None = None, center_sample: int | None = None
+    ) -> CaliperPair | None:
         if self.stack.currentIndex() != 0:
             self.show_median(False)
         return self.paper.add_caliper(kind, row, center_sample)  # type: ignore[arg-type]
@@ -557,7 +661,10 @@ class MainWindow(QtWidgets.QMainWindow):
         if c is not None:
             order = ["a", "b", "bar"]
             c.part = order[(order.index(c.part) + 1) % 3]  # type: ignore[assignment]
-            self.statusBar().showMessage(f"{c.name}: arrow keys move {'leg 1' if c.part == 'a' else 'leg 2' if c.part == 'b' else 'the whole pair'}", 3000)
+            self.statusBar().showMessage(
+                f"{c.name}: arrow keys move {PART_NAMES[c.part]}",
+                3000,
+            )
 
     def _nudge(self, dx: int, dy: int) -> None:
         sel = self.paper.selected
@@ -626,8 +733,13 @@ class MainWindow(QtWidgets.QMainWindow):
     def show_error(self, err: BaseException) -> None:
         text = str(err) if isinstance(err, ReviewError) else f"{type(err).__name__}: {err}"
         log.info("error shown to the reader: %s", text)
-        box = QtWidgets.QMessageBox(QtWidgets.QMessageBox.Icon.Warning, "reviewapp", text,
-                                    QtWidgets.QMessageBox.StandardButton.Ok, self)
+        box = QtWidgets.QMessageBox(
+            QtWidgets.QMessageBox.Icon.Warning,
+            "reviewapp",
+            text,
+            QtWidgets.QMessageBox.StandardButton.Ok,
+            self,
+        )
         box.setModal(True)
         if QtWidgets.QApplication.platformName() == "offscreen":
             box.show()  # tests look at it; never block a headless run

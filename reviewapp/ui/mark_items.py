@@ -16,8 +16,15 @@ from reviewapp.core.fiducials import FIDUCIAL_LABELS
 from reviewapp.ui.theme import Theme, mark_colour
 
 GRAB_PX = 5.0
-TICK_MM = 2.0  # automatic marks: firm ticks this long at the top and bottom of each row  # half-width of the grab zone around a mark line, screen pixels
-SHORT_LABELS = {"p_on": "P on", "p_off": "P end", "qrs_on": "QRS on", "qrs_off": "QRS end", "t_off": "T end"}
+# GRAB_PX: half-width of the grab zone around a mark line, in screen pixels.
+TICK_MM = 2.0  # automatic marks: firm ticks this long at the top and bottom of each row
+SHORT_LABELS = {
+    "p_on": "P on",
+    "p_off": "P end",
+    "qrs_on": "QRS on",
+    "qrs_off": "QRS end",
+    "t_off": "T end",
+}
 
 
 class FiducialMark(pg.GraphicsObject):
@@ -63,14 +70,18 @@ class FiducialMark(pg.GraphicsObject):
 
     # --- appearance ------------------------------------------------------------------------
     def set_theme(self, theme: Theme) -> None:
-        base = QtGui.QColor(theme.mark_corrected if self.corrected else mark_colour(theme, self.fiducial))
+        base = QtGui.QColor(
+            theme.mark_corrected if self.corrected else mark_colour(theme, self.fiducial)
+        )
         self._colour = base
         faint = QtGui.QColor(base)
         # Automatic marks recede (a faint hairline with firm ticks at the row edges) so the
         # waveform under them stays readable; corrected marks are a firm dashed line.
         faint.setAlphaF(0.9 if self.corrected else 0.22)
         style = QtCore.Qt.PenStyle.DashLine if self.corrected else QtCore.Qt.PenStyle.SolidLine
-        self._pen = pg.mkPen(faint, width=1.5 if self.corrected else 1.0, style=style, cosmetic=True)
+        self._pen = pg.mkPen(
+            faint, width=1.5 if self.corrected else 1.0, style=style, cosmetic=True
+        )
         self._tick_pen = pg.mkPen(base, width=1.6, cosmetic=True)
         self._hover_pen = pg.mkPen(base, width=2.0, style=style, cosmetic=True)
         self.update()
@@ -138,10 +149,14 @@ class FiducialMark(pg.GraphicsObject):
             painter.setPen(pg.mkPen(self._colour, width=1.0))
             painter.setBrush(QtGui.QBrush(self._colour))
             r = 4.0
-            diamond = QtGui.QPolygonF([
-                QtCore.QPointF(pt.x(), pt.y() - r), QtCore.QPointF(pt.x() + r, pt.y()),
-                QtCore.QPointF(pt.x(), pt.y() + r), QtCore.QPointF(pt.x() - r, pt.y()),
-            ])
+            diamond = QtGui.QPolygonF(
+                [
+                    QtCore.QPointF(pt.x(), pt.y() - r),
+                    QtCore.QPointF(pt.x() + r, pt.y()),
+                    QtCore.QPointF(pt.x(), pt.y() + r),
+                    QtCore.QPointF(pt.x() - r, pt.y()),
+                ]
+            )
             painter.drawPolygon(diamond)
             painter.restore()
 

@@ -112,20 +112,31 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
             p = self.addViewBox(row=k // ncols, col=k % ncols, enableMenu=False, enableMouse=False)
             vb = p
             # One paper millimetre is square: pyqtgraph's ratio is (ms per px) / (mV per px).
-            vb.setAspectLocked(True, ratio=self.scale.speed_mm_per_s / (self.scale.gain_mm_per_mv * 1000.0))
+            vb.setAspectLocked(
+                True, ratio=self.scale.speed_mm_per_s / (self.scale.gain_mm_per_mv * 1000.0)
+            )
             y_lo, y_hi = (-hi, -lo) if inverted else (lo, hi)
             # The grid reaches well past the beat so the paper fills the panel whatever its shape.
             gx0, gx1 = x0 - 100 * minor_ms, x1 + 100 * minor_ms
             gy0, gy1 = y_lo - 100 * minor_mv, y_hi + 100 * minor_mv
-            grid = PaperGrid(QtCore.QRectF(gx0, gy0, gx1 - gx0, gy1 - gy0), minor_ms, minor_mv,
-                             minor_colour=self.theme.grid_minor, major_colour=self.theme.grid_major)
+            grid = PaperGrid(
+                QtCore.QRectF(gx0, gy0, gx1 - gx0, gy1 - gy0),
+                minor_ms,
+                minor_mv,
+                minor_colour=self.theme.grid_minor,
+                major_colour=self.theme.grid_major,
+            )
             grid.set_colours(self.theme.grid_minor, self.theme.grid_major, self.theme.paper)
             p.addItem(grid)
             if overlay is not None:
                 ox, oy = overlay
                 p.addItem(pg.PlotCurveItem(ox, sign * oy[:, idx], pen=over_pen, connect="finite"))
-            p.addItem(pg.PlotCurveItem(t_ms, sign * wave[:, idx], pen=pen, antialias=True))
-            title = pg.TextItem(("-" if inverted else "") + lead, color=self.theme.text, anchor=(0, 0))
+            median_curve = pg.PlotCurveItem(t_ms, sign * wave[:, idx], pen=pen, antialias=True)
+            median_curve.setSegmentedLineMode("on")  # thick antialiased paths stroke slowly
+            p.addItem(median_curve)
+            title = pg.TextItem(
+                ("-" if inverted else "") + lead, color=self.theme.text, anchor=(0, 0)
+            )
             f = QtGui.QFont()
             f.setPointSizeF(10.5)
             f.setBold(True)
@@ -143,13 +154,23 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
             "solid line = automatic, dashed line with ◆ = corrected by the reader"
             + ("   grey = every dominant beat" if self.superimpose else "")
         )
-        self.addLabel(legend, row=(len(leads) + ncols - 1) // ncols, col=0, colspan=ncols,
-                      color=self.theme.text_muted, size="9pt")
+        self.addLabel(
+            legend,
+            row=(len(leads) + ncols - 1) // ncols,
+            col=0,
+            colspan=ncols,
+            color=self.theme.text_muted,
+            size="9pt",
+        )
 
-    def _superimposed(self, s: ReadingSession, r_index: int, n: int) -> tuple[np.ndarray, np.ndarray]:
+    def _superimposed(
+        self, s: ReadingSession, r_index: int, n: int
+    ) -> tuple[np.ndarray, np.ndarray]:
         """Every dominant beat's window, aligned at R, joined with NaN breaks for one curve."""
         x = s.analysis.conditioned_mv
-        rs = np.array([b.r for b in s.analysis.beats if b.kind == BeatKind.DOMINANT], dtype=np.int64)
+        rs = np.array(
+            [b.r for b in s.analysis.beats if b.kind == BeatKind.DOMINANT], dtype=np.int64
+        )
         rs = rs[(rs - r_index >= 0) & (rs - r_index + n <= x.shape[0])][:MAX_SUPERIMPOSED]
         if rs.size == 0:
             return np.zeros(0), np.zeros((0, x.shape[1]))
@@ -191,7 +212,9 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
                 self._syncing = False
 
     def _pens(self, fid: str, corrected: bool):
-        colour = QtGui.QColor(self.theme.mark_corrected if corrected else mark_colour(self.theme, fid))
+        colour = QtGui.QColor(
+            self.theme.mark_corrected if corrected else mark_colour(self.theme, fid)
+        )
         style = QtCore.Qt.PenStyle.DashLine if corrected else QtCore.Qt.PenStyle.SolidLine
         pen = pg.mkPen(colour, width=1.6, style=style, cosmetic=True)
         hover = pg.mkPen(colour, width=3.0, style=style, cosmetic=True)
@@ -218,10 +241,18 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
             pen, hover, colour = self._pens(fid, corrected)
             text = ("◆ " if corrected else "") + SHORT_LABELS[fid] if first_row else None
             line = pg.InfiniteLine(
-                pos=(v - rep.r_index) / s.fs_hz * 1000.0, angle=90, movable=True, pen=pen, hoverPen=hover,
+                pos=(v - rep.r_index) / s.fs_hz * 1000.0,
+                angle=90,
+                movable=True,
+                pen=pen,
+                hoverPen=hover,
                 label=text,
-                labelOpts={"position": LABEL_POSITIONS[fid], "color": colour, "anchors": [(0, 0.5), (0, 0.5)],
-                           "fill": self.theme.paper},
+                labelOpts={
+                    "position": LABEL_POSITIONS[fid],
+                    "color": colour,
+                    "anchors": [(0, 0.5), (0, 0.5)],
+                    "fill": self.theme.paper,
+                },
             )
             line.fiducial = fid
             line.setToolTip(self._tip(fid, corrected))

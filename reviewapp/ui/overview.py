@@ -14,7 +14,9 @@ N_BINS = 3000
 CHUNK_SAMPLES = 2_000_000
 
 
-def envelope(record: Record, lead: int, n_bins: int = N_BINS) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+def envelope(
+    record: Record, lead: int, n_bins: int = N_BINS
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """(t_s, min_mv, max_mv) per bin over the whole record, read chunk by chunk."""
     n = record.n_samples
     per = max(1, -(-n // n_bins))
@@ -92,7 +94,9 @@ class OverviewStrip(pg.PlotWidget):
         self.setXRange(0, record.duration_s, padding=0)
         finite = np.isfinite(lo) & np.isfinite(hi)
         if finite.any():
-            self.setYRange(float(np.percentile(lo[finite], 1)), float(np.percentile(hi[finite], 99)))
+            self.setYRange(
+                float(np.percentile(lo[finite], 1)), float(np.percentile(hi[finite], 99))
+            )
         self.set_page(0.0)
 
     def set_page(self, start_s: float) -> None:

@@ -101,7 +101,9 @@ def physical_px_per_mm(screen: QtGui.QScreen | None) -> float:
     return FALLBACK_PX_PER_MM
 
 
-def screen_px_per_mm(screen: QtGui.QScreen | None, settings: QtCore.QSettings | None = None) -> float:
+def screen_px_per_mm(
+    screen: QtGui.QScreen | None, settings: QtCore.QSettings | None = None
+) -> float:
     """The user's calibration for this screen when one is stored, else the physical estimate."""
     settings = settings or QtCore.QSettings()
     stored = settings.value(f"{screen_key(screen)}/px_per_mm")

@@ -98,7 +98,9 @@ class PaperView(pg.GraphicsView):
         self.rebuild()
         self._keep_zoom()
 
-    def set_layout(self, key: str, order: str | None = None, rhythm: tuple[str, ...] | None = None) -> None:
+    def set_layout(
+        self, key: str, order: str | None = None, rhythm: tuple[str, ...] | None = None
+    ) -> None:
         self.layout_key = key
         if order is not None:
             self.lead_order = order
@@ -145,7 +147,11 @@ class PaperView(pg.GraphicsView):
             return
         rec = self.record
         layout = build_layout(
-            self.layout_key, rec.lead_names, self.page_s, order=self.lead_order, rhythm_leads=self.rhythm_leads
+            self.layout_key,
+            rec.lead_names,
+            self.page_s,
+            order=self.lead_order,
+            rhythm_leads=self.rhythm_leads,
         )
         geom = PageGeometry(layout, self.scale, rec.fs_hz, self.page_start)
         self.geom = geom
@@ -162,8 +168,10 @@ class PaperView(pg.GraphicsView):
             idx = rec.lead_index(cell.lead)
             seg = data[s0 - lo : s1 - lo, idx]
             trace = LeadTrace(cell, self.theme)
-            trace.set_signal(geom, np.arange(s0, s0 + seg.shape[0]), seg)
+            # Parent first: pyqtgraph's PlotDataItem looks for its ViewBox while being added.
+            trace.setParentItem(self.vb.childGroup)
             self.vb.addItem(trace)
+            trace.set_signal(geom, np.arange(s0, s0 + seg.shape[0]), seg)
             self.traces.append(trace)
             label = lead_label(cell, geom, self.theme)
             self.vb.addItem(label)
@@ -207,7 +215,9 @@ class PaperView(pg.GraphicsView):
             ys += [base - 3.0, base + 3.0]
         if xs:
             item = pg.PlotCurveItem(
-                np.array(xs), np.array(ys), connect="pairs",
+                np.array(xs),
+                np.array(ys),
+                connect="pairs",
                 pen=pg.mkPen(self.theme.trace, width=1.6, cosmetic=True),
             )
             item.setZValue(11)
@@ -234,7 +244,9 @@ class PaperView(pg.GraphicsView):
                 if s is None or not (self.page_start <= s < end):
                     continue
                 item = FiducialMark(
-                    fid, s, i,
+                    fid,
+                    s,
+                    i,
                     corrected=session.is_corrected("beat", fid, beat.r),
                     theme=self.theme,
                     x_of_sample=lambda v, g=geom: g.x_of_sample(v),
@@ -254,7 +266,10 @@ class PaperView(pg.GraphicsView):
 
     # --- calipers ------------------------------------------------------------------------
     def add_caliper(
-        self, kind: Literal["time", "amplitude"], row: int | None = None, center_sample: int | None = None
+        self,
+        kind: Literal["time", "amplitude"],
+        row: int | None = None,
+        center_sample: int | None = None,
     ) -> CaliperPair | None:
         geom, rec = self.geom, self.record
         if geom is None or rec is None:
@@ -267,16 +282,36 @@ class PaperView(pg.GraphicsView):
         cell = next(c for c in cells if c.row == row)
         if center_sample is None:
             vr = self.vb.viewRect()
-            center_sample = geom.sample_of_x(min(max(vr.center().x(), geom.x_of_time(cell.t0_s)),
-                                                 geom.x_of_time(cell.t1_s)))
+            center_sample = geom.sample_of_x(
+                min(max(vr.center().x(), geom.x_of_time(cell.t0_s)), geom.x_of_time(cell.t1_s))
+            )
         half = round(0.2 * rec.fs_hz)
         n = len(self.calipers) + 1
         if kind == "time":
-            c = CaliperPair("time", row, cell.lead, geom, self.scale.gain_mm_per_mv, self.theme,
-                            a=center_sample - half, b=center_sample + half, name=f"C{n}")
+            c = CaliperPair(
+                "time",
+                row,
+                cell.lead,
+                geom,
+                self.scale.gain_mm_per_mv,
+                self.theme,
+                a=center_sample - half,
+                b=center_sample + half,
+                name=f"C{n}",
+            )
         else:
-            c = CaliperPair("amplitude", row, cell.lead, geom, self.scale.gain_mm_per_mv, self.theme,
-                            at=center_sample, a_mv=0.0, b_mv=1.0, name=f"C{n}")
+            c = CaliperPair(
+                "amplitude",
+                row,
+                cell.lead,
+                geom,
+                self.scale.gain_mm_per_mv,
+                self.theme,
+                at=center_sample,
+                a_mv=0.0,
+                b_mv=1.0,
+                name=f"C{n}",
+            )
         c.changed.connect(self.caliper_changed)
         c.selected_changed.connect(self._on_caliper_selected)
         self.vb.addItem(c)

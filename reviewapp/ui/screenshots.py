@@ -40,7 +40,9 @@ def write_screenshots(outdir: Path, record_path: Path | None = None) -> list[Pat
     record_path = record_path or _default_record()
     if record_path is None:
         raise SystemExit("no sample record found; pass --record PATH")
-    w = MainWindow(settings, px_per_mm=PX_PER_MM, speed_mm_per_s=25.0, gain_mm_per_mv=10.0, theme="light")
+    w = MainWindow(
+        settings, px_per_mm=PX_PER_MM, speed_mm_per_s=25.0, gain_mm_per_mv=10.0, theme="light"
+    )
     w.resize(*SIZE)
     w.show()
     if not w.open_path(record_path, analyse_now=True):
@@ -116,7 +118,11 @@ def _demo_calipers_and_correction(w) -> None:
             v = float(rec.window(on_page[-2].r, on_page[-2].r + 1)[0, rec.lead_index(rhythm.lead)])
             amp.set_levels(a_mv=0.0, b_mv=round(v, 2))
     rep = s.reading.marked.representative
-    if rep is not None and rep.marks.t_off is not None and not s.is_corrected("representative", "t_off"):
+    if (
+        rep is not None
+        and rep.marks.t_off is not None
+        and not s.is_corrected("representative", "t_off")
+    ):
         s.commit(s.representative_override("t_off", rep.marks.t_off + round(0.02 * s.fs_hz)))
     mid = on_page[len(on_page) // 2] if on_page else None
     if mid is not None:
@@ -130,7 +136,9 @@ def _demo_calipers_and_correction(w) -> None:
 def main(argv: list[str] | None = None) -> int:
     ap = argparse.ArgumentParser(prog="python -m reviewapp.ui.screenshots", description=__doc__)
     ap.add_argument("outdir", type=Path)
-    ap.add_argument("--record", type=Path, default=None, help="record to show (default: first sample)")
+    ap.add_argument(
+        "--record", type=Path, default=None, help="record to show (default: first sample)"
+    )
     args = ap.parse_args(argv)
     if not os.environ.get("DISPLAY") and not os.environ.get("WAYLAND_DISPLAY"):
         os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")

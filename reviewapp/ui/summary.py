@@ -27,10 +27,20 @@ GLOBAL_ROWS: tuple[tuple[str, str, str, int, str], ...] = (
     ("qrs_ms", "QRS", "ms", 0, "QRS end − QRS onset of the median beat (global marks)"),
     ("qt_ms", "QT", "ms", 0, "T end − QRS onset of the median beat (global marks)"),
     ("qtc_bazett_ms", "QTc Bazett", "ms", 0, "QT / √(RR in s) — Bazett, Heart 7:353, 1920"),
-    ("qtc_fridericia_ms", "QTc Fridericia", "ms", 0,
-     "QT / ∛(RR in s) — Fridericia, Acta Med Scand 53:469, 1920"),
-    ("qtc_framingham_ms", "QTc Framingham", "ms", 0,
-     "QT + 154 ms × (1 − RR in s) — Sagie et al., Am J Cardiol 70:797, 1992"),
+    (
+        "qtc_fridericia_ms",
+        "QTc Fridericia",
+        "ms",
+        0,
+        "QT / ∛(RR in s) — Fridericia, Acta Med Scand 53:469, 1920",
+    ),
+    (
+        "qtc_framingham_ms",
+        "QTc Framingham",
+        "ms",
+        0,
+        "QT + 154 ms × (1 − RR in s) — Sagie et al., Am J Cardiol 70:797, 1992",
+    ),
     ("qtc_hodges_ms", "QTc Hodges", "ms", 0, "QT + 1.75 ms × (HR − 60) — Hodges et al., 1983"),
     ("p_axis_deg", "P axis", "°", 0, "frontal-plane axis from P areas in I and aVF"),
     ("qrs_axis_deg", "QRS axis", "°", 0, "frontal-plane axis from QRS areas in I and aVF"),
@@ -48,8 +58,14 @@ USES_MARKS: dict[str, tuple[str, ...]] = {
     "qtc_hodges_ms": ("qrs_on", "t_off"),
 }
 LEAD_COLUMNS: tuple[tuple[str, str], ...] = (
-    ("p_mv", "P"), ("q_mv", "Q"), ("r_mv", "R"), ("s_mv", "S"), ("t_mv", "T"),
-    ("st_j_mv", "ST J"), ("st_j60_mv", "ST J+60"), ("st_j80_mv", "ST J+80"),
+    ("p_mv", "P"),
+    ("q_mv", "Q"),
+    ("r_mv", "R"),
+    ("s_mv", "S"),
+    ("t_mv", "T"),
+    ("st_j_mv", "ST J"),
+    ("st_j60_mv", "ST J+60"),
+    ("st_j80_mv", "ST J+80"),
 )
 ABOVE, BELOW = "▲", "▼"
 
@@ -69,7 +85,10 @@ def range_text(r: NormalRange | None) -> str:
 
 
 def flag_for(
-    quantity: str, value: float | None, rng: NormalRange | None, findings: tuple[Finding, ...],
+    quantity: str,
+    value: float | None,
+    rng: NormalRange | None,
+    findings: tuple[Finding, ...],
     lead: str | None = None,
 ) -> tuple[str, str]:
     """(short flag text with glyph, long explanation) — empty strings when within limits."""
@@ -134,7 +153,9 @@ class SummaryPanel(QtWidgets.QWidget):
         """The text shown for ``quantity`` (tests read what the reader reads)."""
         return self._values.get(quantity, "")
 
-    def show_reading(self, reading: Reading | None, subject: SubjectFacts, corrected: set[str]) -> None:
+    def show_reading(
+        self, reading: Reading | None, subject: SubjectFacts, corrected: set[str]
+    ) -> None:
         """Fill the tables. ``corrected``: global fiducials of the median beat the reader moved."""
         self._values.clear()
         if reading is None:
@@ -156,10 +177,20 @@ class SummaryPanel(QtWidgets.QWidget):
             tip = [f"How computed: {how}."]
             if key in USES_MARKS:
                 marks = ", ".join(FIDUCIAL_LABELS[m] for m in USES_MARKS[key])
-                tip.append(f"Marks used: {marks}" + (f" (corrected by the reader: {', '.join(moved)})" if moved else " (automatic)"))
+                tip.append(
+                    f"Marks used: {marks}"
+                    + (
+                        f" (corrected by the reader: {', '.join(moved)})"
+                        if moved
+                        else " (automatic)"
+                    )
+                )
             if rng is not None:
                 who = getattr(rng, "applies_to", "")
-                tip.append(f"Normal limits{f' ({who})' if who else ''}: {range_text(rng)}. Source: {rng.source}")
+                tip.append(
+                    f"Normal limits{f' ({who})' if who else ''}: {range_text(rng)}. "
+                    f"Source: {rng.source}"
+                )
             else:
                 tip.append("No normal limit in the table for this value.")
             if v is None:
@@ -175,14 +206,24 @@ class SummaryPanel(QtWidgets.QWidget):
                 if flag:
                     item.setFont(bold)
                 if col == 1:
-                    item.setTextAlignment(QtCore.Qt.AlignmentFlag.AlignRight | QtCore.Qt.AlignmentFlag.AlignVCenter)
+                    item.setTextAlignment(
+                        QtCore.Qt.AlignmentFlag.AlignRight | QtCore.Qt.AlignmentFlag.AlignVCenter
+                    )
                 self.table.setItem(row, col, item)
             n_flags += bool(flag)
         extra = len([f for f in reading.findings if f.lead is not None])
         self.status.setText(
             f"{n_flags} value{'s' if n_flags != 1 else ''} outside limits"
-            + (f"; {extra} per-lead finding{'s' if extra != 1 else ''} (see per-lead table)" if extra else "")
-            + (f"; {len(corrected)} mark{'s' if len(corrected) != 1 else ''} corrected" if corrected else "")
+            + (
+                f"; {extra} per-lead finding{'s' if extra != 1 else ''} (see per-lead table)"
+                if extra
+                else ""
+            )
+            + (
+                f"; {len(corrected)} mark{'s' if len(corrected) != 1 else ''} corrected"
+                if corrected
+                else ""
+            )
             + ". Hover a row for its source."
         )
         self._fill_leads(reading, subject)
@@ -204,7 +245,9 @@ class SummaryPanel(QtWidgets.QWidget):
                 if why:
                     tip += f"\n{why}"
                 item.setToolTip(tip)
-                item.setTextAlignment(QtCore.Qt.AlignmentFlag.AlignRight | QtCore.Qt.AlignmentFlag.AlignVCenter)
+                item.setTextAlignment(
+                    QtCore.Qt.AlignmentFlag.AlignRight | QtCore.Qt.AlignmentFlag.AlignVCenter
+                )
                 self.leads_table.setItem(r, c, item)
 
     def show_calipers(self, lines: list[str]) -> None:

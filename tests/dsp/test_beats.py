@@ -189,3 +189,23 @@ def test_docstring_examples() -> None:
 
     result = doctest.testmod(beats, optionflags=doctest.NORMALIZE_WHITESPACE)
     assert result.attempted > 0 and result.failed == 0
+
+
+def test_interpolated_pvc_leaves_next_sinus_beat_dominant(shared_data: Path) -> None:
+    # LUDB record 105: ludb.csv lists "Ventricular extrasystole, type: intercalary pvc"
+    # (interpolated PVCs: the next sinus beat comes on time). Our grouping must set the
+    # extrasystoles apart and keep the sinus beat after each one dominant.
+    path = shared_data / "ludb" / "105"
+    if not path.with_suffix(".hea").exists():
+        pytest.skip("LUDB record 105 not in the data folder")
+    rec = wfdb.rdrecord(str(path))
+    fs = rec.fs
+    c = condition(rec.p_signal.astype(np.float32), fs)
+    usable = np.ones(12, bool)
+    beats = classify_beats(c, fs, detect_qrs(c, fs, usable), usable)
+    ectopic = [i for i, b in enumerate(beats) if b.kind != BeatKind.DOMINANT]
+    assert 1 <= len(ectopic) <= 3
+    for i in ectopic:
+        assert beats[i].group != beats[0].group
+        if i + 1 < len(beats):
+            assert beats[i + 1].kind == BeatKind.DOMINANT

@@ -2,6 +2,9 @@
 
 from __future__ import annotations
 
+import itertools
+from pathlib import Path
+
 import numpy as np
 import pytest
 from scipy import signal
@@ -153,3 +156,59 @@ def test_short_records_and_offsets(fs: float) -> None:
 def test_tiny_inputs() -> None:
     assert condition(np.zeros((1, 2), np.float32), 500.0).shape == (1, 2)
     assert condition(np.zeros((5, 12), np.float32), 500.0).shape == (5, 12)
+
+
+@pytest.mark.parametrize("mains", [50.0, 60.0])
+def test_pure_mains_sinusoid_removed(mains: float) -> None:
+    # A pure mains sinusoid (no ECG) is found by the spectrum check and removed: > 30 dB down
+    # away from the record ends (brief's figure; zero-phase notch, scipy.signal.iirnotch).
+    fs = 500.0
+    t = np.arange(int(10 * fs)) / fs
+    x = (1.0 * np.sin(2 * np.pi * mains * t))[:, None].astype(np.float32)
+    y = condition(x, fs)[:, 0]
+    mid = slice(int(1 * fs), int(9 * fs))
+    ratio_db = 20 * np.log10(np.std(y[mid]) / np.std(x[mid, 0]))
+    assert ratio_db < -30.0
+
+
+def test_st_level_on_real_beats_matches_pr_to_pr_baseline(shared_data: Path) -> None:
+    # Real beats, LUDB (Kalyakulina et al. 2020), first 20 records, all 12 leads: the ST level
+    # at J+60 ms (J = cardiologists' QRS end mark) relative to the PR segment (20 ms before
+    # their QRS onset mark), measured on the conditioned signal, against the classic manual
+    # reference on the raw signal: ST minus a straight baseline drawn from this beat's PR
+    # segment to the next beat's. AHA 2007 (Kligfield et al.) warn that causal high-pass
+    # filters distort ST; the zero-phase chain must not. Measured when written: median
+    # 3.7 uV, 95th percentile 17.5 uV (causal version of the same high-pass: 38 / 103 uV).
+    # Limits: median < 10 uV, 95th percentile < 30 uV (tolerances: common practice, no source).
+    wfdb = pytest.importorskip("wfdb")
+    errors: list[float] = []
+    heads = sorted((shared_data / "ludb").glob("*.hea"), key=lambda p: int(p.stem))[:20]
+    assert heads, "no LUDB records found"
+    for hea in heads:
+        path = str(hea.with_suffix(""))
+        rec = wfdb.rdrecord(path)
+        fs = rec.fs
+        x = rec.p_signal
+        y = condition(x.astype(np.float32), fs)
+        w = int(0.02 * fs)
+        for li, lead in enumerate(rec.sig_name):
+            ann = wfdb.rdann(path, lead)
+            s, sym = ann.sample, ann.symbol
+            trip = [
+                (s[k - 1], s[k + 1])
+                for k in range(1, len(sym) - 1)
+                if sym[k] == "N" and sym[k - 1] == "(" and sym[k + 1] == ")"
+            ]
+            for (on, off), (next_on, _) in itertools.pairwise(trip):
+                j = off + int(0.06 * fs)
+                if j >= next_on - w:
+                    continue
+                knots = [x[on - w : on, li].mean(), x[next_on - w : next_on, li].mean()]
+                base = np.interp(j, [on - w / 2, next_on - w / 2], knots)
+                st_raw = x[j, li] - base
+                st_cond = y[j, li] - y[on - w : on, li].mean()
+                errors.append(abs(st_cond - st_raw))
+    err_uv = np.array(errors) * 1000
+    assert err_uv.size > 1000
+    assert np.median(err_uv) < 10.0
+    assert np.percentile(err_uv, 95) < 30.0

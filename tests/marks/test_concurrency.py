@@ -139,8 +139,45 @@ def test_file_removed_or_replaced_under_a_store_is_a_conflict(scratch, kit):
         assert a.path.read_bytes() == b"garbage"
         with pytest.raises(UnreadableSidecarError):
             a.resolve_merge()
-        with pytest.raises(UnreadableSidecarError, match="kept as rec.marks.reader1"):
+        with pytest.raises(UnreadableSidecarError, match=r"kept as rec\.marks\.reader1"):
             a.resolve_save_aside()
         assert a.path.read_bytes() == b"garbage"
         (aside,) = scratch.glob("rec.marks.reader1.*.json")
         assert load_sidecar(aside).reading("reader1").notes[-1].text == "three"
+
+
+def test_junk_lock_files_are_taken_over_never_an_exception(scratch, kit):
+    rec = kit.make_record(scratch)
+    lock = scratch / "rec.marks.json.lock"
+    host = socket.gethostname()
+    for junk in (
+        b"",
+        b"\xff\x00garbage",
+        b"[1, 2]",
+        json.dumps({"pid": 10**30, "host": host}).encode(),
+        json.dumps({"pid": True, "host": host}).encode(),
+        json.dumps({"pid": -5, "host": host}).encode(),
+        json.dumps({"pid": "12", "host": host}).encode(),
+        b"x" * 100_000,
+    ):
+        lock.write_bytes(junk)
+        with MarksStore.open(rec, "reader1"):
+            assert json.loads(lock.read_text())["pid"] == os.getpid()
+        assert not lock.exists()
+
+
+def test_lock_removed_under_a_store_is_retaken_and_taken_over_lock_stops_saving(scratch, kit):
+    rec = kit.make_record(scratch)
+    lock = scratch / "rec.marks.json.lock"
+    with MarksStore.open(rec, "reader1") as a:
+        lock.unlink()
+        a.do(a.edits.add_note("still saved"))
+        assert json.loads(lock.read_text())["pid"] == os.getpid()
+        with MarksStore.open(rec, "reader2", force_lock=True) as b:  # takes it over
+            assert json.loads(lock.read_text())["reviewer"] == "reader2"
+            with pytest.raises(ConflictError, match="took over"):
+                a.do(a.edits.add_note("refused"))
+            b.do(b.edits.add_note("reader2 saves"))
+    assert [n.text for n in load_sidecar(scratch / "rec.marks.json").reading("reader1").notes] == [
+        "still saved"
+    ]

@@ -114,7 +114,7 @@ def test_future_version_says_so(scratch, kit):
     doc["new_thing"] = {"whatever": []}
     path = scratch / "rec.marks.json"
     path.write_text(json.dumps(doc))
-    with pytest.raises(FutureVersionError, match="schema version 7.*newer"):
+    with pytest.raises(FutureVersionError, match=r"schema version 7.*newer"):
         MarksStore.open(kit.make_record(scratch), "reader1")
 
 

@@ -108,7 +108,7 @@ def test_real_record_sidecar_validates_and_converts_to_the_annotated_samples(lud
         # The reader moves one beat's QRS onset to where the LUDB cardiologists put it.
         peaks = _ludb_qrs_onsets(ludb_copy)
         beat = analysis.beats[len(analysis.beats) // 2]
-        peak, onset = min(peaks, key=lambda p: abs(p[0] - beat.r))
+        _peak, onset = min(peaks, key=lambda p: abs(p[0] - beat.r))
         store.do(
             store.edits.move_fiducial("qrs_on", onset / fs, scope="beat", beat_r_s=beat.r / fs)
         )
@@ -167,3 +167,31 @@ def test_marks_of_one_ludb_record_are_refused_for_another(shared_data, tmp_path)
     shutil.copy2(tmp_path / "1.marks.json", other / "2.marks.json")
     with pytest.raises(ForeignSidecarError):
         MarksStore.open(_wfdb_record(other / "2.hea"), "reader1")
+
+
+def test_window_flow_engine_marks_in_engine_marks_out(ludb_copy):
+    """A drag in the window yields an engine MarkOverride (samples); stored and read back it
+    is the same override, and the engine applies it to the beat LUDB's annotator marked."""
+    from reviewapp.core.fiducials import MarkOverride
+    from reviewapp.core.marks import UndoStack
+
+    rec = _wfdb_record(ludb_copy)
+    analysis = engine.analyse(rec)
+    r_index = analysis.representative.r_index
+    peak, onset = _ludb_qrs_onsets(ludb_copy)[2]
+    drags = [
+        MarkOverride("representative", "qrs_off", analysis.representative.marks.qrs_off + 3),
+        MarkOverride("beat", "qrs_on", onset, beat_r=peak),
+        MarkOverride("beat", "t_off", None, beat_r=peak, lead="II"),  # "no T end here"
+    ]
+    with MarksStore.open(rec, "reader1") as store:
+        stack = UndoStack(store)
+        for d in drags:
+            stack.push(store.edits.from_mark(d, r_index))
+        assert sorted(store.engine_overrides(r_index), key=repr) == sorted(drags, key=repr)
+    with MarksStore.open(rec, "reader1") as again:
+        out = again.engine_overrides(r_index)
+    marked, unmatched = analysis.marked(out)
+    assert unmatched == ()
+    bi = next(i for i, b in enumerate(analysis.beats) if abs(b.r - peak) <= 0.075 * rec.fs_hz)
+    assert marked.beat_marks[bi].qrs_on == onset

@@ -276,3 +276,19 @@ def test_caution_status_and_values_are_printed_in_the_pdf(tmp_path: Path, synth_
     # 60 bpm by construction (invented synthetic record).
     assert f"{hr.value:.0f}" == "60"
     assert "Heartrate60bpm" in text
+
+
+def test_two_lead_record_gets_full_width_strips(tmp_path: Path, shared_data: Path):
+    """QTDB sel100 (MLII, V5; PhysioNet): not a 12-lead, so no empty 3 x 4 columns."""
+    import wfdb
+
+    from reviewapp.core.record import record_from_array
+
+    src = wfdb.rdrecord(str(shared_data / "qtdb" / "sel100"), sampto=2500)
+    rec = record_from_array(src.p_signal, src.fs, src.sig_name, name="sel100-window")
+    content = build_report_content(analyse(rec))
+    out = tmp_path / "strips.pdf"
+    write_pdf(out, content)
+    text = _squash(pdf_text(out.read_bytes()))
+    assert "MLII" in text and "V5" in text
+    assert "notrecorded" not in text and "rhythm" not in text

@@ -20,7 +20,8 @@ from tests.ui.conftest import PX_PER_MM
 
 def test_paper_scale_math_standard_paper():
     # Standard ECG paper: 25 mm/s and 10 mm/mV (Kligfield et al., AHA/ACCF/HRS recommendations
-    # Part I, Circulation 115:1306, 2007). At 96 dpi (3.7795 px/mm): 1 s = 94.49 px, 1 mV = 37.80 px.
+    # Part I, Circulation 115:1306, 2007). At 96 dpi (3.7795 px/mm): 1 s = 94.49 px,
+    # 1 mV = 37.80 px.
     s = PaperScale(px_per_mm=96 / 25.4, speed_mm_per_s=25.0, gain_mm_per_mv=10.0)
     assert s.x_px(1.0) == pytest.approx(94.488, abs=1e-3)
     assert s.y_px(1.0) == pytest.approx(37.795, abs=1e-3)
@@ -50,10 +51,10 @@ def test_grid_is_one_mm_and_signal_is_true_scale_at_every_speed_and_gain(loaded,
     w.paper.true_size()
     ppm = PX_PER_MM
     for axis in ("x", "y"):
-        steps, pos = _grid_px_steps(w, axis)
+        steps, _pos = _grid_px_steps(w, axis)
         assert np.allclose(steps, ppm, atol=1e-6), (axis, steps[:5])
         # Every fifth line is a major (5 mm) line.
-        minor, major = w.paper.grid.line_positions(axis, 0.0, 60.0)
+        _minor, major = w.paper.grid.line_positions(axis, 0.0, 60.0)
         assert np.allclose(np.diff(major), 5.0)
     # One second of signal spans speed mm; one millivolt spans gain mm (within 2 %).
     g = w.paper.geom

@@ -71,7 +71,10 @@ def test_window_state_and_view_settings_are_restored(settings, qtbot):
 
     w = MainWindow(settings, px_per_mm=4.0)
     qtbot.addWidget(w)
-    w.resize(1234, 876)
+    w.show()
+    qtbot.waitExposed(w)
+    w.resize(700, 520)  # fits the offscreen 800 x 600 screen, so restore is not clamped
+    qtbot.wait(10)
     w.set_speed(50.0)
     w.set_gain(20.0)
     w.set_layout("6x2")
@@ -79,9 +82,11 @@ def test_window_state_and_view_settings_are_restored(settings, qtbot):
     w.close()
     w2 = MainWindow(settings, px_per_mm=4.0)
     qtbot.addWidget(w2)
+    w2.show()
+    qtbot.waitExposed(w2)
     assert w2.scale.speed_mm_per_s == 50.0 and w2.scale.gain_mm_per_mv == 20.0
     assert w2.paper.layout_key == "6x2" and w2.theme.name == "dark"
-    assert w2.size() == QtCore.QSize(1234, 876)
+    assert w2.size() == QtCore.QSize(700, 520)
     w2.set_theme("light")
 
 

@@ -7,9 +7,9 @@ of the local median RR is premature (common practice, no source; AAMI EC57 leave
 threshold to the algorithm). The dominant group is the largest group of normally timed beats.
 
 The representative beat is the sample-by-sample median of the dominant beats after aligning
-each on the dominant template by cross-correlation, the usual way resting-ECG programs form a
-median beat (e.g. the representative-complex approach of the CSE study, Willems JL et al.,
-Circulation 1987;75:1150-1160 -- from memory).
+each on the dominant QRS template by cross-correlation (the usual way a resting-ECG median
+beat is formed: common practice, no source). The median, unlike the mean, ignores a minority
+of beats spoilt by artefact.
 """
 
 from __future__ import annotations
@@ -30,7 +30,8 @@ MAX_GROUPS = 8
 SEED_SAMPLE = 400  # beats sampled to pick each group's seed (keeps grouping O(n))
 
 # Representative window: R - min(450 ms, 0.45 RR) .. R + min(650 ms, 0.65 RR), RR = median RR of
-# the dominant beats, so the neighbouring QRS complexes stay outside. Common practice, no source.
+# all detected beats, so the neighbouring QRS complexes stay outside (and, at 0.45 RR, mostly
+# the previous T wave too). Common practice, no source.
 REP_PRE_S = 0.45
 REP_POST_S = 0.65
 REP_PRE_RR = 0.45
@@ -90,7 +91,7 @@ def local_median_rr(r: np.ndarray) -> np.ndarray:
     if r.size < 2:
         return np.zeros(r.size)
     rr = np.diff(r).astype(np.float64)
-    med = ndimage.median_filter(rr, size=min(LOCAL_RR_BEATS, rr.size), mode="nearest")
+    med = ndimage.median_filter(rr, size=min(LOCAL_RR_BEATS, rr.size), mode="mirror")
     return np.concatenate([med[:1], med])
 
 
@@ -184,7 +185,9 @@ def classify_beats(
 
     - group: ``group_beats`` (multi-lead template correlation); beats matching no group get
       their own group id after the real groups.
-    - premature: RR to the previous beat < 85 % of the local median RR.
+    - premature: RR to the previous beat < 85 % of the local median RR; a dominant-group beat
+      right after an ectopic beat is timed from the previous dominant-group beat instead
+      (so the sinus beat after an interpolated PVC is not premature).
     - dominant group: the group with the most normally timed beats.
     - DOMINANT = dominant group and not premature; PREMATURE = premature (any group);
       UNKNOWN = other morphology, normally timed.
@@ -207,16 +210,24 @@ def classify_beats(
     lone = np.flatnonzero(groups < 0)
     groups[lone] = n_real + np.arange(lone.size)
     premature = np.zeros(r.size, dtype=bool)
+    local_rr = local_median_rr(r)
     if r.size >= 3:
         rr = np.concatenate([[np.inf], np.diff(r).astype(np.float64)])
-        premature = rr < PREMATURE_RR_FRACTION * local_median_rr(r)
+        premature = rr < PREMATURE_RR_FRACTION * local_rr
     normal_counts = np.bincount(groups[~premature], minlength=groups.max() + 1)
     dominant = int(np.argmax(normal_counts)) if normal_counts.size else 0
-    kinds = np.where(
-        premature,
-        1,
-        np.where(groups == dominant, 0, 2),
-    )
+    if r.size >= 3:
+        # A dominant-morphology beat that follows an ectopic beat is timed from the previous
+        # dominant beat: the sinus beat after an interpolated PVC is on time, not premature.
+        is_dom = groups == dominant
+        last_dom = np.maximum.accumulate(np.where(is_dom, np.arange(r.size), -1))
+        prev_dom = np.concatenate([[-1], last_dom[:-1]])
+        after_ectopic = is_dom & (np.concatenate([[True], ~is_dom[:-1]])) & (prev_dom >= 0)
+        rr_dom = (r - r[np.maximum(prev_dom, 0)]).astype(np.float64)
+        premature[after_ectopic] = (
+            rr_dom[after_ectopic] < PREMATURE_RR_FRACTION * local_rr[after_ectopic]
+        )
+    kinds = np.where(premature, 1, np.where(groups == dominant, 0, 2))
     table = (BeatKind.DOMINANT, BeatKind.PREMATURE, BeatKind.UNKNOWN)
     return tuple(
         Beat(r=int(ri), kind=table[int(ki)], group=int(gi))

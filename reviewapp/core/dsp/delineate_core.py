@@ -46,12 +46,13 @@ class DelineationParams:
     qrs_off_search: int  # samples after R searched for the last significant QRS slope
     qrs_off_limit: int  # samples after R searched for QRS end
     qrs_lead_slack: int = 0  # per-lead QRS marks stay within this of the global ones
+    qrs_run: int = 1  # samples the slope must stay below threshold at a boundary
     qrs_env: int = 1  # moving-average length of the QRS slope envelope, samples
     qrs_env_frac: float = 0.05  # the envelope below this fraction of its peak bounds the QRS
     qrs_lead_global: bool = True  # per-lead QRS marks = global ones (LUDB: closer to readers)
     qrs_sig: float = 0.25  # "significant slope" fraction of the max QRS slope
     qrs_on_frac: float = 0.06  # onset where slope falls below this fraction of the max
-    qrs_off_frac: float = 0.08
+    qrs_off_frac: float = 0.10
     noise_mult: float = 1.5  # thresholds never below this x the window's median slope
     t_start: int = 0  # samples after QRS end where the T search starts
     t_peak_limit: int = 0  # samples after R beyond which no T peak is sought
@@ -89,6 +90,7 @@ DURATIONS_MS: dict[str, float] = {
     "qrs_off_limit": 260,
     "qrs_lead_slack": 20,
     "qrs_env": 20,
+    "qrs_run": 8,
     "t_start": 80,
     "t_peak_limit": 600,
     "t_xm_max": 150,
@@ -162,6 +164,21 @@ def _take(v: np.ndarray, i: np.ndarray) -> np.ndarray:
     return np.take_along_axis(v, np.clip(i, 0, v.shape[1] - 1)[:, None], axis=1)[:, 0]
 
 
+def _run_below(f: np.ndarray, thr: np.ndarray, k: int, forward: bool) -> np.ndarray:
+    """True where ``f`` < ``thr`` for k samples from here on (forward) or up to here."""
+    below = (f < thr[:, None]).astype(np.int32)
+    if k <= 1:
+        return below.astype(bool)
+    cs = np.concatenate([np.zeros((f.shape[0], 1), dtype=np.int32), np.cumsum(below, axis=1)], axis=1)
+    w = f.shape[1]
+    j = np.arange(w)
+    if forward:
+        a, b = j, np.minimum(j + k, w)
+    else:
+        a, b = np.maximum(j - k + 1, 0), j + 1
+    return (cs[:, b] - cs[:, a]) == (b - a)[None, :]
+
+
 def qrs_bounds(
     f: np.ndarray,
     r: np.ndarray,
@@ -207,7 +224,9 @@ def qrs_bounds(
     pk0 = _first_true(_range_mask(w, i0, r) & falling)
     pk0 = np.where(pk0 < 0, i0, pk0)
     thr_on = np.maximum(p.qrs_on_frac * _take(f, pk0), floor)
-    on = _last_true(_range_mask(w, on_lo, i0) & (f < thr_on[:, None]))
+    # A boundary needs the slope to stay low for qrs_run samples (outward), so a turning
+    # point inside the complex (slope momentarily zero at a Q, R or S peak) does not count.
+    on = _last_true(_range_mask(w, on_lo, i0) & _run_below(f, thr_on, p.qrs_run, forward=False))
     off_sig_hi = np.minimum(hi, r + p.qrs_off_search)
     i1 = _last_true(_range_mask(w, r, off_sig_hi) & (f > sig[:, None]))
     i1 = np.where(i1 < 0, r, i1)
@@ -217,7 +236,7 @@ def qrs_bounds(
     pk1 = np.where(pk1 < 0, i1, pk1)
     thr_off = np.maximum(p.qrs_off_frac * _take(f, pk1), floor)
     off_hi = np.minimum(hi, off_lim)
-    off = _first_true(_range_mask(w, i1, off_hi) & (f < thr_off[:, None]))
+    off = _first_true(_range_mask(w, i1, off_hi) & _run_below(f, thr_off, p.qrs_run, forward=True))
     # No sample below threshold inside the envelope span: the span's edge is the boundary.
     on = np.where((on < 0) & (e_on >= 0), on_lo, on)
     off = np.where((off < 0) & (e_off >= 0), hi, off)

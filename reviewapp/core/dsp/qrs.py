@@ -30,10 +30,12 @@ T_WAVE_WINDOW_S = 0.36  # Pan & Tompkins 1985: T-wave discrimination within 360 
 T_WAVE_RATIO = 0.5  # Pan & Tompkins 1985: under half the previous QRS slope
 LEVEL_BLOCK_S = 2.0  # local QRS level = median of block maxima over +-3 blocks
 LEVEL_BLOCKS = 7
+# Lead weights are proportional to each lead's QRS-peak-to-background power ratio (inverse
+# noise weighting), capped so one exceptionally clean lead does not silence all others.
 SNR_WEIGHT_CAP = 1e4
-FIDUCIAL_SEARCH_S = 0.08
+FIDUCIAL_SEARCH_S = 0.08  # R is searched within +-80 ms of the feature peak
 # Detection runs at about this rate (block means); R is then refined at the full rate.
-DETECT_RATE_HZ = 150.0  # R = peak of the all-lead magnitude within +-80 ms of the feature peak
+DETECT_RATE_HZ = 150.0
 
 
 @lru_cache(maxsize=32)
@@ -49,7 +51,11 @@ def _snr_weight(snr: np.ndarray) -> np.ndarray:
 
 
 def _lead_weights(f: np.ndarray, block: int) -> tuple[np.ndarray, np.ndarray]:
-    """Per-lead typical QRS peak of ``f`` and a weight from its peak-to-background ratio."""
+    """Per-lead typical QRS peak of ``f`` (median of block maxima) and normalised weights.
+
+    The weight is the ratio of the typical peak to the lead's median (background) level of
+    ``f``: a clean lead scores in the thousands, a lead of pure noise near ten.
+    """
     n, n_leads = f.shape
     nb = max(1, n // block)
     if n >= block:
@@ -83,7 +89,8 @@ def _features(
     if m < 8 or x.shape[1] == 0:
         z = np.zeros(max(m, 0))
         return z, z, fs_d
-    # Block means: a cheap anti-alias (zero response at the new Nyquist) before decimating.
+    # Block means: a cheap anti-alias filter before decimating (boxcar; the QRS energy the
+    # detector uses lies below 20 Hz, far under the new Nyquist frequency of ~75 Hz).
     xd = x[: m * k].reshape(m, k, x.shape[1]).mean(axis=1, dtype=np.float64)
     xt = np.ascontiguousarray(xd.T)  # leads x samples: contiguous rows filter fastest
     padlen = min(m - 1, int(fs_d))
@@ -252,7 +259,7 @@ def _search_back(
         if pos.size < 3:
             return acc
         rr = np.diff(pos)
-        med = ndimage.median_filter(rr.astype(np.float64), size=min(9, rr.size), mode="nearest")
+        med = ndimage.median_filter(rr.astype(np.float64), size=min(9, rr.size), mode="mirror")
         long_gaps = np.flatnonzero(rr > SEARCHBACK_RR_FACTOR * med)
         if long_gaps.size == 0:
             return acc

@@ -30,6 +30,11 @@ Top-level fields
   ``action`` (move_fiducial, reset_fiducial, add/move/delete_caliper, add/edit/delete_note,
   set_status, sign_off, adjudicate, set_automatic, reopen, restore_sign_off, merge, and
   ``undo:<action>`` / ``redo:<action>``), ``target`` (what changed), ``old``, ``new``.
+- ``listing_cache`` (optional, written by ``reviewapp batch``): a few global values computed
+  from the automatic marks (``hr_bpm``, ``pr_ms``, ``qrs_ms``, ``qt_ms``, ``qtc_*_ms``,
+  ``flags``), labelled with ``kind``, ``engine_version`` and ``record_fingerprint``, so the
+  worklist can list thousands of records fast. A cache, never truth: values are recomputed
+  from signal + marks when the record is opened (see reviewapp/batch/summary.py).
 
 Example (a complete, schema-valid file; a real one has an event for every change)::
 
@@ -101,6 +106,18 @@ Never losing a mark
   ``*.set-aside-<utc>``; nothing is ever deleted.
 - Signing off freezes a reading; a later edit reopens it (``reopen`` event, status back to
   ``in_progress``).
+
+Using it
+--------
+Window: ``store = MarksStore.open(record, reviewer, role=...)``; make commands with
+``store.edits`` (``move_fiducial``, ``from_mark`` for an engine ``MarkOverride``,
+``reset_fiducial``, ``add_caliper``/``move_caliper``/``delete_caliper``,
+``add_note``/``edit_note``/``delete_note``, ``set_status``, ``sign_off``); run them with
+``store.apply(cmd, mode="do"|"undo"|"redo")`` then ``store.save()`` (or ``store.do``), e.g.
+from a QUndoCommand, or with the plain ``UndoStack``; clear the undo history when
+``store.revision`` changes (reload or merge). Measure with
+``analysis.reading(store.engine_overrides(rep.r_index))``. Batch:
+``write_automatic(record, automatic_from_analysis(analysis))``.
 
 Blinded second read and comparison
 ----------------------------------

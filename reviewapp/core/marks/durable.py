@@ -70,18 +70,37 @@ def atomic_write(path: Path, data: bytes) -> None:
 
 
 def pid_alive(pid: int) -> bool:
-    """Whether a process with this id runs on this machine."""
-    if pid <= 0:
+    """Whether a process with this id runs on this machine (True when it cannot be told)."""
+    if not isinstance(pid, int) or isinstance(pid, bool) or pid <= 0 or pid > 2**31:
         return False
+    if os.name == "nt":
+        return _pid_alive_windows(pid)
     try:
         os.kill(pid, 0)
     except ProcessLookupError:
         return False
     except PermissionError:
         return True  # it exists, it is just not ours
-    except OSError:
+    except (OSError, OverflowError, ValueError):
         return False
     return True
+
+
+def _pid_alive_windows(pid: int) -> bool:
+    # os.kill(pid, 0) would terminate the process on Windows; ask the kernel instead.
+    import ctypes
+
+    kernel32 = ctypes.WinDLL("kernel32", use_last_error=True)  # type: ignore[attr-defined]
+    handle = kernel32.OpenProcess(0x1000, False, pid)  # PROCESS_QUERY_LIMITED_INFORMATION
+    if not handle:
+        return ctypes.get_last_error() == 5  # ERROR_ACCESS_DENIED: exists, not ours
+    try:
+        code = ctypes.c_ulong()
+        if not kernel32.GetExitCodeProcess(handle, ctypes.byref(code)):
+            return True
+        return code.value == 259  # STILL_ACTIVE
+    finally:
+        kernel32.CloseHandle(handle)
 
 
 def remove_stale_temps(path: Path) -> list[Path]:

@@ -12,7 +12,7 @@ from dataclasses import replace
 from typing import TYPE_CHECKING, Literal
 
 from reviewapp.core.errors import MarksError
-from reviewapp.core.fiducials import FIDUCIALS
+from reviewapp.core.fiducials import FIDUCIALS, MarkOverride
 from reviewapp.core.marks.commands import (
     Command,
     Composite,
@@ -22,6 +22,7 @@ from reviewapp.core.marks.commands import (
     SetStatus,
     status_of,
 )
+from reviewapp.core.marks.convert import override_from_mark
 from reviewapp.core.marks.model import Caliper, Note, Override, ReviewerReading
 
 if TYPE_CHECKING:
@@ -87,7 +88,7 @@ class Edits:
         if before is not None:
             old_s = before.old_s
         else:
-            auto = self._store.automatic_internal
+            auto = self._store.automatic
             old_s = (
                 None if auto is None else auto.value_s(scope, fiducial, beat_r_s, lead, self._fs)
             )
@@ -100,6 +101,14 @@ class Edits:
             lead=lead,
         )
         return SetOverride(action, status_of(self._reading), key, before, after)
+
+    def from_mark(self, mark: MarkOverride, rep_r_index: int | None) -> SetOverride:
+        """The command for an engine ``MarkOverride`` (samples), e.g. from a drag in the
+        window; ``rep_r_index`` is ``analysis.representative.r_index``."""
+        ov = override_from_mark(mark, self._fs, rep_r_index)
+        return self.move_fiducial(
+            ov.fiducial, ov.new_s, scope=ov.scope, beat_r_s=ov.beat_r_s, lead=ov.lead
+        )
 
     def reset_fiducial(
         self,
@@ -227,7 +236,7 @@ class Edits:
             raise MarksError(
                 f"unknown interval {interval!r}; expected one of {sorted(INTERVAL_ENDS)}"
             )
-        auto = self._store.automatic_internal
+        auto = self._store.automatic
         parts: list[Command] = []
         for fid in INTERVAL_ENDS[interval]:
             key = ("representative", None, None, fid)

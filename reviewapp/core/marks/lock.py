@@ -109,7 +109,11 @@ class SidecarLock:
             fsync_dir(lock.parent)
             return True
         except OSError as exc:
-            raise MarksError(f"cannot create the lock file: {exc.strerror or exc}", lock) from None
+            raise MarksError(
+                f"cannot write beside the record ({exc.strerror or exc}); open it read-only or "
+                "keep its marks in another folder",
+                lock,
+            ) from None
         finally:
             try:
                 tmp.unlink(missing_ok=True)
@@ -134,7 +138,7 @@ def _is_live(holder: dict[str, Any]) -> bool:
     if not holder:
         return False  # unreadable: written by no working instance of this program
     pid = holder.get("pid")
-    if not isinstance(pid, int):
+    if not isinstance(pid, int) or isinstance(pid, bool):
         return False
     if holder.get("host") != host_name():
         return True  # cannot check a process on another machine

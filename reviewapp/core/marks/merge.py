@@ -155,6 +155,12 @@ def merge_sidecars(
             path,
             tuple(sorted(conflicts)),
         )
+    cache, clash = _three_way(base.listing_cache, ours.listing_cache, theirs.listing_cache)
+    if clash:
+        # derived from the automatic marks, never truth: keep the one matching them
+        cache = ours.listing_cache if automatic is ours.automatic else theirs.listing_cache
     their_ids = {e.id for e in theirs.audit}
     audit = theirs.audit + tuple(e for e in ours.audit[n:] if e.id not in their_ids)
-    return replace(theirs, automatic=automatic, readings=tuple(readings), audit=audit)
+    return replace(
+        theirs, automatic=automatic, readings=tuple(readings), audit=audit, listing_cache=cache
+    )

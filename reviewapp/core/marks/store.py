@@ -17,9 +17,10 @@ from pathlib import Path
 from typing import Any, Literal
 
 from reviewapp.core.errors import MarksError
+from reviewapp.core.fiducials import MarkOverride
 from reviewapp.core.marks import codec
 from reviewapp.core.marks.commands import Command
-from reviewapp.core.marks.convert import record_identity, sidecar_path_for
+from reviewapp.core.marks.convert import overrides_for, record_identity, sidecar_path_for
 from reviewapp.core.marks.durable import (
     atomic_write,
     remove_stale_temps,
@@ -115,6 +116,8 @@ def blinded_view(sidecar: Sidecar, reviewer: str, *, show_automatic: bool) -> Si
     return replace(
         sidecar,
         automatic=sidecar.automatic if show_automatic else None,
+        # the worklist cache is derived from the automatic marks only
+        listing_cache=sidecar.listing_cache if show_automatic else None,
         readings=() if own is None else (own,),
         audit=tuple(e for e in sidecar.audit if e.reviewer == reviewer),
     )
@@ -267,6 +270,15 @@ class MarksStore:
                 f"not as {self.role}",
                 self.path,
             )
+        # A second reader sees other readings only once their own is signed off, so the
+        # blinding of a study cannot be lifted by mistake in mid-read.
+        if self.role == "second" and not self.blinded:
+            if mine is None or mine.status != "signed_off":
+                raise MarksError(
+                    f"{self.reviewer} is a second reader: the record opens blinded until "
+                    "their own reading is signed off",
+                    self.path,
+                )
 
     # --- what the reader sees --------------------------------------------------------------
 
@@ -289,10 +301,9 @@ class MarksStore:
             return None
         return self._sidecar.automatic
 
-    @property
-    def automatic_internal(self) -> AutomaticMarks | None:
-        """The engine's marks for filling an override's old value (never shown as such)."""
-        return self._sidecar.automatic
+    def engine_overrides(self, rep_r_index: int | None) -> list[MarkOverride]:
+        """This reader's overrides for ``analysis.reading(...)`` (engine sample indices)."""
+        return overrides_for(self.reading, self.fs_hz, rep_r_index)
 
     @property
     def audit(self) -> tuple[AuditEvent, ...]:
@@ -438,9 +449,15 @@ class MarksStore:
         if not self._dirty:
             return
         if self._lock is not None and not self._lock.still_ours():
-            raise ConflictError(
-                "another window took over this record's lock; nothing was saved", self.path
-            )
+            if self._lock.holder() is None:
+                # The lock file vanished (removed by hand or by a cleanup): take it again.
+                self._lock = SidecarLock.acquire(self.path, self.reviewer)
+            else:
+                raise ConflictError(
+                    "another window took over this record's lock; nothing was saved. Close "
+                    "this window, or save this reading as a separate file",
+                    self.path,
+                )
         data = (
             self._pending if self._pending is not None else codec.encode(self._sidecar, self.path)
         )

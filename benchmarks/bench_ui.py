@@ -1,0 +1,229 @@
+"""Workbench speed: caliper/mark drag update (measurement + redraw) and launch to first paint.
+
+Goals (issue 4): <= 8 ms p95 per drag update on a 12-lead 10 s 1 kHz record; <= 1.5 s from
+process start to the first painted record. Peers measured in the same run, printed as ratios:
+a bare pyqtgraph PlotWidget with the same twelve curves (drag peer), and a bare PySide6 window
+(launch peer). Runs offscreen when there is no display.
+"""
+
+from __future__ import annotations
+
+import os
+import statistics
+import subprocess
+import sys
+import textwrap
+import time
+from pathlib import Path
+
+os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
+REPO = Path(__file__).resolve().parents[1]
+sys.path.insert(0, str(REPO))
+SHARED = Path(os.environ.get("REVIEWAPP_SHARED_DATA", REPO.parent / "shared" / "data"))
+N = 200
+
+
+def _record():
+    """12-lead, 10 s, 1 kHz: PTB s0010_re (first 10 s) when the open data is here, else synth."""
+    import numpy as np
+
+    from reviewapp.core.record import record_from_array
+
+    hea = SHARED / "ptbdb" / "s0010_re"
+    if hea.with_suffix(".hea").is_file():
+        import wfdb
+
+        w = wfdb.rdrecord(str(hea), sampto=10_000)
+        return record_from_array(
+            np.asarray(w.p_signal[:, :12], np.float32), 1000.0, w.sig_name[:12], name="s0010_re"
+        )
+    from reviewapp.core.synth import SynthParams, generate
+
+    syn = generate(SynthParams(duration_s=10, fs_hz=1000))
+    return syn.record
+
+
+def _pct(xs: list[float], q: float) -> float:
+    xs = sorted(xs)
+    return xs[min(len(xs) - 1, round(q * (len(xs) - 1)))]
+
+
+def bench_drag() -> None:
+    from PySide6 import QtCore, QtWidgets
+
+    from reviewapp.ui.app import create_app
+    from reviewapp.ui.main_window import MainWindow
+
+    app = create_app()
+    rec = _record()
+    settings = QtCore.QSettings(
+        str(Path("/tmp") / "reviewapp-bench.ini"), QtCore.QSettings.Format.IniFormat
+    )
+    settings.clear()
+    w = MainWindow(settings, px_per_mm=96 / 25.4)
+    w.resize(1600, 1000)
+    w.show()
+    app.processEvents()
+    w.load_record(rec, analyse_now=True)
+    w.set_layout("12x1")
+    app.processEvents()
+    c = w.add_caliper("time", row=1, center_sample=3000)
+    vp = w.paper.viewport()
+
+    caliper_ms: list[float] = []
+    for i in range(N):
+        t = time.perf_counter()
+        c.set_legs(b=c.b + (1 if i % 2 == 0 else -1))  # one drag step: readout + summary line
+        vp.repaint()  # synchronous redraw of the paper
+        caliper_ms.append(1000 * (time.perf_counter() - t))
+
+    mark_ms: list[float] = []
+    s = w.session
+    marks = [m for m in w.paper.marks if m.fiducial == "t_off"]
+    m = marks[len(marks) // 2]
+    for i in range(N):
+        t = time.perf_counter()
+        m.set_sample(m.sample + (1 if i % 2 == 0 else -1))
+        s.preview(s.beat_override(m.beat_index, m.fiducial, m.sample))  # measurements + summary
+        vp.repaint()
+        mark_ms.append(1000 * (time.perf_counter() - t))
+
+    rep_ms: list[float] = []
+    rep = s.reading.marked.representative
+    w.show_median(True)
+    app.processEvents()
+    k = rep.marks.t_off
+    for i in range(N // 2):
+        t = time.perf_counter()
+        k2 = k + (1 if i % 2 == 0 else 0)
+        w.median._snap("t_off", k2)
+        s.preview(s.representative_override("t_off", k2))
+        w.median.viewport().repaint()
+        rep_ms.append(1000 * (time.perf_counter() - t))
+    w.show_median(False)
+
+    # Peer: a bare PlotWidget with the same 12 curves, one InfiniteLine moved per step.
+    import numpy as np
+    import pyqtgraph as pg
+
+    pw = pg.PlotWidget()
+    pw.resize(1200, 900)
+    x = np.arange(rec.n_samples) / rec.fs_hz
+    data = rec.signal_mv
+    for j in range(12):
+        pw.plot(x, data[:, j] - 3 * j, pen=pg.mkPen("k", width=1.4))
+    line = pg.InfiniteLine(pos=3.0, movable=True)
+    pw.addItem(line)
+    pw.show()
+    app.processEvents()
+    peer_ms: list[float] = []
+    for i in range(N):
+        t = time.perf_counter()
+        line.setPos(3.0 + (0.001 if i % 2 == 0 else 0.0))
+        pw.viewport().repaint()
+        peer_ms.append(1000 * (time.perf_counter() - t))
+
+    def line_(name: str, xs: list[float]) -> str:
+        return f"{name}: p50 {statistics.median(xs):.2f} ms, p95 {_pct(xs, 0.95):.2f} ms"
+
+    print(
+        f"record: {rec.name}, {rec.n_leads} leads, {rec.duration_s:.0f} s, {rec.fs_hz:.0f} Hz; "
+        f"{N} steps each; window 1600 x 1000, platform {QtWidgets.QApplication.platformName()}"
+    )
+    print("  " + line_("caliper drag step (readout + redraw of 12-lead paper)", caliper_ms))
+    print("  " + line_("beat mark drag step (all measurements + summary + redraw)", mark_ms))
+    print("  " + line_("median-beat mark drag step (12 lines + measurements + redraw)", rep_ms))
+    print(
+        "  " + line_("peer: bare pyqtgraph PlotWidget, 12 curves + 1 InfiniteLine redraw", peer_ms)
+    )
+    print(
+        f"  ratio caliper/peer p95 = {_pct(caliper_ms, 0.95) / _pct(peer_ms, 0.95):.2f}; "
+        f"goal <= 8 ms p95: {'met' if _pct(caliper_ms, 0.95) <= 8 else 'NOT met'} (caliper), "
+        f"{'met' if _pct(mark_ms, 0.95) <= 8 else 'NOT met'} (beat mark)"
+    )
+    w.close()
+    settings.clear()
+
+
+_LAUNCH = textwrap.dedent(
+    """
+    import sys, time
+    t0 = float(sys.argv[1])
+    from PySide6 import QtCore, QtWidgets
+    from reviewapp.ui.app import create_app
+    from reviewapp.ui.main_window import MainWindow
+    app = create_app()
+    s = QtCore.QSettings("/tmp/reviewapp-bench-launch.ini", QtCore.QSettings.Format.IniFormat)
+    w = MainWindow(s)
+    w.resize(1600, 1000)
+    painted = []
+    class F(QtCore.QObject):
+        def eventFilter(self, obj, ev):
+            if ev.type() == QtCore.QEvent.Type.Paint and w.record is not None and not painted:
+                painted.append(time.time())
+                QtCore.QTimer.singleShot(0, app.quit)
+            return False
+    f = F()
+    w.paper.viewport().installEventFilter(f)
+    w.show()
+    QtCore.QTimer.singleShot(0, lambda: w.open_path(__import__("pathlib").Path(sys.argv[2])))
+    app.exec()
+    print(f"{painted[0] - t0:.3f}")
+    """
+)
+_PEER = textwrap.dedent(
+    """
+    import sys, time
+    t0 = float(sys.argv[1])
+    from PySide6 import QtCore, QtWidgets
+    app = QtWidgets.QApplication([])
+    w = QtWidgets.QLabel("hello"); w.show()
+    QtCore.QTimer.singleShot(0, app.quit); app.exec()
+    print(f"{time.time() - t0:.3f}")
+    """
+)
+
+
+def bench_launch() -> None:
+    target = SHARED / "ptbdb" / "s0010_re.hea"
+    if not target.is_file():
+        from reviewapp.ui.app import sample_records_dir
+        from reviewapp.ui.main_window import list_records
+
+        recs = list_records(sample_records_dir())
+        target = recs[0]
+    env = dict(os.environ, PYTHONPATH=str(REPO))
+    ours, peer = [], []
+    for _ in range(3):
+        out = subprocess.run(
+            [sys.executable, "-c", _LAUNCH, repr(time.time()), str(target)],
+            capture_output=True,
+            text=True,
+            env=env,
+            check=True,
+        )
+        ours.append(float(out.stdout.strip().splitlines()[-1]))
+        out = subprocess.run(
+            [sys.executable, "-c", _PEER, repr(time.time())],
+            capture_output=True,
+            text=True,
+            env=env,
+            check=True,
+        )
+        peer.append(float(out.stdout.strip().splitlines()[-1]))
+    o, p = statistics.median(ours), statistics.median(peer)
+    print(
+        f"launch to first painted record ({target.name}): median {o:.2f} s of 3 "
+        f"(runs {', '.join(f'{v:.2f}' for v in ours)}); "
+        f"goal <= 1.5 s: {'met' if o <= 1.5 else 'NOT met'}"
+    )
+    print(f"  peer: bare PySide6 window to first show {p:.2f} s; ratio {o / p:.1f}x")
+
+
+def main() -> None:
+    bench_drag()
+    bench_launch()
+
+
+if __name__ == "__main__":
+    main()
