@@ -100,6 +100,7 @@ class CaliperPair(pg.GraphicsObject):
         self.selected = False
         self.part: Part = "bar"
         self._drag: tuple[Part, float, int, int, int, float, float] | None = None
+        self._pix_cache: tuple[float, float] | None = None
         self.setZValue(40)
         self.set_theme(theme)
         self.setCursor(QtCore.Qt.CursorShape.SizeHorCursor)
@@ -200,7 +201,16 @@ class CaliperPair(pg.GraphicsObject):
         return top + 0.18 * (bottom - top)
 
     def _pix(self) -> tuple[float, float]:
-        return (self.pixelWidth() or 0.25, self.pixelHeight() or 0.25)
+        if self._pix_cache is None:
+            pw, ph = self.pixelWidth(), self.pixelHeight()
+            if not pw or not ph:
+                return (0.25, 0.25)
+            self._pix_cache = (pw, ph)
+        return self._pix_cache
+
+    def viewTransformChanged(self) -> None:
+        self.prepareGeometryChange()
+        self._pix_cache = None
 
     def _segments(self) -> tuple[list[QtCore.QLineF], QtCore.QLineF]:
         g = self.geom

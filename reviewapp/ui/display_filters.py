@@ -6,7 +6,6 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import signal
 
 
 @dataclass(frozen=True)
@@ -50,6 +49,8 @@ def apply_display_filters(x_mv: np.ndarray, fs_hz: float, f: DisplayFilters) -> 
     """
     if not f.any or x_mv.shape[0] < 32:
         return x_mv
+    from scipy import signal  # imported on first use: keeps the window's start-up fast
+
     y = np.nan_to_num(np.asarray(x_mv, dtype=np.float64))
     nyq = fs_hz / 2.0
     pad = min(y.shape[0] - 1, int(fs_hz))

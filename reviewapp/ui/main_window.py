@@ -117,6 +117,10 @@ class MainWindow(QtWidgets.QMainWindow):
         self.scale_label = QtWidgets.QLabel()
         self.statusBar().addPermanentWidget(self.scale_label)
 
+        self._caliper_timer = QtCore.QTimer(self)
+        self._caliper_timer.setSingleShot(True)
+        self._caliper_timer.setInterval(80)
+        self._caliper_timer.timeout.connect(self._update_caliper_list)
         self.paper.mark_dragging.connect(self._beat_mark_dragging)
         self.paper.mark_dropped.connect(self._beat_mark_dropped)
         self.paper.mark_reset.connect(self._beat_mark_reset)
@@ -465,7 +469,9 @@ class MainWindow(QtWidgets.QMainWindow):
         if analyse_now:
             self.analyse()
         else:
-            QtCore.QTimer.singleShot(0, self.analyse)
+            self.paper.call_after_paint(self.analyse)
+            # Fallback when nothing paints (window hidden): analyse is a no-op if already done.
+            QtCore.QTimer.singleShot(400, self.analyse)
 
     def analyse(self) -> None:
         rec = self.record
@@ -674,6 +680,12 @@ class MainWindow(QtWidgets.QMainWindow):
             sel.nudge(dx)
 
     def _calipers_changed(self, _c: object) -> None:
+        # The paper label follows every drag step; the dock's list is refreshed at most every
+        # 80 ms, so dragging never waits for a dock relayout.
+        if not self._caliper_timer.isActive():
+            self._caliper_timer.start()
+
+    def _update_caliper_list(self) -> None:
         self.summary.show_calipers([c.label_text() + f"  ({c.lead})" for c in self.paper.calipers])
 
     # --- marks ---------------------------------------------------------------------------

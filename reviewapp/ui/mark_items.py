@@ -62,6 +62,8 @@ class FiducialMark(pg.GraphicsObject):
         self._fs = fs_hz
         self._start_sample: int | None = None
         self._hover = False
+        self._hw: float | None = None
+        self._br: QtCore.QRectF | None = None
         self.set_theme(theme)
         self.setZValue(30)
         self.setAcceptHoverEvents(True)
@@ -107,19 +109,32 @@ class FiducialMark(pg.GraphicsObject):
     def set_sample(self, sample: int) -> None:
         self.prepareGeometryChange()
         self.sample = int(sample)
+        self._br = None
         self.update()
 
     def _halfwidth(self) -> float:
-        pw = self.pixelWidth() or 0.25
-        return GRAB_PX * pw
+        # Cached: the scene asks for the bounding rect far more often than the view changes.
+        if self._hw is None:
+            pw = self.pixelWidth()
+            if not pw:
+                return GRAB_PX * 0.25
+            self._hw = GRAB_PX * pw
+        return self._hw
+
+    def viewTransformChanged(self) -> None:
+        self.prepareGeometryChange()
+        self._hw = None
+        self._br = None
 
     def boundingRect(self) -> QtCore.QRectF:
-        if not self._bands:
-            return QtCore.QRectF()
-        hw = self._halfwidth() * 2.0
-        top = min(b[0] for b in self._bands)
-        bottom = max(b[1] for b in self._bands)
-        return QtCore.QRectF(self.line_x - hw, top - hw, 2 * hw, bottom - top + 2 * hw)
+        if self._br is None:
+            if not self._bands:
+                return QtCore.QRectF()
+            hw = self._halfwidth() * 2.0
+            top = min(b[0] for b in self._bands)
+            bottom = max(b[1] for b in self._bands)
+            self._br = QtCore.QRectF(self.line_x - hw, top - hw, 2 * hw, bottom - top + 2 * hw)
+        return QtCore.QRectF(self._br)
 
     def shape(self) -> QtGui.QPainterPath:
         path = QtGui.QPainterPath()

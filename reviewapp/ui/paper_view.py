@@ -11,7 +11,7 @@ from typing import Literal
 
 import numpy as np
 import pyqtgraph as pg
-from PySide6 import QtCore, QtGui
+from PySide6 import QtCore, QtGui, QtWidgets
 
 from reviewapp.core.fiducials import FIDUCIALS
 from reviewapp.core.record import Record
@@ -56,6 +56,7 @@ class PaperView(pg.GraphicsView):
         self.selected: CaliperPair | FiducialMark | None = None
         self._furniture: list[QtCore.QObject] = []
         self._zoom = 1.0
+        self._after_paint: list = []
 
         self.vb = pg.ViewBox(invertY=True, enableMenu=False, defaultPadding=0.0)
         self.vb.disableAutoRange()
@@ -71,6 +72,8 @@ class PaperView(pg.GraphicsView):
             item.setFont(f)
             item.setZValue(25)
             self.vb.addItem(item)
+        # Items move all the time while the reader drags: a BSP index would only cost.
+        self.scene().setItemIndexMethod(QtWidgets.QGraphicsScene.ItemIndexMethod.NoIndex)
         self.vb.sigResized.connect(self._keep_zoom)
         self.vb.sigRangeChanged.connect(self._range_changed)
         self.setFocusPolicy(QtCore.Qt.FocusPolicy.StrongFocus)
@@ -263,6 +266,19 @@ class PaperView(pg.GraphicsView):
     def _on_mark_dragging(self, mark: FiducialMark, sample: int) -> None:
         self._select(mark)
         self.mark_dragging.emit(mark, sample)
+
+    def call_after_paint(self, fn) -> None:
+        """Run ``fn`` once, right after the next paint (e.g. the analysis after the first
+        painted record, so the reader sees the traces at once)."""
+        self._after_paint.append(fn)
+        self.viewport().update()
+
+    def paintEvent(self, ev) -> None:
+        super().paintEvent(ev)
+        if self._after_paint:
+            todo, self._after_paint = self._after_paint, []
+            for fn in todo:
+                QtCore.QTimer.singleShot(0, fn)
 
     # --- calipers ------------------------------------------------------------------------
     def add_caliper(

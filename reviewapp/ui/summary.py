@@ -68,6 +68,7 @@ LEAD_COLUMNS: tuple[tuple[str, str], ...] = (
     ("st_j80_mv", "ST J+80"),
 )
 ABOVE, BELOW = "▲", "▼"
+_RIGHT = QtCore.Qt.AlignmentFlag.AlignRight | QtCore.Qt.AlignmentFlag.AlignVCenter
 
 
 def range_text(r: NormalRange | None) -> str:
@@ -132,7 +133,8 @@ class SummaryPanel(QtWidgets.QWidget):
             QtWidgets.QHeaderView.ResizeMode.ResizeToContents
         )
         self.leads_table.setVisible(False)
-        self.per_lead_button.toggled.connect(self.leads_table.setVisible)
+        self.per_lead_button.toggled.connect(self._show_leads)
+        self._last: tuple[Reading, SubjectFacts] | None = None
         self.caliper_label = QtWidgets.QLabel("")
         self.caliper_label.setWordWrap(True)
         self.status = QtWidgets.QLabel("")
@@ -201,15 +203,19 @@ class SummaryPanel(QtWidgets.QWidget):
             tip_text = "\n".join(tip)
             cells = [label + (" ✎" if moved else ""), text, range_text(rng), flag]
             for col, t in enumerate(cells):
-                item = QtWidgets.QTableWidgetItem(t)
-                item.setToolTip(tip_text)
-                if flag:
-                    item.setFont(bold)
-                if col == 1:
-                    item.setTextAlignment(
-                        QtCore.Qt.AlignmentFlag.AlignRight | QtCore.Qt.AlignmentFlag.AlignVCenter
-                    )
-                self.table.setItem(row, col, item)
+                # Update items in place: this runs on every step of a mark drag.
+                item = self.table.item(row, col)
+                if item is None:
+                    item = QtWidgets.QTableWidgetItem()
+                    if col == 1:
+                        item.setTextAlignment(_RIGHT)
+                    self.table.setItem(row, col, item)
+                if item.text() != t:
+                    item.setText(t)
+                if item.toolTip() != tip_text:
+                    item.setToolTip(tip_text)
+                if item.font().bold() != bool(flag):
+                    item.setFont(bold if flag else self.table.font())
             n_flags += bool(flag)
         extra = len([f for f in reading.findings if f.lead is not None])
         self.status.setText(
@@ -226,7 +232,14 @@ class SummaryPanel(QtWidgets.QWidget):
             )
             + ". Hover a row for its source."
         )
-        self._fill_leads(reading, subject)
+        self._last = (reading, subject)
+        if self.leads_table.isVisible():
+            self._fill_leads(reading, subject)
+
+    def _show_leads(self, on: bool) -> None:
+        self.leads_table.setVisible(on)
+        if on and self._last is not None:
+            self._fill_leads(*self._last)
 
     def _fill_leads(self, reading: Reading, subject: SubjectFacts) -> None:
         leads = reading.measurements.leads

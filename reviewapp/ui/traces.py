@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 import pyqtgraph as pg
-from PySide6 import QtCore, QtGui
+from PySide6 import QtCore, QtGui, QtWidgets
 
 from reviewapp.ui.geometry import LEFT_MARGIN_MM, PageGeometry
 from reviewapp.ui.layouts import Cell
@@ -22,9 +22,15 @@ class LeadTrace(pg.PlotDataItem):
             connect="finite",
         )
         self.setDownsampling(auto=True, method="peak")
+        # About three points per screen pixel after peak decimation (pyqtgraph's default keeps
+        # ~10): the same picture, a third of the line segments to stroke.
+        self.opts["autoDownsampleFactor"] = 1.5
         self.setClipToView(True)
         # Line segments instead of one path: Qt strokes a >1 px antialiased path ~20x slower.
         self.curve.setSegmentedLineMode("on")
+        # Cache the stroked trace in device pixels: a caliper or mark drag then repaints its
+        # strip by copying pixels instead of stroking thousands of segments again.
+        self.curve.setCacheMode(QtWidgets.QGraphicsItem.CacheMode.DeviceCoordinateCache)
         self.cell = cell
         self.setZValue(10)
 

@@ -209,3 +209,42 @@ def test_interpolated_pvc_leaves_next_sinus_beat_dominant(shared_data: Path) -> 
         assert beats[i].group != beats[0].group
         if i + 1 < len(beats):
             assert beats[i + 1].kind == BeatKind.DOMINANT
+
+
+def test_pipeline_never_fails_on_arbitrary_input() -> None:
+    # Property test: any finite input of any length and rate gives well-formed outputs
+    # (sorted unique in-range R indices, one Beat per R, a median beat that fits its window).
+    hypothesis = pytest.importorskip("hypothesis")
+    from hypothesis import given, settings
+    from hypothesis import strategies as st
+
+    @settings(max_examples=25, deadline=None)
+    @given(
+        n=st.integers(1, 3000),
+        n_leads=st.integers(1, 12),
+        fs=st.sampled_from([125.0, 250.0, 360.0, 500.0, 1000.0, 2000.0]),
+        seed=st.integers(0, 2**31 - 1),
+        scale=st.sampled_from([0.0, 1e-3, 1.0, 50.0]),
+        spikes=st.booleans(),
+    )
+    def check(n: int, n_leads: int, fs: float, seed: int, scale: float, spikes: bool) -> None:
+        rng = np.random.default_rng(seed)
+        x = (rng.normal(0, scale, (n, n_leads))).astype(np.float32)
+        if spikes and n > 10:
+            x[rng.integers(0, n, 5)] += 3.0
+        usable = rng.random(n_leads) > 0.2
+        c = condition(x, fs)
+        assert c.shape == x.shape and c.dtype == np.float32 and np.isfinite(c).all()
+        r = detect_qrs(c, fs, usable)
+        assert r.dtype == np.int64
+        assert np.all(np.diff(r) > 0) and (r.size == 0 or (r[0] >= 0 and r[-1] < n))
+        beats = classify_beats(c, fs, r, usable)
+        assert [b.r for b in beats] == r.tolist()
+        rep = representative_beat(c, fs, beats, usable)
+        if rep is not None:
+            assert rep.waveform_mv.shape[1] == n_leads
+            assert 0 <= rep.r_index < rep.waveform_mv.shape[0]
+            assert 1 <= rep.n_beats_used <= len(beats)
+
+    assert hypothesis is not None
+    check()

@@ -14,6 +14,7 @@ SD is above the CSE tolerance, the comment says so.
 
 from __future__ import annotations
 
+import sys
 import warnings
 from pathlib import Path
 
@@ -23,7 +24,9 @@ import pytest
 from reviewapp.core.engine import analyse
 from reviewapp.core.record import record_from_array
 
-from .reference_marks import (
+# tests run with --import-mode=importlib: make the sibling helper module importable.
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+from reference_marks import (
     CSE_TOLERANCE_MS,
     LUDB_LEAD_NAMES,
     BeatCounts,
@@ -35,6 +38,8 @@ from .reference_marks import (
     score_ludb_record,
     score_qtdb_record,
 )
+
+pytestmark = pytest.mark.slow  # whole-database accuracy (about 30 s)
 
 # (|mean| limit, SD limit) in ms per fiducial. Measured values in the comments.
 QTDB_LIMITS = {
@@ -88,7 +93,7 @@ def ludb_scores(shared_data: Path) -> tuple[ErrorPool, BeatCounts]:
 @pytest.mark.parametrize("fid", list(QTDB_LIMITS))
 def test_qtdb_q1c_global_marks(qtdb_scores: tuple[ErrorPool, BeatCounts], fid: str) -> None:
     # Reference: QTDB q1c cardiologist marks (Laguna et al., Computers in Cardiology 1997).
-    pool, counts = qtdb_scores
+    pool, _ = qtdb_scores
     mean, sd, n = pool.stats()[fid]
     mean_max, sd_max = QTDB_LIMITS[fid]
     assert n > 1500, f"too few {fid} compared: {n}"
@@ -125,7 +130,7 @@ def test_ludb_beats_found(ludb_scores: tuple[ErrorPool, BeatCounts]) -> None:
     assert counts.missed <= 0.005 * total and counts.extra <= 0.005 * total
 
 
-def test_ludb_errors_are_not_dominated_by_few_beats(ludb_scores: tuple[ErrorPool, BeatCounts]) -> None:
+def test_ludb_median_errors_within_cse(ludb_scores: tuple[ErrorPool, BeatCounts]) -> None:
     # The median absolute error stays well inside the CSE tolerance for every fiducial
     # (the SDs above are inflated by a few records with unusual morphology).
     pool, _ = ludb_scores

@@ -116,3 +116,15 @@ def test_edf_garbage_and_truncated(shared_data: Path, tmp_path: Path) -> None:
     (tmp_path / "junk.edf").write_bytes(b"\x00\xff" * 400)
     with pytest.raises(RecordError, match=r"junk\.edf"):
         open_record(tmp_path / "junk.edf")
+
+
+def test_edf_plus_discontinuous_is_refused_clearly(tmp_path: Path) -> None:
+    header = _header("ECG I", "mV", 250, -5, 5)
+    highlevel.write_edf(str(tmp_path / "c.edf"), [np.sin(np.arange(1000) / 10)], [header])
+    raw = bytearray((tmp_path / "c.edf").read_bytes())
+    assert raw[192:197] == b"EDF+C"  # EDF+ spec 2.1.3.2: reserved field says continuous
+    raw[192:197] = b"EDF+D"
+    (tmp_path / "d.edf").write_bytes(bytes(raw))
+    with pytest.raises(RecordError, match="discontinuous") as info:
+        open_record(tmp_path / "d.edf")
+    assert str(info.value).count("d.edf") == 1

@@ -72,7 +72,7 @@ def make_command(store: MarksStore, op: tuple):
 
 
 @settings(
-    max_examples=30,
+    max_examples=60,
     deadline=None,
     suppress_health_check=[HealthCheck.too_slow, HealthCheck.function_scoped_fixture],
 )

@@ -5,6 +5,9 @@ Beats are grouped by the correlation of their multi-lead QRS windows with group 
 practice, no source) and labelled by timing: a beat whose preceding RR is shorter than 85 %
 of the local median RR is premature (common practice, no source; AAMI EC57 leaves the
 threshold to the algorithm). The dominant group is the largest group of normally timed beats.
+``BeatKind.PACED`` is not assigned here: pacing spikes are not detected (after the 150 Hz
+low-pass, at 500 Hz sampling, bipolar pacing spikes are not resolved reliably), so paced
+beats are grouped by morphology like any other beat.
 
 The representative beat is the sample-by-sample median of the dominant beats after aligning
 each on the dominant QRS template by cross-correlation (the usual way a resting-ECG median
@@ -273,8 +276,8 @@ def representative_beat(
     """Median beat of the DOMINANT beats, per lead, aligned by cross-correlation.
 
     Window: R - min(450 ms, 0.45 RR) to R + min(650 ms, 0.65 RR), RR = median RR of all
-    detected beats (fixed 450/650 ms with one beat). Beats whose window
-    does not fit in the record are skipped. Each beat's R is refined within +-10 ms by
+    detected beats (fixed 450/650 ms with one beat). Beats whose window (plus the alignment
+    range) does not fit in the record are skipped. Each beat's R is refined within +-10 ms by
     maximising the correlation of its QRS (R +-60 ms, usable leads) with the median QRS of the
     unaligned beats; then the median is taken sample by sample. At most ``MAX_REP_BEATS``
     beats are used (those most like the template). Returns None without a usable beat.

@@ -156,6 +156,7 @@ def _marks_from_rep(
     glob[dom] = np.where(rep_g[None, :] >= 0, base + rep_g[None, :], -1)
     if rep_l.shape[0] == nl:
         lead[dom] = np.where(rep_l[None] >= 0, base[:, None, :] + rep_l[None], -1)
+        lead[:, ~usable, :] = -1  # unusable leads get no marks whatever the median beat says
     return glob, lead, covered
 
 

@@ -63,7 +63,8 @@ class DelineationParams:
     t_min_mv: float = 0.04  # smaller T waves count as absent in that lead
     p_gap: int = 0  # samples kept free before QRS onset
     p_max: int = 0  # samples before QRS onset searched for P
-    p_xr: int = 0  # samples from the steepest P slopes to x_r
+    p_xr: int = 0  # samples from the steepest P up-slope back to x_r (onset)
+    p_xr_off: int = 0  # samples from the steepest P down-slope on to x_r (end)
     p_xm_max: int = 0  # samples either side of the P peak searched for its steepest slopes
     p_min_mv: float = 0.03  # smaller P waves count as absent in that lead
     p_on_q: float = 0.25  # global onset: this order statistic of the lead onsets (0 = earliest)
@@ -99,6 +100,7 @@ DURATIONS_MS: dict[str, float] = {
     "p_gap": 20,
     "p_max": 300,
     "p_xr": 50,
+    "p_xr_off": 30,
     "p_xm_max": 60,
 }
 
@@ -116,6 +118,7 @@ class BlockBounds:
 
 
 SLOW_HZ = 20.0  # low-pass for P and T (their content lies below ~15 Hz)
+FAST_HZ = 40.0  # low-pass for QRS slopes
 
 
 @lru_cache(maxsize=32)
@@ -133,7 +136,7 @@ def prefilter(x_mv: np.ndarray, fs_hz: float) -> dict[str, np.ndarray]:
     if x.shape[0] < 16:
         return {"fast": x.copy(), "slow": x.copy()}
     pad = min(x.shape[0] - 1, int(0.1 * fs_hz))
-    fast = signal.sosfiltfilt(_lowpass_sos(float(fs_hz), 40.0), x, axis=0, padlen=pad)
+    fast = signal.sosfiltfilt(_lowpass_sos(float(fs_hz), FAST_HZ), x, axis=0, padlen=pad)
     slow = signal.sosfiltfilt(_lowpass_sos(float(fs_hz), SLOW_HZ), x, axis=0, padlen=pad)
     return {"fast": fast, "slow": slow}
 
@@ -378,7 +381,7 @@ def delineate_block(
     xr_on = np.maximum(p_a, xm_on - p.p_xr)
     p_on = trapezium_boundary(yp, xm_on, xr_on)
     xm_off = _masked_argmax(-sgn * dyp, _range_mask(w, p_pk, np.minimum(p_b, p_pk + p.p_xm_max)))
-    xr_off = np.minimum(p_b + p.p_gap, xm_off + p.p_xr)
+    xr_off = np.minimum(p_b + p.p_gap, xm_off + p.p_xr_off)
     p_off = trapezium_boundary(yp, xm_off, xr_off)
     p_ok &= (p_on >= 0) & (p_off > p_on)
 

@@ -61,6 +61,9 @@ def reading(path: Path, what: str) -> Iterator[None]:
         raise RecordError(f"{what} is nested too deeply to read", path) from None
     except Exception as err:
         detail = str(err).strip().splitlines()[0] if str(err).strip() else type(err).__name__
+        # Libraries often start with the path themselves; the RecordError adds it once.
+        for prefix in (f"{path}: ", f"{path.name}: "):
+            detail = detail.removeprefix(prefix)
         if len(detail) > 200:
             detail = detail[:200] + "..."
         raise RecordError(f"cannot read {what}: {detail}", path) from err

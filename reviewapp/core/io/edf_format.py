@@ -126,7 +126,11 @@ def read_edf(path: Path) -> Record:
     for i in voltage:
         if not (math.isfinite(rates[i]) and rates[i] > 0):
             raise RecordError(f"signal {labels[i]!r} has sampling rate {rates[i]!r}", path)
-        if phys_max[i] == phys_min[i] or dig_max[i] <= dig_min[i]:
+        if (
+            not (math.isfinite(phys_max[i]) and math.isfinite(phys_min[i]))
+            or phys_max[i] == phys_min[i]
+            or dig_max[i] <= dig_min[i]
+        ):
             raise RecordError(f"signal {labels[i]!r} has an empty physical or digital range", path)
     common_rate, _ = Counter(rates[i] for i in voltage).most_common(1)[0]
     off_rate = [i for i in voltage if rates[i] != common_rate]
