@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import numpy as np
 import pyqtgraph as pg
-from PySide6 import QtCore, QtGui
+from PySide6 import QtCore, QtGui, QtWidgets
 
 from reviewapp.core.fiducials import FIDUCIALS, BeatKind
 from reviewapp.ui.layouts import ordered_leads
@@ -19,6 +19,9 @@ from reviewapp.ui.session import ReadingSession
 from reviewapp.ui.theme import LIGHT, Theme, mark_colour
 
 MAX_SUPERIMPOSED = 300
+# Curves and grids are cached as device pixels: dragging a mark line repaints a thin column of
+# every panel, which should copy pixels, not stroke the beats again.
+_CACHE = QtWidgets.QGraphicsItem.CacheMode.DeviceCoordinateCache
 # Label heights (fraction of the panel) staggered so neighbouring marks' labels never overlap.
 LABEL_POSITIONS = {"p_on": 0.95, "p_off": 0.88, "qrs_on": 0.81, "qrs_off": 0.74, "t_off": 0.95}
 
@@ -127,12 +130,16 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
                 major_colour=self.theme.grid_major,
             )
             grid.set_colours(self.theme.grid_minor, self.theme.grid_major, self.theme.paper)
+            grid.setCacheMode(_CACHE)
             p.addItem(grid)
             if overlay is not None:
                 ox, oy = overlay
-                p.addItem(pg.PlotCurveItem(ox, sign * oy[:, idx], pen=over_pen, connect="finite"))
+                over = pg.PlotCurveItem(ox, sign * oy[:, idx], pen=over_pen, connect="finite")
+                over.setCacheMode(_CACHE)
+                p.addItem(over)
             median_curve = pg.PlotCurveItem(t_ms, sign * wave[:, idx], pen=pen, antialias=True)
             median_curve.setSegmentedLineMode("on")  # thick antialiased paths stroke slowly
+            median_curve.setCacheMode(_CACHE)
             p.addItem(median_curve)
             title = pg.TextItem(
                 ("-" if inverted else "") + lead, color=self.theme.text, anchor=(0, 0)

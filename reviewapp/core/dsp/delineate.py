@@ -79,7 +79,7 @@ def delineate_representative(
         >>> 160 < marks.qrs_on < 200 < marks.qrs_off < 240, marks.t_off > 350
         (True, True)
     """
-    wave = np.asarray(waveform_mv, dtype=np.float64)
+    wave = np.asarray(waveform_mv, dtype=np.float32)
     n, n_leads = wave.shape
     usable = np.asarray(usable, dtype=bool)
     if n == 0 or not usable.any() or not 0 <= r_index < n:
@@ -128,7 +128,7 @@ def _marks_from_rep(
     if dom.size == 0:
         return glob, lead, covered
     ui = np.flatnonzero(usable)
-    rep_f = prefilter(np.asarray(rep.waveform_mv, dtype=np.float64)[:, ui], fs_hz)
+    rep_f = prefilter(np.asarray(rep.waveform_mv)[:, ui], fs_hz)
     rep_g = np.array([-1 if v is None else v for v in _mark_values(rep.marks)], dtype=np.int64)
     rep_l = np.array(
         [[-1 if v is None else v for v in _mark_values(m)] for m in rep.lead_marks], dtype=np.int64
@@ -194,7 +194,7 @@ def delineate_beats(
     Returns:
         (global marks per beat, per-lead marks [beat][lead]); record indices, None = absent.
     """
-    x = np.asarray(conditioned_mv, dtype=np.float64)
+    x = np.asarray(conditioned_mv, dtype=np.float32)
     n, n_leads = x.shape
     usable = np.asarray(usable, dtype=bool)
     if not beats:

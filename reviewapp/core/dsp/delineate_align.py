@@ -25,6 +25,7 @@ T end     -120 .. +40      +-60
 from __future__ import annotations
 
 import numpy as np
+from scipy import signal
 
 # (segment before ms, segment after ms, max lag ms, signal key) per column P_ON..T_OFF.
 ALIGN_SPEC: tuple[tuple[float, float, float, str], ...] = (
@@ -76,21 +77,39 @@ def align_lags(
     corr = np.zeros(nb)
     if nb == 0 or rep_mark - before < 0 or rep_mark + after >= rep_sig.shape[0]:
         return lags, corr
-    seg = np.arange(-before, after + 1, max(1, int(stride)))
-    tmpl = rep_sig[rep_mark + seg]  # (S, L)
+    step = max(1, int(stride))
+    tmpl = rep_sig[rep_mark - before : rep_mark + after + 1 : step]  # (S, L)
     tmpl = tmpl - tmpl.mean(axis=0, keepdims=True)
     tn = float(np.sqrt(np.sum(tmpl * tmpl)))
     if tn == 0.0:
         return lags, corr
-    all_lags = np.arange(-max_lag, max_lag + 1)
-    idx = beat_expected[:, None, None] + all_lags[None, :, None] + seg[None, None, :]  # (B, K, S)
-    fits = (idx.min(axis=(1, 2)) >= 0) & (idx.max(axis=(1, 2)) < n)
-    x = beat_sig[np.clip(idx, 0, n - 1)]  # (B, K, S, L)
-    x = x - x.mean(axis=2, keepdims=True)
-    num = np.einsum("bksl,sl->bk", x, tmpl)
-    den = np.sqrt(np.einsum("bksl,bksl->bk", x, x)) * tn
-    c = np.where(den > 0, num / np.where(den > 0, den, 1.0), -np.inf)
+    s_len = tmpl.shape[0]
+    k = 2 * max_lag + 1
+    # Each beat's stretch covering every lag: lag j (0..k-1) uses ext[j : j + step*S : step].
+    start = beat_expected - before - max_lag
+    span = k + step * (s_len - 1)
+    fits = (start >= 0) & (start + span <= n)
+    idx = np.clip(start[:, None] + np.arange(span)[None, :], 0, n - 1)
+    ext = beat_sig[idx].astype(np.float64)  # (B, span, L)
+    num = np.empty((nb, k))
+    var = np.empty((nb, k))
+    # Lags are split by phase modulo the stride; within a phase the comparison is a plain
+    # sliding correlation (FFT) and sliding sums (cumulative sums).
+    for ph in range(min(step, k)):
+        sub = ext[:, ph::step]  # (B, m, L)
+        n_lag = len(range(ph, k, step))
+        # The template is zero-mean per lead, so the segment mean drops out of the numerator.
+        cor = signal.fftconvolve(sub, tmpl[::-1][None], mode="valid", axes=1)  # (B, m-S+1, L)
+        num[:, ph::step] = cor[:, :n_lag].sum(axis=2)
+        c1 = np.concatenate([np.zeros((nb, 1, nl)), np.cumsum(sub, axis=1)], axis=1)
+        c2 = np.concatenate([np.zeros((nb, 1, nl)), np.cumsum(sub * sub, axis=1)], axis=1)
+        sx = c1[:, s_len : s_len + n_lag] - c1[:, :n_lag]
+        sxx = c2[:, s_len : s_len + n_lag] - c2[:, :n_lag]
+        var[:, ph::step] = np.maximum(sxx - sx * sx / s_len, 0.0).sum(axis=2)
+    den = np.sqrt(var) * tn
+    c = np.where(den > 1e-12 * tn, num / np.where(den > 0, den, 1.0), -np.inf)
     best = np.argmax(c, axis=1)
+    all_lags = np.arange(-max_lag, max_lag + 1)
     lags = np.where(fits, all_lags[best], 0)
     corr = np.where(fits, c[np.arange(nb), best], 0.0)
     return lags, corr

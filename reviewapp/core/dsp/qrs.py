@@ -34,6 +34,7 @@ LEVEL_BLOCKS = 7
 # noise weighting), capped so one exceptionally clean lead does not silence all others.
 SNR_WEIGHT_CAP = 1e4
 FIDUCIAL_SEARCH_S = 0.08  # R is searched within +-80 ms of the feature peak
+MIN_RR_S = 0.12  # two R closer than this after refinement are one complex
 # Detection runs at about this rate (block means); R is then refined at the full rate.
 DETECT_RATE_HZ = 150.0
 
@@ -215,7 +216,30 @@ def detect_qrs(conditioned_mv: np.ndarray, fs_hz: float, usable: np.ndarray) -> 
     accepted = _search_back(peaks, heights, slopes, thr, accepted, fs_d)
     coarse = peaks[accepted] * k + (k - 1) // 2
     r = _refine_fiducial(x, usable, coarse, round(FIDUCIAL_SEARCH_S * fs_hz))
-    return np.unique(r).astype(np.int64)
+    return _drop_close(r, heights[accepted], MIN_RR_S * fs_hz)
+
+
+def _drop_close(r: np.ndarray, heights: np.ndarray, min_gap: float) -> np.ndarray:
+    """Sorted unique R indices at least ``min_gap`` apart (of a close pair, keep the taller).
+
+    Candidates are 200 ms apart, but refining R by up to 80 ms each can bring two onto the
+    same complex.
+    """
+    order = np.argsort(r, kind="stable")
+    r, heights = r[order].astype(np.int64), heights[order]
+    keep = np.ones(r.size, dtype=bool)
+    for i in np.flatnonzero(np.diff(r) < min_gap):  # rare: a loop over violations only
+        j = i + 1
+        prev = i
+        while prev >= 0 and not keep[prev]:
+            prev -= 1
+        if prev < 0 or r[j] - r[prev] >= min_gap:
+            continue
+        if heights[j] > heights[prev]:
+            keep[prev] = False
+        else:
+            keep[j] = False
+    return r[keep]
 
 
 def _is_t_wave(gap: float, slope: float, prev_slope: float, fs_hz: float) -> bool:

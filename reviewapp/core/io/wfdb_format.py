@@ -585,6 +585,7 @@ def _uncalibrated_signals(hea: Path, n_sig: int) -> list[int]:
 #   MIT-BIH:  "69 M 1085 1629 x1" (age, sex, then database bookkeeping)
 _AGE = re.compile(r"^<?age>?\s*:\s*(\d{1,3}(?:\.\d+)?)\b", re.IGNORECASE)
 _SEX = re.compile(r"^<?(?:sex|gender)>?\s*:\s*([A-Za-z]+)", re.IGNORECASE)
+_SUBJECT = re.compile(r"^<?(?:subject|subject id|patient id)>?\s*:\s*(\S.{0,63})$", re.IGNORECASE)
 _MIT_AGE_SEX = re.compile(r"^(\d{1,3}|\?+)\s+([MF?])\b")
 _ECG_DATE = re.compile(r"^ECG date\s*:\s*(\d{1,2})/(\d{1,2})/(\d{4})", re.IGNORECASE)
 
@@ -604,8 +605,11 @@ def subject_from_header(header: wfdb.Record | wfdb.MultiRecord) -> SubjectFacts:
     age: float | None = None
     sex: str | None = None
     acquired: datetime | None = None
+    subject_id: str | None = None
     for line in comments:
-        if age is None and (m := _AGE.match(line)):
+        if subject_id is None and (m := _SUBJECT.match(line)):
+            subject_id = m.group(1).strip()
+        elif age is None and (m := _AGE.match(line)):
             age = float(m.group(1))
         elif sex is None and (m := _SEX.match(line)):
             sex = _sex(m.group(1))
@@ -624,4 +628,6 @@ def subject_from_header(header: wfdb.Record | wfdb.MultiRecord) -> SubjectFacts:
     base_time = getattr(header, "base_time", None)
     if isinstance(base_date, date):
         acquired = datetime.combine(base_date, base_time if isinstance(base_time, time) else time())
-    return SubjectFacts(age_years=age, sex=sex, acquired_at=acquired, comments=comments)
+    return SubjectFacts(
+        subject_id=subject_id, age_years=age, sex=sex, acquired_at=acquired, comments=comments
+    )
