@@ -130,7 +130,6 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
                 major_colour=self.theme.grid_major,
             )
             grid.set_colours(self.theme.grid_minor, self.theme.grid_major, self.theme.paper)
-            grid.setCacheMode(_CACHE)
             p.addItem(grid)
             if overlay is not None:
                 ox, oy = overlay

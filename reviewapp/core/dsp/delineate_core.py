@@ -56,16 +56,19 @@ class DelineationParams:
     noise_mult: float = 1.5  # thresholds never below this x the window's median slope
     t_start: int = 0  # samples after QRS end where the T search starts
     t_peak_limit: int = 0  # samples after R beyond which no T peak is sought
-    t_xm_max: int = 0  # samples after the T peak searched for its steepest down-slope
     t_xr: int = 0  # samples from the steepest T down-slope to x_r
     t_smooth: int = 1  # moving-average length applied to the T slope, samples
     t_flank_frac: float = 0.3  # a T flank counts if its slope is this fraction of the steepest
+    t_strong_frac: float = 0.3  # leads with T below this fraction of the largest T do not vote
+    t_lead_slack: int = 0  # a lead's T end further than this from the global one is replaced
     t_min_mv: float = 0.04  # smaller T waves count as absent in that lead
     p_gap: int = 0  # samples kept free before QRS onset
     p_max: int = 0  # samples before QRS onset searched for P
     p_xr: int = 0  # samples from the steepest P up-slope back to x_r (onset)
     p_xr_off: int = 0  # samples from the steepest P down-slope on to x_r (end)
     p_xm_max: int = 0  # samples either side of the P peak searched for its steepest slopes
+    p_strong_frac: float = 0.3  # leads with P below this fraction of the largest P do not vote
+    p_lead_slack: int = 0  # a lead's P boundary further than this from the global one is replaced
     p_min_mv: float = 0.03  # smaller P waves count as absent in that lead
     p_on_q: float = 0.25  # global onset: this order statistic of the lead onsets (0 = earliest)
     p_off_q: float = 0.75
@@ -94,14 +97,15 @@ DURATIONS_MS: dict[str, float] = {
     "qrs_run": 8,
     "t_start": 80,
     "t_peak_limit": 600,
-    "t_xm_max": 150,
-    "t_xr": 120,
+    "t_xr": 80,
     "t_smooth": 30,
+    "t_lead_slack": 80,
     "p_gap": 20,
     "p_max": 300,
     "p_xr": 50,
     "p_xr_off": 30,
     "p_xm_max": 60,
+    "p_lead_slack": 40,
 }
 
 
@@ -432,23 +436,42 @@ def delineate_block(
 
     # --- global P and T by multi-lead rules -----------------------------------------------------
     lu = lead[:, ui, :]
-    glob[:, T_OFF] = _order_stat(lu[:, :, T_OFF], p.t_off_q)
     t_amp_b = np.where(t_ok, t_amp, -1.0).reshape(nb, nu)
     best_t = np.argmax(t_amp_b, axis=1)
-    if p.t_off_q < 0:
-        glob[:, T_OFF] = lu[np.arange(nb), best_t, T_OFF]
+    # Only leads whose T is a fair fraction of the largest vote for the global T end: in a
+    # near-flat T lead the end is guesswork.
+    strong = t_amp_b >= p.t_strong_frac * t_amp_b.max(axis=1, keepdims=True)
+    glob[:, T_OFF] = _order_stat(np.where(strong, lu[:, :, T_OFF], -1), p.t_off_q)
     glob[:, T_PEAK] = np.where(glob[:, T_OFF] >= 0, lu[np.arange(nb), best_t, T_PEAK], -1)
+    # A weak-T lead, or one whose own end strays far from the global end, takes the global end.
+    g_t = glob[:, T_OFF][:, None]
+    stray = np.abs(lu[:, :, T_OFF] - g_t) > p.t_lead_slack
+    use_g = (g_t >= 0) & (~strong | stray | (lu[:, :, T_OFF] < 0))
+    lu[:, :, T_OFF] = np.where(use_g, g_t, lu[:, :, T_OFF])
+    lu[:, :, T_PEAK] = np.where(use_g, glob[:, T_PEAK][:, None], lu[:, :, T_PEAK])
+    lead[:, ui, :] = lu
     n_p = (lu[:, :, P_ON] >= 0).sum(axis=1)
     has_p = n_p >= np.maximum(1, np.ceil(p.p_min_lead_frac * nu))
-    glob[:, P_ON] = np.where(has_p, _order_stat(lu[:, :, P_ON], p.p_on_q), -1)
-    glob[:, P_OFF] = np.where(has_p, _order_stat(lu[:, :, P_OFF], p.p_off_q), -1)
     p_amp_b = np.where(p_ok, p_amp, -1.0).reshape(nb, nu)
     best_p = np.argmax(p_amp_b, axis=1)
+    p_strong = p_amp_b >= p.p_strong_frac * p_amp_b.max(axis=1, keepdims=True)
+    glob[:, P_ON] = np.where(has_p, _order_stat(np.where(p_strong, lu[:, :, P_ON], -1), p.p_on_q), -1)
+    glob[:, P_OFF] = np.where(
+        has_p, _order_stat(np.where(p_strong, lu[:, :, P_OFF], -1), p.p_off_q), -1
+    )
     glob[:, P_PEAK] = np.where(has_p, lu[np.arange(nb), best_p, P_PEAK], -1)
-    if not has_p.all():
-        # No organised P wave overall: leads do not keep stray P marks either.
-        sel = np.flatnonzero(~has_p)
-        lead[np.ix_(sel, np.arange(nl), [P_ON, P_OFF, P_PEAK])] = -1
+    # As for T: weak-P leads and stray lead marks take the global P boundaries.
+    for col, peak_col in ((P_ON, P_PEAK), (P_OFF, None)):
+        g = glob[:, col][:, None]
+        stray = np.abs(lu[:, :, col] - g) > p.p_lead_slack
+        use_g = (g >= 0) & (~p_strong | stray | (lu[:, :, col] < 0))
+        lu[:, :, col] = np.where(use_g, g, lu[:, :, col])
+        if peak_col is not None:
+            lu[:, :, peak_col] = np.where(use_g, glob[:, peak_col][:, None], lu[:, :, peak_col])
+    lu[~has_p] = np.where(
+        np.isin(np.arange(N_MARKS), [P_ON, P_OFF, P_PEAK])[None, None, :], -1, lu[~has_p]
+    )
+    lead[:, ui, :] = lu
     # P must end before QRS onset and T must end after QRS end.
     bad_p = (glob[:, P_OFF] >= 0) & (glob[:, QRS_ON] >= 0) & (glob[:, P_OFF] > glob[:, QRS_ON])
     glob[bad_p, P_OFF] = glob[bad_p, QRS_ON]
