@@ -68,7 +68,6 @@ def bench_drag() -> None:
     w.set_layout("12x1")
     app.processEvents()
     c = w.add_caliper("time", row=1, center_sample=3000)
-    vp = w.paper.viewport()
 
     caliper_ms: list[float] = []
     for i in range(N):
