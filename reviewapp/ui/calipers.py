@@ -70,6 +70,7 @@ class CaliperPair(pg.GraphicsObject):
 
     changed = QtCore.Signal(object)
     selected_changed = QtCore.Signal(object)
+    rename_requested = QtCore.Signal(object)
 
     def __init__(
         self,
@@ -96,6 +97,7 @@ class CaliperPair(pg.GraphicsObject):
         self.a, self.b, self.at = int(a), int(b), int(at)
         self.a_mv, self.b_mv = float(a_mv), float(b_mv)
         self.name = name
+        self.store_id: str | None = None  # id of this caliper in the marks sidecar, if saved
         self.march = False
         self.selected = False
         self.part: Part = "bar"
@@ -274,6 +276,9 @@ class CaliperPair(pg.GraphicsObject):
         fm = QtGui.QFontMetricsF(f)
         w, h = fm.horizontalAdvance(text) + 8, fm.height() + 2
         box = QtCore.QRectF(a.x(), a.y() - h - 3, w, h)
+        dev = painter.device()
+        if dev is not None and box.right() > dev.width() / max(1.0, dev.devicePixelRatioF()) - 4:
+            box.moveRight(a.x() - 6)  # near the right edge: label on the left of the caliper
         painter.setPen(QtCore.Qt.PenStyle.NoPen)
         painter.setBrush(self._label_bg)
         painter.drawRoundedRect(box, 3, 3)
@@ -341,4 +346,8 @@ class CaliperPair(pg.GraphicsObject):
 
     def mouseReleaseEvent(self, ev) -> None:
         self._drag = None
+        ev.accept()
+
+    def mouseDoubleClickEvent(self, ev) -> None:
+        self.rename_requested.emit(self)
         ev.accept()

@@ -10,6 +10,7 @@ SHORTCUTS: tuple[tuple[str, str], ...] = (
     ("Ctrl+O", "Open a record"),
     ("Ctrl+Shift+O", "Open a folder of records"),
     ("Drag a file onto the window", "Open it"),
+    ("N / Shift+N", "Next / previous unread record of the worklist"),
     ("1 / 2 / 3 / 4", "Layout: 12 stacked / 6x2 / 3x4 + 1 rhythm / 3x4 + 3 rhythm"),
     ("B", "Median (representative) beat view on / off"),
     ("Shift+B", "Superimpose every beat on the median beat"),

@@ -26,8 +26,6 @@ from reviewapp.ui.summary import SummaryPanel
 from reviewapp.ui.theme import DARK, LIGHT, THEMES, Theme, apply_palette
 
 log = logging.getLogger(__name__)
-RECORD_SUFFIXES = (".hea", ".edf", ".bdf", ".csv", ".tsv", ".txt", ".xml", ".dcm", ".dicom")
-SIDECAR_SUFFIXES = (".marks.json",)
 PART_NAMES = {"a": "leg 1", "b": "leg 2", "bar": "the whole pair"}
 
 
@@ -36,17 +34,11 @@ def default_settings() -> QtCore.QSettings:
 
 
 def list_records(folder: Path) -> list[Path]:
-    """Record files in ``folder`` (one entry per WFDB record: its header)."""
-    try:
-        from reviewapp.core.io import SUPPORTED_SUFFIXES as suffixes
-    except ImportError:  # readers not installed: fall back to the known suffixes
-        suffixes = RECORD_SUFFIXES
-    out = []
-    for p in sorted(folder.iterdir()):
-        name = p.name.lower()
-        if p.is_file() and p.suffix.lower() in suffixes and not name.endswith(SIDECAR_SUFFIXES):
-            out.append(p)
-    return out
+    """Record files directly in ``folder`` (the readers' own rule: one entry per WFDB record,
+    no sidecars, no CSV/XML that is not an ECG)."""
+    from reviewapp.core.io import find_records
+
+    return find_records(folder, recursive=False)
 
 
 class MainWindow(QtWidgets.QMainWindow):
@@ -70,6 +62,7 @@ class MainWindow(QtWidgets.QMainWindow):
         self.record: Record | None = None
         self.session: ReadingSession | None = None
         self.folder: Path | None = None
+        self.marks_note = ""
         s = self.settings
         self.theme: Theme = THEMES.get(theme or str(s.value("view/theme", "light")), LIGHT)
         speed = float(speed_mm_per_s or s.value("view/speed", 25.0))
@@ -88,21 +81,34 @@ class MainWindow(QtWidgets.QMainWindow):
         pl.setSpacing(0)
         pl.addWidget(self.paper, 1)
         pl.addWidget(self.overview)
-        self.stack = QtWidgets.QStackedWidget()
-        self.stack.addWidget(paper_box)
-        self.stack.addWidget(self.median)
-        self.setCentralWidget(self.stack)
+        # Paper above, median beats below (shown with "B"): the reader sees the strip at true
+        # size and the median beats with their marks at once.
+        self.split = QtWidgets.QSplitter(QtCore.Qt.Orientation.Vertical)
+        self.split.setObjectName("split_paper_median")
+        self.split.addWidget(paper_box)
+        self.split.addWidget(self.median)
+        self.split.setChildrenCollapsible(False)
+        self.median.setVisible(False)
+        self.setCentralWidget(self.split)
 
         self.summary = SummaryPanel()
         self.summary_dock = self._dock(
             "Measurements", self.summary, QtCore.Qt.DockWidgetArea.RightDockWidgetArea
         )
-        self.records_list = QtWidgets.QListWidget()
-        self.records_list.itemActivated.connect(
-            lambda it: self.open_path(Path(it.data(QtCore.Qt.ItemDataRole.UserRole)))
-        )
+        self.worklist = _make_worklist()
+        if self.worklist is not None:
+            self.worklist.recordActivated.connect(self.open_path)
+            self.worklist.scanFinished.connect(lambda _n: self._select_in_list(self._current_path))
+            records_widget: QtWidgets.QWidget = self.worklist
+        else:
+            self.records_list = QtWidgets.QListWidget()
+            self.records_list.itemActivated.connect(
+                lambda it: self.open_path(Path(it.data(QtCore.Qt.ItemDataRole.UserRole)))
+            )
+            records_widget = self.records_list
+        self._current_path: Path | None = None
         self.records_dock = self._dock(
-            "Records", self.records_list, QtCore.Qt.DockWidgetArea.LeftDockWidgetArea
+            "Records", records_widget, QtCore.Qt.DockWidgetArea.LeftDockWidgetArea
         )
         self.records_dock.setVisible(False)
         self.help_dock = self._dock(
@@ -145,6 +151,9 @@ class MainWindow(QtWidgets.QMainWindow):
         state = s.value("window/state")
         if state is not None:
             self.restoreState(state)
+        else:
+            self.resizeDocks([self.summary_dock], [480], QtCore.Qt.Orientation.Horizontal)
+            self.resizeDocks([self.records_dock], [190], QtCore.Qt.Orientation.Horizontal)
         self.summary_dock.setMinimumWidth(470)
         self._update_status()
 
@@ -301,6 +310,8 @@ class MainWindow(QtWidgets.QMainWindow):
             "F1",
         )
         self.act_about = A("About reviewapp", lambda: show_about(self))
+        self.act_next_unread = A("Next unread record", lambda: self._next_unread(+1), "N")
+        self.act_prev_unread = A("Previous unread record", lambda: self._next_unread(-1), "Shift+N")
 
     def _build_toolbar(self) -> None:
         tb = self.addToolBar("Paper")
@@ -348,7 +359,7 @@ class MainWindow(QtWidgets.QMainWindow):
     def _build_menus(self) -> None:
         mb = self.menuBar()
         m = mb.addMenu("&File")
-        for a in (self.act_open, self.act_open_folder):
+        for a in (self.act_open, self.act_open_folder, self.act_next_unread, self.act_prev_unread):
             m.addAction(a)
         m.addSeparator()
         m.addAction(self.act_quit)
@@ -435,26 +446,43 @@ class MainWindow(QtWidgets.QMainWindow):
         return True
 
     def show_folder(self, folder: Path, records: list[Path]) -> None:
+        """List the folder: the worklist (status, cached values, flags) when available."""
         self.folder = folder
+        self.records_dock.setWindowTitle(f"Records — {folder.name}")
+        self.records_dock.setVisible(len(records) > 1)
+        if self.worklist is not None:
+            self.worklist.open_folder(folder)
+            return
         self.records_list.clear()
         for p in records:
             it = QtWidgets.QListWidgetItem(p.stem if p.suffix.lower() == ".hea" else p.name)
             it.setData(QtCore.Qt.ItemDataRole.UserRole, str(p))
             it.setToolTip(str(p))
             self.records_list.addItem(it)
-        self.records_dock.setWindowTitle(f"Records — {folder.name}")
-        self.records_dock.setVisible(len(records) > 1)
 
-    def _select_in_list(self, path: Path) -> None:
+    def _select_in_list(self, path: Path | None) -> None:
+        self._current_path = path
+        if path is None:
+            return
+        if self.worklist is not None:
+            self.worklist.select_path(path)
+            return
         for i in range(self.records_list.count()):
             it = self.records_list.item(i)
             if Path(it.data(QtCore.Qt.ItemDataRole.UserRole)) == path:
                 self.records_list.setCurrentItem(it)
 
+    def _next_unread(self, step: int) -> None:
+        if self.worklist is not None:
+            if step > 0:
+                self.worklist.select_next_unread()
+            else:
+                self.worklist.select_previous_unread()
+
     def load_record(self, record: Record, *, analyse_now: bool = False) -> None:
         """Draw the record at once; run the automatic analysis right after the first paint."""
+        self._close_session()
         self.record = record
-        self.session = None
         self.paper.set_record(record)
         self.median.set_session(None)
         self.summary.show_reading(None, record.subject, set())
@@ -487,15 +515,63 @@ class MainWindow(QtWidgets.QMainWindow):
             return
         if self.record is not rec:
             return
-        self.session = ReadingSession(analysis, self)
+        store = self._open_store(rec)
+        self.session = ReadingSession(analysis, self, store=store)
+        self.session.store_error.connect(self.show_error)
         self.session.changed.connect(self._reading_changed)
         self.session.overrides_changed.connect(self._overrides_changed)
         self.paper.set_session(self.session)
         self.median.set_session(self.session)
         self._reading_changed(self.session.reading)
-        if analysis.notes:
-            self.statusBar().showMessage("Analysis: " + "; ".join(analysis.notes), 8000)
+        parts = ["Analysis: " + "; ".join(analysis.notes)] if analysis.notes else []
+        self.statusBar().showMessage("; ".join([*parts, self.marks_note]), 8000)
         self.analysis_ready.emit(self.session)
+
+    def reviewer_id(self) -> str:
+        """The reader's id for the marks sidecar: Settings ``reader/id``, else the login name."""
+        import getpass
+        import re
+
+        rid = str(self.settings.value("reader/id", "") or "")
+        if not rid:
+            try:
+                rid = getpass.getuser()
+            except Exception:  # no login name in this environment
+                rid = "reader"
+        rid = re.sub(r"[^A-Za-z0-9_.@-]", "_", rid).lstrip("_.@-")[:64]
+        return rid or "reader"
+
+    def _open_store(self, rec: Record):
+        """The record's marks sidecar for this reader; None keeps marks in memory (and says so)."""
+        self.marks_note = "marks kept in this window only (the record has no file)"
+        if rec.source_path is None:
+            return None
+        from reviewapp.core.marks import MarksStore
+        from reviewapp.core.marks.errors import LockedError
+
+        reviewer = self.reviewer_id()
+        try:
+            store = MarksStore.open(rec, reviewer)
+        except LockedError as err:
+            self.show_error(err)
+            try:
+                store = MarksStore.open(rec, reviewer, read_only=True)
+            except ReviewError as err2:
+                self.show_error(err2)
+                return None
+            self.marks_note = f"marks read-only: {err.problem}"
+            return store
+        except ReviewError as err:
+            self.show_error(err)
+            self.marks_note = "marks kept in this window only: the marks file could not be used"
+            return None
+        self.marks_note = f"marks saved to {store.path.name} as reader {reviewer}"
+        return store
+
+    def _close_session(self) -> None:
+        if self.session is not None:
+            self.session.close_store()
+        self.session = None
 
     # --- view settings -------------------------------------------------------------------
     def set_speed(self, speed: float) -> None:
@@ -537,7 +613,6 @@ class MainWindow(QtWidgets.QMainWindow):
         self.layout_box.setCurrentIndex(max(0, self.layout_box.findData(key)))
         self.rhythm_box.setEnabled(key.startswith("3x4"))
         self.settings.setValue("view/layout", key)
-        self.show_median(False)
         self._calipers_changed(None)
 
     def _fill_rhythm_box(self) -> None:
@@ -562,7 +637,18 @@ class MainWindow(QtWidgets.QMainWindow):
 
     def show_median(self, on: bool) -> None:
         self.act_median.setChecked(on)
-        self.stack.setCurrentIndex(1 if on else 0)
+        if on == self.median.isVisible():
+            return
+        self.median.setVisible(on)
+        if on:
+            # Give the paper the height of its page at the current zoom (if it fits in 60 %).
+            total = max(1, self.split.height())
+            g = self.paper.geom
+            want = total // 2
+            if g is not None:
+                want = int(g.height_mm * self.scale.px_per_mm * self.paper.zoom) + 8
+            top = max(160, min(want, int(total * 0.6)))
+            self.split.setSizes([top, total - top])
 
     def _filters_changed(self) -> None:
         self.filters = DisplayFilters(
@@ -643,8 +729,6 @@ class MainWindow(QtWidgets.QMainWindow):
     def add_caliper(
         self, kind: str, row: int | None = None, center_sample: int | None = None
     ) -> CaliperPair | None:
-        if self.stack.currentIndex() != 0:
-            self.show_median(False)
         return self.paper.add_caliper(kind, row, center_sample)  # type: ignore[arg-type]
 
     def _selected_caliper(self) -> CaliperPair | None:
@@ -733,6 +817,14 @@ class MainWindow(QtWidgets.QMainWindow):
         self.summary.show_reading(reading, self.record.subject, corrected)
 
     def _overrides_changed(self) -> None:
+        if (
+            self.worklist is not None
+            and self.session is not None
+            and self.session.store is not None
+        ):
+            src = self.record.source_path if self.record is not None else None
+            if src is not None:
+                QtCore.QTimer.singleShot(0, lambda p=src: self.worklist.refresh_record(p))
         # Marks are re-placed only when an edit is committed, undone or reset: while dragging,
         # the dragged item moves itself.
         QtCore.QTimer.singleShot(0, self._refresh_marks)
@@ -770,10 +862,20 @@ class MainWindow(QtWidgets.QMainWindow):
             self.open_path(Path(urls[0]))
 
     def closeEvent(self, ev: QtGui.QCloseEvent) -> None:
+        self._close_session()
         self.settings.setValue("window/geometry", self.saveGeometry())
         self.settings.setValue("window/state", self.saveState())
         self.settings.sync()
         super().closeEvent(ev)
+
+
+def _make_worklist():
+    """The worklist widget (reviewapp/ui/worklist.py) if it imports, else None (simple list)."""
+    try:
+        from reviewapp.ui.worklist import WorklistWidget
+    except ImportError:
+        return None
+    return WorklistWidget()
 
 
 def _nearest(values: tuple[float, ...], v: float) -> int:

@@ -23,7 +23,15 @@ MAX_SUPERIMPOSED = 300
 # every panel, which should copy pixels, not stroke the beats again.
 _CACHE = QtWidgets.QGraphicsItem.CacheMode.DeviceCoordinateCache
 # Label heights (fraction of the panel) staggered so neighbouring marks' labels never overlap.
-LABEL_POSITIONS = {"p_on": 0.95, "p_off": 0.88, "qrs_on": 0.81, "qrs_off": 0.74, "t_off": 0.95}
+LABEL_POSITIONS = {"p_on": 0.95, "p_off": 0.95, "qrs_on": 0.86, "qrs_off": 0.86, "t_off": 0.95}
+# Onset labels sit left of their line, end labels right of it, so a close pair reads apart.
+LABEL_ANCHORS = {
+    "p_on": [(1, 0.5), (1, 0.5)],
+    "p_off": [(0, 0.5), (0, 0.5)],
+    "qrs_on": [(1, 0.5), (1, 0.5)],
+    "qrs_off": [(0, 0.5), (0, 0.5)],
+    "t_off": [(0, 0.5), (0, 0.5)],
+}
 
 
 class MedianBeatView(pg.GraphicsLayoutWidget):
@@ -155,10 +163,10 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
         for k in range(len(leads), ((len(leads) + ncols - 1) // ncols) * ncols):
             self.addLabel("", row=k // ncols, col=k % ncols)
         legend = (
-            f"Median of {rep.n_beats_used} beats   {self.scale.speed_mm_per_s:g} mm/s   "
-            f"{self.scale.gain_mm_per_mv:g} mm/mV   "
+            f"Median of {rep.n_beats_used} beats  ·  {self.scale.speed_mm_per_s:g} mm/s  ·  "
+            f"{self.scale.gain_mm_per_mv:g} mm/mV  ·  "
             "solid line = automatic, dashed line with ◆ = corrected by the reader"
-            + ("   grey = every dominant beat" if self.superimpose else "")
+            + ("  ·  grey = every dominant beat" if self.superimpose else "")
         )
         self.addLabel(
             legend,
@@ -256,7 +264,7 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
                 labelOpts={
                     "position": LABEL_POSITIONS[fid],
                     "color": colour,
-                    "anchors": [(0, 0.5), (0, 0.5)],
+                    "anchors": LABEL_ANCHORS[fid],
                     "fill": self.theme.paper,
                 },
             )

@@ -34,6 +34,9 @@ class PaperView(pg.GraphicsView):
     mark_dropped = QtCore.Signal(object, int)
     mark_reset = QtCore.Signal(object)
     caliper_changed = QtCore.Signal(object)
+    caliper_added = QtCore.Signal(object)
+    caliper_removed = QtCore.Signal(object)
+    caliper_rename = QtCore.Signal(object)
     zoom_changed = QtCore.Signal(float)
 
     def __init__(self, scale: PaperScale, theme: Theme = LIGHT, parent=None) -> None:
@@ -109,11 +112,24 @@ class PaperView(pg.GraphicsView):
             self.lead_order = order
         if rhythm is not None:
             self.rhythm_leads = rhythm
-        for c in self.calipers:
-            self.vb.removeItem(c)
-        self.calipers.clear()
-        self.selected = None
         self.rebuild()
+        # Calipers belong to a lead, not to a place on the page: move them to that lead's row.
+        for c in list(self.calipers):
+            row = self.row_for_lead(c.lead)
+            if row is None:
+                self.remove_caliper(c)
+            else:
+                c.row = row
+                c.set_geometry(self.geom, self.scale.gain_mm_per_mv)
+
+    def row_for_lead(self, lead: str | None) -> int | None:
+        """The row showing ``lead`` (its rhythm strip if it has one, which spans the page)."""
+        if self.geom is None:
+            return None
+        cells = [c for c in self.geom.layout.cells if c.lead == lead]
+        if not cells:
+            return None
+        return next((c.row for c in cells if c.rhythm), cells[0].row)
 
     def set_filters(self, filters: DisplayFilters) -> None:
         self.filters = filters

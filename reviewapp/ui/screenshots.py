@@ -7,7 +7,9 @@ from __future__ import annotations
 
 import argparse
 import os
+import shutil
 import sys
+import tempfile
 from pathlib import Path
 
 SIZE = (1760, 1120)
@@ -40,6 +42,13 @@ def write_screenshots(outdir: Path, record_path: Path | None = None) -> list[Pat
     record_path = record_path or _default_record()
     if record_path is None:
         raise SystemExit("no sample record found; pass --record PATH")
+    # Work on a copy: the demo corrections below are saved as a marks sidecar, which must not
+    # land beside the original record.
+    tmp = tempfile.TemporaryDirectory(prefix="reviewapp-shots-")
+    for f in record_path.parent.glob(record_path.stem + ".*"):
+        if f.is_file() and ".marks." not in f.name:
+            shutil.copy(f, Path(tmp.name) / f.name)
+    record_path = Path(tmp.name) / record_path.name
     w = MainWindow(
         settings, px_per_mm=PX_PER_MM, speed_mm_per_s=25.0, gain_mm_per_mv=10.0, theme="light"
     )
@@ -95,6 +104,7 @@ def write_screenshots(outdir: Path, record_path: Path | None = None) -> list[Pat
     w.settings.clear()
     w.close()
     ini.unlink(missing_ok=True)
+    tmp.cleanup()
     return written
 
 

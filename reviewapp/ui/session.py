@@ -3,7 +3,10 @@
 ``ReadingSession`` is the seam between the window and the marks: it holds the automatic
 ``Analysis``, the current ``MarkOverride`` set, and recomputes the ``Reading`` (every interval,
 QTc, axis and finding) whenever an override changes. Edits go through ``undo_stack`` as
-``QUndoCommand`` objects (ui/undo.py); a sidecar store can listen to ``overrides_changed``.
+``QUndoCommand`` objects (ui/undo.py). With a ``MarksStore`` (reviewapp.core.marks) every
+edit is the store's command object: saved at once to the record's sidecar, with its audit
+event; undo and redo run the store's undo/redo. Without one (a record with no file, or a
+sidecar that cannot be used) the overrides live in memory only.
 """
 
 from __future__ import annotations
@@ -13,10 +16,12 @@ from typing import TYPE_CHECKING
 
 from PySide6 import QtCore, QtGui
 
+from reviewapp.core.errors import MarksError
 from reviewapp.core.fiducials import MarkOverride, WaveMarks
 
 if TYPE_CHECKING:
     from reviewapp.core.engine import Analysis, Reading
+    from reviewapp.core.marks.store import MarksStore
 
 OverrideKey = tuple[str, str, int | None, str | None]
 
@@ -30,13 +35,58 @@ class ReadingSession(QtCore.QObject):
 
     changed = QtCore.Signal(object)
     overrides_changed = QtCore.Signal()
+    store_error = QtCore.Signal(object)  # a MarksError while saving an edit
 
-    def __init__(self, analysis: Analysis, parent: QtCore.QObject | None = None) -> None:
+    def __init__(
+        self,
+        analysis: Analysis,
+        parent: QtCore.QObject | None = None,
+        store: MarksStore | None = None,
+    ) -> None:
         super().__init__(parent)
         self.analysis = analysis
+        self.store = store
         self._overrides: dict[OverrideKey, MarkOverride] = {}
         self.undo_stack = QtGui.QUndoStack(self)
-        self._reading = analysis.reading(())
+        if store is not None:
+            self._overrides = self._from_store()
+        self._reading = analysis.reading(tuple(self._overrides.values()))
+
+    # --- the sidecar store -----------------------------------------------------------------
+    @property
+    def rep_r_index(self) -> int | None:
+        rep = self.analysis.representative
+        return None if rep is None else rep.r_index
+
+    def _from_store(self) -> dict[OverrideKey, MarkOverride]:
+        assert self.store is not None
+        return {override_key(ov): ov for ov in self.store.engine_overrides(self.rep_r_index)}
+
+    def reload_from_store(self) -> None:
+        """Take the overrides from the store (after its do/undo/redo, reload or merge)."""
+        self._overrides = self._from_store()
+        self._recompute()
+        self.overrides_changed.emit()
+
+    def ensure_automatic_stored(self) -> None:
+        """Record the engine's marks in the sidecar before the first edit, so each override
+        keeps the automatic value it replaced (``old_s``)."""
+        from reviewapp import __version__
+        from reviewapp.core.marks.convert import automatic_from_analysis
+
+        st = self.store
+        if st is None or st.read_only or st.blinded:
+            return
+        auto = st.automatic
+        if (
+            auto is None
+            or getattr(auto, "engine_version", __version__) != self.analysis.engine_version
+        ):
+            st.set_automatic(automatic_from_analysis(self.analysis))
+
+    def close_store(self) -> None:
+        if self.store is not None:
+            self.store.close()
 
     # --- reading -------------------------------------------------------------------------
     @property
@@ -88,25 +138,62 @@ class ReadingSession(QtCore.QObject):
 
     # --- edits through the undo stack ----------------------------------------------------
     def commit(self, ov: MarkOverride) -> None:
-        from reviewapp.ui.undo import SetOverrideCommand
+        from reviewapp.ui.undo import SetOverrideCommand, StoreCommand, describe
 
         key = override_key(ov)
         if self._overrides.get(key) == ov:
             self._recompute()
             return
-        self.undo_stack.push(SetOverrideCommand(self, key, ov))
+        if self.store is None:
+            self.undo_stack.push(SetOverrideCommand(self, key, ov))
+            return
+        try:
+            self.ensure_automatic_stored()
+            cmd = self.store.edits.from_mark(ov, self.rep_r_index)
+        except MarksError as err:
+            self._recompute()
+            self.store_error.emit(err)
+            return
+        self.undo_stack.push(StoreCommand(self, cmd, describe(key, ov, self.fs_hz)))
+
+    def _store_reset_command(self, key: OverrideKey):
+        assert self.store is not None
+        scope, fiducial, beat_r, lead = key
+        return self.store.edits.reset_fiducial(
+            fiducial,
+            scope=scope,  # type: ignore[arg-type]
+            beat_r_s=None if beat_r is None else beat_r / self.fs_hz,
+            lead=lead,
+        )
 
     def reset_mark(self, key: OverrideKey) -> None:
-        from reviewapp.ui.undo import SetOverrideCommand
+        from reviewapp.ui.undo import SetOverrideCommand, StoreCommand, describe
 
-        if key in self._overrides:
+        if key not in self._overrides:
+            return
+        if self.store is None:
             self.undo_stack.push(SetOverrideCommand(self, key, None))
+            return
+        try:
+            cmd = self._store_reset_command(key)
+        except MarksError as err:
+            self.store_error.emit(err)
+            return
+        self.undo_stack.push(StoreCommand(self, cmd, describe(key, None, self.fs_hz)))
 
     def reset_all(self) -> None:
         from reviewapp.ui.undo import ReplaceOverridesCommand
 
-        if self._overrides:
+        if not self._overrides:
+            return
+        if self.store is None:
             self.undo_stack.push(ReplaceOverridesCommand(self, {}, "Reset all marks to automatic"))
+            return
+        # One undo step in the window; one audited reset per mark in the sidecar.
+        self.undo_stack.beginMacro("Reset all marks to automatic")
+        for key in list(self._overrides):
+            self.reset_mark(key)
+        self.undo_stack.endMacro()
 
     # --- marks as the reader sees them ---------------------------------------------------
     def representative_marks(self) -> WaveMarks | None:

@@ -142,10 +142,18 @@ class SummaryPanel(QtWidgets.QWidget):
         lay = QtWidgets.QVBoxLayout(self)
         lay.setContentsMargins(6, 6, 6, 6)
         lay.addWidget(self.status)
-        lay.addWidget(self.table, 3)
+        self.table.setSizeAdjustPolicy(
+            QtWidgets.QAbstractScrollArea.SizeAdjustPolicy.AdjustToContents
+        )
+        self.table.setVerticalScrollBarPolicy(QtCore.Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        self.table.setSizePolicy(
+            QtWidgets.QSizePolicy.Policy.Preferred, QtWidgets.QSizePolicy.Policy.Maximum
+        )
+        lay.addWidget(self.table)
         lay.addWidget(self.per_lead_button)
         lay.addWidget(self.leads_table, 2)
         lay.addWidget(self.caliper_label)
+        lay.addStretch(1)
         f = self.table.font()
         f.setPointSizeF(max(f.pointSizeF(), 10.5))
         self.table.setFont(f)

@@ -6,9 +6,11 @@ from typing import TYPE_CHECKING
 
 from PySide6 import QtGui
 
+from reviewapp.core.errors import MarksError
 from reviewapp.core.fiducials import FIDUCIAL_LABELS, MarkOverride
 
 if TYPE_CHECKING:
+    from reviewapp.core.marks.commands import Command
     from reviewapp.ui.session import OverrideKey, ReadingSession
 
 
@@ -52,3 +54,44 @@ class ReplaceOverridesCommand(QtGui.QUndoCommand):
 
     def undo(self) -> None:
         self.session.replace_all(self.old)
+
+
+class StoreCommand(QtGui.QUndoCommand):
+    """One marks-store edit (``reviewapp.core.marks`` command object) in the window's undo
+    stack: redo runs ``store.do`` the first time and ``store.redo`` after; undo runs
+    ``store.undo``. Each is saved to the sidecar with its audit event by the store.
+
+    A save that fails (conflict, read-only, disk) is shown to the reader and the command is
+    made obsolete, so the undo stack never holds an edit the sidecar does not.
+    """
+
+    def __init__(self, session: ReadingSession, cmd: Command, text: str) -> None:
+        super().__init__(text)
+        self.session = session
+        self.cmd = cmd
+        self._done_once = False
+
+    def redo(self) -> None:
+        store = self.session.store
+        assert store is not None
+        try:
+            if self._done_once:
+                store.redo(self.cmd)
+            else:
+                store.do(self.cmd)
+                self._done_once = True
+        except MarksError as err:
+            self.setObsolete(True)
+            self.session.reload_from_store()
+            self.session.store_error.emit(err)
+            return
+        self.session.reload_from_store()
+
+    def undo(self) -> None:
+        store = self.session.store
+        assert store is not None
+        try:
+            store.undo(self.cmd)
+        except MarksError as err:
+            self.session.store_error.emit(err)
+        self.session.reload_from_store()

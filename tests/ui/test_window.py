@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import argparse
-from pathlib import Path
 
 import pytest
 from PySide6 import QtCore, QtGui, QtWidgets
@@ -11,14 +10,28 @@ from PySide6 import QtCore, QtGui, QtWidgets
 from reviewapp import CLINICAL_CAUTION
 
 
+@pytest.fixture(autouse=True)
+def _no_sidecar_in_shared_folders(monkeypatch):
+    """Opening records here must not lock or write marks beside the shared data or the
+    repository's samples (tests/ui/test_sidecar.py covers the sidecar on a copy)."""
+    from reviewapp.ui.main_window import MainWindow
+
+    monkeypatch.setattr(MainWindow, "_open_store", lambda self, rec: None)
+
+
 def test_open_sample_folder_lists_it_and_opens_first_record(window, sample_records_dir, qtbot):
     if not sample_records_dir.is_dir():
         pytest.skip("no sample_records folder in this checkout")
-    assert window.open_path(sample_records_dir, analyse_now=True)
+    from reviewapp.ui.main_window import list_records
+
+    with qtbot.waitSignal(window.worklist.scanFinished, timeout=20_000):
+        assert window.open_path(sample_records_dir, analyse_now=True)
     assert window.record is not None and window.session is not None
-    assert window.records_list.count() >= 1
-    first = Path(window.records_list.item(0).data(QtCore.Qt.ItemDataRole.UserRole))
-    assert window.record.name == first.stem
+    listed = window.worklist.visible_paths()
+    assert len(listed) == len(list_records(sample_records_dir))
+    assert window.record.name == list_records(sample_records_dir)[0].stem
+    qtbot.waitUntil(lambda: window.worklist.current_path() is not None, timeout=5000)
+    assert window.worklist.current_path().stem == window.record.name
 
 
 def test_open_ptb_by_path_matches_wfdb(window, shared_data):
@@ -102,7 +115,7 @@ def test_keyboard_speed_gain_layout(loaded, qtbot):
     qtbot.keyClick(w, QtCore.Qt.Key.Key_2)
     assert w.paper.layout_key == "6x2"
     qtbot.keyClick(w, QtCore.Qt.Key.Key_B)
-    assert w.stack.currentIndex() == 1
+    assert w.median.isVisible() and w.paper.isVisible()
 
 
 def test_help_lists_every_shortcut_and_about_shows_caution(window):

@@ -1,4 +1,4 @@
-"""Wave delineation: P onset/end, QRS onset/end and T end for the representative beat and every beat.
+"""Wave delineation: P onset/end, QRS onset/end and T end of the median beat and of every beat.
 
 The engine calls two functions:
 
@@ -49,8 +49,8 @@ def _rep_rr_samples(n: int, r_index: int, fs_hz: float) -> int:
     window shorter than REP_POST_S therefore gives RR = post / REP_POST_RR.
     """
     post = n - 1 - r_index
-    if post < int(round(REP_POST_S * fs_hz)) - 1:
-        return int(round(post / REP_POST_RR))
+    if post < round(REP_POST_S * fs_hz) - 1:
+        return round(post / REP_POST_RR)
     return -1
 
 
@@ -133,10 +133,10 @@ def _marks_from_rep(
     rep_l = np.array(
         [[-1 if v is None else v for v in _mark_values(m)] for m in rep.lead_marks], dtype=np.int64
     ).reshape(-1, N_MARKS)
-    stride = max(1, int(round(fs_hz / 250.0)))
+    stride = max(1, round(fs_hz / 250.0))
 
     def to_s(ms: float) -> int:
-        return max(1, int(round(ms * fs_hz / 1000.0)))
+        return max(1, round(ms * fs_hz / 1000.0))
 
     lag_of = np.zeros((dom.size, N_MARKS), dtype=np.int64)
     for col, (before_ms, after_ms, lag_ms, key) in enumerate(ALIGN_SPEC):
@@ -145,8 +145,14 @@ def _marks_from_rep(
             continue
         expected = r[dom] + (m - rep.r_index)
         lags, corr = align_lags(
-            filt[key][:, ui], rep_f[key], expected, m, to_s(before_ms), to_s(after_ms),
-            to_s(lag_ms), stride,
+            filt[key][:, ui],
+            rep_f[key],
+            expected,
+            m,
+            to_s(before_ms),
+            to_s(after_ms),
+            to_s(lag_ms),
+            stride,
         )
         covered[dom[corr < ALIGN_MIN_CORR]] = False
         lag_of[:, col] = lags
@@ -201,7 +207,9 @@ def delineate_beats(
         return (), ()
     if n == 0 or not usable.any():
         empty = WaveMarks()
-        return tuple(empty for _ in beats), tuple(tuple(empty for _ in range(n_leads)) for _ in beats)
+        return tuple(empty for _ in beats), tuple(
+            tuple(empty for _ in range(n_leads)) for _ in beats
+        )
     params = DelineationParams.for_fs(fs_hz)
     r = np.array([b.r for b in beats], dtype=np.int64)
     filt = prefilter(x, fs_hz)
@@ -219,7 +227,9 @@ def delineate_beats(
         glob[:, [P_ON, P_OFF, P_PEAK]] = -1
         lead[:, :, [P_ON, P_OFF, P_PEAK]] = -1
     g_marks = tuple(_marks_from_row(row) for row in glob)
-    l_marks = tuple(tuple(_marks_from_row(lead[b, j]) for j in range(n_leads)) for b in range(len(r)))
+    l_marks = tuple(
+        tuple(_marks_from_row(lead[b, j]) for j in range(n_leads)) for b in range(len(r))
+    )
     return g_marks, l_marks
 
 
@@ -233,10 +243,10 @@ def _delineate_own(
 ) -> tuple[np.ndarray, np.ndarray]:
     """Delineate beats ``sel`` on their own signal; record indices, -1 absent."""
     n = filt["fast"].shape[0]
-    pre = int(round(0.45 * fs_hz))
-    post = int(round(0.80 * fs_hz))
-    rr_prev_all = np.diff(r_all, prepend=r_all[0] - int(round(fs_hz)))
-    rr_next_all = np.diff(r_all, append=r_all[-1] + int(round(fs_hz)))
+    pre = round(0.45 * fs_hz)
+    post = round(0.80 * fs_hz)
+    rr_prev_all = np.diff(r_all, prepend=r_all[0] - round(fs_hz))
+    rr_next_all = np.diff(r_all, append=r_all[-1] + round(fs_hz))
     r = r_all[sel]
     rr_prev = np.where(rr_prev_all[sel] <= 0, int(fs_hz), rr_prev_all[sel])
     rr_next = np.where(rr_next_all[sel] <= 0, int(fs_hz), rr_next_all[sel])

@@ -38,7 +38,12 @@ N_MARKS = 8
 
 @dataclass(frozen=True)
 class DelineationParams:
-    """Delineation settings; durations already converted to samples at ``fs_hz``."""
+    """Delineation settings; durations already converted to samples at ``fs_hz``.
+
+    >>> p = DelineationParams.for_fs(250.0)
+    >>> p.t_xr, DelineationParams.for_fs(1000.0).t_xr  # 80 ms in samples
+    (20, 80)
+    """
 
     fs_hz: float
     qrs_half_search: int  # samples either side of R searched for the steepest QRS slope
@@ -50,9 +55,10 @@ class DelineationParams:
     qrs_env: int = 1  # moving-average length of the QRS slope envelope, samples
     qrs_env_frac: float = 0.05  # the envelope below this fraction of its peak bounds the QRS
     qrs_lead_global: bool = True  # per-lead QRS marks = global ones (LUDB: closer to readers)
-    qrs_sig: float = 0.25  # "significant slope" fraction of the max QRS slope
-    qrs_on_frac: float = 0.06  # onset where slope falls below this fraction of the max
-    qrs_off_frac: float = 0.10
+    qrs_sig: float = 0.25  # "significant slope": this fraction of the complex's steepest slope
+    qrs_sig_off: float = 0.25  # the same for the last significant slope
+    qrs_on_frac: float = 0.06  # onset where slope falls below this fraction of the first lobe
+    qrs_off_frac: float = 0.10  # end where slope falls below this fraction of the last lobe
     noise_mult: float = 1.5  # thresholds never below this x the window's median slope
     t_start: int = 0  # samples after QRS end where the T search starts
     t_peak_limit: int = 0  # samples after R beyond which no T peak is sought
@@ -70,9 +76,9 @@ class DelineationParams:
     p_strong_frac: float = 0.3  # leads with P below this fraction of the largest P do not vote
     p_lead_slack: int = 0  # a lead's P boundary further than this from the global one is replaced
     p_min_mv: float = 0.03  # smaller P waves count as absent in that lead
-    p_on_q: float = 0.25  # global onset: this order statistic of the lead onsets (0 = earliest)
-    p_off_q: float = 0.75
-    t_off_q: float = 0.75
+    p_on_q: float = 0.4  # global onset: this order statistic of the lead onsets (0 = earliest)
+    p_off_q: float = 0.6  # global P end: this order statistic of the lead ends
+    t_off_q: float = 0.75  # global T end: this order statistic of the voting leads' ends
     p_min_lead_frac: float = 0.3  # global P needs a P in at least this fraction of usable leads
 
     @classmethod
@@ -80,7 +86,7 @@ class DelineationParams:
         """Parameters at ``fs_hz``; ``overrides`` replace DURATIONS_MS entries or fractions."""
         ms = {**DURATIONS_MS, **{k: v for k, v in overrides.items() if k in DURATIONS_MS}}
         rest = {k: v for k, v in overrides.items() if k not in DURATIONS_MS}
-        samples = {k: max(1, int(round(v * fs_hz / 1000.0))) for k, v in ms.items()}
+        samples = {k: max(1, round(v * fs_hz / 1000.0)) for k, v in ms.items()}
         return cls(fs_hz=float(fs_hz), **samples, **rest)
 
 
@@ -144,7 +150,10 @@ def prefilter(x_mv: np.ndarray, fs_hz: float) -> dict[str, np.ndarray]:
     fs = float(fs_hz)
     fast = signal.sosfiltfilt(_lowpass_sos(fs, FAST_HZ), x, axis=0, padlen=pad)
     slow = signal.sosfiltfilt(_lowpass_sos(fs, SLOW_HZ), x, axis=0, padlen=pad)
-    return {"fast": fast.astype(np.float32, copy=False), "slow": slow.astype(np.float32, copy=False)}
+    return {
+        "fast": fast.astype(np.float32, copy=False),
+        "slow": slow.astype(np.float32, copy=False),
+    }
 
 
 def _range_mask(w: int, a: np.ndarray, b: np.ndarray) -> np.ndarray:
@@ -178,7 +187,9 @@ def _run_below(f: np.ndarray, thr: np.ndarray, k: int, forward: bool) -> np.ndar
     below = (f < thr[:, None]).astype(np.int32)
     if k <= 1:
         return below.astype(bool)
-    cs = np.concatenate([np.zeros((f.shape[0], 1), dtype=np.int32), np.cumsum(below, axis=1)], axis=1)
+    cs = np.concatenate(
+        [np.zeros((f.shape[0], 1), dtype=np.int32), np.cumsum(below, axis=1)], axis=1
+    )
     w = f.shape[1]
     j = np.arange(w)
     if forward:
@@ -206,7 +217,7 @@ def qrs_bounds(
         lo = np.maximum(lo, on_min)
     if off_max is not None:
         hi = np.minimum(hi, off_max)
-    m, w = f.shape
+    _m, w = f.shape
     c_lo = np.maximum(lo, r - p.qrs_half_search)
     c_hi = np.minimum(hi, r + p.qrs_half_search)
     fmax = np.max(np.where(_range_mask(w, c_lo, c_hi), f, 0.0), axis=1)
@@ -237,7 +248,7 @@ def qrs_bounds(
     # point inside the complex (slope momentarily zero at a Q, R or S peak) does not count.
     on = _last_true(_range_mask(w, on_lo, i0) & _run_below(f, thr_on, p.qrs_run, forward=False))
     off_sig_hi = np.minimum(hi, r + p.qrs_off_search)
-    i1 = _last_true(_range_mask(w, r, off_sig_hi) & (f > sig[:, None]))
+    i1 = _last_true(_range_mask(w, r, off_sig_hi) & (f > (p.qrs_sig_off * fmax)[:, None]))
     i1 = np.where(i1 < 0, r, i1)
     rising = np.zeros_like(f, dtype=bool)
     rising[:, 1:] = f[:, :-1] < f[:, 1:]
@@ -265,7 +276,7 @@ def trapezium_boundary(y: np.ndarray, xm: np.ndarray, xr: np.ndarray) -> np.ndar
     >>> int(trapezium_boundary(y, np.array([0]), np.array([20]))[0])
     10
     """
-    m, w = y.shape
+    _m, w = y.shape
     idx = np.arange(w)[None, :]
     ok = (xm >= 0) & (xr >= 0)
     xm_c = np.clip(xm, 0, w - 1)
@@ -362,7 +373,7 @@ def delineate_block(
     xf = fast[:, :, ui].transpose(0, 2, 1).reshape(nb * nu, w)
     # Isoelectric level: the PR segment just before each lead's QRS onset.
     on_c = np.clip(np.where(l_on >= 0, l_on, rep(r)), 0, w - 1)
-    k_iso = max(1, int(round(0.010 * fs)))
+    k_iso = max(1, round(0.010 * fs))
     iso_mask = _range_mask(w, on_c - k_iso, on_c)
     base = np.sum(np.where(iso_mask, xs, 0.0), axis=1) / np.maximum(iso_mask.sum(axis=1), 1)
     y = xs - base[:, None]
@@ -455,7 +466,9 @@ def delineate_block(
     p_amp_b = np.where(p_ok, p_amp, -1.0).reshape(nb, nu)
     best_p = np.argmax(p_amp_b, axis=1)
     p_strong = p_amp_b >= p.p_strong_frac * p_amp_b.max(axis=1, keepdims=True)
-    glob[:, P_ON] = np.where(has_p, _order_stat(np.where(p_strong, lu[:, :, P_ON], -1), p.p_on_q), -1)
+    glob[:, P_ON] = np.where(
+        has_p, _order_stat(np.where(p_strong, lu[:, :, P_ON], -1), p.p_on_q), -1
+    )
     glob[:, P_OFF] = np.where(
         has_p, _order_stat(np.where(p_strong, lu[:, :, P_OFF], -1), p.p_off_q), -1
     )

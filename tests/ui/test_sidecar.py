@@ -1,0 +1,82 @@
+"""Corrections dragged in the window are saved to the record's marks sidecar (with audit
+events), undone there too, and come back when the record is opened again."""
+
+from __future__ import annotations
+
+import json
+import shutil
+
+import pytest
+
+from tests.ui.test_marks import _median_drag
+
+
+@pytest.fixture
+def sample_copy(sample_records_dir, tmp_path):
+    if not sample_records_dir.is_dir():
+        pytest.skip("no sample_records folder in this checkout")
+    heas = sorted(sample_records_dir.glob("*.hea"))
+    if not heas:
+        pytest.skip("no WFDB sample record")
+    hea = heas[0]
+    for f in sample_records_dir.glob(hea.stem + ".*"):
+        if not f.name.endswith(".marks.json"):
+            shutil.copy(f, tmp_path / f.name)
+    return tmp_path / hea.name
+
+
+def _sidecar(hea):
+    return json.loads(hea.with_name(hea.stem + ".marks.json").read_text())
+
+
+def test_drag_saves_undo_reverts_and_reopen_restores(window, qtbot, sample_copy, settings):
+    w = window
+    settings.setValue("reader/id", "reader1")
+    assert w.open_path(sample_copy, analyse_now=True)
+    s = w.session
+    assert s.store is not None and s.store.reviewer == "reader1"
+    fs = w.record.fs_hz
+    k0 = s.reading.marked.representative.marks.t_off
+    qt0 = s.reading.measurements.intervals.qt_ms
+    k1, _ = _median_drag(w, qtbot, "t_off", 40)
+    assert k1 != k0
+    side = _sidecar(sample_copy)
+    ovs = side["readings"]["reader1"]["overrides"]
+    rep_r = s.analysis.representative.r_index
+    assert len(ovs) == 1 and ovs[0]["fiducial"] == "t_off" and ovs[0]["scope"] == "representative"
+    # Stored in seconds relative to the median beat's R, on the sample grid; the automatic
+    # value it replaced is kept beside it.
+    assert ovs[0]["new_s"] == pytest.approx((k1 - rep_r) / fs)
+    assert ovs[0]["old_s"] == pytest.approx((k0 - rep_r) / fs)
+    assert any(e["action"] == "move_fiducial" for e in side["audit"])
+    qt1 = s.reading.measurements.intervals.qt_ms
+    assert qt1 - qt0 == pytest.approx((k1 - k0) / fs * 1000.0)
+    # Undo in the window undoes in the sidecar, with an audit event.
+    s.undo_stack.undo()
+    side = _sidecar(sample_copy)
+    assert side["readings"]["reader1"]["overrides"] == []
+    assert any(e["action"].startswith("undo:") for e in side["audit"])
+    s.undo_stack.redo()
+    # Close and open again: the correction is back, drawn as corrected, QT as corrected.
+    w.open_path(sample_copy, analyse_now=True)
+    s2 = w.session
+    assert s2 is not s and s2.is_corrected("representative", "t_off")
+    assert s2.reading.marked.representative.marks.t_off == k1
+    assert s2.reading.measurements.intervals.qt_ms == pytest.approx(qt1)
+
+
+def test_second_window_on_same_record_is_read_only(window, qtbot, sample_copy, settings):
+    from reviewapp.ui.main_window import MainWindow
+
+    settings.setValue("reader/id", "reader1")
+    assert window.open_path(sample_copy, analyse_now=True)
+    other = MainWindow(settings, px_per_mm=4.0)
+    qtbot.addWidget(other)
+    other.open_path(sample_copy, analyse_now=True)
+    assert other.session is not None and other.session.store is not None
+    assert other.session.store.read_only
+    assert "read-only" in other.marks_note
+    box = other.last_error_box
+    assert "lock" in box.text().lower() or "open" in box.text().lower()
+    box.close()
+    other.close()
