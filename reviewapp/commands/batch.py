@@ -24,7 +24,9 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
             "are skipped, so an interrupted batch resumes where it stopped."
         ),
     )
-    p.add_argument("folder", type=Path, help="folder of records (searched recursively)")
+    p.add_argument(
+        "folder", type=Path, metavar="FOLDER", help="folder of records (searched recursively)"
+    )
     p.add_argument(
         "--workers",
         type=int,
@@ -41,7 +43,7 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
         help="run on an existing Dask cluster at ADDRESS (e.g. tcp://10.0.0.5:8786)",
     )
     p.add_argument(
-        "--summary", type=Path, default=None, metavar="FILE", help="write a summary CSV here"
+        "--summary", type=Path, default=None, metavar="PATH", help="write a summary CSV here"
     )
     p.add_argument(
         "--force",
@@ -68,10 +70,10 @@ def run(args: argparse.Namespace) -> int:
         summary_file = Path(args.summary).resolve()
         paths = [p for p in paths if p.resolve() != summary_file]
     if not paths:
-        print(f"reviewapp: no records found under {folder}", file=sys.stderr)
         if args.summary is not None:
             write_summary_csv(args.summary, [])
-        return 0
+        # Nothing could be done: exit 2 like any other bad input (see reviewapp --help).
+        raise ReviewError(f"no records found under {folder}")
     workers = args.workers
     if workers is None and args.scheduler is None and len(paths) < SMALL_BATCH:
         workers = 1

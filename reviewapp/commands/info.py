@@ -11,7 +11,11 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
         help="describe a record file (format, leads, sampling rate, duration, subject facts)",
         description="Open a record and print what it holds. Nothing is measured.",
     )
-    p.add_argument("path", help="record file (WFDB .hea or record name, EDF, CSV, aECG XML, DICOM)")
+    p.add_argument(
+        "path",
+        metavar="PATH",
+        help="record file (WFDB .hea or record name, EDF, CSV, aECG XML, DICOM)",
+    )
     p.add_argument(
         "--fs",
         type=float,

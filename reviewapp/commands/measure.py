@@ -2,8 +2,9 @@
 
 The JSON schema is documented in ``reviewapp.core.measure.output`` (module docstring and
 ``MEASURE_JSON_SCHEMA``). A record that fails to open or measure is reported on one line on
-stderr (and as an error object / CSV row); the others are still measured; exit code 2 if any
-record failed.
+stderr (and as an error object / CSV row); the others are still measured. Exit code 0 when
+all records were measured, 1 when some failed but not all, 2 when none could be measured
+(e.g. a single unreadable record).
 """
 
 from __future__ import annotations
@@ -15,7 +16,11 @@ from pathlib import Path
 from typing import Any
 
 from reviewapp import CLINICAL_CAUTION
-from reviewapp.core.errors import ReviewError
+from reviewapp.core.errors import RecordError, ReviewError
+
+# Shortest record measured: two beats even at 30 bpm, and enough signal for the filters
+# (common practice, no source).
+MIN_DURATION_S = 2.0
 
 
 def add_parser(sub: argparse._SubParsersAction) -> None:
@@ -27,7 +32,13 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
             "ST levels and findings for each record. " + CLINICAL_CAUTION
         ),
     )
-    p.add_argument("paths", nargs="+", type=Path, metavar="PATH", help="record file(s)")
+    p.add_argument(
+        "paths",
+        nargs="+",
+        type=Path,
+        metavar="PATH",
+        help="record file(s) (WFDB .hea or record name, EDF, CSV, aECG XML, DICOM)",
+    )
     p.add_argument(
         "--format",
         choices=("table", "json", "csv"),
@@ -38,18 +49,27 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
     p.add_argument(
         "--per-lead",
         action="store_true",
-        help="include each lead's marks per beat (json) / per-lead amplitudes (table)",
+        help="include each lead's marks per beat (json) / per-lead amplitudes (table); "
+        "not available with csv",
     )
     p.add_argument(
         "--fs",
         type=float,
         default=None,
         metavar="HZ",
-        help="sampling rate for text formats that do not state it",
+        help="sampling rate for CSV files without a time column",
+    )
+    p.add_argument(
+        "--units",
+        default=None,
+        metavar="U",
+        help="sample units where the file does not say (uV, mV, V)",
     )
 
 
-def measure_path(path: Path, *, fs_hz: float | None = None, per_lead: bool = False) -> dict:
+def measure_path(
+    path: Path, *, fs_hz: float | None = None, per_lead: bool = False, units: str | None = None
+) -> dict:
     """Open, analyse and measure one record; the JSON-ready dict (raises ReviewError)."""
     from reviewapp.core.engine import analyse
     from reviewapp.core.io import open_record
@@ -57,7 +77,13 @@ def measure_path(path: Path, *, fs_hz: float | None = None, per_lead: bool = Fal
 
     if fs_hz is not None and not fs_hz > 0:
         raise ReviewError(f"--fs must be a positive number of Hz, got {fs_hz}")
-    record = open_record(path, fs_hz=fs_hz)
+    record = open_record(path, fs_hz=fs_hz, units=units)
+    if record.duration_s < MIN_DURATION_S:
+        raise RecordError(
+            f"record too short to measure ({record.n_samples} samples, "
+            f"{record.duration_s:.3g} s; at least {MIN_DURATION_S:g} s needed)",
+            path,
+        )
     analysis = analyse(record)
     return reading_to_dict(analysis, analysis.reading(), path=str(path), per_lead=per_lead)
 
@@ -67,9 +93,15 @@ def run(args: argparse.Namespace) -> int:
 
     results: list[dict[str, Any]] = []
     failed = 0
+    if args.per_lead and args.format == "csv":
+        print(
+            "reviewapp: --per-lead applies to json and table output; csv has one row per "
+            "record (global values only)",
+            file=sys.stderr,
+        )
     for path in args.paths:
         try:
-            d = measure_path(path, fs_hz=args.fs, per_lead=args.per_lead)
+            d = measure_path(path, fs_hz=args.fs, per_lead=args.per_lead, units=args.units)
         except ReviewError as err:
             msg = str(err)
         except MemoryError:
@@ -92,4 +124,6 @@ def run(args: argparse.Namespace) -> int:
             print(json.dumps(e), flush=True)
     if args.format == "csv":
         sys.stdout.write(csv_text(results))
-    return 2 if failed else 0
+    if not failed:
+        return 0
+    return 2 if failed == len(args.paths) else 1

@@ -1,8 +1,9 @@
-"""`reviewapp samples OUTDIR`: regenerate the invented demo worklist (deterministic)."""
+"""`reviewapp samples FOLDER`: regenerate the invented demo worklist (deterministic)."""
 
 from __future__ import annotations
 
 import argparse
+from pathlib import Path
 
 
 def add_parser(sub: argparse._SubParsersAction) -> None:
@@ -11,10 +12,14 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
         help="write the invented demo worklist (synthetic records with ground truth)",
         description="Regenerate the bundled, invented demo worklist. Same files every time.",
     )
-    p.add_argument("outdir", help="folder to write the records into")
+    p.add_argument("outdir", metavar="FOLDER", help="folder to write the records into")
 
 
 def run(args: argparse.Namespace) -> int:
+    from reviewapp.core.errors import ReviewError
     from reviewapp.core.synth.demo import main as demo_main
 
+    out = Path(args.outdir)
+    if out.exists() and not out.is_dir():
+        raise ReviewError("exists and is not a folder; give a folder for the records", out)
     return int(demo_main([args.outdir]) or 0)

@@ -14,8 +14,9 @@ def _lead_line(record: Record) -> list[str]:
             if on
         ]
         facts = []
+        label = lead.name
         if lead.original_name and lead.original_name.lower() != lead.name.lower():
-            facts.append(f"file: {lead.original_name}")
+            label = f"{lead.name} (file name {lead.original_name})"
         if lead.adc_gain_per_mv is not None:
             facts.append(f"gain {lead.adc_gain_per_mv:g} adu/mV")
         if lead.adc_baseline is not None:
@@ -24,7 +25,7 @@ def _lead_line(record: Record) -> list[str]:
             facts.append(f"{lead.adc_resolution_bits}-bit")
         if lead.signal_file:
             facts.append(lead.signal_file)
-        text = f"  {lead.name:<6}"
+        text = f"  {label:<6}"
         if flags:
             text += f" [{', '.join(flags)}]"
         if facts:
@@ -53,7 +54,11 @@ def describe_record(record: Record) -> str:
         if minutes
         else f"{seconds:.3f} s"
     )
-    units = sorted({lead.units for lead in record.leads})
+    units = sorted({lead.units for lead in record.leads if not lead.derived} or {"mV"})
+    if units == ["mV"]:
+        units_line = "mV"
+    else:
+        units_line = f"{', '.join(units)} in the file, served as mV"
     lines = [
         f"record:       {record.name}",
         f"format:       {record.source_format or 'unknown'}",
@@ -63,7 +68,7 @@ def describe_record(record: Record) -> str:
     lines += [
         f"sampling:     {record.fs_hz:g} Hz",
         f"duration:     {duration} ({record.n_samples} samples)",
-        f"units:        {', '.join(units)} (signals served in mV)",
+        f"units:        {units_line}",
         f"leads ({record.n_leads}):",
         *_lead_line(record),
     ]
@@ -75,7 +80,10 @@ def describe_record(record: Record) -> str:
     if s.sex:
         subject.append(s.sex)
     if s.acquired_at is not None:
-        subject.append(f"acquired {s.acquired_at.isoformat(sep=' ')}")
+        if s.acquired_time_known:
+            subject.append(f"acquired {s.acquired_at.isoformat(sep=' ')}")
+        else:  # a date only: no made-up midnight
+            subject.append(f"acquired {s.acquired_at.date().isoformat()} (time not given)")
     lines.append(f"subject:      {', '.join(subject) if subject else 'not given'}")
     if s.comments:
         lines.append(f"comments:     {len(s.comments)} line(s)")

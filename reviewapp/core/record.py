@@ -81,6 +81,9 @@ class SubjectFacts:
     sex: str | None = None  # "female" | "male" | None
     acquired_at: datetime | None = None
     comments: tuple[str, ...] = ()
+    # False when the file gives only the acquisition date: ``acquired_at`` is then midnight
+    # of that day and its time of day must not be shown.
+    acquired_time_known: bool = True
 
 
 class SignalSource(Protocol):
@@ -381,7 +384,7 @@ def with_derived_limb_leads(record: Record) -> Record:
         record,
         leads=tuple(new_leads),
         source=source,
-        notes=record.notes + (f"derived from I and II: {', '.join(wanted)}",),
+        notes=(*record.notes, f"leads {', '.join(wanted)} derived from I and II (not recorded)"),
     )
 
 

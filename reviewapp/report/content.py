@@ -16,20 +16,51 @@ import numpy as np
 from reviewapp.core.fiducials import FIDUCIALS, Beat, MarkOverride, WaveMarks
 from reviewapp.core.record import Record
 
-# Global quantities on the page, in order: (field of GlobalIntervals, label, unit).
-QUANTITIES: tuple[tuple[str, str, str], ...] = (
-    ("hr_bpm", "Heart rate", "bpm"),
-    ("rr_ms", "RR", "ms"),
-    ("p_ms", "P duration", "ms"),
-    ("pr_ms", "PR", "ms"),
-    ("qrs_ms", "QRS", "ms"),
-    ("qt_ms", "QT", "ms"),
-    ("qtc_bazett_ms", "QTc Bazett", "ms"),
-    ("qtc_fridericia_ms", "QTc Fridericia", "ms"),
-    ("p_axis_deg", "P axis", "deg"),
-    ("qrs_axis_deg", "QRS axis", "deg"),
-    ("t_axis_deg", "T axis", "deg"),
-)
+
+def _unit(quantity: str) -> str:
+    for suffix, unit in (("_ms", "ms"), ("_bpm", "bpm"), ("_deg", "deg"), ("_mv", "mV")):
+        if quantity.endswith(suffix):
+            return unit
+    return ""
+
+
+def _global_quantities() -> tuple[tuple[str, str, str], ...]:
+    """(quantity, label, unit) of every global value, in the order of ``reviewapp measure``'s
+    CSV columns (one definition of the columns for both exports)."""
+    from dataclasses import fields
+
+    from reviewapp.core.measure.findings import LABELS
+    from reviewapp.core.measure.output import CSV_COLUMNS
+    from reviewapp.core.measure.types import GlobalIntervals
+
+    interval_fields = {f.name for f in fields(GlobalIntervals)}
+    out = []
+    for col in CSV_COLUMNS:
+        if col in interval_fields or col in VOLTAGE_QUANTITIES:
+            out.append((col, LABELS.get(col, "RR SD" if col == "rr_sd_ms" else col), _unit(col)))
+    return tuple(out)
+
+
+VOLTAGE_QUANTITIES = ("sokolow_lyon_mv", "cornell_mv")
+# Every global quantity, in order: (field of GlobalIntervals or Measurements, label, unit).
+QUANTITIES: tuple[tuple[str, str, str], ...] = _global_quantities()
+# Header comment keys (``key: value`` in the record's comments) printed with the subject facts.
+STUDY_KEYS = ("timepoint", "time point", "visit", "study")
+
+
+def study_facts(comments: Iterable[str]) -> dict[str, str]:
+    """``key: value`` facts of a QT study from header comments (time point, visit, study).
+
+    >>> study_facts(["timepoint: post-dose 2 h", "age: 28"])
+    {'timepoint': 'post-dose 2 h'}
+    """
+    out: dict[str, str] = {}
+    for line in comments:
+        key, sep, value = str(line).partition(":")
+        key = key.strip().lower().lstrip("#").strip()
+        if sep and key in STUDY_KEYS and value.strip():
+            out.setdefault("timepoint" if key == "time point" else key, value.strip())
+    return out
 
 
 @dataclass(frozen=True)
@@ -121,11 +152,12 @@ def measurement_rows(
     reading: Any, subject: Any
 ) -> tuple[tuple[MeasurementRow, ...], tuple[str, ...]]:
     """Global rows with ranges and flags, plus the text of every other finding."""
-    iv = reading.measurements.intervals
+    ms = reading.measurements
+    iv = ms.intervals
     used: set[int] = set()
     rows = []
     for quantity, label, unit in QUANTITIES:
-        value = getattr(iv, quantity)
+        value = getattr(ms if quantity in VOLTAGE_QUANTITIES else iv, quantity)
         nr = _normal_range(quantity, subject)
         flag = ""
         for i, f in enumerate(reading.findings):

@@ -9,7 +9,9 @@ from __future__ import annotations
 
 import csv
 import os
+import sys
 from pathlib import Path
+from typing import TextIO
 
 from reviewapp import CLINICAL_CAUTION, __version__
 from reviewapp.core.errors import ReviewError
@@ -18,6 +20,33 @@ from reviewapp.report.layout import PageLayout, page_layout
 
 PDF_DPI = 2540  # 1 mm = 100 device units exactly
 MM_PER_INCH = 25.4
+# Image file suffix -> Qt image format (the format follows the name the user gave).
+IMAGE_FORMATS = {".png": "PNG", ".jpg": "JPEG", ".jpeg": "JPEG"}
+JPEG_QUALITY = 95  # high: the 1 mm grid and thin traces suffer from stronger compression
+STDOUT = "-"
+
+
+def check_output_path(path: Path | str, what: str, suffixes: tuple[str, ...] = ()) -> Path:
+    """Refuse, in one clear line naming the file, a target that cannot be written: a folder,
+    a missing or read-only folder, or a name whose suffix is not one of ``suffixes``."""
+    path = Path(path)
+    if path.is_dir():
+        example = f"report{suffixes[0] if suffixes else ''}"
+        raise ReviewError(
+            f"is a folder; give a file name for the {what}, e.g. {path / example}", path
+        )
+    if suffixes and path.suffix.lower() not in suffixes:
+        raise ReviewError(
+            f"cannot write the {what} under this name: use a file name ending in "
+            + " or ".join(suffixes),
+            path,
+        )
+    parent = path.parent if str(path.parent) else Path(".")
+    if not parent.is_dir():
+        raise ReviewError(f"cannot write the {what}: folder {parent} does not exist", path)
+    if not os.access(parent, os.W_OK) or (path.exists() and not os.access(path, os.W_OK)):
+        raise ReviewError(f"cannot write the {what}: no permission to write there", path)
+    return path
 
 
 def _ensure_gui() -> None:
@@ -40,9 +69,9 @@ def write_pdf(path: Path, content: ReportContent, layout: PageLayout | None = No
 
     from reviewapp.report.page import paint_page
 
+    path = check_output_path(path, "PDF", (".pdf",))
     _ensure_gui()
     lo = layout or page_layout()
-    path = Path(path)
     size_id = QPageSize.PageSizeId.A4 if lo.paper == "a4" else QPageSize.PageSizeId.Letter
     writer = QPdfWriter(str(path))
     writer.setResolution(PDF_DPI)
@@ -94,62 +123,85 @@ def render_image(content: ReportContent, layout: PageLayout | None = None, dpi: 
     return img
 
 
-def write_png(
+def write_image(
     path: Path, content: ReportContent, layout: PageLayout | None = None, dpi: float = 300.0
 ) -> PageLayout:
+    """The page as PNG (lossless, preferred) or JPEG, chosen by the file name's suffix."""
+    path = check_output_path(path, "page image", tuple(IMAGE_FORMATS))
+    fmt = IMAGE_FORMATS[path.suffix.lower()]
     lo = layout or page_layout()
     img = render_image(content, lo, dpi)
-    if not img.save(str(path), "PNG"):
-        raise ReviewError("cannot write the PNG (folder missing or not writable?)", path)
+    if not img.save(str(path), fmt, JPEG_QUALITY if fmt == "JPEG" else -1):
+        raise ReviewError(f"cannot write the {fmt} image", path)
     return lo
 
 
-def write_measurements_csv(path: Path, content: ReportContent) -> None:
-    """Global values with normal range and flag, then the reading's context, one row each."""
-    path = Path(path)
+write_png = write_image  # the page as PNG (or JPEG for a .jpg name)
+
+
+CSV_HEADER = (
+    "record",
+    "quantity",
+    "label",
+    "value",
+    "unit",
+    "normal_low",
+    "normal_high",
+    "flag",
+    "range_source",
+    "marks",
+    "reading_status",
+    "reviewer",
+    "engine_version",
+)
+
+
+def write_measurements_csv(path: Path | str, content: ReportContent) -> None:
+    """Every global value (the quantities of ``reviewapp measure``'s CSV: RR, HR, intervals,
+    the four QTc formulas, axes, voltages) with normal range and flag, one row each, then the
+    clinical caution. ``path`` "-" writes to standard output."""
+    if str(path) == STDOUT:
+        _write_csv_rows(sys.stdout, content)
+        sys.stdout.flush()
+        return
+    path = check_output_path(path, "CSV")
     try:
         with open(path, "w", newline="", encoding="utf-8") as fh:
-            w = csv.writer(fh)
-            w.writerow(
-                [
-                    "record",
-                    "quantity",
-                    "label",
-                    "value",
-                    "unit",
-                    "normal_low",
-                    "normal_high",
-                    "flag",
-                    "range_source",
-                    "marks",
-                    "reading_status",
-                    "reviewer",
-                    "engine_version",
-                ]
-            )
-            marks = "reviewer-corrected" if content.n_corrected else "automatic"
-            for r in content.rows:
-                w.writerow(
-                    [
-                        content.record.name,
-                        r.quantity,
-                        r.label,
-                        "" if r.value is None else f"{r.value:.1f}",
-                        r.unit,
-                        "" if r.low is None else f"{r.low:g}",
-                        "" if r.high is None else f"{r.high:g}",
-                        r.flag,
-                        r.range_source,
-                        marks,
-                        content.status,
-                        content.reviewer or "",
-                        content.engine_version,
-                    ]
-                )
-            w.writerow([])
-            w.writerow([f"# {CLINICAL_CAUTION}"])
+            _write_csv_rows(fh, content)
     except OSError as err:
         raise ReviewError(f"cannot write the CSV: {err.strerror or err}", path) from err
+
+
+def _value_text(value: float | None, unit: str) -> str:
+    if value is None:
+        return ""
+    return f"{value:.2f}" if unit == "mV" else f"{value:.1f}"
+
+
+def _write_csv_rows(fh: TextIO, content: ReportContent) -> None:
+    w = csv.writer(fh, lineterminator="\n")
+    w.writerow(CSV_HEADER)
+    marks = "reviewer-corrected" if content.n_corrected else "automatic"
+    for r in content.rows:
+        w.writerow(
+            [
+                content.record.name,
+                r.quantity,
+                r.label,
+                _value_text(r.value, r.unit),
+                r.unit,
+                "" if r.low is None else f"{r.low:g}",
+                "" if r.high is None else f"{r.high:g}",
+                r.flag,
+                r.range_source,
+                marks,
+                content.status,
+                content.reviewer or "",
+                content.engine_version,
+            ]
+        )
+    w.writerow([])
+    w.writerow([f"# {CLINICAL_CAUTION}"])
 
 
 ANNOTATION_EXTENSION = "rvw"
@@ -174,7 +226,10 @@ def write_wfdb_annotations(content: ReportContent, extension: str = ANNOTATION_E
 
 __all__ = [
     "ANNOTATION_EXTENSION",
+    "IMAGE_FORMATS",
+    "check_output_path",
     "render_image",
+    "write_image",
     "write_measurements_csv",
     "write_pdf",
     "write_png",

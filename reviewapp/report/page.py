@@ -3,12 +3,20 @@
 All geometry comes from ``layout.PageLayout`` in millimetres; ``px_per_mm`` converts to the
 device (100 for a PDF at 2540 dpi, 11.811 for a 300 dpi image), so 1 mm on the page is 1 mm
 on paper. Text is drawn in points with the painter's scaling removed, so type sizes are
-physical too.
+physical too. Every text is elided to the width of its block and recorded in the returned
+``PageDrawing``, so tests can check that nothing leaves its block.
+
+Fiducial marks on the strips are glyphs, not colour alone: each wave has its own lane (P, QRS,
+T, labelled at the left), an onset is a stroke with a foot pointing into the wave, an end a
+stroke with the foot pointing back; a reviewer-corrected mark is a thick stroke with a filled
+dot on top, the automatic position it replaced a dotted stroke. The key is printed in the
+footer.
 """
 
 from __future__ import annotations
 
 import itertools
+from dataclasses import dataclass, field
 from datetime import UTC, datetime
 
 import numpy as np
@@ -16,16 +24,16 @@ from PySide6.QtCore import QLineF, QPointF, QRectF, Qt
 from PySide6.QtGui import QBrush, QColor, QFont, QFontMetricsF, QPainter, QPen, QPolygonF
 
 from reviewapp import CLINICAL_CAUTION
-from reviewapp.report.content import MarkPair, ReportContent
+from reviewapp.report.content import MarkPair, ReportContent, study_facts
 from reviewapp.report.layout import (
-    CAL_PULSE_MV,
     CAL_PULSE_S,
+    FIDUCIAL_LANES,
     LAYOUT_3X4,
     MAJOR_MM,
     MINOR_MM,
     RHYTHM_LEAD,
     STANDARD_12,
-    TRACE_WIDTH_MM,
+    STANDARD_GAINS_MM_PER_MV,
     PageLayout,
     Rect,
 )
@@ -33,7 +41,9 @@ from reviewapp.report.layout import (
 FONT_FAMILY = "DejaVu Sans"
 GRID_MINOR = QColor(244, 200, 200)
 GRID_MAJOR = QColor(222, 120, 120)
-TRACE = QColor(0, 0, 0)
+TEXT = QColor(0, 0, 0)
+TRACE_INK = QColor(0, 0, 0)  # ECG traces and calibration pulses
+REP_OTHER_LEADS = QColor(150, 150, 150)  # the other leads superimposed in the beat panel
 MARK_AUTO = QColor(90, 90, 90)
 MARK_REVIEWED = QColor(0, 70, 190)
 FLAG = QColor(170, 0, 0)
@@ -49,6 +59,37 @@ SHORT_LABELS = {
     "qrs_off": "QRSend",
     "t_off": "Tend",
 }
+LANE_OF = {"p_on": "P", "p_off": "P", "qrs_on": "QRS", "qrs_off": "QRS", "t_off": "T"}
+# Short labels for the page table (the CSV keeps the measurement module's labels).
+PAGE_LABELS = {
+    "hr_bpm": "Heart rate",
+    "rr_ms": "RR",
+    "p_ms": "P duration",
+    "pr_ms": "PR",
+    "qrs_ms": "QRS",
+    "qt_ms": "QT",
+    "qtc_bazett_ms": "QTc Bazett",
+    "qtc_fridericia_ms": "QTc Fridericia",
+    "qtc_framingham_ms": "QTc Framingham",
+    "qtc_hodges_ms": "QTc Hodges",
+    "p_axis_deg": "P axis",
+    "qrs_axis_deg": "QRS axis",
+    "t_axis_deg": "T axis",
+}
+TABLE_GROUPS = (
+    ("hr_bpm", "rr_ms", "p_ms", "pr_ms", "qrs_ms"),
+    ("qt_ms", "qtc_bazett_ms", "qtc_fridericia_ms", "qtc_framingham_ms", "qtc_hodges_ms"),
+    ("p_axis_deg", "qrs_axis_deg", "t_axis_deg"),
+)
+MM_PER_PT = 25.4 / 72.0
+
+
+@dataclass
+class PageDrawing:
+    """What was drawn where (mm): text boxes, and the gain the beat panel used."""
+
+    texts: list[tuple[str, Rect]] = field(default_factory=list)
+    beat_gain_mm_per_mv: float | None = None
 
 
 class _Canvas:
@@ -57,6 +98,7 @@ class _Canvas:
     def __init__(self, painter: QPainter, px_per_mm: float) -> None:
         self.p = painter
         self.s = px_per_mm
+        self.drawing = PageDrawing()
         painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
         painter.setRenderHint(QPainter.RenderHint.TextAntialiasing, True)
 
@@ -71,6 +113,10 @@ class _Canvas:
         self.p.setPen(pen)
         self.p.setBrush(Qt.BrushStyle.NoBrush)
 
+    def clip(self, r: Rect) -> None:
+        s = self.s
+        self.p.setClipRect(QRectF(r.x * s, r.y * s, r.w * s, r.h * s))
+
     def line(self, x1: float, y1: float, x2: float, y2: float) -> None:
         s = self.s
         self.p.drawLine(QLineF(x1 * s, y1 * s, x2 * s, y2 * s))
@@ -84,7 +130,6 @@ class _Canvas:
         ok = np.isfinite(y_mm)
         if not ok.any():
             return
-        # Split into runs of finite samples.
         edges = np.flatnonzero(np.diff(ok.astype(np.int8)))
         bounds = np.concatenate(([0], edges + 1, [len(ok)]))
         for a, b in itertools.pairwise(bounds):
@@ -100,6 +145,13 @@ class _Canvas:
         self.p.drawRect(QRectF(r.x * s, r.y * s, r.w * s, r.h * s))
         self.p.setBrush(Qt.BrushStyle.NoBrush)
 
+    def dot(self, x: float, y: float, r_mm: float, colour: QColor) -> None:
+        s = self.s
+        self.p.setPen(Qt.PenStyle.NoPen)
+        self.p.setBrush(QBrush(colour))
+        self.p.drawEllipse(QPointF(x * s, y * s), r_mm * s, r_mm * s)
+        self.p.setBrush(Qt.BrushStyle.NoBrush)
+
     def font(self, size_pt: float, bold: bool = False) -> QFont:
         f = QFont(FONT_FAMILY)
         f.setPointSizeF(size_pt)
@@ -110,6 +162,14 @@ class _Canvas:
         fm = QFontMetricsF(self.font(size_pt, bold), self.p.device())
         return fm.horizontalAdvance(text) / self.s
 
+    def fit(self, text: str, width_mm: float, size_pt: float, bold: bool = False) -> str:
+        """``text``, cut and ended with an ellipsis when wider than ``width_mm``."""
+        if self.text_width_mm(text, size_pt, bold) <= width_mm:
+            return text
+        while text and self.text_width_mm(text + "...", size_pt, bold) > width_mm:
+            text = text[:-1]
+        return text.rstrip() + "..."
+
     def text(
         self,
         x: float,
@@ -118,20 +178,30 @@ class _Canvas:
         size_pt: float = 7.0,
         *,
         bold: bool = False,
-        colour: QColor = TRACE,
+        colour: QColor = TEXT,
         align: str = "left",
         backdrop: bool = False,
+        max_w: float | None = None,
     ) -> float:
-        """Draw ``text`` with its baseline at y (mm); returns its width in mm."""
+        """Draw ``text`` with its baseline at y (mm), elided to ``max_w``; returns its width."""
+        if max_w is not None:
+            text = self.fit(text, max_w, size_pt, bold)
         w = self.text_width_mm(text, size_pt, bold)
         if align == "right":
             x -= w
         elif align == "center":
             x -= w / 2
+        fm = QFontMetricsF(self.font(size_pt, bold), self.p.device())
+        asc, desc = fm.ascent() / self.s, fm.descent() / self.s
+        # Recorded box: cap height above the baseline, descenders below (what ink can cover).
+        cap = fm.capHeight() / self.s
+        self.drawing.texts.append((text, Rect(x, y - cap, w, cap + desc * 0.8)))
         if backdrop:
-            h = size_pt * 0.3528  # 1 pt = 25.4/72 mm
             self.p.setPen(Qt.PenStyle.NoPen)
-            self.rect(Rect(x - 0.4, y - h * 0.85, w + 0.8, h * 1.1), QColor(255, 255, 255, 215))
+            self.rect(
+                Rect(x - 0.4, y - asc * 0.85, w + 0.8, asc * 0.85 + desc),
+                QColor(255, 255, 255, 225),
+            )
         self.p.setFont(self.font(size_pt, bold))
         self.p.setPen(QPen(colour))
         self.p.drawText(QPointF(x * self.s, y * self.s), text)
@@ -145,21 +215,23 @@ def paint_page(
     content: ReportContent,
     *,
     generated_at: datetime | None = None,
-) -> None:
+) -> PageDrawing:
     """Paint the whole page; the device origin must be the sheet's top-left corner."""
     c = _Canvas(painter, px_per_mm)
     _draw_grid(c, layout.grid)
-    _draw_calibration(c, layout, _used_rows(content))
-    _draw_leads(c, layout, content)
+    strips = page_strips(layout, content)
+    _draw_calibration(c, layout, sorted({s.row for s in strips}))
+    _draw_leads(c, layout, content, strips)
     _draw_header(c, layout, content)
     _draw_beat_panel(c, layout, content)
-    _draw_footer(c, layout, content, generated_at or datetime.now(UTC))
+    _draw_footer(c, layout, content, generated_at or datetime.now(UTC), strips)
+    return c.drawing
 
 
 def _draw_grid(c: _Canvas, g: Rect) -> None:
     s = c.s
-    nx = round(g.w / MINOR_MM)
-    ny = round(g.h / MINOR_MM)
+    nx = int(g.w / MINOR_MM + 1e-6)
+    ny = int(g.h / MINOR_MM + 1e-6)
     major_every = round(MAJOR_MM / MINOR_MM)
     for major in (False, True):
         segs: list[QLineF] = []
@@ -180,24 +252,72 @@ def is_standard_12(content: ReportContent) -> bool:
     return sum(n in content.record.lead_names for n in STANDARD_12) >= 8
 
 
-def _used_rows(content: ReportContent) -> tuple[int, ...]:
+@dataclass(frozen=True)
+class Strip:
+    """One trace segment: lead column ``col`` on ``row`` from ``t0_s`` to ``t1_s``, drawn at
+    x = trace origin + (t - ``origin_s``) * speed. ``marks``: draw the mark lanes under it."""
+
+    col: int | None
+    name: str
+    row: int
+    t0_s: float
+    t1_s: float
+    origin_s: float
+    marks: bool = False
+    label_suffix: str = ""
+
+
+def page_strips(lo: PageLayout, content: ReportContent) -> list[Strip]:
+    """What goes on each row: 3 x 4 + rhythm for a 12-lead; otherwise each lead full width,
+    repeated in consecutive time bands to use the page (2 leads: 0-10 s then 10-20 s)."""
+    rec = content.record
+    duration = rec.duration_s
+    out: list[Strip] = []
     if is_standard_12(content):
-        return (0, 1, 2, 3)
-    return tuple(range(min(4, content.record.n_leads)))
+        col_s = lo.column_s
+        for r, row_leads in enumerate(LAYOUT_3X4):
+            for k, name in enumerate(row_leads):
+                col = _lead_col(content, name)
+                out.append(Strip(col, name, r, k * col_s, (k + 1) * col_s, 0.0))
+        rhythm = _lead_col(content, RHYTHM_LEAD)
+        name = RHYTHM_LEAD
+        if rhythm is None:
+            rhythm, name = 0, rec.lead_names[0]
+        out.append(Strip(rhythm, name, 3, 0.0, lo.shown_s, 0.0, True, "  rhythm"))
+        return out
+    n = min(4, rec.n_leads)
+    bands = 4 // n
+    for b in range(bands):
+        t0 = b * lo.shown_s
+        if b > 0 and t0 >= duration:
+            break
+        for i in range(n):
+            suffix = f"  {t0:.0f}-{t0 + lo.shown_s:.0f} s" if bands > 1 else ""
+            out.append(
+                Strip(i, rec.lead_names[i], b * n + i, t0, t0 + lo.shown_s, t0, i == n - 1, suffix)
+            )
+    return out
 
 
-def _draw_calibration(c: _Canvas, lo: PageLayout, rows: tuple[int, ...]) -> None:
+def _draw_calibration(c: _Canvas, lo: PageLayout, rows: list[int]) -> None:
     pulse_w = CAL_PULSE_S * lo.speed_mm_per_s
-    h = CAL_PULSE_MV * lo.gain_mm_per_mv
+    mv = lo.cal_pulse_mv
+    h = mv * lo.gain_mm_per_mv
     x0 = lo.grid.x + 1.0
     x1 = lo.grid.x + (lo.cal_width_mm - pulse_w) / 2.0
     x2 = x1 + pulse_w
     x3 = lo.trace_x0_mm - 1.0
-    c.pen(TRACE, 0.25)
+    c.p.save()
+    c.clip(lo.grid)
+    c.pen(TRACE_INK, 0.25)
     for base in (lo.row_baselines_mm[r] for r in rows):
         xs = np.array([x0, x1, x1, x2, x2, x3])
         ys = np.array([base, base, base - h, base - h, base, base])
         c.polyline(xs, ys)
+    c.p.restore()
+    if mv != 1.0:  # a non-standard pulse must say so
+        for base in (lo.row_baselines_mm[r] for r in rows):
+            c.text(x0, base + 3.0, f"{mv:g} mV", 4.5, backdrop=True, max_w=lo.cal_width_mm - 1)
 
 
 def _lead_col(content: ReportContent, name: str) -> int | None:
@@ -207,133 +327,167 @@ def _lead_col(content: ReportContent, name: str) -> int | None:
         return None
 
 
-def _trace(
-    c: _Canvas, lo: PageLayout, content: ReportContent, col: int, row: int, t0: float, t1: float
-) -> None:
+def _trace(c: _Canvas, lo: PageLayout, content: ReportContent, s: Strip) -> None:
+    assert s.col is not None
     fs = content.fs_hz
-    a = max(0, round(t0 * fs))
-    b = min(content.signal_mv.shape[0], round(t1 * fs) + 1)
+    a = max(0, round(s.t0_s * fs))
+    b = min(content.signal_mv.shape[0], round(s.t1_s * fs) + 1)
     if b - a < 2:
         return
     t = np.arange(a, b) / fs
-    c.polyline(lo.x_of(t), lo.y_of(content.signal_mv[a:b, col], row))
+    c.polyline(lo.x_of(t, s.origin_s), lo.y_of(content.signal_mv[a:b, s.col], s.row))
 
 
-def _draw_leads(c: _Canvas, lo: PageLayout, content: ReportContent) -> None:
-    g = lo.grid
-    s = c.s
-    c.p.save()
-    c.p.setClipRect(QRectF(g.x * s, g.y * s, g.w * s, g.h * s))
-    col_s = lo.column_s
-    col_w = TRACE_WIDTH_MM / 4.0
+def _draw_leads(c: _Canvas, lo: PageLayout, content: ReportContent, strips: list[Strip]) -> None:
+    """Traces clipped to the grid (neighbouring rows may overlap, as on paper), then the mark
+    lanes, then the labels on a white backdrop so no trace is ever drawn over text."""
     duration = content.record.duration_s
-    if not is_standard_12(content):
-        # Not a standard 12-lead (e.g. two Holter-style leads): each lead, full width.
-        for r in _used_rows(content):
-            lead = content.record.leads[r]
-            c.pen(TRACE, 0.22)
-            _trace(c, lo, content, r, r, 0.0, min(lo.shown_s, duration))
-            label = lead.name + (" (derived)" if lead.derived else "")
-            c.text(
-                lo.trace_x0_mm + 1.0,
-                lo.row_baselines_mm[r] - 12.0,
-                label,
-                7.5,
-                bold=True,
-                backdrop=True,
-            )
-        _draw_beat_marks(c, lo, content, row=0)
-        c.p.restore()
-        return
-    for r, row_leads in enumerate(LAYOUT_3X4):
-        base = lo.row_baselines_mm[r]
-        for k, name in enumerate(row_leads):
-            x_seg = lo.trace_x0_mm + k * col_w
-            col = _lead_col(content, name)
-            t0, t1 = k * col_s, (k + 1) * col_s
-            if col is not None and t0 < duration:
-                c.pen(TRACE, 0.22)
-                _trace(c, lo, content, col, r, t0, min(t1, duration))
-                label = name + (" (derived)" if content.record.leads[col].derived else "")
-                c.text(x_seg + 1.0, base - 12.0, label, 7.5, bold=True, backdrop=True)
-            else:
-                c.text(
-                    x_seg + 1.0,
-                    base - 12.0,
-                    f"{name}: not recorded" if col is None else f"{name}: record ended",
-                    7.0,
-                    colour=MARK_AUTO,
-                    backdrop=True,
-                )
-            if k > 0:  # lead change marker
-                c.pen(TRACE, 0.25)
-                c.line(x_seg, base - 3.0, x_seg, base + 3.0)
-    # Rhythm strip: the whole shown span of one lead.
-    rhythm = _lead_col(content, RHYTHM_LEAD)
-    rhythm_name = RHYTHM_LEAD
-    if rhythm is None:
-        rhythm, rhythm_name = 0, content.record.lead_names[0]
-    base = lo.row_baselines_mm[3]
-    c.pen(TRACE, 0.22)
-    _trace(c, lo, content, rhythm, 3, 0.0, min(lo.shown_s, duration))
-    c.text(
-        lo.trace_x0_mm + 1.0, base - 12.0, f"{rhythm_name}  rhythm", 7.5, bold=True, backdrop=True
-    )
-    _draw_beat_marks(c, lo, content, row=3)
+    c.p.save()
+    c.clip(lo.grid)
+    for s in strips:
+        if s.col is not None and s.t0_s < duration:
+            c.pen(TRACE_INK, 0.22)
+            _trace(c, lo, content, s)
+        if s.origin_s == 0.0 and s.t0_s > 0.0 and not s.marks:
+            x = lo.x_of(s.t0_s)  # lead change marker between 3 x 4 columns
+            base = lo.row_baselines_mm[s.row]
+            c.pen(TRACE_INK, 0.25)
+            c.line(x, base - 3.0, x, base + 3.0)
     c.p.restore()
+    for s in strips:
+        if s.marks:
+            _draw_beat_marks(c, lo, content, s)
+    for s in strips:
+        x = lo.x_of(s.t0_s, s.origin_s) + 1.0
+        y = lo.row_baselines_mm[s.row] - 12.0
+        col_w = (s.t1_s - s.t0_s) * lo.speed_mm_per_s - 2.0
+        if s.col is not None and s.t0_s < duration:
+            derived = " (derived)" if content.record.leads[s.col].derived else ""
+            label = s.name + derived + s.label_suffix
+            c.text(x, y, label, 7.5, bold=True, backdrop=True, max_w=col_w)
+        else:
+            text = f"{s.name}: not recorded" if s.col is None else f"{s.name}: record ended"
+            c.text(x, y, text, 7.0, colour=MARK_AUTO, backdrop=True, max_w=col_w)
 
 
-def _draw_beat_marks(c: _Canvas, lo: PageLayout, content: ReportContent, row: int) -> None:
-    """Each beat's global boundaries as ticks under a full-width strip (reviewed in blue)."""
+def _draw_beat_marks(c: _Canvas, lo: PageLayout, content: ReportContent, s: Strip) -> None:
+    """Each beat's global boundaries as glyphs in the P / QRS / T lanes under a strip."""
     fs = content.fs_hz
-    base = lo.row_baselines_mm[row]
-    y_top, y_bot = base + 9.0, base + 12.5
-    c.text(lo.grid.x + 0.8, y_bot - 0.6, "marks", 5.0, colour=MARK_AUTO, backdrop=True)
+    lanes = lo.lanes(s.row)
+    t_hi = min(s.t1_s, content.record.duration_s)
     for row in content.beat_marks:
         for m in row:
-            _tick(c, lo, m, fs, y_top, y_bot)
+            lane = lanes[LANE_OF[m.fiducial]]
+            _mark_glyph(c, lo, m, fs, lane, s.t0_s, t_hi, s.origin_s)
+    for name, lane in lanes.items():
+        c.text(
+            lo.trace_x0_mm - 0.8,
+            lane.bottom - 0.55,
+            name,
+            4.5,
+            bold=True,
+            colour=MARK_AUTO,
+            align="right",
+            backdrop=True,
+        )
 
 
-def _tick(c: _Canvas, lo: PageLayout, m: MarkPair, fs: float, y_top: float, y_bot: float) -> None:
-    limit = lo.shown_s
+def _glyph(c: _Canvas, x: float, lane: Rect, onset: bool) -> None:
+    """A stroke with a foot at the bottom pointing into the wave (onset) or back (end)."""
+    top, bot = lane.y + 0.3, lane.bottom - 0.3
+    foot = 0.7 if onset else -0.7
+    c.line(x, top, x, bot)
+    c.line(x, bot, x + foot, bot)
+
+
+def _mark_glyph(
+    c: _Canvas,
+    lo: PageLayout,
+    m: MarkPair,
+    fs: float,
+    lane: Rect,
+    t_lo: float,
+    t_hi: float,
+    origin: float,
+) -> None:
+    def x_of(i: int | None) -> float | None:
+        if i is None or not (t_lo <= i / fs <= t_hi):
+            return None
+        return lo.x_of(i / fs, origin)
+
+    onset = m.fiducial.endswith("_on")
     if m.corrected:
-        if m.auto is not None and m.auto / fs <= limit:
+        xa = x_of(m.auto)
+        if xa is not None:
             c.pen(MARK_AUTO, 0.12, Qt.PenStyle.DotLine)
-            x = lo.x_of(m.auto / fs)
-            c.line(x, y_top, x, y_bot)
-        if m.final is not None and m.final / fs <= limit:
-            c.pen(MARK_REVIEWED, 0.35)
-            x = lo.x_of(m.final / fs)
-            c.line(x, y_top - 1.0, x, y_bot + 1.0)
-    elif m.final is not None and m.final / fs <= limit:
-        c.pen(MARK_AUTO, 0.15)
-        x = lo.x_of(m.final / fs)
-        c.line(x, y_top, x, y_bot)
+            c.line(xa, lane.y + 0.3, xa, lane.bottom - 0.3)
+        xf = x_of(m.final)
+        if xf is not None:
+            c.pen(MARK_REVIEWED, 0.3)
+            _glyph(c, xf, lane, onset)
+            c.dot(xf, lane.y + 0.35, 0.35, MARK_REVIEWED)
+    else:
+        xf = x_of(m.final)
+        if xf is not None:
+            c.pen(MARK_AUTO, 0.15)
+            _glyph(c, xf, lane, onset)
 
 
-def _fmt(v: float | None, unit: str) -> str:
-    if v is None:
-        return "--"
-    return f"{v:.0f}"
+def _fmt(v: float | None) -> str:
+    return "--" if v is None else f"{v:.0f}"
+
+
+def _facts(content: ReportContent) -> list[tuple[str, bool]]:
+    """(text, emphasised) pieces of the subject line, most important first."""
+    rec = content.record
+    subj = rec.subject
+    study = study_facts(subj.comments)
+    pieces: list[tuple[str, bool]] = [
+        (f"Subject {subj.subject_id}" if subj.subject_id else "subject ID not stated", False),
+        (f"{subj.age_years:.0f} y" if subj.age_years is not None else "age not stated", False),
+        (subj.sex or "sex not stated", False),
+    ]
+    if "timepoint" in study:
+        pieces.append((f"time point: {study['timepoint']}", True))
+    if "visit" in study:
+        pieces.append((f"visit: {study['visit']}", True))
+    if "study" in study:
+        pieces.append((f"study {study['study']}", False))
+    if subj.acquired_at:
+        pieces.append((f"acquired {subj.acquired_at:%Y-%m-%d %H:%M}", False))
+    return pieces
+
+
+def _source_text(content: ReportContent) -> str:
+    rec = content.record
+    src = rec.source_path.name if rec.source_path else rec.name
+    return f"{rec.source_format or 'record'} {src}: {rec.n_leads} leads, {rec.fs_hz:g} Hz"
 
 
 def _draw_header(c: _Canvas, lo: PageLayout, content: ReportContent) -> None:
-    h = lo.header
     rec = content.record
-    subj = rec.subject
-    x = h.x
-    y = h.y + 4.0
-    w = c.text(x, y, f"ECG reading report  ·  {rec.name}", 11.0, bold=True)
-    facts = [
-        f"subject {subj.subject_id}" if subj.subject_id else "subject ID not stated",
-        f"{subj.age_years:.0f} y" if subj.age_years is not None else "age not stated",
-        subj.sex or "sex not stated",
-        f"acquired {subj.acquired_at:%Y-%m-%d %H:%M}" if subj.acquired_at else None,
-        f"{rec.source_format or 'record'} {rec.source_path.name if rec.source_path else ''}",
-        f"{rec.n_leads} leads, {rec.fs_hz:g} Hz, {rec.duration_s:.1f} s",
-    ]
-    c.text(x + w + 4.0, y, "  ·  ".join(f for f in facts if f), 7.5)
-    y += 4.6
+    t = lo.title
+    c.text(t.x, t.y + 4.0, f"ECG reading report  ·  {rec.name}", 11.0, bold=True, max_w=t.w)
+
+    # Subject line: drop the least important pieces rather than run into the beat panel.
+    f = lo.facts
+    sep = "  ·  "
+    pieces = _facts(content)
+    size = 7.5
+    while len(pieces) > 3:
+        total = sum(c.text_width_mm(p, size, bold=b) for p, b in pieces)
+        if total + c.text_width_mm(sep, size) * (len(pieces) - 1) <= f.w:
+            break
+        pieces.pop()
+    x = f.x
+    for k, (piece, bold) in enumerate(pieces):
+        text = piece if k == 0 else sep + piece
+        x += c.text(x, f.y + 3.2, text, size, bold=bold, max_w=f.right - x)
+        if x >= f.right - 0.5:
+            break
+
+    st = lo.status
+    y = st.y + 3.3
     status_text = {
         "signed_off": "SIGNED OFF",
         "in_progress": "IN PROGRESS (not signed off)",
@@ -344,9 +498,15 @@ def _draw_header(c: _Canvas, lo: PageLayout, content: ReportContent) -> None:
         who = f"  ·  reviewer {content.reviewer}"
     if content.status == "signed_off" and content.signed_off_at:
         who += f"  ·  signed {_utc_text(content.signed_off_at)}"
-    w = c.text(x, y, "Reading: ", 8.0, bold=True)
+    w = c.text(st.x, y, "Reading: ", 8.0, bold=True)
     w += c.text(
-        x + w, y, status_text, 8.0, bold=True, colour=STATUS_COLOURS.get(content.status, TRACE)
+        st.x + w,
+        y,
+        status_text,
+        8.0,
+        bold=True,
+        colour=STATUS_COLOURS.get(content.status, TEXT),
+        max_w=st.w - w,
     )
     corrected = content.n_corrected
     marks_text = (
@@ -354,8 +514,9 @@ def _draw_header(c: _Canvas, lo: PageLayout, content: ReportContent) -> None:
         if corrected
         else "  ·  values below from automatic marks"
     )
-    c.text(x + w, y, who + marks_text, 7.5)
-    _draw_table(c, x, y + 1.2, content)
+    if st.w - w > 5.0:
+        c.text(st.x + w, y, who + marks_text, 7.5, max_w=st.w - w)
+    _draw_table(c, lo.table, content)
 
 
 def _utc_text(iso: str) -> str:
@@ -367,14 +528,15 @@ def _utc_text(iso: str) -> str:
     return f"{t.astimezone(UTC):%Y-%m-%d %H:%M} UTC"
 
 
-def _draw_table(c: _Canvas, x0: float, y0: float, content: ReportContent) -> None:
-    """Global values in three column groups: name, value, unit, normal range, flag."""
-    row_h = 3.5
-    group_w = 68.0
-    cols = (0.0, 32.0, 33.5, 42.0, 58.0)  # label, value (right edge), unit, range, flag
-    rows = content.rows
-    per_group = (len(rows) + 2) // 3
-    for gi in range(3):
+def _draw_table(c: _Canvas, box: Rect, content: ReportContent) -> None:
+    """Global values in three column groups (rate and conduction / QT and the four QTc
+    formulas / axes and other flags): name, value, unit, normal range, flag."""
+    row_h = 3.4
+    group_w = (box.w + 3.0) / 3.0
+    cols = (0.0, 32.0, 33.5, 42.0, 57.0)  # label, value (right edge), unit, range, flag
+    by_q = {r.quantity: r for r in content.rows}
+    x0, y0 = box.x, box.y
+    for gi, group in enumerate(TABLE_GROUPS):
         gx = x0 + gi * group_w
         c.text(gx + cols[0], y0 + 2.6, "Measure", 6.5, colour=MARK_AUTO)
         c.text(gx + cols[1], y0 + 2.6, "Value", 6.5, colour=MARK_AUTO, align="right")
@@ -382,37 +544,31 @@ def _draw_table(c: _Canvas, x0: float, y0: float, content: ReportContent) -> Non
         c.text(gx + cols[4], y0 + 2.6, "Flag", 6.5, colour=MARK_AUTO)
         c.pen(MARK_AUTO, 0.1)
         c.line(gx, y0 + 3.4, gx + group_w - 3.0, y0 + 3.4)
-        for i, row in enumerate(rows[gi * per_group : (gi + 1) * per_group]):
+        for i, q in enumerate(group):
+            row = by_q.get(q)
+            if row is None:
+                continue
             y = y0 + 3.4 + (i + 1) * row_h
             flagged = bool(row.flag)
-            colour = FLAG if flagged else TRACE
-            c.text(gx + cols[0], y, row.label, 7.5)
-            c.text(
-                gx + cols[1],
-                y,
-                _fmt(row.value, row.unit),
-                8.0,
-                bold=True,
-                colour=colour,
-                align="right",
-            )
+            colour = FLAG if flagged else TEXT
+            c.text(gx + cols[0], y, PAGE_LABELS.get(q, row.label), 7.5, max_w=cols[1] - 9.0)
+            c.text(gx + cols[1], y, _fmt(row.value), 8.0, bold=True, colour=colour, align="right")
             c.text(gx + cols[2], y, row.unit, 6.5)
-            c.text(gx + cols[3], y, row.range_text, 6.5, colour=MARK_AUTO)
+            c.text(gx + cols[3], y, row.range_text, 6.5, colour=MARK_AUTO, max_w=cols[4] - cols[3])
             if flagged:
+                flag = row.flag.replace("above", ">").replace("below", "<")
                 c.text(
-                    gx + cols[4],
-                    y,
-                    row.flag.replace("above", ">").replace("below", "<"),
-                    7.0,
-                    bold=True,
-                    colour=FLAG,
+                    gx + cols[4], y, flag, 7.0, bold=True, colour=FLAG, max_w=group_w - 3 - cols[4]
                 )
+    # Other flags (per-lead values, voltages) under the axes in the third group.
     if content.other_findings:
-        y = y0 + 3.4 + (per_group + 1) * row_h
+        gx = x0 + 2 * group_w
+        y = y0 + 3.4 + (len(TABLE_GROUPS[2]) + 1) * row_h
+        room = int((box.bottom - y) / 2.7) + 1
         text = "Other flags: " + "; ".join(content.other_findings)
-        for line in _wrap(c, text, 3 * group_w - 3.0, 6.5, max_lines=2):
-            c.text(x0, y, line, 6.5, colour=FLAG)
-            y += 2.9
+        for line in _wrap(c, text, box.right - gx, 6.0, max_lines=max(1, room)):
+            c.text(gx, y, line, 6.0, colour=FLAG, max_w=box.right - gx)
+            y += 2.7
 
 
 def _wrap(c: _Canvas, text: str, width_mm: float, size_pt: float, max_lines: int) -> list[str]:
@@ -431,37 +587,54 @@ def _wrap(c: _Canvas, text: str, width_mm: float, size_pt: float, max_lines: int
     if cur and len(lines) < max_lines:
         lines.append(cur)
     if words and lines:
-        lines[-1] = _ellipsis(c, lines[-1] + " " + " ".join(words), width_mm, size_pt)
+        lines[-1] = c.fit(lines[-1] + " " + " ".join(words), width_mm, size_pt)
     return lines
 
 
-def _ellipsis(c: _Canvas, text: str, width_mm: float, size_pt: float) -> str:
-    if c.text_width_mm(text, size_pt) <= width_mm:
-        return text
-    while text and c.text_width_mm(text + " ...", size_pt) > width_mm:
-        text = text[:-1]
-    return text + " ..."
+def beat_panel_gain(span_mv: float, height_mm: float, page_gain_mm_per_mv: float) -> float:
+    """The largest standard gain, not above the page's, at which a beat spanning ``span_mv``
+    (top to bottom, all leads superimposed) fits ``height_mm``; the smallest standard gain
+    when none does (the beat is then clipped to its panel).
+
+    >>> beat_panel_gain(2.0, 26.0, 20.0)
+    10.0
+    >>> beat_panel_gain(1.0, 26.0, 10.0)
+    10.0
+    """
+    for g in sorted(STANDARD_GAINS_MM_PER_MV, reverse=True):
+        if g <= page_gain_mm_per_mv and span_mv * g <= height_mm:
+            return float(g)
+    return float(min((*STANDARD_GAINS_MM_PER_MV, page_gain_mm_per_mv)))
 
 
 def _draw_beat_panel(c: _Canvas, lo: PageLayout, content: ReportContent) -> None:
     """Representative beat, all usable leads superimposed, at true scale, with global marks."""
     panel = lo.beat_panel
-    _draw_grid(c, panel)
-    c.text(panel.x + 0.8, panel.y + 2.4, "Representative beat, all leads", 5.5, backdrop=True)
+    area = lo.beat_trace
+    _draw_grid(c, area)
+    title = lo.beat_title
+    rhythm = _lead_col(content, RHYTHM_LEAD)
+    lead_txt = f" ({RHYTHM_LEAD} black, others grey)" if rhythm is not None else ", all leads"
+    c.text(
+        title.x + 0.5,
+        title.y + 2.0,
+        f"Representative beat{lead_txt}",
+        5.5,
+        max_w=title.w - 1.0,
+    )
     wave = content.rep_waveform_mv
     if wave is None or content.rep_r_index is None:
         c.text(
-            panel.x + panel.w / 2,
-            panel.y + panel.h / 2,
+            area.x + area.w / 2,
+            area.y + area.h / 2,
             "no representative beat",
             7.0,
             colour=MARK_AUTO,
             align="center",
+            backdrop=True,
         )
         return
     fs = content.fs_hz
-    s = c.s
-    gain = lo.gain_mm_per_mv
     # Place the window so that its marked span (P onset .. T end) is centred in the panel,
     # at twice the page speed when that span fits (boundaries a few ms apart stay apart).
     known = [m.final for m in content.rep_marks if m.final is not None]
@@ -471,30 +644,53 @@ def _draw_beat_panel(c: _Canvas, lo: PageLayout, content: ReportContent) -> None
     speed = 2 * lo.speed_mm_per_s
     if (hi_i - lo_i) / fs * speed > panel.w - 4.0:
         speed = lo.speed_mm_per_s
-    c.text(panel.x + 0.8, panel.y + 4.6, f"{speed:g} mm/s, {gain:g} mm/mV", 4.5, backdrop=True)
-    x_of = lambda i: panel.x + panel.w / 2 + (np.asarray(i) / fs - mid_s) * speed  # noqa: E731
-    base = panel.y + panel.h * 0.62
-    c.p.save()
-    c.p.setClipRect(QRectF(panel.x * s, panel.y * s, panel.w * s, panel.h * s))
-    idx = np.arange(wave.shape[0])
-    xs = x_of(idx)
-    rhythm = _lead_col(content, RHYTHM_LEAD)
+
+    def x_of(i: np.ndarray | int) -> np.ndarray:
+        return panel.x + panel.w / 2 + (np.asarray(i) / fs - mid_s) * speed
+
     usable = [i for i, lead in enumerate(content.record.leads) if not (lead.flat or lead.missing)]
     # Baseline: each lead's level at QRS onset, so the superimposed leads share an isoelectric line.
     qrs_on = next((m.final for m in content.rep_marks if m.fiducial == "qrs_on"), None)
     ref_i = qrs_on if qrs_on is not None else max(0, content.rep_r_index - round(0.06 * fs))
+    ref_i = min(max(0, ref_i), wave.shape[0] - 1)
+    idx = np.arange(wave.shape[0])
+    xs = x_of(idx)
+    seen = (xs >= area.x) & (xs <= area.right)
+    rel = wave[:, usable] - wave[ref_i, usable] if usable else np.zeros((len(idx), 1))
+    vis = rel[seen] if seen.any() else rel
+    finite = vis[np.isfinite(vis)]
+    top_mv = float(max(finite.max(), 0.0)) if finite.size else 1.0
+    bot_mv = float(min(finite.min(), 0.0)) if finite.size else -0.5
+    margin = 1.0  # mm kept free above and below the beat
+    gain = beat_panel_gain(top_mv - bot_mv, area.h - 2 * margin, lo.gain_mm_per_mv)
+    c.drawing.beat_gain_mm_per_mv = gain
+    # Centre the beat's extent vertically in the trace area.
+    base = area.y + (area.h - (top_mv - bot_mv) * gain) / 2 + top_mv * gain
+    reduced = gain < lo.gain_mm_per_mv
+    scale = f"{speed:g} mm/s, {gain:g} mm/mV" + (
+        f" (reduced from {lo.gain_mm_per_mv:g} to fit the box)" if reduced else ""
+    )
+    c.text(
+        title.x + 0.5,
+        title.y + 4.4,
+        scale,
+        5.0,
+        bold=reduced,
+        colour=FLAG if reduced else TEXT,
+        max_w=title.w - 1.0,
+    )
+    c.p.save()
+    c.clip(area)
     for i in usable:
         if i == rhythm:
             continue
-        c.pen(QColor(150, 150, 150), 0.12)
-        y = base - (wave[:, i] - wave[ref_i, i]) * gain
-        c.polyline(xs, y)
+        c.pen(REP_OTHER_LEADS, 0.12)
+        c.polyline(xs, base - (wave[:, i] - wave[ref_i, i]) * gain)
     if rhythm is not None:
-        c.pen(TRACE, 0.22)
+        c.pen(TRACE_INK, 0.22)
         c.polyline(xs, base - (wave[:, rhythm] - wave[ref_i, rhythm]) * gain)
-    top, bot = panel.y + 5.5, panel.bottom - 6.0
-    for k, m in enumerate(content.rep_marks):
-        label_y = bot + 1.9 + (k % 3) * 1.7
+    top, bot = area.y + 0.3, area.bottom - 0.3
+    for m in content.rep_marks:
         if m.corrected and m.auto is not None:
             c.pen(MARK_AUTO, 0.12, Qt.PenStyle.DotLine)
             xa = float(x_of(m.auto))
@@ -509,56 +705,102 @@ def _draw_beat_panel(c: _Canvas, lo: PageLayout, content: ReportContent) -> None
             Qt.PenStyle.SolidLine if m.corrected else Qt.PenStyle.DashLine,
         )
         c.line(xf, top, xf, bot)
+    c.p.restore()
+    labels = lo.beat_labels
+    for k, m in enumerate(content.rep_marks):
+        if m.final is None:
+            continue
+        xf = float(x_of(m.final))
+        if not (labels.x + 1.0 <= xf <= labels.right - 1.0):
+            continue
+        text = SHORT_LABELS[m.fiducial] + ("*" if m.corrected else "")
+        w = c.text_width_mm(text, 4.5, m.corrected)
+        xl = min(max(xf, labels.x + w / 2 + 0.2), labels.right - w / 2 - 0.2)
         c.text(
-            xf,
-            label_y,
-            SHORT_LABELS[m.fiducial],
+            xl,
+            labels.y + 1.9 + (k % 3) * 1.7,
+            text,
             4.5,
-            colour=colour,
+            colour=MARK_REVIEWED if m.corrected else MARK_AUTO,
             align="center",
             bold=m.corrected,
-            backdrop=True,
         )
-    c.p.restore()
 
 
-def _draw_footer(c: _Canvas, lo: PageLayout, content: ReportContent, when: datetime) -> None:
-    f = lo.footer
-    y = f.y + 3.0
-    shown = min(lo.shown_s, content.record.duration_s)
+def _draw_footer(
+    c: _Canvas,
+    lo: PageLayout,
+    content: ReportContent,
+    when: datetime,
+    strips: list[Strip],
+) -> None:
+    duration = content.record.duration_s
+    shown = sum(max(0.0, min(s.t1_s, duration) - s.t0_s) for s in strips if s.marks or s.row == 3)
+    shown = min(shown, duration) if shown else min(lo.shown_s, duration)
+    fs_ = lo.footer_scale
     scale = (
-        f"{lo.speed_mm_per_s:g} mm/s  ·  {lo.gain_mm_per_mv:g} mm/mV  ·  grid 1 mm / 5 mm  ·  "
-        f"{shown:.1f} s of {content.record.duration_s:.1f} s shown, filtered as measured  ·  "
+        f"{lo.speed_mm_per_s:g} mm/s  ·  {lo.gain_mm_per_mv:g} mm/mV  ·  "
+        f"calibration {lo.cal_pulse_mv:g} mV  ·  grid 1 mm / 5 mm  ·  "
+        f"{shown:.1f} s of {duration:.1f} s shown  ·  filtered as measured  ·  "
+        + _source_text(content)
     )
-    w = c.text(f.x, y, scale, 6.5)
-    w += c.text(f.x + w, y, "Marks: ", 6.5)
-    c.pen(MARK_AUTO, 0.15)
-    c.line(f.x + w + 0.5, y - 2.2, f.x + w + 0.5, y + 0.3)
-    w += 1.5
-    w += c.text(f.x + w, y, "automatic   ", 6.5)
-    c.pen(MARK_REVIEWED, 0.35)
-    c.line(f.x + w + 0.5, y - 2.4, f.x + w + 0.5, y + 0.5)
-    w += 1.5
-    w += c.text(f.x + w, y, "reviewer-corrected ", 6.5, colour=MARK_REVIEWED)
-    c.pen(MARK_AUTO, 0.12, Qt.PenStyle.DotLine)
-    c.line(f.x + w + 0.5, y - 2.2, f.x + w + 0.5, y + 0.3)
-    w += 1.5
-    w += c.text(f.x + w, y, "automatic position it replaced", 6.5)
+    c.text(fs_.x, fs_.y + 3.0, scale, 6.5, max_w=fs_.w)
+    m = lo.footer_meta
     c.text(
-        f.right,
-        y,
+        m.right,
+        m.y + 3.0,
         f"engine {content.engine_version}  ·  printed {when:%Y-%m-%d %H:%M} UTC",
         6.0,
         align="right",
         colour=MARK_AUTO,
+        max_w=m.w,
     )
-    c.text(f.x, y + 3.6, CLINICAL_CAUTION, 7.0, bold=True)
+    _draw_key(c, lo.footer_key, strips, content)
     if content.notes:
+        n = lo.footer_notes
         c.text(
-            f.right,
-            y + 3.6,
-            _ellipsis(c, "; ".join(content.notes), 60.0, 6.0),
+            n.right,
+            n.y + 2.9,
+            "; ".join(content.notes),
             6.0,
             align="right",
             colour=MARK_AUTO,
+            max_w=n.w,
         )
+    cau = lo.footer_caution
+    size = 7.0
+    while size > 5.0 and c.text_width_mm(CLINICAL_CAUTION, size, True) > cau.w:
+        size -= 0.25
+    c.text(cau.x, cau.y + 2.9, CLINICAL_CAUTION, size, bold=True, max_w=cau.w)
+
+
+def _draw_key(c: _Canvas, box: Rect, strips: list[Strip], content: ReportContent) -> None:
+    """Key to the mark glyphs, drawn with the glyphs themselves."""
+    size = 6.0
+    y = box.y + 2.9
+    lane = Rect(0.0, box.y + 0.5, 0.0, 2.8)
+    where = next((s.name for s in strips if s.marks), "")
+    x = box.x
+    x += c.text(x, y, f"Marks under the {where} strip, lanes {'/'.join(FIDUCIAL_LANES)}: ", size)
+    items = (("onset", True, False), ("end", False, False))
+    for label, onset, _ in items:
+        c.pen(MARK_AUTO, 0.15)
+        _glyph(c, x + 0.6, lane, onset)
+        x += 2.2
+        x += c.text(x, y, label + "   ", size)
+    c.pen(MARK_AUTO, 0.15)
+    c.line(x + 0.5, lane.y + 0.3, x + 0.5, lane.y + lane.h - 0.3)
+    x += 1.6
+    x += c.text(x, y, "thin: automatic   ", size)
+    c.pen(MARK_REVIEWED, 0.3)
+    c.line(x + 0.5, lane.y + 0.3, x + 0.5, lane.y + lane.h - 0.3)
+    c.dot(x + 0.5, lane.y + 0.35, 0.35, MARK_REVIEWED)
+    x += 1.6
+    x += c.text(x, y, "thick with dot: reviewer-corrected   ", size, colour=MARK_REVIEWED)
+    c.pen(MARK_AUTO, 0.12, Qt.PenStyle.DotLine)
+    c.line(x + 0.5, lane.y + 0.3, x + 0.5, lane.y + lane.h - 0.3)
+    x += 1.6
+    x += c.text(x, y, "dotted: automatic position replaced   ", size, max_w=box.right - x)
+    tail = "beat panel: * = corrected"
+    if c.text_width_mm(tail, size) <= box.right - x:
+        c.text(x, y, tail, size)

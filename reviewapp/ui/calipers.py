@@ -344,8 +344,18 @@ class CaliperPair(pg.GraphicsObject):
                 self.set_legs(at=at0 + d)
         ev.accept()
 
+    def start_drag_from_press(self, x_mm: float, sample: int) -> None:
+        """Begin dragging leg b from ``sample`` (a new caliper drawn with Shift + drag)."""
+        self.set_legs(a=sample, b=sample)
+        self.part = "b"
+        self._drag = ("b", x_mm, sample, sample, self.at, self.a_mv, self.b_mv)
+        self.grabMouse()
+
     def mouseReleaseEvent(self, ev) -> None:
         self._drag = None
+        scene = self.scene()
+        if scene is not None and scene.mouseGrabberItem() is self:
+            self.ungrabMouse()
         ev.accept()
 
     def mouseDoubleClickEvent(self, ev) -> None:

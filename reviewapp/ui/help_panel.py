@@ -22,6 +22,7 @@ SHORTCUTS: tuple[tuple[str, str], ...] = (
     ("F", "Fit the page in the window"),
     ("Page Up / Page Down, Home / End", "Previous / next page, first / last page"),
     ("C", "New time caliper (ms and bpm)"),
+    ("Shift + drag on a trace", "Draw a time caliper from where you press to where you let go"),
     ("A", "New amplitude caliper (mV and mm)"),
     ("Tab", "Selected caliper: choose leg 1, leg 2 or the whole pair"),
     ("Left / Right", "Move the selected caliper part or mark by one sample"),

@@ -131,6 +131,16 @@ class MainWindow(QtWidgets.QMainWindow):
         self.paper.mark_dropped.connect(self._beat_mark_dropped)
         self.paper.mark_reset.connect(self._beat_mark_reset)
         self.paper.caliper_changed.connect(self._calipers_changed)
+        self.paper.caliper_added.connect(self._caliper_added)
+        self.paper.caliper_removed.connect(self._caliper_removed)
+        self.paper.caliper_rename.connect(self._rename_caliper_dialog)
+        self._dirty_calipers: set[CaliperPair] = set()
+        self._caliper_save_timer = QtCore.QTimer(self)
+        self._caliper_save_timer.setSingleShot(True)
+        # Calipers are saved once the reader pauses, not on every drag step or key press
+        # (each save is an fsync'd atomic write of the sidecar).
+        self._caliper_save_timer.setInterval(600)
+        self._caliper_save_timer.timeout.connect(self.save_calipers)
         self.paper.zoom_changed.connect(lambda _z: self._update_status())
         self.median.mark_dragging.connect(self._rep_mark_dragging)
         self.median.mark_dropped.connect(self._rep_mark_dropped)
@@ -522,6 +532,7 @@ class MainWindow(QtWidgets.QMainWindow):
         self.session.overrides_changed.connect(self._overrides_changed)
         self.paper.set_session(self.session)
         self.median.set_session(self.session)
+        self.restore_calipers()
         self._reading_changed(self.session.reading)
         parts = ["Analysis: " + "; ".join(analysis.notes)] if analysis.notes else []
         self.statusBar().showMessage("; ".join([*parts, self.marks_note]), 8000)
@@ -570,6 +581,7 @@ class MainWindow(QtWidgets.QMainWindow):
 
     def _close_session(self) -> None:
         if self.session is not None:
+            self.save_calipers()
             self.session.close_store()
         self.session = None
 
@@ -763,7 +775,102 @@ class MainWindow(QtWidgets.QMainWindow):
         elif isinstance(sel, FiducialMark) and dx:
             sel.nudge(dx)
 
+    # --- calipers in the marks sidecar --------------------------------------------------
+    def _store(self):
+        s = self.session
+        return None if s is None or s.store is None or s.store.read_only else s.store
+
+    @staticmethod
+    def _caliper_fields(c: CaliperPair, fs: float) -> dict:
+        if c.kind == "time":
+            return {"t1_s": c.a / fs, "t2_s": c.b / fs, "v1_mv": 0.0, "v2_mv": 0.0}
+        return {"t1_s": c.at / fs, "t2_s": c.at / fs, "v1_mv": c.a_mv, "v2_mv": c.b_mv}
+
+    def _caliper_added(self, c: CaliperPair) -> None:
+        store = self._store()
+        if store is None or c.store_id is not None or self.record is None:
+            return
+        f = self._caliper_fields(c, self.record.fs_hz)
+        try:
+            cmd = store.edits.add_caliper(
+                c.kind,
+                f["t1_s"],
+                f["t2_s"],
+                v1_mv=f["v1_mv"],
+                v2_mv=f["v2_mv"],
+                lead=c.lead,
+                label=c.name,
+            )
+            store.do(cmd)
+            c.store_id = cmd.caliper_id
+        except ReviewError as err:
+            self.show_error(err)
+
+    def _caliper_removed(self, c: CaliperPair) -> None:
+        self._dirty_calipers.discard(c)
+        store = self._store()
+        if store is None or c.store_id is None:
+            return
+        try:
+            store.do(store.edits.delete_caliper(c.store_id))
+        except ReviewError as err:
+            self.show_error(err)
+
+    def save_calipers(self) -> None:
+        """Write moved or relabelled calipers to the sidecar (called after a pause)."""
+        store = self._store()
+        dirty, self._dirty_calipers = self._dirty_calipers, set()
+        if store is None or self.record is None:
+            return
+        fs = self.record.fs_hz
+        for c in dirty:
+            if c.store_id is None or c not in self.paper.calipers:
+                continue
+            saved = store.reading.caliper(c.store_id)
+            f = self._caliper_fields(c, fs)
+            f["label"] = c.name
+            if saved is not None and all(
+                abs(getattr(saved, k) - v) < 1e-9
+                if isinstance(v, float)
+                else getattr(saved, k) == v
+                for k, v in f.items()
+            ):
+                continue
+            try:
+                store.do(store.edits.move_caliper(c.store_id, **f))
+            except ReviewError as err:
+                self.show_error(err)
+                return
+
+    def restore_calipers(self) -> None:
+        s = self.session
+        if s is None or s.store is None or self.record is None:
+            return
+        fs = self.record.fs_hz
+        for saved in s.store.reading.calipers:
+            common = {"lead": saved.lead, "name": saved.label, "store_id": saved.id}
+            if saved.kind == "time":
+                extra = {"a": round(saved.t1_s * fs), "b": round(saved.t2_s * fs)}
+            else:
+                extra = {"at": round(saved.t1_s * fs), "a_mv": saved.v1_mv, "b_mv": saved.v2_mv}
+            self.paper.add_caliper(saved.kind, restore={**common, **extra})
+
+    def rename_caliper(self, c: CaliperPair, label: str) -> None:
+        c.name = label.strip()[:40]
+        c.update()
+        self._calipers_changed(c)
+
+    def _rename_caliper_dialog(self, c: CaliperPair) -> None:
+        text, ok = QtWidgets.QInputDialog.getText(
+            self, "Caliper label", "Label (e.g. QT, RR):", text=c.name
+        )
+        if ok:
+            self.rename_caliper(c, text)
+
     def _calipers_changed(self, _c: object) -> None:
+        if isinstance(_c, CaliperPair) and _c.store_id is not None:
+            self._dirty_calipers.add(_c)
+            self._caliper_save_timer.start()
         # The paper label follows every drag step; the dock's list is refreshed at most every
         # 80 ms, so dragging never waits for a dock relayout.
         if not self._caliper_timer.isActive():

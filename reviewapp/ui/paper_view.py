@@ -289,6 +289,21 @@ class PaperView(pg.GraphicsView):
         self._after_paint.append(fn)
         self.viewport().update()
 
+    def mousePressEvent(self, ev) -> None:
+        """Shift + drag on a trace draws a new time caliper from the press to the release."""
+        shift = ev.modifiers() & QtCore.Qt.KeyboardModifier.ShiftModifier
+        if shift and ev.button() == QtCore.Qt.MouseButton.LeftButton and self.geom is not None:
+            p = self.vb.mapSceneToView(self.mapToScene(ev.position().toPoint()))
+            cell = self.geom.cell_at(p.x(), p.y())
+            if cell is not None:
+                s = self.geom.sample_of_x(p.x())
+                c = self.add_caliper("time", row=cell.row, center_sample=s)
+                if c is not None:
+                    c.start_drag_from_press(p.x(), s)
+                    ev.accept()
+                    return
+        super().mousePressEvent(ev)
+
     def paintEvent(self, ev) -> None:
         super().paintEvent(ev)
         if self._after_paint:
@@ -302,11 +317,21 @@ class PaperView(pg.GraphicsView):
         kind: Literal["time", "amplitude"],
         row: int | None = None,
         center_sample: int | None = None,
+        *,
+        restore: dict | None = None,
     ) -> CaliperPair | None:
+        """A new caliper pair (legs 400 ms or 1 mV apart around ``center_sample``).
+
+        ``restore`` re-creates a saved one (keys: lead, a, b, at, a_mv, b_mv, name, store_id).
+        """
         geom, rec = self.geom, self.record
         if geom is None or rec is None:
             return None
         cells = geom.layout.cells
+        if restore is not None:
+            row = self.row_for_lead(restore.get("lead"))
+            if row is None:
+                return None
         if row is None:
             # Prefer the first rhythm strip (a full-length lead), else the top row.
             rhythm = [c for c in cells if c.rhythm]
@@ -318,37 +343,27 @@ class PaperView(pg.GraphicsView):
                 min(max(vr.center().x(), geom.x_of_time(cell.t0_s)), geom.x_of_time(cell.t1_s))
             )
         half = round(0.2 * rec.fs_hz)
-        n = len(self.calipers) + 1
-        if kind == "time":
-            c = CaliperPair(
-                "time",
-                row,
-                cell.lead,
-                geom,
-                self.scale.gain_mm_per_mv,
-                self.theme,
-                a=center_sample - half,
-                b=center_sample + half,
-                name=f"C{n}",
-            )
-        else:
-            c = CaliperPair(
-                "amplitude",
-                row,
-                cell.lead,
-                geom,
-                self.scale.gain_mm_per_mv,
-                self.theme,
-                at=center_sample,
-                a_mv=0.0,
-                b_mv=1.0,
-                name=f"C{n}",
-            )
+        values = {
+            "a": center_sample - half,
+            "b": center_sample + half,
+            "at": center_sample,
+            "a_mv": 0.0,
+            "b_mv": 1.0,
+            "name": f"C{len(self.calipers) + 1}",
+        }
+        if restore is not None:
+            values.update({k: v for k, v in restore.items() if k in values})
+        c = CaliperPair(kind, row, cell.lead, geom, self.scale.gain_mm_per_mv, self.theme, **values)
+        if restore is not None:
+            c.store_id = restore.get("store_id")
         c.changed.connect(self.caliper_changed)
         c.selected_changed.connect(self._on_caliper_selected)
+        c.rename_requested.connect(self.caliper_rename)
         self.vb.addItem(c)
         self.calipers.append(c)
-        self._select(c)
+        if restore is None:
+            self._select(c)
+            self.caliper_added.emit(c)
         self.caliper_changed.emit(c)
         return c
 
@@ -358,6 +373,7 @@ class PaperView(pg.GraphicsView):
             self.vb.removeItem(c)
             if self.selected is c:
                 self.selected = None
+            self.caliper_removed.emit(c)
             self.caliper_changed.emit(None)
 
     def _on_caliper_selected(self, c: CaliperPair) -> None:

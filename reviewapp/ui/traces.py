@@ -47,29 +47,6 @@ class LeadTrace(pg.PlotDataItem):
         self.setPen(pg.mkPen(theme.trace, width=theme.trace_width_px, cosmetic=True))
 
 
-def _decimate_minmax(
-    x: np.ndarray, y: np.ndarray, max_points: int
-) -> tuple[np.ndarray, np.ndarray]:
-    """Keep each bin's min and max so spikes survive when a long page is squeezed."""
-    n = x.size
-    if n <= max_points:
-        return x, y
-    per = -(-n // (max_points // 2))
-    bins = -(-n // per)
-    m = per * bins
-    # Pad the last bin by repeating the final sample so no sample is dropped.
-    yb = np.concatenate([y, np.repeat(y[-1:], m - n)]).reshape(bins, per)
-    xb = np.concatenate([x, np.repeat(x[-1:], m - n)]).reshape(bins, per)
-    lo = np.nanargmin(np.where(np.isnan(yb), np.inf, yb), axis=1)
-    hi = np.nanargmax(np.where(np.isnan(yb), -np.inf, yb), axis=1)
-    first = np.minimum(lo, hi)
-    second = np.maximum(lo, hi)
-    rows = np.arange(bins)
-    xs = np.column_stack([xb[rows, first], xb[rows, second]]).ravel()
-    ys = np.column_stack([yb[rows, first], yb[rows, second]]).ravel()
-    return xs, ys
-
-
 class CalibrationPulse(pg.GraphicsObject):
     """The 1 mV square pulse at the start of a row: its height is the gain, in millimetres."""
 
@@ -114,7 +91,11 @@ def lead_label(cell: Cell, geom: PageGeometry, theme: Theme) -> pg.TextItem:
     f.setPointSizeF(10.5)
     f.setBold(True)
     item.setFont(f)
-    top, _bottom = geom.row_band(cell.row)
-    item.setPos(geom.x_of_time(cell.t0_s) + 1.5, top + 0.3)
+    if cell.t0_s == 0.0:
+        # First column: in the left margin under the 1 mV pulse, clear of the first beat.
+        item.setPos(0.8, geom.baseline_y(cell.row) + 1.0)
+    else:
+        top, _bottom = geom.row_band(cell.row)
+        item.setPos(geom.x_of_time(cell.t0_s) + 1.5, top + 0.3)
     item.setZValue(20)
     return item

@@ -130,14 +130,16 @@ def _lead_ii_errors_ms(shared_data: Path, x: np.ndarray, fs: float, fs_new: int)
 @pytest.mark.parametrize("fs_new", [125, 250, 1000, 2000])
 def test_sampling_rates_125_to_2000_hz(shared_data: Path, fs_new: int) -> None:
     # LUDB record 1 (500 Hz) resampled with scipy.signal.resample_poly: against the
-    # cardiologists' lead-II marks, every rate stays within 20 ms (median error per fiducial)
+    # cardiologists' lead-II marks, every rate stays within 20 ms (T end: 30.6 ms, the CSE
+    # tolerance; median error per fiducial)
     # and within 1.5 sample periods (at least 4 ms) of what the native 500 Hz record gives.
     x, fs = _ludb(shared_data, "1")
     native = _lead_ii_errors_ms(shared_data, x, fs, int(fs))
     resampled = _lead_ii_errors_ms(shared_data, x, fs, fs_new)
     allow = max(4.0, 1.5 * 1000.0 / fs_new)
     for k, fid in enumerate(FIDUCIALS):
-        assert abs(resampled[k]) <= 20.0, f"{fs_new} Hz {fid}: {resampled[k]:.1f} ms vs LUDB"
+        limit = 30.6 if fid == "t_off" else 20.0
+        assert abs(resampled[k]) <= limit, f"{fs_new} Hz {fid}: {resampled[k]:.1f} ms vs LUDB"
         assert abs(resampled[k] - native[k]) <= allow, (
             f"{fs_new} Hz {fid}: {resampled[k]:.1f} ms vs {native[k]:.1f} ms at 500 Hz"
         )

@@ -43,23 +43,26 @@ pytestmark = pytest.mark.slow  # whole-database accuracy (about 30 s)
 
 # (|mean| limit, SD limit) in ms per fiducial. Measured values in the comments.
 QTDB_LIMITS = {
-    "p_on": (4.0, 23.0),  # measured 1.7 +- 21.3 (SD above CSE 10.2)
-    "p_off": (14.0, 25.0),  # measured 11.9 +- 22.8 (above CSE 12.7)
-    "qrs_on": (3.5, 11.5),  # measured 1.7 +- 10.1 (above CSE 6.5)
-    "qrs_off": (5.5, 19.5),  # measured 3.5 +- 17.9 (above CSE 11.6)
-    "t_off": (12.0, 47.5),  # measured 9.8 +- 45.2 (above CSE 30.6)
+    "p_on": (4.5, 21.0),  # measured 2.7 +- 19.3 (SD above CSE 10.2)
+    "p_off": (3.5, 23.5),  # measured 1.4 +- 21.6 (above CSE 12.7)
+    "qrs_on": (3.0, 11.0),  # measured 1.5 +- 10.0 (above CSE 6.5)
+    "qrs_off": (4.0, 16.5),  # measured 2.7 +- 15.0 (above CSE 11.6)
+    "t_off": (2.5, 46.0),  # measured -0.6 +- 43.8 (above CSE 30.6; a few records dominate)
 }
 LUDB_LIMITS = {
-    "p_on": (2.0, 16.0),  # measured 0.1 +- 14.8 (above CSE 10.2)
-    "p_off": (12.0, 19.0),  # measured 10.4 +- 17.5 (above CSE 12.7)
-    "qrs_on": (2.0, 13.0),  # measured 0.1 +- 11.9 (above CSE 6.5)
-    "qrs_off": (2.5, 16.0),  # measured 0.8 +- 14.7 (above CSE 11.6)
-    "t_off": (10.0, 32.0),  # measured 8.4 +- 30.5 (within CSE 30.6)
+    "p_on": (5.0, 20.0),  # measured -3.5 +- 18.4 (SD above CSE 10.2)
+    "p_off": (6.0, 20.0),  # measured 4.3 +- 18.5 (above CSE 12.7)
+    "qrs_on": (1.5, 13.0),  # measured 0.2 +- 11.9 (above CSE 6.5)
+    "qrs_off": (2.0, 15.5),  # measured 0.5 +- 14.4 (above CSE 11.6)
+    "t_off": (2.0, 32.5),  # measured 0.5 +- 30.7 (at CSE 30.6)
 }
 # Fraction of reference marks with no detected mark, and detected marks with no reference.
-QTDB_MISSED_MAX = {"p_on": 0.04, "p_off": 0.04, "qrs_on": 0.0, "qrs_off": 0.0, "t_off": 0.005}
-LUDB_MISSED_MAX = {"p_on": 0.31, "p_off": 0.31, "qrs_on": 0.0, "qrs_off": 0.0, "t_off": 0.16}
-LUDB_EXTRA_MAX = {"p_on": 0.16, "p_off": 0.16, "qrs_on": 0.01, "qrs_off": 0.01, "t_off": 0.13}
+# Measured: QTDB P 2.5 % missed, T 1 of 2350; LUDB P 0.9 %, T 0.1 % missed; LUDB extra P
+# 20 % (mostly atrial fibrillation/flutter records where a P is still found, and leads
+# the readers left unmarked), extra T 12 %, extra QRS 0.7 %.
+QTDB_MISSED_MAX = {"p_on": 0.035, "p_off": 0.035, "qrs_on": 0.0, "qrs_off": 0.0, "t_off": 0.002}
+LUDB_MISSED_MAX = {"p_on": 0.015, "p_off": 0.015, "qrs_on": 0.0, "qrs_off": 0.0, "t_off": 0.002}
+LUDB_EXTRA_MAX = {"p_on": 0.22, "p_off": 0.22, "qrs_on": 0.01, "qrs_off": 0.01, "t_off": 0.13}
 
 
 @pytest.fixture(scope="module")

@@ -128,3 +128,25 @@ def test_any_number_of_pairs_and_march_out(loaded, qtbot):
     # March-out repeats the 800-sample interval along the 10 s strip: 2600, 3400, ... 9800.
     forward = sorted(s for s in c.march_positions(10_000) if s > 1800)
     assert forward == list(range(2600, 10_001, 800))
+
+
+def test_shift_drag_draws_a_new_time_caliper(loaded, qtbot):
+    w = loaded
+    w.set_layout("12x1")
+    g = w.paper.geom
+    vp = w.paper.viewport()
+    row = 2
+    y = g.baseline_y(row) + 3.0
+    a = w.paper.map_to_viewport(g.x_of_sample(1200), y).toPoint()
+    b = w.paper.map_to_viewport(g.x_of_sample(2000), y).toPoint()
+    shift = QtCore.Qt.KeyboardModifier.ShiftModifier
+    qtbot.mousePress(vp, L, shift, pos=a)
+    for k in range(1, 5):
+        qtbot.wait(20)
+        qtbot.mouseMove(vp, QtCore.QPoint(a.x() + (b.x() - a.x()) * k // 4, a.y()))
+    qtbot.mouseRelease(vp, L, shift, pos=b)
+    assert len(w.paper.calipers) == 1
+    c = w.paper.calipers[0]
+    assert c.row == row and c.lead == g.layout.cells[row].lead
+    assert (c.a, c.b) == (sample_under(w, a), sample_under(w, b))
+    assert c.readout().interval_ms == pytest.approx((c.b - c.a) / w.record.fs_hz * 1000.0)

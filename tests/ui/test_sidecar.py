@@ -80,3 +80,30 @@ def test_second_window_on_same_record_is_read_only(window, qtbot, sample_copy, s
     assert "lock" in box.text().lower() or "open" in box.text().lower()
     box.close()
     other.close()
+
+
+def test_calipers_are_saved_and_restored(window, qtbot, sample_copy, settings):
+    w = window
+    settings.setValue("reader/id", "reader1")
+    assert w.open_path(sample_copy, analyse_now=True)
+    fs = w.record.fs_hz
+    c = w.add_caliper("time", center_sample=1000)
+    assert c.store_id is not None
+    c.set_legs(a=900, b=1342)
+    w.rename_caliper(c, "RR")
+    w.save_calipers()
+    saved = _sidecar(sample_copy)["readings"]["reader1"]["calipers"]
+    assert len(saved) == 1 and saved[0]["label"] == "RR" and saved[0]["kind"] == "time"
+    assert (saved[0]["t1_s"], saved[0]["t2_s"]) == pytest.approx((900 / fs, 1342 / fs))
+    amp = w.add_caliper("amplitude", center_sample=1500)
+    amp.set_levels(a_mv=0.0, b_mv=1.25)
+    w.save_calipers()
+    text = c.label_text()
+    # Reopen: both calipers come back on their lead with the same readouts.
+    w.open_path(sample_copy, analyse_now=True)
+    back = {k.name: k for k in w.paper.calipers}
+    assert set(back) == {"RR", amp.name}
+    assert back["RR"].label_text() == text
+    assert back[amp.name].readout().amplitude_mv == pytest.approx(1.25)
+    w.paper.remove_caliper(back["RR"])
+    assert len(_sidecar(sample_copy)["readings"]["reader1"]["calipers"]) == 1

@@ -117,16 +117,17 @@ def _marks_from_rep(
     """Representative-beat boundaries carried to the dominant beats by local matching.
 
     Returns (global (B, 8), per-lead (B, L, 8)) record indices (-1 absent) and a (B,) bool of
-    beats fully covered (dominant, every boundary present on the median beat matched with
-    correlation >= ALIGN_MIN_CORR).
+    (B, 5) bool ``matched`` per boundary column (dominant beat, boundary present on the median
+    beat, local match with correlation >= ALIGN_MIN_CORR).
     """
     nb, nl = r.size, len(usable)
     glob = np.full((nb, N_MARKS), -1, dtype=np.int64)
     lead = np.full((nb, nl, N_MARKS), -1, dtype=np.int64)
-    covered = np.array([b.kind == BeatKind.DOMINANT for b in beats])
-    dom = np.flatnonzero(covered)
+    is_dom = np.array([b.kind == BeatKind.DOMINANT for b in beats])
+    dom = np.flatnonzero(is_dom)
+    matched = np.zeros((nb, 5), dtype=bool)
     if dom.size == 0:
-        return glob, lead, covered
+        return glob, lead, matched
     ui = np.flatnonzero(usable)
     rep_f = prefilter(np.asarray(rep.waveform_mv)[:, ui], fs_hz)
     rep_g = np.array([-1 if v is None else v for v in _mark_values(rep.marks)], dtype=np.int64)
@@ -154,7 +155,7 @@ def _marks_from_rep(
             to_s(lag_ms),
             stride,
         )
-        covered[dom[corr < ALIGN_MIN_CORR]] = False
+        matched[dom, col] = corr >= ALIGN_MIN_CORR
         lag_of[:, col] = lags
     for pk, col in _PEAK_FOLLOWS.items():
         lag_of[:, pk] = lag_of[:, col]
@@ -163,7 +164,7 @@ def _marks_from_rep(
     if rep_l.shape[0] == nl:
         lead[dom] = np.where(rep_l[None] >= 0, base[:, None, :] + rep_l[None], -1)
         lead[:, ~usable, :] = -1  # unusable leads get no marks whatever the median beat says
-    return glob, lead, covered
+    return glob, lead, matched
 
 
 def _mark_values(m: WaveMarks) -> list[int | None]:
@@ -215,13 +216,24 @@ def delineate_beats(
     filt = prefilter(x, fs_hz)
     glob = np.full((len(r), N_MARKS), -1, dtype=np.int64)
     lead = np.full((len(r), n_leads, N_MARKS), -1, dtype=np.int64)
-    own = np.ones(len(r), dtype=bool)
+    matched = np.zeros((len(r), 5), dtype=bool)
     if rep is not None:
-        glob, lead, covered = _marks_from_rep(filt, fs_hz, r, beats, usable, rep)
-        own = ~covered
+        glob, lead, matched = _marks_from_rep(filt, fs_hz, r, beats, usable, rep)
+        # A boundary absent on the median beat stays absent on its dominant beats.
+        absent = np.array([v is None for v in _mark_values(rep.marks)[:5]])
+        is_dom = np.array([b.kind == BeatKind.DOMINANT for b in beats])
+        matched[np.ix_(is_dom, absent)] = True
+    own = ~matched.all(axis=1)
     if own.any():
         g_own, l_own = _delineate_own(filt, fs_hz, r, np.flatnonzero(own), usable, params)
-        glob[own], lead[own] = g_own, l_own
+        # Per boundary: the matched median-beat mark where there is one, else the beat's own.
+        take = ~matched[own]  # (n_own, 5)
+        cols = np.zeros((take.shape[0], N_MARKS), dtype=bool)
+        cols[:, :5] = take
+        for pk, col in _PEAK_FOLLOWS.items():
+            cols[:, pk] = take[:, col]
+        glob[own] = np.where(cols, g_own, glob[own])
+        lead[own] = np.where(cols[:, None, :], l_own, lead[own])
     # Rhythm-level P decision: follow the representative beat when there is one.
     if _rep_p_present(rep) is False:
         glob[:, [P_ON, P_OFF, P_PEAK]] = -1

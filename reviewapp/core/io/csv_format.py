@@ -4,6 +4,15 @@ Accepted: comma, semicolon or tab separators; an optional time column (``time``,
 ``time_s``, ``time_ms``, ``time [s]``, ``seconds``, ``ms`` ...) that gives the sampling rate and
 must be uniformly spaced; units per column from a suffix (``I [uV]``, ``I (mV)``, ``I_uV``) or
 the ``units`` argument, else assumed mV with a note in ``Record.notes``.
+
+Units plausibility (no units in the header and none given): a resting ECG's deflections lie
+within about +/-5 mV (common practice, no source), so a lead whose typical peak-to-peak
+(median over 1 s windows) exceeds ``MAX_PLAUSIBLE_MV`` is almost surely in uV, and a record
+whose every varying lead stays below ``MIN_PLAUSIBLE_MV`` is almost surely in V. Either way
+the file is refused, naming the lead and the ``--units`` to pass: a value 1000x off must
+never be measured silently.
+
+Errors name the file line (1-based, the header line counted) and the column name.
 """
 
 from __future__ import annotations
@@ -16,7 +25,7 @@ from pathlib import Path
 import numpy as np
 
 from reviewapp.core.errors import RecordError
-from reviewapp.core.io._common import clean_lead_label, mv_factor, require_finite, unique_names
+from reviewapp.core.io._common import clean_lead_label, mv_factor, unique_names
 from reviewapp.core.record import (
     STANDARD_12,
     ArraySource,
@@ -46,6 +55,10 @@ _TIME_NAMES = {
     "t_ms": 1e-3,
     "t_s": 1.0,
 }
+# See the module docstring; both common practice, no source.
+MAX_PLAUSIBLE_MV = 20.0
+MIN_PLAUSIBLE_MV = 0.005
+
 _UNIT_SUFFIX = re.compile(
     r"^(?P<name>.*?)\s*(?:\[(?P<u1>[^\]]+)\]|\((?P<u2>[^)]+)\)|[_ ](?P<u3>[munµμ]?V))\s*$",
     re.IGNORECASE,
@@ -117,16 +130,21 @@ def read_csv(path: Path, *, fs_hz: float | None = None, units: str | None = None
     if "\x00" in text:
         raise RecordError("not a text file (contains NUL bytes)", path)
     lines = text.splitlines()
-    while lines and not lines[0].strip():
-        lines.pop(0)
-    if not lines:
+    first = 0
+    while first < len(lines) and not lines[first].strip():
+        first += 1
+    if first == len(lines):
         raise RecordError("file is empty", path)
-    header_line = lines[0]
+    header_line = lines[first]
     delim = _delimiter(header_line)
     columns = [c.strip().strip('"').strip() for c in header_line.split(delim)]
     if any(_is_number(c) for c in columns):
-        raise RecordError("first row must name the leads (e.g. 'time_s,I,II,V1')", path)
-    body = "\n".join(line for line in lines[1:] if line.strip())
+        raise RecordError(
+            f"line {first + 1}: first row must name the leads (e.g. 'time_s,I,II,V1')", path
+        )
+    # 1-based file line numbers of the sample rows, for messages.
+    line_numbers = [i + 1 for i in range(first + 1, len(lines)) if lines[i].strip()]
+    body = "\n".join(lines[i - 1] for i in line_numbers)
     if not body:
         raise RecordError("no samples below the header row", path)
     # Semicolon files from European locales may use a decimal comma.
@@ -134,20 +152,29 @@ def read_csv(path: Path, *, fs_hz: float | None = None, units: str | None = None
         body = body.replace(",", ".")
     try:
         values = np.loadtxt(io.StringIO(body), delimiter=delim, dtype=np.float64, ndmin=2)
-    except ValueError as err:
-        raise RecordError(f"cannot read the numbers: {err}", path) from None
+    except ValueError:
+        raise RecordError(
+            _first_bad_line(body.split("\n"), line_numbers, delim, columns), path
+        ) from None
     if values.shape[1] != len(columns):
         raise RecordError(
             f"{len(columns)} column names but {values.shape[1]} columns of numbers", path
         )
-    require_finite(values, path, "CSV")
+    bad = ~np.isfinite(values)
+    if bad.any():
+        row, col = (int(i) for i in np.argwhere(bad)[0])
+        raise RecordError(
+            f"line {line_numbers[row]}, column {columns[col]!r}: {values[row, col]} is not a "
+            "finite number",
+            path,
+        )
 
     notes: list[str] = []
     time_cols = [i for i, c in enumerate(columns) if _time_scale(c) is not None]
     lead_cols = [i for i in range(len(columns)) if i not in time_cols[:1]]
     if not lead_cols:
         raise RecordError("no lead columns besides the time column", path)
-    rate = _rate_from_time(values, time_cols, columns, path)
+    rate = _rate_from_time(values, time_cols, columns, path, line_numbers)
     if rate is not None and fs_hz is not None and not math.isclose(rate, fs_hz, rel_tol=0.01):
         raise RecordError(
             f"time column gives {rate:.6g} Hz but the sampling rate was given as {fs_hz:g} Hz",
@@ -176,9 +203,10 @@ def read_csv(path: Path, *, fs_hz: float | None = None, units: str | None = None
             raise RecordError(f"column {columns[i]!r}: units {unit!r} are not mV, uV or V", path)
         names.append(name)
         factors.append(f)
-        leads.append(LeadInfo(name=name, original_name=columns[i], units="mV"))
+        leads.append(LeadInfo(name=name, original_name=columns[i], units=unit))
     if unstated:
-        notes.append(f"units not given for {', '.join(unstated)}; assumed mV")
+        _check_plausible_mv(values[:, lead_cols], names, unstated, rate, path)
+        notes.append(f"units not given in the file for leads {', '.join(unstated)}; assumed mV")
     data = np.ascontiguousarray(values[:, lead_cols] * np.array(factors), dtype=np.float32)
     if not np.isfinite(data).all():
         raise RecordError("values overflow when converted to mV", path)
@@ -194,6 +222,64 @@ def read_csv(path: Path, *, fs_hz: float | None = None, units: str | None = None
     )
 
 
+def _first_bad_line(
+    rows: list[str], line_numbers: list[int], delim: str, columns: list[str]
+) -> str:
+    """Where the numbers first fail to parse: file line (1-based) and column name."""
+    for row, line in zip(rows, line_numbers, strict=True):
+        cells = [c.strip().strip('"') for c in row.split(delim)]
+        if len(cells) != len(columns):
+            return (
+                f"line {line}: {len(cells)} values but {len(columns)} columns "
+                f"({', '.join(columns)})"
+            )
+        for name, cell in zip(columns, cells, strict=True):
+            if not _is_number(cell):
+                return f"line {line}, column {name!r}: {cell[:40]!r} is not a number"
+    return "cannot read the numbers"
+
+
+def robust_peak_to_peak(values: np.ndarray, fs_hz: float) -> np.ndarray:
+    """Per column: median over 1 s windows of the window's peak-to-peak (whole span if shorter).
+
+    One artefact spike or a baseline step moves a single window, not the median.
+
+    >>> x = np.zeros((1000, 1)); x[::250] = 1.0; x[10] = 50.0
+    >>> robust_peak_to_peak(x, 250.0).tolist()
+    [1.0]
+    """
+    win = max(round(fs_hz), 2)
+    n = values.shape[0]
+    if n < 2 * win:
+        return np.ptp(values, axis=0)
+    k = n // win
+    blocks = values[: k * win].reshape(k, win, values.shape[1])
+    return np.median(np.ptp(blocks, axis=1), axis=0)
+
+
+def _check_plausible_mv(
+    values: np.ndarray, names: list[str], unstated: list[str], fs_hz: float, path: Path
+) -> None:
+    """Refuse samples that cannot be mV (see module docstring); ``values`` per lead column."""
+    idx = [i for i, n in enumerate(names) if n in unstated]
+    amp = robust_peak_to_peak(values[:, idx], fs_hz)
+    big = int(np.argmax(amp))
+    if amp[big] > MAX_PLAUSIBLE_MV:
+        raise RecordError(
+            f"no units given and lead {unstated[big]} spans {amp[big]:.4g} per second as mV, "
+            f"far beyond an ECG (about +/-5 mV): the samples look like microvolts; pass "
+            f"--units uV (or the right unit)",
+            path,
+        )
+    varying = amp[amp > 0]
+    if varying.size and float(varying.max()) < MIN_PLAUSIBLE_MV:
+        raise RecordError(
+            f"no units given and every lead spans less than {MIN_PLAUSIBLE_MV} mV per second: "
+            "the samples look like volts; pass --units V (or the right unit)",
+            path,
+        )
+
+
 def _is_number(s: str) -> bool:
     try:
         float(s)
@@ -203,7 +289,11 @@ def _is_number(s: str) -> bool:
 
 
 def _rate_from_time(
-    values: np.ndarray, time_cols: list[int], columns: list[str], path: Path
+    values: np.ndarray,
+    time_cols: list[int],
+    columns: list[str],
+    path: Path,
+    line_numbers: list[int],
 ) -> float | None:
     if not time_cols:
         return None
@@ -222,7 +312,7 @@ def _rate_from_time(
         bad = int(np.argmax(np.abs(steps - step)))
         raise RecordError(
             f"time column {columns[col]!r} is not evenly spaced (step {steps[bad]:.6g} s at "
-            f"row {bad + 2} vs median {step:.6g} s)",
+            f"line {line_numbers[bad + 1]} vs median {step:.6g} s)",
             path,
         )
     # The mean step over the whole column is more precise than any single printed step.

@@ -152,7 +152,7 @@ def read_edf(path: Path) -> Record:
         LeadInfo(
             name=n,
             original_name=labels[i],
-            units="mV",
+            units=dims[i] or "mV",  # as in the file; samples are served in mV
             adc_gain_per_mv=(dig_max[i] - dig_min[i]) / (phys_max[i] - phys_min[i]) / float(f),
             adc_resolution_bits=24 if path.suffix.lower() == ".bdf" else 16,
         )

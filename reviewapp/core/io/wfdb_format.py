@@ -195,6 +195,12 @@ def read_wfdb(path: Path, *, units: str | None = None) -> Record:
         raise RecordError("WFDB header file not found", hea)
     if hea.stat().st_size > _MAX_HEADER_BYTES:
         raise RecordError("file is too large to be a WFDB header", hea)
+    # wfdb.rdheader fails with an IndexError on a header without a record line.
+    content = hea.read_bytes().decode("latin-1")
+    if not content.strip():
+        raise RecordError("cannot read WFDB header: the header is empty", hea)
+    if not any(ln.strip() and not ln.lstrip().startswith("#") for ln in content.splitlines()):
+        raise RecordError("cannot read WFDB header: the header has no record line", hea)
     with reading(hea, "WFDB header"):
         header = wfdb.rdheader(str(base))
         fs_note = _check_record_line(hea)
@@ -427,7 +433,7 @@ def _lead_infos(
             LeadInfo(
                 name=names[j],
                 original_name=str(header.sig_name[c] or names[j]),
-                units="mV",
+                units=unit_names[j],  # as in the file; samples are served in mV
                 adc_gain_per_mv=float(gain) / factors[j] if gain else None,
                 adc_baseline=int(header.baseline[c]) if header.baseline[c] is not None else None,
                 adc_resolution_bits=int(res) if res else None,
@@ -583,8 +589,9 @@ def _uncalibrated_signals(hea: Path, n_sig: int) -> list[int]:
 #   PTB:      "age: 81", "sex: female", "ECG date: 01/10/1990" (day/month/year)
 #   LUDB:     "<age>: 51", "<sex>: F"
 #   MIT-BIH:  "69 M 1085 1629 x1" (age, sex, then database bookkeeping)
+#   QTDB sele* (European ST-T): "Age: 47  Sex: M" (both on one line)
 _AGE = re.compile(r"^<?age>?\s*:\s*(\d{1,3}(?:\.\d+)?)\b", re.IGNORECASE)
-_SEX = re.compile(r"^<?(?:sex|gender)>?\s*:\s*([A-Za-z]+)", re.IGNORECASE)
+_SEX = re.compile(r"(?:^|\s)<?(?:sex|gender)>?\s*:\s*([A-Za-z]+)", re.IGNORECASE)
 _SUBJECT = re.compile(r"^<?(?:subject|subject id|patient id)>?\s*:\s*(\S.{0,63})$", re.IGNORECASE)
 _MIT_AGE_SEX = re.compile(r"^(\d{1,3}|\?+)\s+([MF?])\b")
 _ECG_DATE = re.compile(r"^ECG date\s*:\s*(\d{1,2})/(\d{1,2})/(\d{4})", re.IGNORECASE)
@@ -606,13 +613,18 @@ def subject_from_header(header: wfdb.Record | wfdb.MultiRecord) -> SubjectFacts:
     sex: str | None = None
     acquired: datetime | None = None
     subject_id: str | None = None
+    time_known = True
     for line in comments:
         if subject_id is None and (m := _SUBJECT.match(line)):
             subject_id = m.group(1).strip()
-        elif age is None and (m := _AGE.match(line)):
-            age = float(m.group(1))
-        elif sex is None and (m := _SEX.match(line)):
+            continue
+        age_line = age is None and (m_age := _AGE.match(line)) is not None
+        if age_line:
+            age = float(m_age.group(1))
+        if sex is None and (m := _SEX.search(line)):  # may share the line with the age
             sex = _sex(m.group(1))
+        elif age_line:
+            pass
         elif (m := _MIT_AGE_SEX.match(line)) and age is None and sex is None:
             age = float(m.group(1)) if m.group(1).isdigit() else None
             sex = _sex(m.group(2))
@@ -620,6 +632,7 @@ def subject_from_header(header: wfdb.Record | wfdb.MultiRecord) -> SubjectFacts:
             day, month, year = (int(g) for g in m.groups())
             try:
                 acquired = datetime(year, month, day)
+                time_known = False  # a date only
             except ValueError:
                 acquired = None
     if age is not None and not 0 <= age <= 130:
@@ -627,7 +640,13 @@ def subject_from_header(header: wfdb.Record | wfdb.MultiRecord) -> SubjectFacts:
     base_date = getattr(header, "base_date", None)
     base_time = getattr(header, "base_time", None)
     if isinstance(base_date, date):
-        acquired = datetime.combine(base_date, base_time if isinstance(base_time, time) else time())
+        time_known = isinstance(base_time, time)
+        acquired = datetime.combine(base_date, base_time if time_known else time())
     return SubjectFacts(
-        subject_id=subject_id, age_years=age, sex=sex, acquired_at=acquired, comments=comments
+        subject_id=subject_id,
+        age_years=age,
+        sex=sex,
+        acquired_at=acquired,
+        comments=comments,
+        acquired_time_known=acquired is None or time_known,
     )

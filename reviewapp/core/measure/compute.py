@@ -6,9 +6,11 @@ Runs on every mark drag, so it touches only the representative-beat window (a se
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 import numpy as np
 
-from reviewapp.core.fiducials import MarkedECG, WaveMarks
+from reviewapp.core.fiducials import BeatKind, MarkedECG, WaveMarks
 from reviewapp.core.measure.amplitudes import (
     cornell_mv,
     isoelectric_levels,
@@ -16,6 +18,7 @@ from reviewapp.core.measure.amplitudes import (
     sokolow_lyon_mv,
 )
 from reviewapp.core.measure.axes import LIMB_LEADS, frontal_axis
+from reviewapp.core.measure.findings import infarct_criteria_skipped
 from reviewapp.core.measure.intervals import (
     INTERVAL_MARKS,
     beat_intervals,
@@ -25,6 +28,10 @@ from reviewapp.core.measure.intervals import (
 )
 from reviewapp.core.measure.qtc import QTC_FORMULAS
 from reviewapp.core.measure.types import GlobalIntervals, LeadMeasurements, Measurements
+
+# Common practice, no source: with RR varying beat to beat, no single RR makes the QT
+# correction right for the QT it is applied to.
+IRREGULAR_NOTE = "irregular rhythm: RR-based QTc correction is unreliable"
 
 # Wave -> (start mark, end mark) for the axis net areas. T: from QRS end (J) to T end, i.e.
 # the whole ST-T, since the T onset is not a mark.
@@ -46,7 +53,12 @@ def compute_measurements(marked: MarkedECG) -> Measurements:
     unmeasured: list[tuple[str, str]] = []
     g: dict[str, float | None] = {}
 
-    rr = rr_statistics(marked.beats, fs)
+    rep = marked.representative
+    has_p = rep is None or rep.marks.p_on is not None
+    rr = rr_statistics(marked.beats, fs, has_p)
+    notes: list[str] = []
+    if rr.irregular:
+        notes.append(IRREGULAR_NOTE)
     g["rr_ms"], g["rr_sd_ms"] = rr.mean_ms, rr.sd_ms
     g["hr_bpm"] = 60000.0 / rr.mean_ms if rr.mean_ms else None
     if rr.mean_ms is None:
@@ -54,7 +66,6 @@ def compute_measurements(marked: MarkedECG) -> Measurements:
     elif rr.sd_ms is None:
         unmeasured.append(("rr_sd_ms", "a single RR interval"))
 
-    rep = marked.representative
     marks = rep.marks if rep is not None else WaveMarks()
     for field, first, second in INTERVAL_MARKS:
         g[field] = span_ms(marks.get(first), marks.get(second), fs)
@@ -104,14 +115,26 @@ def compute_measurements(marked: MarkedECG) -> Measurements:
     if cornell is None:
         unmeasured.append(("cornell_mv", "needs R in aVL and S in V3"))
 
-    return Measurements(
+    out = Measurements(
         intervals=GlobalIntervals(**g),
         leads=tuple(leads),
         beats=beat_intervals(marked.beats, marked.beat_marks, fs),
         sokolow_lyon_mv=sokolow,
         cornell_mv=cornell,
         unmeasured=tuple(unmeasured),
+        rhythm_irregular=rr.irregular,
+        paced=_mostly_paced(marked),
     )
+    skipped = infarct_criteria_skipped(out)
+    if skipped is not None:
+        notes.append(skipped)
+    return replace(out, notes=tuple(notes))
+
+
+def _mostly_paced(marked: MarkedECG) -> bool:
+    """More than half of the beats are labelled paced."""
+    n = len(marked.beats)
+    return n > 0 and sum(b.kind == BeatKind.PACED for b in marked.beats) * 2 > n
 
 
 def _axes(

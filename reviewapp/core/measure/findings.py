@@ -12,6 +12,17 @@ aVF, lateral/apical I and aVL — from memory), is implemented as:
 
 aVR belongs to no group. ST depression is flagged on level alone; the ST slope the 4th UDMI
 asks for (horizontal or downsloping) is not assessed, and the text says so.
+
+Neither the ST nor the Q-wave criteria are applied when the QRS is 120 ms or longer or the
+rhythm is paced: the 4th UDMI notes that left bundle branch block and ventricular pacing
+confound the ECG diagnosis of infarction (secondary ST-T changes, QRS morphology altered;
+from memory). ``infarct_criteria_skipped`` gives the reason, and ``compute_measurements`` puts
+it into ``Measurements.notes``.
+
+Every limit is compared with the value *as displayed* (1 ms, 1 bpm, 1 deg, 0.01 mV), so a
+flag never contradicts the printed number (a QTc of 389.6 ms prints as 390 ms and is flagged
+"at 390 ms", not "below 390 ms"). When several QTc formulas flag in the same direction, one
+``qtc_ms`` finding lists them; each formula's own limit stays available via ``normal_range``.
 """
 
 from __future__ import annotations
@@ -83,6 +94,40 @@ def contiguous_pairs() -> tuple[tuple[str, str], ...]:
 CONTIGUOUS: tuple[tuple[str, str], ...] = contiguous_pairs()
 
 
+# QRS duration from which the infarct ST and Q criteria are not applied (4th UDMI: bundle
+# branch block and paced rhythm confound them; 120 ms is the complete-block threshold of
+# AHA/ACCF/HRS 2009 Part III, Surawicz et al.; from memory).
+WIDE_QRS_MS = 120.0
+QTC_ORDER: tuple[str, ...] = (
+    "qtc_bazett_ms",
+    "qtc_fridericia_ms",
+    "qtc_framingham_ms",
+    "qtc_hodges_ms",
+)
+
+
+def displayed(value: float, unit: str) -> float:
+    """``value`` rounded as it is printed: 0.01 mV, else whole units (ms, bpm, deg).
+
+    Negative zero becomes 0.0, so "-0.00 mV" is never shown.
+
+    >>> displayed(389.6, "ms"), displayed(-0.004, "mV"), displayed(0.126, "mV")
+    (390.0, 0.0, 0.13)
+    """
+    digits = 2 if unit == "mV" else 0
+    return float(f"{value:.{digits}f}") + 0.0
+
+
+def infarct_criteria_skipped(measurements: Measurements) -> str | None:
+    """Why the ST and Q-wave infarct criteria are not applied here, or None when they are."""
+    qrs = measurements.intervals.qrs_ms
+    if measurements.paced:
+        return "ST/Q criteria not applied: paced rhythm"
+    if qrs is not None and displayed(qrs, "ms") >= WIDE_QRS_MS:
+        return f"ST/Q criteria not applied: QRS >= {WIDE_QRS_MS:.0f} ms"
+    return None
+
+
 def _fmt(value: float, unit: str, digits: int = 2) -> str:
     if unit == "mV":
         return f"{value:.{digits}f} mV"
@@ -97,10 +142,7 @@ def _text(label: str, value: float, unit: str, limit: float, above: bool, nr: No
     else:
         rel = "above" if above else "below"
     who = f" ({nr.applies_to})" if nr.applies_to else ""
-    shown = _fmt(value, unit)
-    if shown == _fmt(limit, unit) and value != limit:  # e.g. -0.054 vs -0.05: show why
-        shown = _fmt(value, unit, 3)
-    return f"{label} {shown} {rel} {_fmt(limit, unit)}{who}"
+    return f"{label} {_fmt(value, unit)} {rel} {_fmt(limit, unit)}{who}"
 
 
 def _check(
@@ -108,6 +150,7 @@ def _check(
 ) -> Finding | None:
     if value is None or nr is None:
         return None
+    value = displayed(value, nr.unit)
     label = LABELS.get(quantity, quantity)
     if lead:
         label = f"{label} in {lead}"
@@ -183,6 +226,7 @@ def evaluate_findings(measurements: Measurements, subject: SubjectFacts) -> tupl
         f = _check(q, getattr(iv, q), normal_range(q, subject))
         if f is not None:
             out.append(f)
+    out = _merge_qtc(out)
     for q in ("sokolow_lyon_mv", "cornell_mv"):
         f = _check(q, getattr(measurements, q), normal_range(q, subject))
         if f is not None:
@@ -197,6 +241,8 @@ def evaluate_findings(measurements: Measurements, subject: SubjectFacts) -> tupl
             f.quantity, f.value, f.unit, f.limit, f.direction, f.source, f"{word}: {f.text}", f.lead
         )
 
+    if infarct_criteria_skipped(measurements) is not None:
+        return tuple(out)
     out += _contiguous_flags(measurements.leads, st_flag)
 
     def q_flag(m: LeadMeasurements) -> Finding | None:
@@ -214,3 +260,35 @@ def evaluate_findings(measurements: Measurements, subject: SubjectFacts) -> tupl
     out += [f for m in v2v3 if (f := q_flag(m)) is not None]
     out += _contiguous_flags(others, q_flag)
     return tuple(out)
+
+
+def _merge_qtc(findings: list[Finding]) -> list[Finding]:
+    """One ``qtc_ms`` finding for the QTc formulas that flag in the same direction.
+
+    A single flagging formula keeps its own finding. The merged finding's value is the
+    first flagging formula's (order of ``QTC_ORDER``) and takes that finding's place; the
+    text lists every formula with its value.
+    """
+    replace_at: dict[int, Finding] = {}  # id of the first member -> merged finding
+    drop: set[int] = set()
+    for direction in ("above", "below"):
+        same = [f for f in findings if f.quantity in QTC_ORDER and f.direction == direction]
+        if len(same) < 2:
+            continue
+        same.sort(key=lambda f: QTC_ORDER.index(f.quantity))
+        first = same[0]
+        by = ", ".join(f"{LABELS[f.quantity][5:-1]} {f.value:.0f} ms" for f in same)
+        at = [f.value == f.limit for f in same]
+        rel = "at" if all(at) else f"at or {direction}" if any(at) else direction
+        who = first.text.rsplit(f"{first.limit:.0f} ms", 1)[-1]  # " (female adult)" or ""
+        replace_at[id(first)] = Finding(
+            "qtc_ms",
+            first.value,
+            first.unit,
+            first.limit,
+            first.direction,
+            first.source,
+            f"QTc {rel} {first.limit:.0f} ms by {by}{who}",
+        )
+        drop.update(id(f) for f in same[1:])
+    return [replace_at.get(id(f), f) for f in findings if id(f) not in drop]

@@ -54,35 +54,70 @@ class RRStats:
     sd_ms: float | None
     n_intervals: int
     basis: str  # which intervals were used, for notes
+    irregular: bool = False  # RR CV of the dominant morphology group > IRREGULAR_RR_CV
+    cv: float | None = None  # that coefficient of variation (SD / mean), None if < 2 intervals
 
 
-_LAST_RR: tuple[tuple[Beat, ...], float, RRStats] | None = None
+# RR coefficient of variation above which the rhythm counts as irregular (atrial
+# fibrillation, frequent ectopy): common practice, no source. Regular sinus rhythm at rest
+# rarely varies by more than a few per cent beat to beat; AF typically varies by 15-30 %.
+IRREGULAR_RR_CV = 0.1
+
+_LAST_RR: tuple[tuple[Beat, ...], float, bool, RRStats] | None = None
 
 
-def rr_statistics(beats: tuple[Beat, ...], fs_hz: float) -> RRStats:
+def rr_statistics(beats: tuple[Beat, ...], fs_hz: float, has_p: bool = True) -> RRStats:
     """``rr_from_beats`` remembered for the last beat tuple (marks drags do not change RR)."""
     global _LAST_RR
     last = _LAST_RR
-    if last is not None and last[0] is beats and last[1] == fs_hz:
-        return last[2]
-    stats = rr_from_beats(beats, fs_hz)
-    _LAST_RR = (beats, fs_hz, stats)
+    if last is not None and last[0] is beats and last[1] == fs_hz and last[2] == has_p:
+        return last[3]
+    stats = rr_from_beats(beats, fs_hz, has_p=has_p)
+    _LAST_RR = (beats, fs_hz, has_p, stats)
     return stats
 
 
-def rr_from_beats(beats: tuple[Beat, ...], fs_hz: float) -> RRStats:
-    """Mean and SD of the RR intervals between consecutive DOMINANT beats.
+def dominant_group(beats: tuple[Beat, ...]) -> int | None:
+    """Morphology group id holding the most DOMINANT beats (None when no beat is dominant).
 
-    An interval counts only when both of its beats are dominant: intervals that touch a
-    premature beat (its coupling interval and the pause after it) would bias the rate that QTc
-    corrects for. Where no interval joins two dominant beats (e.g. a paced rhythm), intervals
-    between consecutive non-premature beats are used instead and ``basis`` says so. SD is the
-    sample SD (ddof = 1), None for fewer than two intervals.
+    >>> dominant_group((Beat(0, group=1), Beat(5, group=1), Beat(9, BeatKind.PREMATURE, 0)))
+    1
+    """
+    groups = [b.group for b in beats if b.kind == BeatKind.DOMINANT]
+    if not groups:
+        return None
+    ids, counts = np.unique(np.asarray(groups, dtype=np.int64), return_counts=True)
+    return int(ids[int(np.argmax(counts))])
+
+
+def rr_from_beats(beats: tuple[Beat, ...], fs_hz: float, *, has_p: bool = True) -> RRStats:
+    """Mean and SD of the RR intervals that set the heart rate, and whether RR is irregular.
+
+    Regular rhythm with P waves: an interval counts only when both of its beats are dominant:
+    intervals that touch a premature beat (its coupling interval and the pause after it) would
+    bias the rate that QTc corrects for. Where no interval joins two dominant beats (e.g. a
+    paced rhythm), intervals between consecutive non-premature beats are used instead and
+    ``basis`` says so.
+
+    Irregular rhythm (RR coefficient of variation over consecutive beats of the dominant
+    morphology group > ``IRREGULAR_RR_CV``): in atrial fibrillation "premature" only means
+    "shorter than the local median", so leaving those beats out biases the rate low; the
+    ventricular rate counts every QRS, so every interval between consecutive detected beats is
+    used. Regular rhythm without a P wave in the representative beat (``has_p`` False): every
+    interval between two consecutive beats of the dominant morphology group (``Beat.group``,
+    any kind). Both common practice, no source. Checked against LUDB atrial-fibrillation
+    records (tests/measure/test_rhythm_rate.py): restricting an irregular rhythm to the
+    dominant group left out aberrant beats and gave 75 instead of 97 bpm on LUDB record 109.
+    SD is the sample SD (ddof = 1), None for fewer than two intervals.
 
     >>> b = tuple(Beat(r) for r in (0, 500, 1000, 1500))
     >>> s = rr_from_beats(b, 500.0)
-    >>> s.mean_ms, s.sd_ms, s.n_intervals
-    (1000.0, 0.0, 3)
+    >>> s.mean_ms, s.sd_ms, s.n_intervals, s.irregular
+    (1000.0, 0.0, 3, False)
+    >>> af = tuple(Beat(r, BeatKind.PREMATURE if r == 700 else BeatKind.DOMINANT)
+    ...            for r in (0, 400, 700, 1200, 1500))
+    >>> rr_from_beats(af, 500.0, has_p=False).mean_ms  # all four intervals: 3000 ms / 4
+    750.0
     """
     if len(beats) < 2:
         return RRStats(None, None, 0, "fewer than two beats")
@@ -91,17 +126,33 @@ def rr_from_beats(beats: tuple[Beat, ...], fs_hz: float) -> RRStats:
     dominant = np.array([k == BeatKind.DOMINANT for k in kinds])
     premature = np.array([k == BeatKind.PREMATURE for k in kinds])
     rr = np.diff(r) * 1000.0 / fs_hz
-    use = dominant[1:] & dominant[:-1]
-    basis = "dominant-to-dominant intervals"
-    if not use.any():
-        use = ~premature[1:] & ~premature[:-1]
-        basis = "intervals between non-premature beats (no two consecutive dominant beats)"
+    dom_group = dominant_group(beats)
+    cv = None
+    in_group = np.zeros(len(beats), dtype=bool)
+    if dom_group is not None:
+        in_group = np.array([b.group == dom_group for b in beats])
+        group_rr = rr[in_group[1:] & in_group[:-1] & (rr > 0)]
+        if group_rr.size >= 2 and float(np.mean(group_rr)) > 0:
+            cv = float(np.std(group_rr, ddof=1) / np.mean(group_rr))
+    irregular = cv is not None and cv > IRREGULAR_RR_CV
+    if irregular:
+        use = np.ones(rr.shape, dtype=bool)
+        basis = "all intervals between consecutive beats (irregular rhythm)"
+    elif not has_p and dom_group is not None:
+        use = in_group[1:] & in_group[:-1]
+        basis = "all intervals between consecutive dominant-group beats (no P wave)"
+    else:
+        use = dominant[1:] & dominant[:-1]
+        basis = "dominant-to-dominant intervals"
+        if not use.any():
+            use = ~premature[1:] & ~premature[:-1]
+            basis = "intervals between non-premature beats (no two consecutive dominant beats)"
     use &= rr > 0
     sel = rr[use]
     if sel.size == 0:
-        return RRStats(None, None, 0, "no RR interval free of premature beats")
+        return RRStats(None, None, 0, "no RR interval free of premature beats", irregular, cv)
     sd = float(np.std(sel, ddof=1)) if sel.size >= 2 else None
-    return RRStats(float(np.mean(sel)), sd, int(sel.size), basis)
+    return RRStats(float(np.mean(sel)), sd, int(sel.size), basis, irregular, cv)
 
 
 def _one_beat(beat: Beat, m: WaveMarks, prev_r: int | None, fs_hz: float) -> BeatIntervals:

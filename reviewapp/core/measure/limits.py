@@ -25,9 +25,12 @@ is 50 rather than the traditional 60 bpm because a resting rate of 50-59 bpm is 
 healthy adults, and the 2018 ACC/AHA/HRS bradycardia guideline (Kusumoto FM et al., Circulation
 140:e382-e482, 2019 — from memory) defines sinus bradycardia as a rate below 50 bpm.
 
-Where the subject's sex or age is not stated and the source gives sex/age-specific limits, the
-narrowest limit of the candidates is used (more flags rather than fewer) and ``applies_to``
-says so.
+Where the subject's age is not stated, ADULT limits are used (children's limits only when the
+age is known and under 16 y): a resting ECG without an age is almost always an adult's, and
+child limits would flag normal adult values (a QRS of 106 ms against the < 8 y limit of
+80 ms). Among adult rows that still differ by age (ST limits at 30 / 40 y) and where sex is
+not stated, the narrowest limit is used (more flags rather than fewer): for QTc that is the
+men's 450 ms. ``applies_to`` says which assumption was made.
 """
 
 from __future__ import annotations
@@ -172,6 +175,10 @@ def _applies(row: LimitRow, subject: SubjectFacts, lead: str | None) -> bool:
     return True
 
 
+def _child_only(row: LimitRow) -> bool:
+    return row.max_age_years is not None and row.max_age_years <= ADULT_AGE_YEARS
+
+
 def normal_range(
     quantity: str, subject: SubjectFacts, lead: str | None = None
 ) -> NormalRange | None:
@@ -179,34 +186,56 @@ def normal_range(
 
     ``quantity`` is a field name of ``GlobalIntervals``, ``LeadMeasurements`` or
     ``Measurements`` (``"qtc_fridericia_ms"``, ``"st_j_mv"``, ``"cornell_mv"``). Returns None
-    when the table has no limit for it (or for that lead). With sex or age unknown, the
-    narrowest applicable limits are merged and ``applies_to`` says so.
+    when the table has no limit for it (or for that lead). Age unknown: adult limits. Sex
+    unknown: the narrowest of the applicable limits. ``applies_to`` says so.
 
     >>> normal_range("qtc_fridericia_ms", SubjectFacts(sex="female", age_years=50)).high
     460.0
     >>> normal_range("st_j_mv", SubjectFacts(sex="male", age_years=35), lead="V2").high
     0.25
+    >>> nr = normal_range("qrs_ms", SubjectFacts())
+    >>> nr.high, nr.applies_to
+    (110.0, 'adult; age unknown: adult limits assumed')
     """
     rows = [r for r in LIMITS if r.quantity == quantity and _applies(r, subject, lead)]
+    age_assumed = False
+    if subject.age_years is None and any(_child_only(r) for r in rows):
+        rows = [r for r in rows if not _child_only(r)]
+        age_assumed = True
     if not rows:
         return None
+    sex_known = subject.sex in ("male", "female")
+    notes: list[str] = []
+    if age_assumed:
+        notes.append("age unknown: adult limits assumed")
     if len(rows) == 1:
         r = rows[0]
         who = r.who() or ("all leads" if lead else "")
         if lead and r.leads is None:
             who = (who + " " + lead).strip() if who != "all leads" else lead
         return NormalRange(
-            quantity, r.low, r.high, r.unit, r.source, r.low_is_normal, r.high_is_normal, who
+            quantity,
+            r.low,
+            r.high,
+            r.unit,
+            r.source,
+            r.low_is_normal,
+            r.high_is_normal,
+            "; ".join(x for x in (who, *notes) if x),
         )
     lows = [r for r in rows if r.low is not None]
     highs = [r for r in rows if r.high is not None]
     lo = max(lows, key=lambda r: r.low) if lows else None  # type: ignore[arg-type, return-value]
     hi = min(highs, key=lambda r: r.high) if highs else None  # type: ignore[arg-type, return-value]
     sources = " | ".join(dict.fromkeys(r.source for r in rows))
-    missing = [w for w, v in (("sex", subject.sex), ("age", subject.age_years)) if v is None]
-    note = (" and ".join(missing) or "subject") + " not stated: narrowest limit used"
-    if hi is not None:
-        note += f" ({hi.who()})" if hi.who() else ""
+    chosen = hi or lo
+    assert chosen is not None
+    if not sex_known and len({r.sex for r in rows}) > 1:
+        notes.append(f"sex unknown (not stated): narrowest limit used ({chosen.who()})")
+    elif subject.age_years is None and len({(r.min_age_years, r.max_age_years) for r in rows}) > 1:
+        notes.append(f"age not stated: narrowest limit used ({chosen.who()})")
+    else:
+        notes.insert(0, chosen.who())
     return NormalRange(
         quantity,
         lo.low if lo else None,
@@ -215,5 +244,5 @@ def normal_range(
         sources,
         lo.low_is_normal if lo else True,
         hi.high_is_normal if hi else True,
-        note,
+        "; ".join(x for x in notes if x),
     )

@@ -18,6 +18,8 @@ seconds; absent or unmeasurable values are ``null``, never a guess.
   ``p_ms``, ``pr_ms``, ``qrs_ms``, ``qt_ms`` (representative beat), ``qtc_ms``
   ``{"bazett", "fridericia", "framingham", "hodges"}``, ``axis_deg`` ``{"p", "qrs", "t"}``
   (frontal plane, degrees on (-180, 180]).
+  ``rhythm_irregular`` (bool): RR varies by more than 10 % (CV) within the dominant beat
+  group; RR then averages every interval of that group and QTc is less reliable.
 - ``voltages``: ``sokolow_lyon_mv``, ``cornell_mv``.
 - ``representative``: ``n_beats_used``, ``marks_s`` (``p_on_s`` ... ``t_off_s``, seconds
   relative to the R of the median beat: negative before R), and ``lead_marks_s``
@@ -26,6 +28,8 @@ seconds; absent or unmeasurable values are ``null``, never a guess.
   st_j60_mv, st_j80_mv}}``; amplitudes signed mV from the isoelectric level (Q, S <= 0).
 - ``findings`` (list): ``{quantity, lead, value, unit, limit, direction ("above"|"below"),
   source, text}``: values outside normal limits, flags for the reader, not diagnoses.
+  ``value`` is the value as displayed (1 ms, 0.01 mV); several QTc formulas flagging the same
+  way give one ``qtc_ms`` finding.
 - ``unmeasured`` (list): ``{quantity, reason}`` for every value left null.
 - ``notes`` (list of str): remarks from reading and analysis ("no beats found", ...).
 - ``engine_version`` (str); ``caution`` (str): the clinical caution, always present.
@@ -42,7 +46,7 @@ from typing import Any
 
 from reviewapp import CLINICAL_CAUTION
 from reviewapp.core.fiducials import FIDUCIALS, WaveMarks
-from reviewapp.core.measure.findings import LABELS
+from reviewapp.core.measure.findings import LABELS, displayed
 from reviewapp.core.measure.limits import normal_range
 from reviewapp.core.measure.types import LeadMeasurements, NormalRange
 from reviewapp.core.record import SubjectFacts
@@ -141,6 +145,7 @@ MEASURE_JSON_SCHEMA: dict[str, Any] = {
                     "required": list(QTC_NAMES),
                     "properties": {k: _num for k in QTC_NAMES},
                 },
+                "rhythm_irregular": {"type": "boolean"},
                 "axis_deg": {
                     "type": "object",
                     "required": ["p", "qrs", "t"],
@@ -270,7 +275,7 @@ def reading_to_dict(analysis: Any, reading: Any, *, path: str = "", per_lead: bo
                 for n, m in zip(names, rep.lead_marks, strict=False)
             },
         }
-    notes = list(rec.notes) + list(analysis.notes)
+    notes = list(rec.notes) + list(analysis.notes) + list(ms.notes)
     if not marked.beats and "no beats found" not in notes:
         notes.append("no beats found")
     return {
@@ -292,6 +297,7 @@ def reading_to_dict(analysis: Any, reading: Any, *, path: str = "", per_lead: bo
             "qrs_ms": _f(iv.qrs_ms),
             "qt_ms": _f(iv.qt_ms),
             "qtc_ms": {n: _f(getattr(iv, f"qtc_{n}_ms")) for n in QTC_NAMES},
+            "rhythm_irregular": bool(ms.rhythm_irregular),
             "axis_deg": {
                 "p": _f(iv.p_axis_deg, 2),
                 "qrs": _f(iv.qrs_axis_deg, 2),
@@ -415,6 +421,7 @@ def _dig(d: Mapping[str, Any], dotted: str) -> Any:
 def _val(v: float | None, unit: str) -> str:
     if v is None:
         return "-"
+    v = displayed(v, unit)
     if unit == "mV":
         return f"{v:.2f} mV"
     if unit == "deg":
@@ -422,8 +429,28 @@ def _val(v: float | None, unit: str) -> str:
     return f"{v:.0f} {unit}"
 
 
+def _reasons(d: Mapping[str, Any]) -> dict[str, str]:
+    """quantity -> why it is not measured (first reason given)."""
+    out: dict[str, str] = {}
+    for u in d.get("unmeasured") or ():
+        out.setdefault(str(u.get("quantity")), str(u.get("reason")))
+    return out
+
+
+def _cell(v: float | None, key: str) -> str:
+    if v is None:
+        return "-"
+    if key == "q_ms":
+        return f"{displayed(v, 'ms'):.0f}"
+    return f"{displayed(v, 'mV'):.2f}"
+
+
 def table_text(d: Mapping[str, Any], *, per_lead: bool = False) -> str:
-    """A readable summary of one record: values, normal ranges, flags, findings, caution."""
+    """A readable summary of one record: values, normal ranges, flags, findings, caution.
+
+    A value shown as "-" has its reason in the last column (from ``unmeasured``). Flags are
+    judged on the value as shown, like the findings.
+    """
     if "error" in d:
         return f"{d.get('record')}: ERROR {d['error']}\n{CLINICAL_CAUTION}\n"
     sub = d.get("subject") or {}
@@ -446,30 +473,39 @@ def table_text(d: Mapping[str, Any], *, per_lead: bool = False) -> str:
         + (" (" + ", ".join(f"{n} {k}" for k, n in sorted(kinds.items())) + ")" if kinds else "")
         + (f"; median beat of {rep['n_beats_used']} beats" if rep else "; no median beat"),
         "",
-        f"{'Quantity':<22}{'Value':>12}  {'Normal':<22}Flag",
+        f"{'Quantity':<22}{'Value':>12}  {'Normal':<22}Flag / why not measured",
     ]
     flagged = {(f["quantity"], f["lead"]): f["direction"] for f in d["findings"]}
+    reasons = _reasons(d)
     for q, where, unit in _TABLE_ROWS:
         v = _dig(d, where)
         nr = normal_range(q, subject)
-        flag = flagged.get((q, None), "")
-        flag = {"above": "HIGH", "below": "LOW"}.get(flag, "")
+        direction = flagged.get((q, None), "")
+        if not direction and v is not None and nr is not None and q.startswith("qtc_"):
+            # Merged QTc finding: each formula's own flag from its limit, on the shown value.
+            shown = displayed(v, unit)
+            direction = "above" if nr.is_above(shown) else "below" if nr.is_below(shown) else ""
+        flag = {"above": "HIGH", "below": "LOW"}.get(direction, "")
+        if v is None:
+            flag = reasons.get(q, "not measured")
         label = LABELS.get(q, q)
         if q == "rr_ms" and d["global"].get("rr_sd_ms") is not None:
-            label = f"RR (SD {d['global']['rr_sd_ms']:.0f} ms)"
-        lines.append(f"{label:<22}{_val(v, unit):>12}  {format_range(nr):<22}{flag}")
+            label = f"RR (SD {displayed(d['global']['rr_sd_ms'], 'ms'):.0f} ms)"
+        lines.append(f"{label:<22}{_val(v, unit):>12}  {format_range(nr):<22}{flag}".rstrip())
     if per_lead:
         lines += ["", "Per lead (mV from the isoelectric level; Q ms; ST at J, J+60, J+80):"]
-        head = ["Lead", "P", "Q", "R", "S", "R'", "T", "Q ms", "ST J", "J+60", "J+80"]
-        lines.append("".join(f"{h:>7}" for h in head))
+        head = ["P", "Q", "R", "S", "R'", "T", "Q ms", "ST J", "J+60", "J+80"]
+        lines.append(f"{'Lead':<6}" + "".join(f" {h:>7}" for h in head))
         for lead, m in d["leads_measurements"].items():
-            cells = [lead] + [
-                "-" if m[k] is None else (f"{m[k]:.0f}" if k == "q_ms" else f"{m[k]:.2f}")
-                for k in LEAD_FIELDS
-            ]
-            lines.append("".join(f"{c:>7}" for c in cells))
+            cells = [_cell(m[k], k) for k in LEAD_FIELDS]
+            row = f"{lead:<6}" + "".join(f" {c:>7}" for c in cells)
+            why = reasons.get(lead) or reasons.get(f"{lead}.qrs") or reasons.get(f"{lead}.st")
+            lines.append(row + (f"  ({why})" if why and "-" in cells else ""))
     lines += ["", "Findings (flags for the reader, not diagnoses):"]
     lines += [f"  - {f['text']}" for f in d["findings"]] or ["  none"]
+    sources = list(dict.fromkeys(f["source"] for f in d["findings"] if f.get("source")))
+    if sources:
+        lines += ["Sources of the limits used:"] + [f"  - {src}" for src in sources]
     if d.get("notes"):
         lines += ["Notes:"] + [f"  - {n}" for n in d["notes"]]
     lines += ["", d.get("caution") or CLINICAL_CAUTION, ""]

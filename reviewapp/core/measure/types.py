@@ -70,6 +70,13 @@ class Measurements:
     # ("V4.p_mv"), "<lead>.qrs" / "<lead>.st" for a group of a lead's fields, or "<lead>" for
     # a whole lead (flat or missing).
     unmeasured: tuple[tuple[str, str], ...] = ()
+    # RR coefficient of variation of the dominant morphology group above the irregularity
+    # threshold (e.g. atrial fibrillation): rate from all its intervals, QTc less reliable.
+    rhythm_irregular: bool = False
+    # Most beats paced: Q-wave and ST criteria for infarction do not apply.
+    paced: bool = False
+    # Remarks on how values were obtained ("irregular rhythm: ...", "ST/Q criteria not ...").
+    notes: tuple[str, ...] = ()
 
     def lead(self, name: str) -> LeadMeasurements | None:
         return next((m for m in self.leads if m.lead == name), None)
