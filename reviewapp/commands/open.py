@@ -53,6 +53,17 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
         help="gain in mm/mV: 2.5, 5, 10, 20 or 40",
     )
     p.add_argument("--layout", choices=LAYOUT_CHOICES, help="page layout (or the median-beat view)")
+    p.add_argument(
+        "--second-reader",
+        action="store_true",
+        help="read blinded as second reader: the first reader's marks, values and notes are "
+        "never shown",
+    )
+    p.add_argument(
+        "--hide-automatic",
+        action="store_true",
+        help="with --second-reader: do not offer the automatic marks' values either",
+    )
 
 
 def qt_platform_problem(
@@ -93,6 +104,10 @@ def run(args: argparse.Namespace) -> int:
     path = getattr(args, "path", None)
     if path is not None and not Path(path).exists():
         raise ReviewError("no such file or folder", path)
+    second = bool(getattr(args, "second_reader", False))
+    hide = bool(getattr(args, "hide_automatic", False))
+    if hide and not second:
+        raise ReviewError("--hide-automatic is for a blinded second read; add --second-reader")
     problem = qt_platform_problem()
     if problem:
         print(f"reviewapp: {problem}", file=sys.stderr)
@@ -104,4 +119,6 @@ def run(args: argparse.Namespace) -> int:
         speed_mm_per_s=args.speed,
         gain_mm_per_mv=args.gain,
         layout=args.layout,
+        second_reader=second,
+        hide_automatic=hide,
     )

@@ -101,6 +101,11 @@ def write_pdf(path: Path, content: ReportContent, layout: PageLayout | None = No
 
 def render_image(content: ReportContent, layout: PageLayout | None = None, dpi: float = 300.0):  # type: ignore[no-untyped-def]
     """The page as a QImage at ``dpi`` with its physical size recorded (dots per metre)."""
+    return render_page(content, layout, dpi)[0]
+
+
+def render_page(content: ReportContent, layout: PageLayout | None = None, dpi: float = 300.0):  # type: ignore[no-untyped-def]
+    """(QImage of the page, ``page.PageDrawing`` of what was drawn where)."""
     from PySide6.QtGui import QColor, QImage, QPainter
 
     from reviewapp.report.page import paint_page
@@ -117,10 +122,10 @@ def render_image(content: ReportContent, layout: PageLayout | None = None, dpi: 
     img.fill(QColor(255, 255, 255))
     painter = QPainter(img)
     try:
-        paint_page(painter, px_per_mm, lo, content)
+        drawing = paint_page(painter, px_per_mm, lo, content)
     finally:
         painter.end()
-    return img
+    return img, drawing
 
 
 def write_image(
@@ -229,6 +234,7 @@ __all__ = [
     "IMAGE_FORMATS",
     "check_output_path",
     "render_image",
+    "render_page",
     "write_image",
     "write_measurements_csv",
     "write_pdf",

@@ -34,6 +34,7 @@ from reviewapp.report.layout import (
     RHYTHM_LEAD,
     STANDARD_12,
     STANDARD_GAINS_MM_PER_MV,
+    STANDARD_SPEEDS_MM_PER_S,
     PageLayout,
     Rect,
 )
@@ -443,7 +444,7 @@ def _facts(content: ReportContent) -> list[tuple[str, bool]]:
     subj = rec.subject
     study = study_facts(subj.comments)
     pieces: list[tuple[str, bool]] = [
-        (f"Subject {subj.subject_id}" if subj.subject_id else "subject ID not stated", False),
+        (f"Subject {subj.subject_id}" if subj.subject_id else "Subject ID not stated", False),
         (f"{subj.age_years:.0f} y" if subj.age_years is not None else "age not stated", False),
         (subj.sex or "sex not stated", False),
     ]
@@ -636,14 +637,16 @@ def _draw_beat_panel(c: _Canvas, lo: PageLayout, content: ReportContent) -> None
         return
     fs = content.fs_hz
     # Place the window so that its marked span (P onset .. T end) is centred in the panel,
-    # at twice the page speed when that span fits (boundaries a few ms apart stay apart).
+    # fast enough that boundaries a few ms apart stay apart.
     known = [m.final for m in content.rep_marks if m.final is not None]
     lo_i = min(known) if known else 0
     hi_i = max(known) if known else wave.shape[0] - 1
     mid_s = (lo_i + hi_i) / 2 / fs
-    speed = 2 * lo.speed_mm_per_s
-    if (hi_i - lo_i) / fs * speed > panel.w - 4.0:
-        speed = lo.speed_mm_per_s
+    # Twice the page speed when the span fits, else the fastest standard speed that fits.
+    span_s = (hi_i - lo_i) / fs
+    slower = sorted((v for v in STANDARD_SPEEDS_MM_PER_S if v < lo.speed_mm_per_s), reverse=True)
+    candidates = [2 * lo.speed_mm_per_s, lo.speed_mm_per_s, *slower]
+    speed = next((v for v in candidates if span_s * v <= panel.w - 4.0), candidates[-1])
 
     def x_of(i: np.ndarray | int) -> np.ndarray:
         return panel.x + panel.w / 2 + (np.asarray(i) / fs - mid_s) * speed
@@ -756,12 +759,17 @@ def _draw_footer(
         max_w=m.w,
     )
     _draw_key(c, lo.footer_key, strips, content)
-    if content.notes:
+    shown_cols = {s.col for s in strips}
+    omitted = [n for i, n in enumerate(content.record.lead_names) if i not in shown_cols]
+    notes = list(content.notes)
+    if omitted and not is_standard_12(content):
+        notes.insert(0, "not on this page: " + ", ".join(omitted))
+    if notes:
         n = lo.footer_notes
         c.text(
             n.right,
             n.y + 2.9,
-            "; ".join(content.notes),
+            "; ".join(notes),
             6.0,
             align="right",
             colour=MARK_AUTO,

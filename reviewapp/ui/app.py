@@ -66,8 +66,11 @@ def run_app(
     speed_mm_per_s: float | None = None,
     gain_mm_per_mv: float | None = None,
     layout: str | None = None,
+    second_reader: bool = False,
+    hide_automatic: bool = False,
 ) -> int:
     from reviewapp.ui.main_window import MainWindow
+    from reviewapp.ui.reader import ReadMode
 
     app = create_app()
     median = layout == "median"
@@ -77,6 +80,8 @@ def run_app(
         layout=None if median else layout,
     )
     install_excepthook(lambda: window)
+    if second_reader:
+        window.set_read_mode(ReadMode("second", True, not hide_automatic), reopen=False)
     window.show()
     target = path if path is not None else sample_records_dir()
     if path is not None or target.is_dir():

@@ -21,6 +21,16 @@ from reviewapp.ui.median_view import MedianBeatView
 from reviewapp.ui.overview import OverviewStrip
 from reviewapp.ui.paper import GAINS_MM_PER_MV, SPEEDS_MM_PER_S, PaperScale, screen_px_per_mm
 from reviewapp.ui.paper_view import PaperView
+from reviewapp.ui.reader import (
+    ADJUDICATOR,
+    FIRST,
+    SECOND_BLINDED,
+    UNIDENTIFIED,
+    ReadMode,
+    ask_reader,
+    stored_reader,
+)
+from reviewapp.ui.reading_panel import ReadingPanel, SignOffDialog, when_text
 from reviewapp.ui.session import ReadingSession
 from reviewapp.ui.summary import SummaryPanel
 from reviewapp.ui.theme import DARK, LIGHT, THEMES, Theme, apply_palette
@@ -63,6 +73,12 @@ class MainWindow(QtWidgets.QMainWindow):
         self.session: ReadingSession | None = None
         self.folder: Path | None = None
         self.marks_note = ""
+        self.read_mode: ReadMode = FIRST
+        self.compare_dialog = None
+        self.sign_off_dialog: SignOffDialog | None = None
+        # The median beats go below the paper by themselves while there is room for them,
+        # until the reader toggles them (B).
+        self.median_auto = True
         s = self.settings
         self.theme: Theme = THEMES.get(theme or str(s.value("view/theme", "light")), LIGHT)
         speed = float(speed_mm_per_s or s.value("view/speed", 25.0))
@@ -91,10 +107,19 @@ class MainWindow(QtWidgets.QMainWindow):
         self.median.setVisible(False)
         self.setCentralWidget(self.split)
 
+        self.reading_panel = ReadingPanel()
+        self.reading_dock = self._dock(
+            "Reading", self.reading_panel, QtCore.Qt.DockWidgetArea.RightDockWidgetArea
+        )
         self.summary = SummaryPanel()
         self.summary_dock = self._dock(
             "Measurements", self.summary, QtCore.Qt.DockWidgetArea.RightDockWidgetArea
         )
+        self.splitDockWidget(self.reading_dock, self.summary_dock, QtCore.Qt.Orientation.Vertical)
+        self.reading_panel.sign_off_requested.connect(lambda: self.sign_off())
+        self.reading_panel.add_note_requested.connect(lambda: self.add_note())
+        self.reading_panel.edit_note_requested.connect(lambda nid: self.edit_note(nid))
+        self.reading_panel.delete_note_requested.connect(self.delete_note)
         self.worklist = _make_worklist()
         if self.worklist is not None:
             self.worklist.recordActivated.connect(self.open_path)
@@ -120,8 +145,15 @@ class MainWindow(QtWidgets.QMainWindow):
         self._build_toolbar()
         self._build_menus()
         self.statusBar().showMessage("Open a record: File ▸ Open, drag a file here, or Ctrl+O.")
+        self.reader_label = QtWidgets.QLabel()
+        self.reader_label.setObjectName("reader_label")
+        self.statusBar().addPermanentWidget(self.reader_label)
         self.scale_label = QtWidgets.QLabel()
         self.statusBar().addPermanentWidget(self.scale_label)
+        self._median_timer = QtCore.QTimer(self)
+        self._median_timer.setSingleShot(True)
+        self._median_timer.setInterval(120)
+        self._median_timer.timeout.connect(self._auto_median)
 
         self._caliper_timer = QtCore.QTimer(self)
         self._caliper_timer.setSingleShot(True)
@@ -166,6 +198,7 @@ class MainWindow(QtWidgets.QMainWindow):
             self.resizeDocks([self.records_dock], [190], QtCore.Qt.Orientation.Horizontal)
         self.summary_dock.setMinimumWidth(470)
         self._update_status()
+        self._update_reading_panel()
 
     # --- building ------------------------------------------------------------------------
     def _screen(self) -> QtGui.QScreen | None:
@@ -210,7 +243,7 @@ class MainWindow(QtWidgets.QMainWindow):
         }
         self.act_median = A(
             "&Median beat",
-            lambda on: self.show_median(on),
+            self._median_toggled,
             "B",
             True,
             "Each lead's representative (median) beat with the global marks",
@@ -320,6 +353,37 @@ class MainWindow(QtWidgets.QMainWindow):
             "F1",
         )
         self.act_about = A("About reviewapp", lambda: show_about(self))
+        self.act_reader = A(
+            "Reader…", self.choose_reader, tip="Your reviewer id for marks and sign-off"
+        )
+        self.act_sign_off = A(
+            "Sign off reading…",
+            lambda: self.sign_off(),
+            tip="Confirm the values and sign this reading off under your reader id",
+        )
+        self.act_add_note = A("Add note…", lambda: self.add_note())
+        self.act_open_second = A(
+            "Open as second reader (blinded)…",
+            lambda: self.open_dialog(SECOND_BLINDED),
+            tip="Open a record blinded: the first reader's marks, values and notes stay hidden",
+        )
+        self.act_compare = A(
+            "Compare readings…",
+            self.open_compare,
+            tip="Both readers' values side by side; an adjudicator records final values",
+        )
+        self.role_group = QtGui.QActionGroup(self)
+        self.act_roles: dict[ReadMode, QtGui.QAction] = {}
+        for mode, text in (
+            (FIRST, "First reader"),
+            (SECOND_BLINDED, "Second reader (blinded)"),
+            (ReadMode("second", True, False), "Second reader (blinded, automatic marks hidden)"),
+            (ADJUDICATOR, "Adjudicator"),
+        ):
+            act = A(text, lambda _=False, m=mode: self.set_read_mode(m), checkable=True)
+            self.role_group.addAction(act)
+            self.act_roles[mode] = act
+        self.act_roles[FIRST].setChecked(True)
         self.act_next_unread = A("Next unread record", lambda: self._next_unread(+1), "N")
         self.act_prev_unread = A("Previous unread record", lambda: self._next_unread(-1), "Shift+N")
 
@@ -359,6 +423,8 @@ class MainWindow(QtWidgets.QMainWindow):
         tb.addSeparator()
         tb.addAction(self.act_true)
         tb.addAction(self.act_fit)
+        tb.addSeparator()
+        tb.addAction(self.act_sign_off)
         self.speed_box.activated.connect(lambda i: self.set_speed(self.speed_box.itemData(i)))
         self.gain_box.activated.connect(lambda i: self.set_gain(self.gain_box.itemData(i)))
         self.layout_box.activated.connect(lambda i: self.set_layout(self.layout_box.itemData(i)))
@@ -369,13 +435,23 @@ class MainWindow(QtWidgets.QMainWindow):
     def _build_menus(self) -> None:
         mb = self.menuBar()
         m = mb.addMenu("&File")
-        for a in (self.act_open, self.act_open_folder, self.act_next_unread, self.act_prev_unread):
+        for a in (self.act_open, self.act_open_folder, self.act_open_second):
+            m.addAction(a)
+        roles = m.addMenu("Reading role")
+        for a in self.act_roles.values():
+            roles.addAction(a)
+        m.addAction(self.act_reader)
+        m.addSeparator()
+        for a in (self.act_next_unread, self.act_prev_unread):
             m.addAction(a)
         m.addSeparator()
         m.addAction(self.act_quit)
         m = mb.addMenu("&Edit")
         for a in (self.act_undo, self.act_redo, self.act_reset_marks):
             m.addAction(a)
+        m.addSeparator()
+        m.addAction(self.act_add_note)
+        m.addAction(self.act_sign_off)
         m.addSeparator()
         for a in (self.act_time_cal, self.act_amp_cal, self.act_march, self.act_delete):
             m.addAction(a)
@@ -402,19 +478,20 @@ class MainWindow(QtWidgets.QMainWindow):
             m.addAction(a)
         m.addSeparator()
         m.addAction(self.act_theme)
-        for dock in (self.summary_dock, self.records_dock, self.help_dock):
+        for dock in (self.reading_dock, self.summary_dock, self.records_dock, self.help_dock):
             m.addAction(dock.toggleViewAction())
         m = mb.addMenu("Fi&lters")
         for a in (self.act_f_base, self.act_f_mains, self.act_f_low):
             m.addAction(a)
         m = mb.addMenu("&Tools")
+        m.addAction(self.act_compare)
         m.addAction(self.act_calibrate)
         m = mb.addMenu("&Help")
         m.addAction(self.act_help)
         m.addAction(self.act_about)
 
     # --- opening -------------------------------------------------------------------------
-    def open_dialog(self) -> None:
+    def open_dialog(self, mode: ReadMode | None = None) -> None:
         start = str(self.folder or self.settings.value("files/last_dir", str(Path.home())))
         path, _ = QtWidgets.QFileDialog.getOpenFileName(
             self,
@@ -423,6 +500,8 @@ class MainWindow(QtWidgets.QMainWindow):
             "ECG records (*.hea *.edf *.bdf *.csv *.tsv *.txt *.xml *.dcm);;All files (*)",
         )
         if path:
+            if mode is not None:
+                self.set_read_mode(mode, reopen=False)
             self.open_path(Path(path))
 
     def open_folder_dialog(self) -> None:
@@ -527,6 +606,9 @@ class MainWindow(QtWidgets.QMainWindow):
             return
         store = self._open_store(rec)
         self.session = ReadingSession(analysis, self, store=store)
+        self.session.edit_guard = self._ensure_reader
+        self.session.stored.connect(self._update_reading_panel)
+        self.session.reopened.connect(self._on_reopened)
         self.session.store_error.connect(self.show_error)
         self.session.changed.connect(self._reading_changed)
         self.session.overrides_changed.connect(self._overrides_changed)
@@ -534,39 +616,40 @@ class MainWindow(QtWidgets.QMainWindow):
         self.median.set_session(self.session)
         self.restore_calipers()
         self._reading_changed(self.session.reading)
+        self._update_reading_panel()
+        self._auto_median()
         parts = ["Analysis: " + "; ".join(analysis.notes)] if analysis.notes else []
         self.statusBar().showMessage("; ".join([*parts, self.marks_note]), 8000)
         self.analysis_ready.emit(self.session)
 
-    def reviewer_id(self) -> str:
-        """The reader's id for the marks sidecar: Settings ``reader/id``, else the login name."""
-        import getpass
-        import re
-
-        rid = str(self.settings.value("reader/id", "") or "")
-        if not rid:
-            try:
-                rid = getpass.getuser()
-            except Exception:  # no login name in this environment
-                rid = "reader"
-        rid = re.sub(r"[^A-Za-z0-9_.@-]", "_", rid).lstrip("_.@-")[:64]
-        return rid or "reader"
+    def reviewer_id(self) -> str | None:
+        """The reader's id for the marks sidecar (Settings ``reader/id``); None until the
+        reader has given it (the login name is only a suggestion in the Reader dialog)."""
+        return stored_reader(self.settings)
 
     def _open_store(self, rec: Record):
-        """The record's marks sidecar for this reader; None keeps marks in memory (and says so)."""
+        """The record's marks sidecar for this reader in the current role; None keeps marks
+        in memory (and says so). Before the reader has given their id the sidecar is opened
+        read-only; the first edit asks who is reading."""
         self.marks_note = "marks kept in this window only (the record has no file)"
         if rec.source_path is None:
             return None
         from reviewapp.core.marks import MarksStore
         from reviewapp.core.marks.errors import LockedError
 
+        mode = self.read_mode
+        kw = {"role": mode.role, "blinded": mode.blinded, "show_automatic": mode.show_automatic}
         reviewer = self.reviewer_id()
         try:
-            store = MarksStore.open(rec, reviewer)
+            if reviewer is None:
+                store = MarksStore.open(rec, UNIDENTIFIED, read_only=True, lock=False, **kw)
+                self.marks_note = "reader not set: you are asked for your id at the first edit"
+                return store
+            store = MarksStore.open(rec, reviewer, **kw)
         except LockedError as err:
             self.show_error(err)
             try:
-                store = MarksStore.open(rec, reviewer, read_only=True)
+                store = MarksStore.open(rec, reviewer, read_only=True, **kw)
             except ReviewError as err2:
                 self.show_error(err2)
                 return None
@@ -579,11 +662,234 @@ class MainWindow(QtWidgets.QMainWindow):
         self.marks_note = f"marks saved to {store.path.name} as reader {reviewer}"
         return store
 
+    def _switch_store(self, *, keep_unsaved_calipers: bool) -> bool:
+        """Reopen the current record's marks (new reader id or role) without analysing again:
+        the session continues with the new store and the calipers are the new reading's."""
+        s, rec = self.session, self.record
+        if s is None or rec is None:
+            return False
+        self.save_calipers()
+        pending = [c for c in self.paper.calipers if c.store_id is None]
+        # Take the old reading's calipers off the paper without deleting them from its file.
+        self.paper.blockSignals(True)
+        try:
+            for c in list(self.paper.calipers):
+                if c.store_id is not None or not keep_unsaved_calipers:
+                    self.paper.remove_caliper(c)
+        finally:
+            self.paper.blockSignals(False)
+        s.close_store()
+        s.set_store(self._open_store(rec))
+        self.restore_calipers()
+        if keep_unsaved_calipers:
+            for c in pending:
+                self._caliper_added(c)
+        self._calipers_changed(None)
+        self._reading_changed(s.reading)
+        self._update_reading_panel()
+        self.statusBar().showMessage(self.marks_note, 8000)
+        return True
+
+    def _ensure_reader(self) -> bool:
+        """Called before every edit: asks who is reading when the reader id is not set yet.
+        False (the edit is dropped) when the reader cancels or the marks cannot be opened."""
+        s = self.session
+        if s is None or s.store is None or s.store.reviewer != UNIDENTIFIED:
+            return True
+        rid = ask_reader(
+            self, self.settings, "Who is reading? Your corrections are saved under this id."
+        )
+        if rid is None:
+            self.statusBar().showMessage("Not changed: no reader id given.", 6000)
+            return False
+        self._switch_store(keep_unsaved_calipers=True)
+        st = self.session.store if self.session is not None else None
+        return st is not None and not st.read_only and st.reviewer == rid
+
+    def choose_reader(self) -> None:
+        """File ▸ Reader…: set or change the reader id; the open record continues under it."""
+        old = self.reviewer_id()
+        rid = ask_reader(self, self.settings)
+        if rid is not None and rid != old and self.session is not None:
+            self._switch_store(keep_unsaved_calipers=False)
+        self._update_reading_panel()
+
+    def set_read_mode(self, mode: ReadMode, *, reopen: bool = True) -> None:
+        """Read as first reader, blinded second reader or adjudicator; the open record's marks
+        are reopened in that role."""
+        self.read_mode = mode
+        act = self.act_roles.get(mode)
+        if act is not None:
+            act.setChecked(True)
+        if reopen and self.session is not None:
+            self._switch_store(keep_unsaved_calipers=False)
+        if self.compare_dialog is not None and mode.blinded:
+            self.compare_dialog.close()
+        self._update_reading_panel()
+
+    # --- reading status, sign-off, notes -------------------------------------------------
+    def _writable_store(self):
+        s = self.session
+        if s is None or s.store is None:
+            return None
+        if not s.may_edit():
+            return None
+        st = s.store
+        if st.read_only:
+            self.show_error(ReviewError("this reading is open read-only here", st.path))
+            return None
+        return st
+
+    def sign_off(self) -> bool:
+        """Show the key values and sign off on confirmation (undoable, audited)."""
+        s = self.session
+        if s is None or self.record is None:
+            return False
+        if s.store is None:
+            self.show_error(
+                ReviewError("a reading can be signed off only for a record file (marks file)")
+            )
+            return False
+        st = self._writable_store()
+        if st is None:
+            return False
+        # Calipers moved just now are saved first, so their save does not reopen the reading.
+        self.save_calipers()
+        if st.reading.status == "signed_off":
+            self.statusBar().showMessage("This reading is already signed off.", 5000)
+            return False
+        n_corr = len(st.reading.overrides)
+        dlg = SignOffDialog(
+            self.record.name,
+            st.reviewer,
+            self.read_mode.text,
+            s.reading,
+            n_corr,
+            len(st.reading.notes),
+            self,
+        )
+        self.sign_off_dialog = dlg
+        try:
+            if dlg.exec() != QtWidgets.QDialog.DialogCode.Accepted:
+                return False
+        finally:
+            self.sign_off_dialog = None
+        try:
+            cmd = st.edits.sign_off()
+        except ReviewError as err:
+            self.show_error(err)
+            return False
+        ok = s.push_store_command(cmd, "Sign off reading")
+        if ok:
+            self.reading_panel.show_notice("")
+            self.statusBar().showMessage(
+                f"Signed off by {st.reviewer} at {when_text(st.reading.signed_off_at)}.", 8000
+            )
+        return ok
+
+    def add_note(self, text: str | None = None) -> bool:
+        """Add a note to this reading (asks for the text when not given); undoable."""
+        st = self._writable_store()
+        if st is None:
+            return False
+        if text is None:
+            text, ok = QtWidgets.QInputDialog.getMultiLineText(self, "Add note", "Note:")
+            if not ok:
+                return False
+        text = text.strip()
+        if not text:
+            return False
+        return self.session.push_store_command(st.edits.add_note(text), "Add note")
+
+    def edit_note(self, note_id: str, text: str | None = None) -> bool:
+        st = self._writable_store()
+        if st is None:
+            return False
+        note = st.reading.note(note_id)
+        if note is None:
+            return False
+        if text is None:
+            text, ok = QtWidgets.QInputDialog.getMultiLineText(
+                self, "Edit note", "Note:", note.text
+            )
+            if not ok:
+                return False
+        text = text.strip()
+        if not text or text == note.text:
+            return False
+        return self.session.push_store_command(st.edits.edit_note(note_id, text), "Edit note")
+
+    def delete_note(self, note_id: str) -> bool:
+        st = self._writable_store()
+        if st is None or st.reading.note(note_id) is None:
+            return False
+        return self.session.push_store_command(st.edits.delete_note(note_id), "Delete note")
+
+    def _on_reopened(self, by: str, at: str) -> None:
+        text = (
+            f"⚠ Reopened: this reading was signed off by {by} at {when_text(at)}; your change "
+            "reopened it (recorded in the marks file). Sign off again when done."
+        )
+        self.reading_panel.show_notice(text)
+        self.statusBar().showMessage(text, 10000)
+
+    def _update_reading_panel(self) -> None:
+        s = self.session
+        st = None if s is None else s.store
+        rid = self.reviewer_id()
+        who = (
+            f"Reader {rid} · {self.read_mode.text}"
+            if rid
+            else f"Reader not set (asked at your first edit) · {self.read_mode.text}"
+        )
+        self.reader_label.setText(who)
+        if st is not None and st.read_only and st.reviewer != UNIDENTIFIED:
+            who += " · read-only"
+        if s is None:
+            self.reading_panel.show_reading(None, who, writable=False)
+            self.reading_panel.banner.setText("No record open" if self.record is None else "…")
+        else:
+            reading = None if st is None else st.reading
+            self.reading_panel.show_reading(
+                reading, who, writable=st is not None and (not st.read_only or rid is None)
+            )
+            if reading is not None and reading.status == "signed_off":
+                self.reading_panel.show_notice("")
+        self.act_sign_off.setEnabled(
+            st is not None and st.reading.status != "signed_off" and (not st.read_only or not rid)
+        )
+        self.act_add_note.setEnabled(st is not None)
+        self.act_compare.setEnabled(st is not None and not st.blinded)
+
+    def open_compare(self) -> None:
+        """Tools ▸ Compare readings…: refused to a blinded reader."""
+        from reviewapp.ui.compare_view import CompareDialog
+
+        s = self.session
+        if s is None or s.store is None:
+            self.show_error(ReviewError("open a record file to compare its readings"))
+            return
+        if s.store.blinded:
+            self.show_error(ReviewError("a blinded reader cannot see other readings", s.store.path))
+            return
+        if self.compare_dialog is not None:
+            self.compare_dialog.close()
+            self.compare_dialog.deleteLater()
+        dlg = CompareDialog(self)
+        s.stored.connect(dlg.fill_readers)
+        self.compare_dialog = dlg
+        dlg.show()
+
     def _close_session(self) -> None:
+        if self.compare_dialog is not None:
+            self.compare_dialog.close()
+            self.compare_dialog = None
         if self.session is not None:
             self.save_calipers()
             self.session.close_store()
         self.session = None
+        self.reading_panel.show_notice("")
+        self._update_reading_panel()
 
     # --- view settings -------------------------------------------------------------------
     def set_speed(self, speed: float) -> None:
@@ -607,6 +913,9 @@ class MainWindow(QtWidgets.QMainWindow):
         self.settings.setValue("view/gain", self.scale.gain_mm_per_mv)
         self._calipers_changed(None)
         self._update_status()
+        if self.median_auto and self.median.isVisible():
+            self._place_median(False)
+        self._auto_median()
 
     def _step_speed(self, d: int) -> None:
         i = _nearest(SPEEDS_MM_PER_S, self.scale.speed_mm_per_s) + d
@@ -626,6 +935,9 @@ class MainWindow(QtWidgets.QMainWindow):
         self.rhythm_box.setEnabled(key.startswith("3x4"))
         self.settings.setValue("view/layout", key)
         self._calipers_changed(None)
+        if self.median_auto and self.median.isVisible():
+            self._place_median(False)  # re-placed for the new page height
+        self._auto_median()
 
     def _fill_rhythm_box(self) -> None:
         self.rhythm_box.clear()
@@ -647,7 +959,36 @@ class MainWindow(QtWidgets.QMainWindow):
         self.paper.set_layout(self.paper.layout_key, order=order)
         self.median.set_lead_order(order)
 
+    def _median_toggled(self, on: bool) -> None:
+        self.show_median(on)
+
+    def median_room_px(self) -> int:
+        """Height left below the page at the current zoom (px) in the paper/median split."""
+        g = self.paper.geom
+        total = self.split.height()
+        if g is None:
+            return 0
+        page = int(g.height_mm * self.scale.px_per_mm * self.paper.zoom) + 8
+        return total - page
+
+    def _auto_median(self) -> None:
+        """Show the median beats below the page while there is room for them (at least
+        240 px) and the reader has not toggled them: a tall screen is not left blank."""
+        if not self.median_auto or self.session is None:
+            return
+        self._place_median(self.median_room_px() >= 240)
+
+    def resizeEvent(self, ev: QtGui.QResizeEvent) -> None:
+        super().resizeEvent(ev)
+        if self.median_auto:
+            self._median_timer.start()
+
     def show_median(self, on: bool) -> None:
+        """Median beats on or off, as the reader chose (no longer placed automatically)."""
+        self.median_auto = False
+        self._place_median(on)
+
+    def _place_median(self, on: bool) -> None:
         self.act_median.setChecked(on)
         if on == self.median.isVisible():
             return
@@ -787,6 +1128,14 @@ class MainWindow(QtWidgets.QMainWindow):
         return {"t1_s": c.at / fs, "t2_s": c.at / fs, "v1_mv": c.a_mv, "v2_mv": c.b_mv}
 
     def _caliper_added(self, c: CaliperPair) -> None:
+        s = self.session
+        if (
+            s is not None
+            and s.store is not None
+            and s.store.reviewer == UNIDENTIFIED
+            and not self._ensure_reader()
+        ):
+            return  # the caliper stays in this window only
         store = self._store()
         if store is None or c.store_id is not None or self.record is None:
             return

@@ -11,6 +11,7 @@ sidecar that cannot be used) the overrides live in memory only.
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import replace
 from typing import TYPE_CHECKING
 
@@ -21,6 +22,7 @@ from reviewapp.core.fiducials import MarkOverride, WaveMarks
 
 if TYPE_CHECKING:
     from reviewapp.core.engine import Analysis, Reading
+    from reviewapp.core.marks.commands import Command
     from reviewapp.core.marks.store import MarksStore
 
 OverrideKey = tuple[str, str, int | None, str | None]
@@ -36,6 +38,10 @@ class ReadingSession(QtCore.QObject):
     changed = QtCore.Signal(object)
     overrides_changed = QtCore.Signal()
     store_error = QtCore.Signal(object)  # a MarksError while saving an edit
+    # The stored reading changed (edit, undo, redo, reload): status, notes, adjudication.
+    stored = QtCore.Signal()
+    # An edit reopened a signed-off reading: (signed_off_by, signed_off_at) before the edit.
+    reopened = QtCore.Signal(str, str)
 
     def __init__(
         self,
@@ -48,6 +54,8 @@ class ReadingSession(QtCore.QObject):
         self.store = store
         self._overrides: dict[OverrideKey, MarkOverride] = {}
         self.undo_stack = QtGui.QUndoStack(self)
+        # Asked before every edit (the window: "who is reading?"); False drops the edit.
+        self.edit_guard: Callable[[], bool] | None = None
         if store is not None:
             self._overrides = self._from_store()
         self._reading = analysis.reading(tuple(self._overrides.values()))
@@ -67,6 +75,34 @@ class ReadingSession(QtCore.QObject):
         self._overrides = self._from_store()
         self._recompute()
         self.overrides_changed.emit()
+        self.stored.emit()
+
+    def set_store(self, store: MarksStore | None) -> None:
+        """Continue with another store (e.g. the reader identified themselves); the undo
+        history belongs to the previous one and is cleared."""
+        self.undo_stack.clear()
+        self.store = store
+        if store is not None:
+            self.reload_from_store()
+
+    def may_edit(self) -> bool:
+        return self.edit_guard is None or self.edit_guard()
+
+    def push_store_command(self, cmd: Command, text: str) -> bool:
+        """Run a marks-store command (note, status, sign-off, adjudication) as one undoable
+        step; False (and ``store_error``) if there is no writable store."""
+        from reviewapp.ui.undo import StoreCommand
+
+        if self.store is None or self.store.read_only:
+            from reviewapp.core.marks.errors import ReadOnlyError
+
+            path = None if self.store is None else self.store.path
+            self.store_error.emit(
+                ReadOnlyError("this reading cannot be changed here (no writable marks file)", path)
+            )
+            return False
+        self.undo_stack.push(StoreCommand(self, cmd, text))
+        return True
 
     def ensure_automatic_stored(self) -> None:
         """Record the engine's marks in the sidecar before the first edit, so each override
@@ -141,8 +177,9 @@ class ReadingSession(QtCore.QObject):
         from reviewapp.ui.undo import SetOverrideCommand, StoreCommand, describe
 
         key = override_key(ov)
-        if self._overrides.get(key) == ov:
+        if self._overrides.get(key) == ov or not self.may_edit():
             self._recompute()
+            self.overrides_changed.emit()  # a dropped drag snaps back
             return
         if self.store is None:
             self.undo_stack.push(SetOverrideCommand(self, key, ov))
@@ -169,7 +206,7 @@ class ReadingSession(QtCore.QObject):
     def reset_mark(self, key: OverrideKey) -> None:
         from reviewapp.ui.undo import SetOverrideCommand, StoreCommand, describe
 
-        if key not in self._overrides:
+        if key not in self._overrides or not self.may_edit():
             return
         if self.store is None:
             self.undo_stack.push(SetOverrideCommand(self, key, None))
@@ -184,7 +221,7 @@ class ReadingSession(QtCore.QObject):
     def reset_all(self) -> None:
         from reviewapp.ui.undo import ReplaceOverridesCommand
 
-        if not self._overrides:
+        if not self._overrides or not self.may_edit():
             return
         if self.store is None:
             self.undo_stack.push(ReplaceOverridesCommand(self, {}, "Reset all marks to automatic"))

@@ -107,6 +107,11 @@ def flag_for(
     return "", ""
 
 
+def finding_line(f: Finding) -> str:
+    """A finding in words with its glyph (▲ above, ▼ below), e.g. '▲ QTc Bazett 456 ms ...'."""
+    return f"{ABOVE if f.direction == 'above' else BELOW} {f.text}"
+
+
 class SummaryPanel(QtWidgets.QWidget):
     """Global values table, and per-lead amplitudes/ST levels on demand."""
 
@@ -150,6 +155,22 @@ class SummaryPanel(QtWidgets.QWidget):
             QtWidgets.QSizePolicy.Policy.Preferred, QtWidgets.QSizePolicy.Policy.Maximum
         )
         lay.addWidget(self.table)
+        self.findings_label = QtWidgets.QLabel("Findings")
+        fb = self.findings_label.font()
+        fb.setBold(True)
+        self.findings_label.setFont(fb)
+        # Each finding in words with its glyph; the tooltip names the limit's source.
+        self.findings = QtWidgets.QListWidget()
+        self.findings.setObjectName("findings_list")
+        self.findings.setWordWrap(True)
+        self.findings.setFocusPolicy(QtCore.Qt.FocusPolicy.NoFocus)
+        self.findings.setSelectionMode(QtWidgets.QAbstractItemView.SelectionMode.NoSelection)
+        self.findings.setMaximumHeight(130)
+        ff = QtGui.QFont(self.findings.font())
+        ff.setPointSizeF(max(ff.pointSizeF(), 10.0))
+        self.findings.setFont(ff)
+        lay.addWidget(self.findings_label)
+        lay.addWidget(self.findings)
         lay.addWidget(self.per_lead_button)
         lay.addWidget(self.leads_table, 2)
         lay.addWidget(self.caliper_label)
@@ -158,6 +179,7 @@ class SummaryPanel(QtWidgets.QWidget):
         f.setPointSizeF(max(f.pointSizeF(), 10.5))
         self.table.setFont(f)
         self._values: dict[str, str] = {}
+        self._findings_shown: list[tuple[str, str]] | None = None
 
     def value_text(self, quantity: str) -> str:
         """The text shown for ``quantity`` (tests read what the reader reads)."""
@@ -172,6 +194,7 @@ class SummaryPanel(QtWidgets.QWidget):
             self.status.setText("Analysing…")
             self.table.clearContents()
             self.leads_table.setRowCount(0)
+            self._show_findings(())
             return
         iv = reading.measurements.intervals
         n_flags = 0
@@ -240,9 +263,27 @@ class SummaryPanel(QtWidgets.QWidget):
             )
             + ". Hover a row for its source."
         )
+        self._show_findings(reading.findings)
         self._last = (reading, subject)
         if self.leads_table.isVisible():
             self._fill_leads(reading, subject)
+
+    def _show_findings(self, findings: tuple[Finding, ...]) -> None:
+        texts = [(finding_line(f), f"Source: {f.source}") for f in findings]
+        if texts == self._findings_shown:
+            return  # unchanged (most steps of a mark drag): no relayout of the dock
+        self._findings_shown = texts
+        self.findings.clear()
+        for text, tip in texts:
+            item = QtWidgets.QListWidgetItem(text)
+            item.setToolTip(tip)
+            self.findings.addItem(item)
+        if not texts:
+            self.findings.addItem(QtWidgets.QListWidgetItem("No value outside its limits."))
+        self.findings_label.setText(f"Findings ({len(texts)})" if texts else "Findings")
+
+    def finding_texts(self) -> list[str]:
+        return [self.findings.item(i).text() for i in range(self.findings.count())]
 
     def _show_leads(self, on: bool) -> None:
         self.leads_table.setVisible(on)

@@ -74,6 +74,7 @@ class StoreCommand(QtGui.QUndoCommand):
     def redo(self) -> None:
         store = self.session.store
         assert store is not None
+        before = store.reading
         try:
             if self._done_once:
                 store.redo(self.cmd)
@@ -86,6 +87,9 @@ class StoreCommand(QtGui.QUndoCommand):
             self.session.store_error.emit(err)
             return
         self.session.reload_from_store()
+        if before.status == "signed_off" and store.reading.status != "signed_off":
+            # The store recorded a "reopen" event; the window tells the reader.
+            self.session.reopened.emit(before.signed_off_by or "", before.signed_off_at or "")
 
     def undo(self) -> None:
         store = self.session.store

@@ -51,10 +51,10 @@ QTDB_LIMITS = {
 }
 LUDB_LIMITS = {
     "p_on": (5.0, 20.0),  # measured -3.5 +- 18.4 (SD above CSE 10.2)
-    "p_off": (6.0, 20.0),  # measured 4.3 +- 18.5 (above CSE 12.7)
+    "p_off": (6.0, 20.0),  # measured 4.2 +- 18.5 (above CSE 12.7)
     "qrs_on": (1.5, 13.0),  # measured 0.2 +- 11.9 (above CSE 6.5)
-    "qrs_off": (2.0, 15.5),  # measured 0.5 +- 14.4 (above CSE 11.6)
-    "t_off": (2.0, 32.5),  # measured 0.5 +- 30.7 (at CSE 30.6)
+    "qrs_off": (2.0, 15.5),  # measured 0.4 +- 14.4 (above CSE 11.6)
+    "t_off": (2.5, 30.5),  # measured -1.1 +- 29.1 (within CSE 30.6)
 }
 # Fraction of reference marks with no detected mark, and detected marks with no reference.
 # Measured: QTDB P 2.5 % missed, T 1 of 2350; LUDB P 0.9 %, T 0.1 % missed; LUDB extra P

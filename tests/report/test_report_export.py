@@ -138,3 +138,236 @@ def test_export_of_a_reviewer_without_a_reading_is_refused(reviewed_record: Path
     err = capsys.readouterr().err
     assert "someone-else" in err and "1.marks.json" in err
     assert not (tmp_path / "x.pdf").exists()
+
+
+# --- subject facts, marks key, command options, CSV columns ---------------------------------
+
+
+def _pdf_text(path: Path) -> str:
+    from tests.report.test_report_page import _squash, pdf_text
+
+    return _squash(pdf_text(path.read_bytes()))
+
+
+def test_subject_facts_and_time_point_are_printed(tmp_path: Path, shared_data: Path):
+    """A WFDB header written by wfdb.wrsamp (the reference writer) with QT-study comments;
+    the subject facts and the time point come back on the page. The signal is LUDB record 1's
+    (PhysioNet); the comments are invented for this test."""
+    src = wfdb.rdrecord(str(shared_data / "ludb" / "1"))
+    wfdb.wrsamp(
+        "study1",
+        fs=src.fs,
+        units=src.units,
+        sig_name=src.sig_name,
+        p_signal=src.p_signal,
+        fmt=["16"] * src.n_sig,
+        comments=["subject: S-042", "age: 61", "sex: female", "timepoint: post-dose 2 h"],
+        write_dir=str(tmp_path),
+    )
+    pdf = tmp_path / "study1.pdf"
+    assert main(["export", str(tmp_path / "study1.hea"), "--pdf", str(pdf)]) == 0
+    text = _pdf_text(pdf)
+    assert "SubjectS-042" in text and "61y" in text and "female" in text
+    assert "timepoint:post-dose2h" in text
+
+
+def test_qtdb_header_age_and_sex_are_printed(tmp_path: Path, shared_data: Path):
+    """QTDB sel100's header comment "69 M ..." (PhysioNet): 69 years, male."""
+    for ext in (".hea", ".dat"):
+        shutil.copy(shared_data / "qtdb" / f"sel100{ext}", tmp_path / f"sel100{ext}")
+    pdf = tmp_path / "sel100.pdf"
+    assert main(["export", str(tmp_path / "sel100.hea"), "--pdf", str(pdf)]) == 0
+    text = _pdf_text(pdf)
+    assert "69y" in text and "male" in text and "SubjectIDnotstated" in text
+
+
+def _ink(rgb: np.ndarray, x0_px: int, x1_px: int, y0_px: int, y1_px: int) -> np.ndarray:
+    """Inked, non-red pixels (grey or blue marks and text, not the red grid) in a box."""
+    a = rgb[y0_px:y1_px, x0_px:x1_px].astype(int)
+    return (a.min(axis=2) < 190) & ((a[..., 0] - a[..., 1]) < 30)
+
+
+def test_marks_are_glyphs_in_their_lanes_with_a_key(reviewed_record: Path, tmp_path: Path):
+    """Each boundary sits in its own lane (P, QRS, T) under the rhythm strip at its true-scale
+    position (x = trace start + t x 25 mm/s); onsets have a foot pointing right, ends left; the
+    corrected T end carries a dot the automatic ones do not; the key is printed."""
+    from reviewapp.report.export import render_page, write_pdf
+    from reviewapp.report.layout import page_layout
+
+    content = load_report_content(reviewed_record)
+    lo = page_layout("a4")
+    dpi = 400.0
+    k = dpi / 25.4
+    from tests.report.test_report_page import _qimage_to_array
+
+    img = _qimage_to_array(render_page(content, lo, dpi=dpi)[0])
+    lanes = lo.lanes(3)
+    fs = content.fs_hz
+    checked = {"onset": 0, "end": 0}
+    for row in content.beat_marks:
+        for m in row:
+            if m.final is None or not (0.2 < m.final / fs < lo.shown_s - 0.2):
+                continue
+            lane = lanes[{"p": "P", "qrs": "QRS", "t": "T"}[m.fiducial.rsplit("_", 1)[0]]]
+            x = lo.x_of(m.final / fs)
+            # The stroke: ink in the middle of its lane at x.
+            mid = _ink(
+                img,
+                round((x - 0.15) * k),
+                round((x + 0.15) * k) + 1,
+                round((lane.y + 1.0) * k),
+                round((lane.y + 1.5) * k),
+            )
+            assert mid.any(), (m.fiducial, m.final)
+            # The foot, along the lane's bottom: right of x for an onset, left for an end.
+            y_foot = (round((lane.bottom - 0.45) * k), round((lane.bottom - 0.15) * k))
+            right = _ink(img, round((x + 0.3) * k), round((x + 0.6) * k), *y_foot).any()
+            left = _ink(img, round((x - 0.6) * k), round((x - 0.3) * k), *y_foot).any()
+            if m.fiducial.endswith("_on"):
+                assert right and not left, (m.fiducial, m.final)
+                checked["onset"] += 1
+            else:
+                assert left and not right, (m.fiducial, m.final)
+                checked["end"] += 1
+            # A dot on top for a reviewer-corrected mark only (shape, not colour alone): the
+            # strokes start 0.3 mm below the lane top, the dot reaches above them.
+            above = _ink(
+                img,
+                round((x - 0.3) * k),
+                round((x + 0.3) * k),
+                round((lane.y + 0.05) * k),
+                round((lane.y + 0.22) * k),
+            )
+            assert above.any() == m.corrected, (m.fiducial, m.final, m.corrected)
+    assert checked["onset"] > 10 and checked["end"] > 10
+    assert any(m.corrected for row in content.beat_marks for m in row)
+    pdf = tmp_path / "key.pdf"
+    write_pdf(pdf, content, lo)
+    text = _pdf_text(pdf)
+    for words in (
+        "lanesP/QRS/T",
+        "onset",
+        "end",
+        "thin:automatic",
+        "reviewer-corrected",
+        "dotted:automaticpositionreplaced",
+    ):
+        assert words in text, words
+
+
+@pytest.mark.parametrize(
+    ("option", "value", "message"),
+    [("--speed", "33", "standard paper speed"), ("--gain", "7", "standard gain")],
+)
+def test_non_standard_speed_and_gain_are_refused(tmp_path: Path, capsys, option, value, message):
+    with pytest.raises(SystemExit) as exc:
+        main(["export", str(tmp_path / "x.hea"), "--pdf", str(tmp_path / "x.pdf"), option, value])
+    assert exc.value.code == 2
+    err = capsys.readouterr().err
+    assert message in err and value in err
+    assert not (tmp_path / "x.pdf").exists()
+
+
+def test_standard_settings_are_accepted():
+    from reviewapp.cli import build_parser
+
+    args = build_parser().parse_args(["export", "r.hea", "--speed", "12.5", "--gain", "2.5"])
+    assert (args.speed, args.gain) == (12.5, 2.5)
+    args = build_parser().parse_args(["export", "r.hea", "--speed", "100", "--gain", "40"])
+    assert (args.speed, args.gain) == (100.0, 40.0)
+
+
+@pytest.mark.parametrize(
+    ("target", "message"),
+    [
+        ("folder", "is a folder"),
+        ("missing/x.pdf", "does not exist"),
+        ("page.png", "ending in .pdf"),
+    ],
+)
+def test_unwritable_pdf_target_is_one_clear_line(tmp_path: Path, capfd, target, message):
+    (tmp_path / "folder").mkdir()
+    out = tmp_path / target
+    rc = main(["export", str(tmp_path / "nope.hea"), "--pdf", str(out)])
+    assert rc == 2
+    captured = capfd.readouterr()  # file-descriptor level: Qt's own warnings would show here
+    err = captured.err.strip()
+    assert len(err.splitlines()) == 1 and message in err and str(out) in err
+    assert "QPainter" not in captured.err and "Traceback" not in captured.err
+
+
+def test_image_format_follows_the_suffix(reviewed_record: Path, tmp_path: Path, capsys):
+    from PySide6.QtGui import QImageReader
+
+    jpg = tmp_path / "page.jpg"
+    assert main(["export", str(reviewed_record), "--png", str(jpg), "--dpi", "60"]) == 0
+    # JPEG SOI marker FF D8 (ISO/IEC 10918-1) and Qt's reader agrees.
+    assert jpg.read_bytes()[:2] == b"\xff\xd8"
+    assert bytes(QImageReader(str(jpg)).format().data()).lower() in (b"jpeg", b"jpg")
+    png = tmp_path / "page.png"
+    assert main(["export", str(reviewed_record), "--png", str(png), "--dpi", "60"]) == 0
+    assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"  # PNG signature (ISO/IEC 15948)
+    capsys.readouterr()
+    assert main(["export", str(reviewed_record), "--png", str(tmp_path / "page.gif")]) == 2
+    assert ".png or .jpg" in capsys.readouterr().err
+    assert not (tmp_path / "page.gif").exists()
+
+
+def test_csv_to_stdout_has_all_qtc_formulas_axes_hr_rr(
+    reviewed_record: Path, tmp_path: Path, capsys, monkeypatch
+):
+    """'--csv -' writes to standard output (no file named '-'). The rows are the global columns
+    of `reviewapp measure`'s CSV, with the same values; the four QTc values agree with the
+    published formulas applied to the CSV's own QT and RR:
+    Bazett 1920: QT / sqrt(RR s); Fridericia 1920: QT / RR^(1/3);
+    Framingham (Sagie et al., Am J Cardiol 1992): QT + 154 (1 - RR s);
+    Hodges et al. (JACC 1983): QT + 1.75 (HR - 60), HR = 60 / RR s."""
+    from reviewapp.core.measure.output import CSV_COLUMNS, csv_row, reading_to_dict
+    from reviewapp.report.content import QUANTITIES
+
+    monkeypatch.chdir(tmp_path)
+    assert main(["export", str(reviewed_record), "--csv", "-"]) == 0
+    out = capsys.readouterr().out
+    assert not (tmp_path / "-").exists()
+    assert "wrote" not in out  # progress goes to stderr, the CSV stays clean
+    rows = [r for r in csv.DictReader(out.splitlines()) if r["quantity"]]
+    by_q = {r["quantity"]: r for r in rows}
+    want = {
+        "rr_ms",
+        "hr_bpm",
+        "qt_ms",
+        "qtc_bazett_ms",
+        "qtc_fridericia_ms",
+        "qtc_framingham_ms",
+        "qtc_hodges_ms",
+        "p_axis_deg",
+        "qrs_axis_deg",
+        "t_axis_deg",
+    }
+    assert want <= set(by_q)
+    assert [q for q, *_ in QUANTITIES] == [c for c in CSV_COLUMNS if c in by_q]
+    # Same values as `reviewapp measure` under the same reviewer marks.
+    content = load_report_content(reviewed_record)
+    a = analyse(open_record(reviewed_record))
+    from reviewapp.batch.sidecar_adapter import reading_for_report
+
+    chosen = reading_for_report(a.record, a, None)
+    measured = csv_row(reading_to_dict(a, a.reading(chosen.overrides)))
+    for q in by_q:
+        if measured[q] is None:
+            assert by_q[q]["value"] == ""
+        else:
+            assert float(by_q[q]["value"]) == pytest.approx(measured[q], abs=0.051), q
+    assert content.status == by_q["qt_ms"]["reading_status"]
+    qt, rr = float(by_q["qt_ms"]["value"]), float(by_q["rr_ms"]["value"])
+    rr_s = rr / 1000.0
+    hr = 60.0 / rr_s
+    tol = 0.3  # the CSV rounds to 0.1 ms
+    assert float(by_q["qtc_bazett_ms"]["value"]) == pytest.approx(qt / rr_s**0.5, abs=tol)
+    assert float(by_q["qtc_fridericia_ms"]["value"]) == pytest.approx(qt / rr_s ** (1 / 3), abs=tol)
+    assert float(by_q["qtc_framingham_ms"]["value"]) == pytest.approx(
+        qt + 154.0 * (1 - rr_s), abs=tol
+    )
+    assert float(by_q["qtc_hodges_ms"]["value"]) == pytest.approx(qt + 1.75 * (hr - 60.0), abs=tol)
+    assert float(by_q["hr_bpm"]["value"]) == pytest.approx(hr, abs=0.1)
+    assert out.rstrip().splitlines()[-1].startswith("# ")  # the clinical caution closes it

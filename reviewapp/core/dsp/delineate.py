@@ -116,9 +116,9 @@ def _marks_from_rep(
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Representative-beat boundaries carried to the dominant beats by local matching.
 
-    Returns (global (B, 8), per-lead (B, L, 8)) record indices (-1 absent) and a (B,) bool of
-    (B, 5) bool ``matched`` per boundary column (dominant beat, boundary present on the median
-    beat, local match with correlation >= ALIGN_MIN_CORR).
+    Returns (global (B, 8), per-lead (B, L, 8)) record indices (-1 absent) and a (B, 5) bool
+    ``matched`` per boundary column (dominant beat, boundary present on the median beat,
+    local match with correlation >= ALIGN_MIN_CORR).
     """
     nb, nl = r.size, len(usable)
     glob = np.full((nb, N_MARKS), -1, dtype=np.int64)
@@ -134,7 +134,7 @@ def _marks_from_rep(
     rep_l = np.array(
         [[-1 if v is None else v for v in _mark_values(m)] for m in rep.lead_marks], dtype=np.int64
     ).reshape(-1, N_MARKS)
-    stride = max(1, round(fs_hz / 250.0))
+    stride = max(1, round(fs_hz / 500.0))  # lag resolution <= 2 ms up to 2 kHz
 
     def to_s(ms: float) -> int:
         return max(1, round(ms * fs_hz / 1000.0))
@@ -186,10 +186,15 @@ def delineate_beats(
 ) -> tuple[tuple[WaveMarks, ...], tuple[tuple[WaveMarks, ...], ...]]:
     """Global and per-lead wave boundaries of every beat (record sample indices).
 
-    Each beat is delineated on its own signal, in a window from 450 ms before to 800 ms after
-    its R (clipped to the neighbouring beats: T is searched before the next beat's P, P after
-    the previous beat's T). Where the representative beat has no P wave (e.g. atrial
-    fibrillation: no organised P wave survives the median), no beat gets one either.
+    Dominant beats take the median beat's boundaries, each moved by the lag that best matches
+    the beat's own signal around that boundary (``delineate_align``: +-12..60 ms); the
+    median beat is far less noisy than one beat, so its marks are steadier, while the lag
+    lets each beat follow its own QT. A boundary whose local match is poor (correlation
+    < ALIGN_MIN_CORR), and every boundary of premature, paced or unclassified beats, is
+    delineated on the beat's own signal (``delineate_core``) in a window from 450 ms before
+    to 800 ms after its R, clipped to the neighbours: T is searched before the next beat's P,
+    P within 45 % of the preceding RR. Where the median beat has no P wave (e.g. atrial
+    fibrillation: no organised P survives the median), no beat gets one either.
 
     Args:
         conditioned_mv: (n_samples, n_leads) conditioned signal in mV.

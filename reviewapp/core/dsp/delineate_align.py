@@ -56,8 +56,8 @@ def align_lags(
         rep_mark: boundary index in the representative window.
         before, after: segment extent around the boundary, samples.
         max_lag: largest lag tried, samples.
-        stride: compare every ``stride``-th segment sample (keeps high sampling rates cheap;
-            lags are still tried sample by sample).
+        stride: compare every ``stride``-th segment sample and try every ``stride``-th lag
+            (keeps high sampling rates cheap; the lag resolution becomes stride samples).
 
     Returns:
         (lags (B,), correlation of the matched segments (B,)); lag 0 / correlation 0 where the
@@ -91,11 +91,12 @@ def align_lags(
     fits = (start >= 0) & (start + span <= n)
     idx = np.clip(start[:, None] + np.arange(span)[None, :], 0, n - 1)
     ext = beat_sig[idx].astype(np.float64)  # (B, span, L)
-    num = np.empty((nb, k))
-    var = np.empty((nb, k))
-    # Lags are split by phase modulo the stride; within a phase the comparison is a plain
-    # sliding correlation (FFT) and sliding sums (cumulative sums).
-    for ph in range(min(step, k)):
+    num = np.zeros((nb, k))
+    var = np.zeros((nb, k))
+    # Lags are tried every ``step`` samples (the segment is compared every step-th sample,
+    # so finer lags would add nothing at rates far above what the boundaries need); at those
+    # lags the comparison is a sliding correlation (FFT) and sliding sums (cumulative sums).
+    for ph in range(0, min(step, k), step):
         sub = ext[:, ph::step]  # (B, m, L)
         n_lag = len(range(ph, k, step))
         # The template is zero-mean per lead, so the segment mean drops out of the numerator.

@@ -1,26 +1,45 @@
 """Vectorised wave delineation of a block of beat windows (beats x samples x leads).
 
-Methods (all thresholds relative, times in ms converted with the sampling rate):
+Every step works on whole (rows, samples) arrays -- one row per beat (global marks) or per
+beat and lead -- with masks instead of Python loops. Durations are given in ms
+(``DURATIONS_MS``) and converted for the sampling rate, so 125 Hz to 2 kHz work alike.
 
-- QRS onset/end: slope thresholds on a derivative feature, as in the wavelet delineator of
-  Martinez JP, Almeida R, Olmos S, Rocha AP, Laguna P, "A wavelet-based ECG delineator:
-  evaluation on standard databases", IEEE TBME 51(4):570-581, 2004: find the first/last
-  significant slope of the complex (above ``qrs_sig`` x the complex's maximum slope), then
-  walk outward until the slope falls below ``qrs_on_frac`` / ``qrs_off_frac`` of the maximum.
-  Per lead the feature is |dx/dt| of the 40 Hz low-passed lead; globally it is the spatial
-  velocity sqrt(sum_leads (dx/dt)^2) over the usable leads (multi-lead feature, as used for
-  global QRS boundaries in the CSE and QTDB literature: Laguna P, Jane R, Caminal P,
-  "Automatic detection of wave boundaries in multilead ECG signals: validation with the CSE
-  database", Comput Biomed Res 27(1):45-60, 1994).
-- T end and P onset/end: the trapezium-area method of Vazquez-Seisdedos CR, Neto JE,
-  Maranon Reyes EJ, Klautau A, Limao de Oliveira RC, "New approach for T-wave end detection on
-  electrocardiogram: performance in noisy conditions", BioMed Eng OnLine 10:77, 2011. From the
-  point x_m of steepest slope after the peak (before it, for an onset) to a point x_r beyond
-  the boundary, the boundary is the x_i maximising
-  A(x_i) = 0.5 |y(x_m) - y(x_i)| (|x_r - x_m| + |x_r - x_i|).
-- Global P and T boundaries: multi-lead rules over the leads where the wave was found
-  (Laguna et al. 1994): onset = an early order statistic, end = a late order statistic of the
-  lead marks, so one outlying lead cannot move the global mark.
+Methods:
+
+- QRS onset/end (global): slope thresholds on the spatial velocity
+  sqrt(sum_leads (dx/dt)^2) of the 40 Hz low-passed usable leads (multi-lead feature; Laguna
+  P, Jane R, Caminal P, "Automatic detection of wave boundaries in multilead ECG signals:
+  validation with the CSE database", Comput Biomed Res 27(1):45-60, 1994), with the decision
+  rules of the wavelet delineator of Martinez JP, Almeida R, Olmos S, Rocha AP, Laguna P,
+  "A wavelet-based ECG delineator: evaluation on standard databases", IEEE TBME
+  51(4):570-581, 2004: find the first (last) significant slope lobe of the complex (above
+  ``qrs_sig`` x its steepest slope), then walk outward until the slope stays below
+  ``qrs_on_frac`` (``qrs_off_frac``) of that lobe's own peak for ``qrs_run`` (8 ms). The
+  search is confined to the span where a 20 ms moving average of the slope stays above 5 %
+  of its peak, which keeps a steep P or T wave out of the complex. Each lead's QRS marks are
+  the global ones (LUDB readers mark them so; see ``qrs_lead_global``).
+- T wave per lead: on the 20 Hz low-passed lead referred to its PR level, the T flanks are
+  the steepest rising and falling slopes (30 ms smoothed) after QRS end + 80 ms, before the
+  next beat's P (the pair of opposite slope maxima Martinez 2004 uses at the T scale); the
+  later significant flank returns to baseline, its sign gives the polarity, the extreme
+  before it is the T peak. T end by the trapezium-area method of Vazquez-Seisdedos CR, Neto
+  JE, Maranon Reyes EJ, Klautau A, Limao de Oliveira RC, "New approach for T-wave end
+  detection on electrocardiogram: performance in noisy conditions", BioMed Eng OnLine 10:77,
+  2011: from the steepest point x_m of that flank to x_r = x_m + 80 ms, the end is the x_i
+  maximising A(x_i) = 0.5 |y(x_m) - y(x_i)| (|x_r - x_m| + |x_r - x_i|).
+- P wave per lead: in the 300 ms before QRS onset - 20 ms, with the straight line joining the
+  window ends removed, the largest deflection is the P peak (present if >= 0.03 mV); onset
+  and end by the same trapezium rule on each side (x_r 50 ms before / 25 ms after the
+  steepest slopes within 60 ms of the peak).
+- Global P and T (multi-lead rules after Laguna et al. 1994): only leads whose wave is at
+  least 30 % of the largest one vote; P onset/end are the 40th/60th percentiles and T end the
+  median of their marks (order statistics rounded up: for two leads, earliest onset and
+  latest end). A global P
+  needs a P in at least 30 % of the usable leads. Leads with a weak wave, or whose own mark
+  lies more than 40 ms (P) / 80 ms (T) from the global one, take the global mark.
+
+The thresholds were set on the LUDB and QTDB records in shared/data; tests/dsp measure the
+result against those readers' marks.
 """
 
 from __future__ import annotations
@@ -75,10 +94,12 @@ class DelineationParams:
     p_xm_max: int = 0  # samples either side of the P peak searched for its steepest slopes
     p_strong_frac: float = 0.3  # leads with P below this fraction of the largest P do not vote
     p_lead_slack: int = 0  # a lead's P boundary further than this from the global one is replaced
+    p_amp_frac: float = 0.0
+    p_amp_weight: float = 1.0
     p_min_mv: float = 0.03  # smaller P waves count as absent in that lead
     p_on_q: float = 0.4  # global onset: this order statistic of the lead onsets (0 = earliest)
     p_off_q: float = 0.6  # global P end: this order statistic of the lead ends
-    t_off_q: float = 0.75  # global T end: this order statistic of the voting leads' ends
+    t_off_q: float = 0.5  # global T end: this order statistic of the voting leads' ends
     p_min_lead_frac: float = 0.3  # global P needs a P in at least this fraction of usable leads
 
     @classmethod
@@ -402,6 +423,13 @@ def delineate_block(
     xm_off = _masked_argmax(-sgn * dyp, _range_mask(w, p_pk, np.minimum(p_b, p_pk + p.p_xm_max)))
     xr_off = np.minimum(p_b + p.p_gap, xm_off + p.p_xr_off)
     p_off = trapezium_boundary(yp, xm_off, xr_off)
+    if p.p_amp_frac > 0:
+        low = sgn * yp < (p.p_amp_frac * p_amp)[:, None]
+        a_on = _last_true(_range_mask(w, p_a, p_pk) & low)
+        a_off = _first_true(_range_mask(w, p_pk, p_b + p.p_gap) & low)
+        wgt = p.p_amp_weight
+        p_on = np.where(a_on >= 0, np.round(wgt * a_on + (1 - wgt) * p_on), p_on).astype(np.int64)
+        p_off = np.where(a_off >= 0, np.round(wgt * a_off + (1 - wgt) * p_off), p_off).astype(np.int64)
     p_ok &= (p_on >= 0) & (p_off > p_on)
 
     # Where the RR is known, T must end before the next beat's P (same PR as this beat).

@@ -46,8 +46,9 @@ def compute_measurements(marked: MarkedECG) -> Measurements:
     """Intervals, QTc, axes, per-lead amplitudes and ST levels, voltages, beat-by-beat values.
 
     Global intervals use the representative beat's global marks; RR and heart rate use the
-    consecutive dominant beats (see ``rr_statistics``). Anything not measurable is None and
-    appears in ``Measurements.unmeasured`` with the reason.
+    consecutive dominant beats, or every beat in an irregular rhythm (see ``rr_from_beats``).
+    Anything not measurable is None and appears in ``Measurements.unmeasured`` with the
+    reason; remarks (irregular rhythm, ST/Q criteria not applied) go to ``notes``.
     """
     fs = float(marked.fs_hz)
     unmeasured: list[tuple[str, str]] = []

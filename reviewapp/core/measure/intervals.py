@@ -99,8 +99,12 @@ def rr_from_beats(beats: tuple[Beat, ...], fs_hz: float, *, has_p: bool = True) 
     paced rhythm), intervals between consecutive non-premature beats are used instead and
     ``basis`` says so.
 
-    Irregular rhythm (RR coefficient of variation over consecutive beats of the dominant
-    morphology group > ``IRREGULAR_RR_CV``): in atrial fibrillation "premature" only means
+    Irregular rhythm: the RR coefficient of variation over consecutive beats of the dominant
+    morphology group is > ``IRREGULAR_RR_CV`` and, besides, either the representative beat has
+    no P wave or the intervals between consecutive DOMINANT beats alone still vary by more than
+    that (so one atrial premature beat in sinus rhythm, whose coupling interval and pause
+    alone raise the group's CV, does not make the rhythm "irregular"; on LUDB sinus records 66
+    and 78 it would). In atrial fibrillation "premature" only means
     "shorter than the local median", so leaving those beats out biases the rate low; the
     ventricular rate counts every QRS, so every interval between consecutive detected beats is
     used. Regular rhythm without a P wave in the representative beat (``has_p`` False): every
@@ -127,14 +131,16 @@ def rr_from_beats(beats: tuple[Beat, ...], fs_hz: float, *, has_p: bool = True) 
     premature = np.array([k == BeatKind.PREMATURE for k in kinds])
     rr = np.diff(r) * 1000.0 / fs_hz
     dom_group = dominant_group(beats)
-    cv = None
     in_group = np.zeros(len(beats), dtype=bool)
     if dom_group is not None:
         in_group = np.array([b.group == dom_group for b in beats])
-        group_rr = rr[in_group[1:] & in_group[:-1] & (rr > 0)]
-        if group_rr.size >= 2 and float(np.mean(group_rr)) > 0:
-            cv = float(np.std(group_rr, ddof=1) / np.mean(group_rr))
-    irregular = cv is not None and cv > IRREGULAR_RR_CV
+    cv = _cv(rr[in_group[1:] & in_group[:-1]])
+    cv_dominant = _cv(rr[dominant[1:] & dominant[:-1]])
+    irregular = (
+        cv is not None
+        and cv > IRREGULAR_RR_CV
+        and (not has_p or (cv_dominant is not None and cv_dominant > IRREGULAR_RR_CV))
+    )
     if irregular:
         use = np.ones(rr.shape, dtype=bool)
         basis = "all intervals between consecutive beats (irregular rhythm)"
@@ -153,6 +159,14 @@ def rr_from_beats(beats: tuple[Beat, ...], fs_hz: float, *, has_p: bool = True) 
         return RRStats(None, None, 0, "no RR interval free of premature beats", irregular, cv)
     sd = float(np.std(sel, ddof=1)) if sel.size >= 2 else None
     return RRStats(float(np.mean(sel)), sd, int(sel.size), basis, irregular, cv)
+
+
+def _cv(rr_ms: np.ndarray) -> float | None:
+    """Coefficient of variation (sample SD / mean) of positive intervals; None if < 2."""
+    rr_ms = rr_ms[rr_ms > 0]
+    if rr_ms.size < 2:
+        return None
+    return float(np.std(rr_ms, ddof=1) / np.mean(rr_ms))
 
 
 def _one_beat(beat: Beat, m: WaveMarks, prev_r: int | None, fs_hz: float) -> BeatIntervals:

@@ -233,7 +233,7 @@ def _f(x: float | None, nd: int = 4) -> float | None:
     if x is None:
         return None
     x = float(x)
-    return round(x, nd) if math.isfinite(x) else None
+    return round(x, nd) + 0.0 if math.isfinite(x) else None  # + 0.0: no "-0.0"
 
 
 def _marks_s(m: WaveMarks, fs: float, offset: int = 0) -> dict[str, float | None]:

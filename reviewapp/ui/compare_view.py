@@ -1,0 +1,330 @@
+"""Tools ▸ Compare readings: two readers' values side by side, differences flagged beyond a
+tolerance, and (for an adjudicator) the final value picked from reader A, reader B or set.
+
+Values come from ``reviewapp.core.marks.compare_readings`` (fiducials of the median beat in ms
+from its R; intervals recomputed from each reader's marks). A difference beyond tolerance is
+said in words with a glyph and in bold, never by colour alone. Every final value goes through
+the marks store's adjudication commands (audited, undoable in the window).
+"""
+
+from __future__ import annotations
+
+from typing import TYPE_CHECKING
+
+from PySide6 import QtCore, QtGui, QtWidgets
+
+from reviewapp.core.errors import ReviewError
+from reviewapp.core.fiducials import FIDUCIAL_LABELS
+
+if TYPE_CHECKING:
+    from reviewapp.core.marks import Comparison, ComparisonRow
+    from reviewapp.core.marks.model import ReviewerReading
+    from reviewapp.ui.main_window import MainWindow
+
+ITEM_LABELS = {
+    "pr_ms": "PR",
+    "p_ms": "P duration",
+    "qrs_ms": "QRS",
+    "qt_ms": "QT",
+    "qtc_bazett_ms": "QTc Bazett",
+    "qtc_fridericia_ms": "QTc Fridericia",
+}
+# An interval is adjudicated by adopting both of its end marks; QTc follows QT.
+ADOPTS = {"qtc_bazett_ms": "qt_ms", "qtc_fridericia_ms": "qt_ms"}
+COLUMNS = ("Item", "Reader A", "Reader B", "B − A", "Tolerance", "Verdict", "Final")
+BEYOND = "▲"
+
+
+def item_label(row: ComparisonRow) -> str:
+    if row.kind == "fiducial":
+        return f"{FIDUCIAL_LABELS.get(row.item, row.item)} (ms from R)"
+    return ITEM_LABELS.get(row.item, row.item)
+
+
+def verdict_text(row: ComparisonRow) -> str:
+    if row.presence_differs:
+        return f"{BEYOND} only one reader has a value"
+    if row.beyond_tolerance:
+        return f"{BEYOND} differs by more than {row.tolerance_ms:g} ms"
+    if row.diff_ms is None:
+        return "—"
+    return "within tolerance" if row.tolerance_ms is not None else "no tolerance set"
+
+
+def _ms(v: float | None, signed: bool = False) -> str:
+    if v is None:
+        return "—"
+    return f"{v:+.0f} ms" if signed else f"{v:.0f} ms"
+
+
+class CompareDialog(QtWidgets.QDialog):
+    """Non-modal comparison window bound to the main window's current session."""
+
+    def __init__(self, window: MainWindow) -> None:
+        super().__init__(window)
+        self.setObjectName("compare_dialog")
+        self.setWindowTitle("Compare readings")
+        self.window_ = window
+        self.comparison: Comparison | None = None
+        self.a_box = QtWidgets.QComboBox()
+        self.b_box = QtWidgets.QComboBox()
+        self.a_box.setObjectName("reader_a")
+        self.b_box.setObjectName("reader_b")
+        self.tol: dict[str, QtWidgets.QDoubleSpinBox] = {}
+        tol_row = QtWidgets.QHBoxLayout()
+        tol_row.addWidget(QtWidgets.QLabel("Reader A"))
+        tol_row.addWidget(self.a_box)
+        tol_row.addWidget(QtWidgets.QLabel("Reader B"))
+        tol_row.addWidget(self.b_box)
+        tol_row.addSpacing(16)
+        tol_row.addWidget(QtWidgets.QLabel("Tolerance:"))
+        # Common practice, no source: 10 ms agreement between readers on QT, QRS and PR is
+        # the usual starting point of core-lab adjudication rules; the reader sets their own.
+        for key, label in (("qt_ms", "QT/QTc"), ("qrs_ms", "QRS"), ("pr_ms", "PR")):
+            box = QtWidgets.QDoubleSpinBox()
+            box.setObjectName(f"tol_{key}")
+            box.setRange(0.0, 200.0)
+            box.setDecimals(0)
+            box.setSuffix(" ms")
+            box.setValue(10.0)
+            box.setKeyboardTracking(False)
+            box.valueChanged.connect(lambda _v: self.refresh())
+            self.tol[key] = box
+            tol_row.addWidget(QtWidgets.QLabel(label))
+            tol_row.addWidget(box)
+        tol_row.addStretch(1)
+        self.table = QtWidgets.QTableWidget(0, len(COLUMNS))
+        self.table.setObjectName("compare_table")
+        self.table.setHorizontalHeaderLabels(list(COLUMNS))
+        self.table.verticalHeader().hide()
+        self.table.setEditTriggers(QtWidgets.QAbstractItemView.EditTrigger.NoEditTriggers)
+        self.table.setSelectionBehavior(QtWidgets.QAbstractItemView.SelectionBehavior.SelectRows)
+        self.table.setSelectionMode(QtWidgets.QAbstractItemView.SelectionMode.SingleSelection)
+        hh = self.table.horizontalHeader()
+        hh.setSectionResizeMode(QtWidgets.QHeaderView.ResizeMode.ResizeToContents)
+        hh.setStretchLastSection(True)
+        self.summary = QtWidgets.QLabel("")
+        self.summary.setWordWrap(True)
+        self.use_a = QtWidgets.QPushButton("Use reader A's value")
+        self.use_b = QtWidgets.QPushButton("Use reader B's value")
+        self.set_value = QtWidgets.QPushButton("Set value…")
+        self.use_a.clicked.connect(lambda: self.adjudicate("a"))
+        self.use_b.clicked.connect(lambda: self.adjudicate("b"))
+        self.set_value.clicked.connect(self._set_dialog)
+        self.adj_note = QtWidgets.QLabel("")
+        self.adj_note.setWordWrap(True)
+        buttons = QtWidgets.QHBoxLayout()
+        for b in (self.use_a, self.use_b, self.set_value):
+            buttons.addWidget(b)
+        buttons.addWidget(self.adj_note, 1)
+        close = QtWidgets.QDialogButtonBox(QtWidgets.QDialogButtonBox.StandardButton.Close)
+        close.rejected.connect(self.close)
+        lay = QtWidgets.QVBoxLayout(self)
+        lay.addLayout(tol_row)
+        lay.addWidget(self.table, 1)
+        lay.addWidget(self.summary)
+        lay.addLayout(buttons)
+        lay.addWidget(close)
+        self.a_box.activated.connect(lambda _i: self.refresh())
+        self.b_box.activated.connect(lambda _i: self.refresh())
+        self.table.itemSelectionChanged.connect(self._update_buttons)
+        self.resize(900, 560)
+        self.fill_readers()
+
+    # --- data --------------------------------------------------------------------------
+    def _readings(self) -> dict[str, ReviewerReading]:
+        s = self.window_.session
+        if s is None or s.store is None or s.store.blinded:
+            return {}
+        return s.store.readings()
+
+    def fill_readers(self) -> None:
+        """List the readers (adjudicators excluded); A = the first reader, B = the second."""
+        readings = {k: r for k, r in self._readings().items() if r.role != "adjudicator"}
+        order = sorted(
+            readings, key=lambda k: ({"first": 0, "second": 1}.get(readings[k].role, 2), k)
+        )
+        for box, default in ((self.a_box, 0), (self.b_box, 1)):
+            keep = box.currentData()
+            box.clear()
+            for k in order:
+                box.addItem(f"{k} ({readings[k].role})", k)
+            i = box.findData(keep) if keep else -1
+            box.setCurrentIndex(i if i >= 0 else min(default, box.count() - 1))
+        self.refresh()
+
+    def tolerances_ms(self) -> dict[str, float]:
+        qt = self.tol["qt_ms"].value()
+        return {
+            "qt_ms": qt,
+            "qtc_bazett_ms": qt,
+            "qtc_fridericia_ms": qt,
+            "qrs_ms": self.tol["qrs_ms"].value(),
+            "pr_ms": self.tol["pr_ms"].value(),
+        }
+
+    def _final_reading(self) -> ReviewerReading | None:
+        s = self.window_.session
+        if s is None or s.store is None:
+            return None
+        if s.store.role == "adjudicator":
+            return s.store.reading
+        return next((r for r in self._readings().values() if r.role == "adjudicator"), None)
+
+    def refresh(self) -> None:
+        from reviewapp.core.marks import compare_readings
+
+        s = self.window_.session
+        readings = self._readings()
+        a, b = self.a_box.currentData(), self.b_box.currentData()
+        self.comparison = None
+        self.table.setRowCount(0)
+        if s is None or a not in readings or b not in readings or a == b:
+            self.summary.setText(
+                "Needs two readings of this record (a first and a second reader)."
+                if len(readings) < 2
+                else "Choose two different readers."
+            )
+            self._update_buttons()
+            return
+        tol = self.tolerances_ms()
+        comp = compare_readings(s.analysis, readings[a], readings[b], tol)
+        final = self._final_reading()
+        finals = (
+            {}
+            if final is None
+            else {
+                r.item: r.b_ms for r in compare_readings(s.analysis, readings[a], final, tol).rows
+            }
+        )
+        self.comparison = comp
+        bold = QtGui.QFont(self.table.font())
+        bold.setBold(True)
+        self.table.setRowCount(len(comp.rows))
+        for i, row in enumerate(comp.rows):
+            cells = (
+                item_label(row),
+                _ms(row.a_ms) + ("" if row.source_a != "automatic" else " (auto)"),
+                _ms(row.b_ms) + ("" if row.source_b != "automatic" else " (auto)"),
+                _ms(row.diff_ms, signed=True),
+                "—" if row.tolerance_ms is None else f"± {row.tolerance_ms:g} ms",
+                verdict_text(row),
+                "—" if final is None else _ms(finals.get(row.item)),
+            )
+            for col, text in enumerate(cells):
+                it = QtWidgets.QTableWidgetItem(text)
+                it.setData(QtCore.Qt.ItemDataRole.UserRole, row.item)
+                if col in (1, 2, 3, 6):
+                    it.setTextAlignment(
+                        QtCore.Qt.AlignmentFlag.AlignRight | QtCore.Qt.AlignmentFlag.AlignVCenter
+                    )
+                if row.flagged:
+                    it.setFont(bold)
+                    it.setBackground(QtGui.QColor(255, 236, 200))
+                    it.setForeground(QtGui.QColor(0, 0, 0))
+                it.setToolTip(
+                    f"{item_label(row)}: {a} {_ms(row.a_ms)} ({row.source_a}), "
+                    f"{b} {_ms(row.b_ms)} ({row.source_b})"
+                )
+                self.table.setItem(i, col, it)
+        n = len(comp.flagged)
+        self.summary.setText(
+            f"{n} item{'s' if n != 1 else ''} beyond tolerance or present for one reader only "
+            f"(A = {a}, B = {b}; fiducials of the median beat, intervals recomputed from each "
+            "reader's marks; '(auto)' = the reader kept the automatic mark)."
+        )
+        self._update_buttons()
+
+    # --- adjudication ------------------------------------------------------------------
+    def selected_row(self) -> ComparisonRow | None:
+        if self.comparison is None:
+            return None
+        items = self.table.selectedItems()
+        if not items:
+            return None
+        return self.comparison.row(items[0].data(QtCore.Qt.ItemDataRole.UserRole))
+
+    def select_item(self, item: str) -> None:
+        for r in range(self.table.rowCount()):
+            if self.table.item(r, 0).data(QtCore.Qt.ItemDataRole.UserRole) == item:
+                self.table.selectRow(r)
+                return
+
+    def _can_adjudicate(self) -> bool:
+        s = self.window_.session
+        return (
+            s is not None
+            and s.store is not None
+            and s.store.role == "adjudicator"
+            and not s.store.read_only
+        )
+
+    def _update_buttons(self) -> None:
+        row = self.selected_row()
+        can = self._can_adjudicate()
+        from reviewapp.core.marks import INTERVAL_ENDS
+
+        pickable = row is not None and (
+            row.kind == "fiducial" or ADOPTS.get(row.item, row.item) in INTERVAL_ENDS
+        )
+        self.use_a.setEnabled(can and pickable)
+        self.use_b.setEnabled(can and pickable)
+        self.set_value.setEnabled(can and row is not None and row.kind == "fiducial")
+        self.adj_note.setText(
+            "Final values are recorded in the marks file's audit trail."
+            if can
+            else "To record final values, open the record as adjudicator "
+            "(File ▸ Reading role ▸ Adjudicator) under an id that is not one of the readers'."
+        )
+
+    def adjudicate(self, which: str, value_ms: float | None = None) -> bool:
+        """Record the final value of the selected item: reader A's ("a"), B's ("b"), or
+        ("set") ``value_ms`` (fiducials only, ms from R)."""
+        s = self.window_.session
+        row = self.selected_row()
+        if s is None or s.store is None or row is None or self.comparison is None:
+            return False
+        if not s.may_edit():
+            return False
+        readings = self._readings()
+        who = self.comparison.reviewer_a if which == "a" else self.comparison.reviewer_b
+        try:
+            if row.kind == "fiducial":
+                if which == "set":
+                    v_ms, source = value_ms, "set"
+                else:
+                    v_ms, source = (row.a_ms if which == "a" else row.b_ms), who
+                cmd = s.store.edits.adjudicate_fiducial(
+                    row.item, None if v_ms is None else v_ms / 1000.0, chosen_from=source
+                )
+                text = f"Adjudicate {item_label(row)}: " + (
+                    f"{_ms(v_ms)} set" if source == "set" else f"{_ms(v_ms)} from {who}"
+                )
+            else:
+                interval = ADOPTS.get(row.item, row.item)
+                cmd = s.store.edits.adopt_interval(interval, readings[who])
+                text = f"Adjudicate {ITEM_LABELS.get(interval, interval)}: marks from {who}"
+        except ReviewError as err:
+            self.window_.show_error(err)
+            return False
+        ok = s.push_store_command(cmd, text)
+        self.refresh()
+        self.select_item(row.item)
+        return ok
+
+    def _set_dialog(self) -> None:
+        row = self.selected_row()
+        if row is None:
+            return
+        start = row.a_ms if row.a_ms is not None else (row.b_ms or 0.0)
+        v, ok = QtWidgets.QInputDialog.getDouble(
+            self,
+            "Set final value",
+            f"{item_label(row)}:",
+            start,
+            -2000.0,
+            2000.0,
+            0,
+        )
+        if ok:
+            self.adjudicate("set", v)

@@ -1,0 +1,154 @@
+"""The command line's contract: exit codes, one-line errors, quiet broken pipes, no tracebacks.
+
+Exit codes (documented in `reviewapp --help`): 0 ok; 1 finished but some records failed;
+2 bad input / nothing could be done; 3 internal error; 141 output pipe closed.
+"""
+
+from __future__ import annotations
+
+import shutil
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+from reviewapp import cli
+
+REPO = Path(__file__).resolve().parents[1]
+SAMPLES = REPO / "sample_records"
+
+
+@pytest.fixture
+def run(capsys):
+    def _run(*argv: str) -> tuple[int, str, str]:
+        try:
+            code = cli.main(list(argv))
+        except SystemExit as stop:  # argparse: usage errors and --help
+            code = int(stop.code or 0)
+        out, err = capsys.readouterr()
+        return code, out, err
+
+    return _run
+
+
+def _one_line(err: str) -> str:
+    lines = err.strip().splitlines()
+    assert len(lines) == 1, err
+    assert "Traceback" not in err
+    return lines[0]
+
+
+def test_exit_0_ok(run) -> None:
+    code, out, err = run("info", str(SAMPLES / "s001_predose.hea"))
+    assert code == 0 and "s001_predose" in out and err == ""
+
+
+def test_exit_1_some_records_failed(run, tmp_path: Path) -> None:
+    bad = tmp_path / "garbage.csv"
+    bad.write_text("hello\nworld\n")
+    code, _, err = run("measure", str(SAMPLES / "s001_predose.hea"), str(bad), "--format", "csv")
+    assert code == 1
+    assert "garbage.csv" in _one_line(err)
+
+
+def test_exit_2_single_unreadable_record(run, tmp_path: Path) -> None:
+    bad = tmp_path / "empty.hea"
+    bad.write_text("")
+    code, _, err = run("measure", str(bad))
+    assert code == 2
+    assert _one_line(err) == f"reviewapp: {bad}: cannot read WFDB header: the header is empty"
+
+
+def test_exit_2_all_records_failed(run, tmp_path: Path) -> None:
+    a, b = tmp_path / "a.csv", tmp_path / "b.csv"
+    a.write_text("x\n")
+    b.write_text("y\n")
+    assert run("measure", str(a), str(b))[0] == 2
+
+
+def test_exit_2_batch_without_records(run, tmp_path: Path) -> None:
+    code, _, err = run("batch", str(tmp_path))
+    assert code == 2 and "no records found" in _one_line(err)
+
+
+def test_exit_2_usage_error(run) -> None:
+    code, _, err = run("measure", "--format", "pdf", "x.hea")
+    assert code == 2 and "invalid choice" in err
+
+
+def test_exit_2_too_short_record(run, tmp_path: Path) -> None:
+    two = tmp_path / "two.csv"
+    two.write_text("time_s,I,II\n0,0.1,0.2\n0.002,0.1,0.3\n")
+    code, _, err = run("measure", str(two))
+    line = _one_line(err)
+    assert code == 2 and "record too short to measure (2 samples" in line
+    assert "at least 2 s needed" in line
+
+
+def test_exit_3_internal_error_logged(run, monkeypatch, tmp_path: Path) -> None:
+    import reviewapp.commands.info as info
+
+    def boom(args):  # a bug anywhere in a command
+        raise RuntimeError("something broke")
+
+    monkeypatch.setattr(info, "run", boom)
+    monkeypatch.setenv("XDG_CACHE_HOME", str(tmp_path))
+    code, out, err = run("info", str(SAMPLES / "s001_predose.hea"))
+    log = tmp_path / "reviewapp" / "last-error.log"
+    assert code == 3 and out == ""
+    line = _one_line(err)
+    assert line.startswith("reviewapp: internal error: RuntimeError: something broke")
+    assert f"please report; details in {log}" in line
+    text = log.read_text()
+    assert "Traceback" in text and "something broke" in text and "boom" in text
+
+
+def test_os_errors_name_path_and_problem(run, tmp_path: Path) -> None:
+    a_file = tmp_path / "x.csv"
+    a_file.write_text("")
+    code, _, err = run("samples", str(a_file / "sub"))
+    assert code == 2
+    assert _one_line(err).startswith(f"reviewapp: {a_file / 'sub'}: Not a directory")
+    code, _, err = run("samples", str(a_file))  # an existing file is not a folder
+    assert code == 2 and "exists and is not a folder" in _one_line(err)
+
+
+def test_os_error_from_any_command(run, monkeypatch) -> None:
+    import reviewapp.commands.info as info
+
+    def denied(args):
+        raise PermissionError(13, "Permission denied", "/data/locked.hea")
+
+    monkeypatch.setattr(info, "run", denied)
+    code, _, err = run("info", "whatever.hea")
+    assert code == 2 and _one_line(err) == "reviewapp: /data/locked.hea: Permission denied"
+
+
+def test_help_lists_exit_codes(run) -> None:
+    code, out, _ = run("--help")
+    assert code == 0 and "exit codes:" in out and "internal error" in out
+    code, out, _ = run("measure", "--help")
+    assert code == 0 and "--units U" in out and "exit codes:" in out
+    # info and measure describe --fs the same way.
+    fs_help = "sampling rate for CSV files without a time column"
+    assert fs_help in " ".join(out.split())
+    assert fs_help in " ".join(run("info", "--help")[1].split())
+
+
+@pytest.mark.skipif(shutil.which("bash") is None or shutil.which("head") is None,
+                    reason="needs bash and head")  # fmt: skip
+def test_broken_pipe_is_quiet(tmp_path: Path) -> None:
+    records = " ".join(str(SAMPLES / f"{n}.hea") for n in ("s001_predose", "s002_predose"))
+    err_file = tmp_path / "err.txt"
+    cmd = (
+        f"set -o pipefail; '{sys.executable}' -m reviewapp measure {records} "
+        f"2>'{err_file}' | head -1"
+    )
+    proc = subprocess.run(
+        ["bash", "-c", cmd], capture_output=True, text=True, cwd=REPO, timeout=300
+    )
+    assert proc.stdout.startswith("Record s001_predose")
+    err = err_file.read_text()
+    assert "Traceback" not in err and "BrokenPipe" not in err and err.strip() == ""
+    assert proc.returncode in (0, 141)  # pipefail: the reviewapp exit code, 141 when cut off
