@@ -48,7 +48,11 @@ def list_records(folder: Path) -> list[Path]:
     no sidecars, no CSV/XML that is not an ECG)."""
     from reviewapp.core.io import find_records
 
-    return find_records(folder, recursive=False)
+    try:
+        from reviewapp.ui.worklist import is_listable
+    except ImportError:  # the worklist needs the batch package; the plain list does not
+        return find_records(folder, recursive=False)
+    return [p for p in find_records(folder, recursive=False) if is_listable(p)]
 
 
 class MainWindow(QtWidgets.QMainWindow):

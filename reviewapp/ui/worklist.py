@@ -47,6 +47,8 @@ from reviewapp.batch.listing import ListingRow, listing_row
 
 COLUMNS: tuple[tuple[str, str], ...] = (
     ("name", "Record"),
+    ("subject", "Subject"),
+    ("timepoint", "Timepoint"),
     ("status", "Status"),
     ("reviewer", "Reviewer"),
     ("hr_bpm", "HR (bpm)"),
@@ -59,6 +61,7 @@ COLUMNS: tuple[tuple[str, str], ...] = (
 )
 NUMERIC = {"hr_bpm", "pr_ms", "qrs_ms", "qt_ms", "qtc"}
 STATUS_TEXT = {"unread": "unread", "in_progress": "in progress", "signed_off": "signed off"}
+SUBJECT_KEYS = ("subject", "timepoint")
 SortKeyRole = Qt.ItemDataRole.UserRole + 1
 PathRole = Qt.ItemDataRole.UserRole + 2
 RowRole = Qt.ItemDataRole.UserRole + 3
@@ -71,6 +74,7 @@ class WorklistModel(QAbstractTableModel):
         super().__init__(parent)
         self._rows: list[ListingRow] = []
         self._index: dict[Path, int] = {}
+        self._subjects: dict[Path, dict[str, str]] = {}
         self.qtc_formula = qtc_formula
 
     # --- Qt model API
@@ -138,6 +142,8 @@ class WorklistModel(QAbstractTableModel):
             return "" if v is None else f"{v:.0f}"
         if key == "status":
             return STATUS_TEXT.get(row.status, row.status)
+        if key in SUBJECT_KEYS:
+            return self._subjects.get(row.path, {}).get(key, "")
         if key == "reviewer":
             return row.reviewer or ""
         if key == "flags":
@@ -179,9 +185,18 @@ class WorklistModel(QAbstractTableModel):
         self.beginResetModel()
         self._rows = []
         self._index = {}
+        self._subjects = {}
         self.endResetModel()
 
-    def append_rows(self, rows: list[ListingRow]) -> None:
+    def subject_of(self, path: Path) -> dict[str, str]:
+        """Subject id and timepoint read from the record's header (empty when unknown)."""
+        return dict(self._subjects.get(Path(path), {}))
+
+    def append_rows(
+        self, rows: list[ListingRow], subjects: dict[Path, dict[str, str]] | None = None
+    ) -> None:
+        if subjects:
+            self._subjects.update(subjects)
         if not rows:
             return
         first = len(self._rows)
@@ -269,7 +284,7 @@ class WorklistFilter(QSortFilterProxyModel):
 
 
 class _ScanSignals(QObject):
-    rows = Signal(int, list)  # generation, rows
+    rows = Signal(int, list, dict)  # generation, rows, {path: subject facts}
     progress = Signal(int, int, int)  # generation, done, total (total 0 = still searching)
     finished = Signal(int, int)  # generation, n rows
     failed = Signal(int, str)
@@ -299,22 +314,26 @@ class _ScanTask(QRunnable):
         gen = self.generation
         try:
             self.signals.progress.emit(gen, 0, 0)
-            paths = find_records(self.root, recursive=True)
+            paths = [p for p in find_records(self.root, recursive=True) if is_listable(p)]
             total = len(paths)
             self.signals.progress.emit(gen, 0, total)
             chunk: list[ListingRow] = []
+            subjects: dict[Path, dict[str, str]] = {}
             last = time.monotonic()
             for i, p in enumerate(paths):
                 if self.cancelled.is_set():
                     return
                 chunk.append(listing_row(p, self.root, self.engine_version))
+                facts = header_subject(p)
+                if facts:
+                    subjects[p] = facts
                 now = time.monotonic()
                 if len(chunk) >= self.CHUNK_ROWS or now - last >= self.CHUNK_S:
-                    self.signals.rows.emit(gen, chunk)
+                    self.signals.rows.emit(gen, chunk, subjects)
                     self.signals.progress.emit(gen, i + 1, total)
-                    chunk, last = [], now
+                    chunk, subjects, last = [], {}, now
             if chunk:
-                self.signals.rows.emit(gen, chunk)
+                self.signals.rows.emit(gen, chunk, subjects)
             self.signals.progress.emit(gen, total, total)
             self.signals.finished.emit(gen, total)
         except ReviewError as err:
@@ -430,10 +449,10 @@ class WorklistWidget(QWidget):
     def is_scanning(self) -> bool:
         return self._task is not None
 
-    def _on_rows(self, generation: int, rows: list) -> None:
+    def _on_rows(self, generation: int, rows: list, subjects: dict) -> None:
         if generation != self._generation:
             return
-        self.model.append_rows(rows)
+        self.model.append_rows(rows, subjects)
         self._update_count()
 
     def _on_progress(self, generation: int, done: int, total: int) -> None:
@@ -565,6 +584,48 @@ class WorklistWidget(QWidget):
     def closeEvent(self, event) -> None:  # type: ignore[no-untyped-def]
         self.cancel_scan()
         super().closeEvent(event)
+
+
+def is_listable(path: Path) -> bool:
+    """Whether a path the record finder returned is an ECG record the window can open.
+
+    The finder is being tightened in reviewapp.core.io; the list checks again cheaply (header
+    row of a CSV, root element of an XML) so tables beside the records, such as a study's
+    ``worklist.csv``, never appear as records."""
+    suffix = path.suffix.lower()
+    try:
+        if suffix in (".csv", ".tsv", ".txt"):
+            from reviewapp.core.io.csv_format import looks_like_ecg_csv
+
+            return looks_like_ecg_csv(path)
+        if suffix == ".xml":
+            with path.open("rb") as fh:
+                return b"AnnotatedECG" in fh.read(4096)
+    except (OSError, ImportError):
+        return False
+    return True
+
+
+def header_subject(path: Path) -> dict[str, str]:
+    """Subject id and timepoint from a WFDB header's comment lines (``# subject: S-001``,
+    ``# timepoint: pre-dose``); reads at most 8 kB of the header and never the signal."""
+    if path.suffix.lower() != ".hea":
+        return {}
+    try:
+        with path.open("r", encoding="utf-8", errors="replace") as fh:
+            text = fh.read(8192)
+    except OSError:
+        return {}
+    out: dict[str, str] = {}
+    for line in text.splitlines():
+        line = line.strip()
+        if not line.startswith("#") or ":" not in line:
+            continue
+        key, _, value = line.lstrip("#").partition(":")
+        key = key.strip().lower()
+        if key in SUBJECT_KEYS and value.strip() and key not in out:
+            out[key] = value.strip()[:60]
+    return out
 
 
 def _engine_version() -> str | None:

@@ -7,11 +7,10 @@ beat and lead -- with masks instead of Python loops. Durations are given in ms
 Methods:
 
 - QRS onset/end (global): slope thresholds on the spatial velocity
-  sqrt(sum_leads (dx/dt)^2) of the 40 Hz low-passed usable leads (multi-lead feature; Laguna
-  P, Jane R, Caminal P, "Automatic detection of wave boundaries in multilead ECG signals:
-  validation with the CSE database", Comput Biomed Res 27(1):45-60, 1994), with the decision
-  rules of the wavelet delineator of Martinez JP, Almeida R, Olmos S, Rocha AP, Laguna P,
-  "A wavelet-based ECG delineator: evaluation on standard databases", IEEE TBME
+  sqrt(sum_leads (dx/dt)^2) of the 40 Hz low-passed usable leads (the usual multi-lead QRS
+  feature of vectorcardiographic boundary programs; common practice, no single source), with
+  the decision rules of the wavelet delineator of Martinez JP, Almeida R, Olmos S, Rocha AP,
+  Laguna P, "A wavelet-based ECG delineator: evaluation on standard databases", IEEE TBME
   51(4):570-581, 2004: find the first (last) significant slope lobe of the complex (above
   ``qrs_sig`` x its steepest slope), then walk outward until the slope stays below
   ``qrs_on_frac`` (``qrs_off_frac``) of that lobe's own peak for ``qrs_run`` (8 ms). The
@@ -31,12 +30,14 @@ Methods:
   window ends removed, the largest deflection is the P peak (present if >= 0.03 mV); onset
   and end by the same trapezium rule on each side (x_r 50 ms before / 25 ms after the
   steepest slopes within 60 ms of the peak).
-- Global P and T (multi-lead rules after Laguna et al. 1994): only leads whose wave is at
-  least 30 % of the largest one vote; P onset/end are the 40th/60th percentiles and T end the
-  median of their marks (order statistics rounded up: for two leads, earliest onset and
-  latest end). A global P
-  needs a P in at least 30 % of the usable leads. Leads with a weak wave, or whose own mark
-  lies more than 40 ms (P) / 80 ms (T) from the global one, take the global mark.
+- Global P and T: multi-lead rules over the single-lead marks, after Laguna P, Jane R,
+  Caminal P, "Automatic detection of wave boundaries in multilead ECG signals: validation
+  with the CSE database", Comput Biomed Res 27(1):45-60, 1994 (the exact rule here is this
+  module's own): only leads whose wave is at least 30 % of the largest one vote; P onset/end
+  are the 40th/60th percentiles and T end the median of their marks (order statistics
+  rounded up: for two leads, earliest onset and latest end). A global P needs a P in at
+  least 30 % of the usable leads. Leads with a weak wave, or whose own mark lies more than
+  40 ms (P) / 80 ms (T) from the global one, take the global mark.
 
 The thresholds were set on the LUDB and QTDB records in shared/data; tests/dsp measure the
 result against those readers' marks.
@@ -94,8 +95,6 @@ class DelineationParams:
     p_xm_max: int = 0  # samples either side of the P peak searched for its steepest slopes
     p_strong_frac: float = 0.3  # leads with P below this fraction of the largest P do not vote
     p_lead_slack: int = 0  # a lead's P boundary further than this from the global one is replaced
-    p_amp_frac: float = 0.0
-    p_amp_weight: float = 1.0
     p_min_mv: float = 0.03  # smaller P waves count as absent in that lead
     p_on_q: float = 0.4  # global onset: this order statistic of the lead onsets (0 = earliest)
     p_off_q: float = 0.6  # global P end: this order statistic of the lead ends
@@ -423,13 +422,6 @@ def delineate_block(
     xm_off = _masked_argmax(-sgn * dyp, _range_mask(w, p_pk, np.minimum(p_b, p_pk + p.p_xm_max)))
     xr_off = np.minimum(p_b + p.p_gap, xm_off + p.p_xr_off)
     p_off = trapezium_boundary(yp, xm_off, xr_off)
-    if p.p_amp_frac > 0:
-        low = sgn * yp < (p.p_amp_frac * p_amp)[:, None]
-        a_on = _last_true(_range_mask(w, p_a, p_pk) & low)
-        a_off = _first_true(_range_mask(w, p_pk, p_b + p.p_gap) & low)
-        wgt = p.p_amp_weight
-        p_on = np.where(a_on >= 0, np.round(wgt * a_on + (1 - wgt) * p_on), p_on).astype(np.int64)
-        p_off = np.where(a_off >= 0, np.round(wgt * a_off + (1 - wgt) * p_off), p_off).astype(np.int64)
     p_ok &= (p_on >= 0) & (p_off > p_on)
 
     # Where the RR is known, T must end before the next beat's P (same PR as this beat).
