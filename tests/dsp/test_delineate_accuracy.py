@@ -46,15 +46,15 @@ QTDB_LIMITS = {
     "p_on": (4.5, 21.0),  # measured 2.7 +- 19.3 (SD above CSE 10.2)
     "p_off": (3.5, 23.5),  # measured 1.4 +- 21.6 (above CSE 12.7)
     "qrs_on": (3.0, 11.0),  # measured 1.5 +- 10.0 (above CSE 6.5)
-    "qrs_off": (4.0, 16.5),  # measured 2.7 +- 15.0 (above CSE 11.6)
+    "qrs_off": (4.5, 15.5),  # measured 3.1 +- 14.3 (above CSE 11.6)
     "t_off": (2.5, 46.0),  # measured -0.6 +- 43.8 (above CSE 30.6; a few records dominate)
 }
 LUDB_LIMITS = {
     "p_on": (5.0, 20.0),  # measured -3.5 +- 18.4 (SD above CSE 10.2)
     "p_off": (6.0, 20.0),  # measured 4.2 +- 18.5 (above CSE 12.7)
     "qrs_on": (1.5, 13.0),  # measured 0.2 +- 11.9 (above CSE 6.5)
-    "qrs_off": (2.0, 15.5),  # measured 0.4 +- 14.4 (above CSE 11.6)
-    "t_off": (2.5, 30.5),  # measured -1.1 +- 29.1 (within CSE 30.6)
+    "qrs_off": (2.0, 15.0),  # measured 0.9 +- 14.0 (above CSE 11.6)
+    "t_off": (2.5, 30.3),  # measured -1.0 +- 28.8 (within CSE 30.6)
 }
 # Fraction of reference marks with no detected mark, and detected marks with no reference.
 # Measured: QTDB P 2.5 % missed, T 1 of 2350; LUDB P 0.9 %, T 0.1 % missed; LUDB extra P

@@ -43,8 +43,6 @@ def detect_format(path: Path) -> str:
     Extension first; files with other or no extension are sniffed (DICOM preamble, XML
     declaration, EDF version field "0       ", a WFDB header beside the file).
     """
-    from reviewapp.core.io.wfdb_format import is_wfdb_record
-
     suffix = path.suffix.lower()
     if suffix in WFDB_SUFFIXES:
         return "WFDB"
@@ -56,6 +54,8 @@ def detect_format(path: Path) -> str:
         return "HL7 aECG"
     if suffix in DICOM_SUFFIXES:
         return "DICOM"
+    from reviewapp.core.io.wfdb_format import is_wfdb_record
+
     if is_wfdb_record(path):
         return "WFDB"
     if not path.exists():

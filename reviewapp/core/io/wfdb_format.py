@@ -13,9 +13,9 @@ import re
 from dataclasses import dataclass, replace
 from datetime import date, datetime, time
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import numpy as np
-import wfdb
 
 from reviewapp.core.errors import RecordError
 from reviewapp.core.io._common import ColumnStackSource, mv_factor, reading, unique_names
@@ -28,6 +28,10 @@ from reviewapp.core.record import (
     SubjectFacts,
     build_record,
 )
+
+if TYPE_CHECKING:
+    # wfdb imports pandas (~0.2 s): it is imported where a WFDB file is read, not here.
+    import wfdb
 
 # Memory-mappable formats: numpy dtype of the stored value, offset to subtract to get the
 # signed digital value, and the stored code WFDB reserves for "no sample" (invalid).
@@ -104,6 +108,8 @@ class WfdbWindowSource:
         stop = min(self.total_samples, int(stop))
         if stop <= start:
             return np.zeros((0, self.n_leads), dtype=np.float32)
+        import wfdb
+
         with reading(self.header_path, "WFDB signal"):
             rec = wfdb.rdrecord(
                 self.base,
@@ -201,6 +207,8 @@ def read_wfdb(path: Path, *, units: str | None = None) -> Record:
         raise RecordError("cannot read WFDB header: the header is empty", hea)
     if not any(ln.strip() and not ln.lstrip().startswith("#") for ln in content.splitlines()):
         raise RecordError("cannot read WFDB header: the header has no record line", hea)
+    import wfdb
+
     with reading(hea, "WFDB header"):
         header = wfdb.rdheader(str(base))
         fs_note = _check_record_line(hea)
@@ -505,6 +513,8 @@ def _read_single_segment(base: Path, hea: Path, header: wfdb.Record, units: str 
 def _read_multi_segment(
     base: Path, hea: Path, header: wfdb.MultiRecord, units: str | None
 ) -> Record:
+    import wfdb
+
     fs_hz = _check_fs(header.fs, hea)
     sig_len = _check_sig_len(header.sig_len, hea)
     seg_names = [str(s) for s in header.seg_name]
