@@ -1,31 +1,41 @@
 """Run the batch step over many records: in-process, on a local Dask cluster, or on a remote one.
 
-Workers receive paths, never arrays: each opens its record, analyses it and writes the sidecar
-itself, returning only a small ``RecordOutcome``. Futures are collected with ``as_completed`` so
-progress moves as records finish, in whatever order they finish.
+Workers receive paths, never arrays: each opens its records, analyses them and writes the
+sidecars itself, returning only small ``RecordOutcome``s. Records go out in small chunks
+(``task.process_records``): one Dask task per record of ~40 ms would spend a noticeable share
+of the two cores on scheduling, and within a chunk each sidecar's fsync waits overlap the
+analysis of the next record. Futures are collected with ``as_completed`` so progress moves as
+chunks finish, in whatever order they finish.
 """
 
 from __future__ import annotations
 
 import logging
+import math
 import os
 import time
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from pathlib import Path
 
-from reviewapp.batch.task import DONE, FAILED, SKIPPED, RecordOutcome, process_record
+from reviewapp.batch.task import DONE, FAILED, SKIPPED, RecordOutcome, process_records
 
 ProgressFn = Callable[[RecordOutcome], None]
 
 
 @dataclass(frozen=True)
 class BatchResult:
-    """Every record's outcome (in input order) and the wall time of the run."""
+    """Every record's outcome (in input order) and the wall time of the run.
+
+    ``seconds`` is the whole run; ``startup_seconds`` the part of it spent before the first
+    record started (starting the cluster, importing the pipeline), so that records per second
+    of a large folder is ``len(outcomes) / (seconds - startup_seconds)``.
+    """
 
     outcomes: tuple[RecordOutcome, ...]
     seconds: float
     workers: int
+    startup_seconds: float = 0.0
 
     def count(self, outcome: str) -> int:
         return sum(1 for o in self.outcomes if o.outcome == outcome)
@@ -41,6 +51,12 @@ class BatchResult:
     @property
     def failed(self) -> int:
         return self.count(FAILED)
+
+    @property
+    def records_per_second(self) -> float:
+        """Throughput once started (start-up excluded); nan for an empty run."""
+        busy = self.seconds - self.startup_seconds
+        return len(self.outcomes) / busy if self.outcomes and busy > 0 else float("nan")
 
 
 def default_workers() -> int:
@@ -67,22 +83,35 @@ def run_batch(
     items = [str(p) for p in paths]
     n_workers = default_workers() if workers is None else max(1, int(workers))
     if scheduler is None and n_workers == 1:
-        outcomes = _run_in_process(items, force, progress)
+        outcomes, startup = _run_in_process(items, force, progress)
     else:
-        outcomes = _run_on_dask(items, force, progress, n_workers, scheduler, processes)
-    return BatchResult(tuple(outcomes), time.perf_counter() - t0, n_workers)
+        outcomes, startup = _run_on_dask(items, force, progress, n_workers, scheduler, processes)
+    return BatchResult(tuple(outcomes), time.perf_counter() - t0, n_workers, startup)
+
+
+MAX_CHUNK = 16
+
+
+def chunks(items: Sequence[str], n_workers: int) -> list[list[str]]:
+    """Split ``items`` into consecutive chunks: about 8 per worker so the workers finish
+    together, at most ``MAX_CHUNK`` records so progress still moves every second or so."""
+    size = max(1, min(MAX_CHUNK, math.ceil(len(items) / (8 * max(1, n_workers)))))
+    return [list(items[i : i + size]) for i in range(0, len(items), size)]
 
 
 def _run_in_process(
     items: list[str], force: bool, progress: ProgressFn | None
-) -> list[RecordOutcome]:
-    outcomes = []
-    for path in items:
-        out = process_record(path, force)
-        outcomes.append(out)
-        if progress is not None:
-            progress(out)
-    return outcomes
+) -> tuple[list[RecordOutcome], float]:
+    t0 = time.perf_counter()
+    _warm_up(_suffixes(items))
+    startup = time.perf_counter() - t0
+    outcomes: list[RecordOutcome] = []
+    for chunk in chunks(items, 1):
+        for out in process_records(chunk, force):
+            outcomes.append(out)
+            if progress is not None:
+                progress(out)
+    return outcomes, startup
 
 
 def _run_on_dask(
@@ -92,19 +121,33 @@ def _run_on_dask(
     n_workers: int,
     scheduler: str | None,
     processes: bool,
-) -> list[RecordOutcome]:
+) -> tuple[list[RecordOutcome], float]:
     import dask
     from dask.distributed import Client, LocalCluster, as_completed
 
+    t0 = time.perf_counter()
     cluster = None
     if scheduler is None:
-        # The workers' sampling profiler (every 10 ms) and GIL monitor cost CPU that a batch of
-        # short tasks would rather spend on records; the nanny passes this config to workers.
+        # The workers' sampling profiler (every 10 ms), GIL monitor, event-loop tick (20 ms),
+        # system monitor (500 ms) and memory monitor (100 ms) cost CPU that a batch would
+        # rather spend on records: an idle 2-worker cluster took 13-14 % of a core with the
+        # defaults, 3-4 % with these. The nanny passes this config to the workers.
         quiet = {
             "distributed.worker.profile.enabled": False,
             "distributed.admin.system-monitor.gil.enabled": False,
+            "distributed.admin.tick.interval": "500ms",
+            "distributed.admin.system-monitor.interval": "2s",
+            "distributed.worker.memory.monitor-interval": "1s",
+            # Dask sets MALLOC_TRIM_THRESHOLD_ in each worker, which also fixes glibc's mmap
+            # threshold at 128 KiB: every array of a record (12 x 5000 samples) is then mapped
+            # and page-faulted afresh, 10-20 % more CPU per record than in-process. A batch
+            # worker's memory is small and steady, so glibc's adaptive default is kept.
+            "distributed.nanny.pre-spawn-environ.MALLOC_TRIM_THRESHOLD_": None,
         }
         with dask.config.set(quiet):  # workers are spawned (and get their config) in here
+            # One thread per worker process: the analysis holds the GIL most of the time, so a
+            # second Dask thread would mostly wait for it; the fsync waits are overlapped by
+            # the writer thread inside each task instead (task.process_records).
             cluster = LocalCluster(
                 n_workers=n_workers,
                 threads_per_worker=1,
@@ -122,38 +165,57 @@ def _run_on_dask(
             raise ReviewError(f"cannot reach the Dask scheduler at {scheduler}: {err}") from err
     try:
         # Import the pipeline on every worker first, so records start together.
-        client.run(_warm_up)
-        futures = {
-            client.submit(process_record, path, force, pure=False): i
-            for i, path in enumerate(items)
-        }
+        client.run(_warm_up, _suffixes(items))
+        n = n_workers if scheduler is None else max(1, len(client.scheduler_info()["workers"]))
+        startup = time.perf_counter() - t0
+        futures = {}
+        offset = 0
+        for group in chunks(items, n):
+            futures[client.submit(process_records, group, force, pure=False)] = (offset, group)
+            offset += len(group)
         results: list[RecordOutcome | None] = [None] * len(items)
         for fut in as_completed(futures):
-            i = futures[fut]
+            offset, group = futures[fut]
             try:
-                out = fut.result()
-            except Exception as err:  # a worker died on this record (crash, OOM kill)
-                out = RecordOutcome(
-                    items[i],
-                    Path(items[i]).stem,
-                    FAILED,
-                    error=f"{items[i]}: worker failed: {type(err).__name__}: {err}",
-                )
-            results[i] = out
+                outs = fut.result()
+            except Exception as err:  # a worker died on this chunk (crash, OOM kill)
+                outs = [
+                    RecordOutcome(
+                        path,
+                        Path(path).stem,
+                        FAILED,
+                        error=f"{path}: worker failed: {type(err).__name__}: {err}",
+                    )
+                    for path in group
+                ]
             fut.release()
-            if progress is not None:
-                progress(out)
-        return [r for r in results if r is not None]
+            for j, out in enumerate(outs):
+                results[offset + j] = out
+                if progress is not None:
+                    progress(out)
+        return [r for r in results if r is not None], startup
     finally:
         client.close()
         if cluster is not None:
             cluster.close()
 
 
-def _warm_up() -> None:
+def _suffixes(items: Sequence[str]) -> set[str]:
+    return {Path(p).suffix.lower() for p in items}
+
+
+def _warm_up(suffixes: set[str] | frozenset[str] = frozenset()) -> None:
+    """Import the pipeline, and the readers of the given file suffixes, before timing starts."""
     import reviewapp.core.engine
     import reviewapp.core.io
-    import reviewapp.core.marks  # noqa: F401
+    import reviewapp.core.marks
+    from reviewapp.core.marks import codec
+
+    codec._validator()  # build the schema validator once per process
+    if suffixes & set(reviewapp.core.io.WFDB_SUFFIXES):
+        import wfdb  # noqa: F401  (imports pandas: a third of a second)
+
+        import reviewapp.core.io.wfdb_format
 
 
 __all__ = ["DONE", "FAILED", "SKIPPED", "BatchResult", "default_workers", "run_batch"]

@@ -147,9 +147,17 @@ def read_view(record_path: Path) -> SidecarView | None:
 
 
 def store_automatic(
-    record: Record, analysis: Any, fingerprint: str, summary: CachedSummary
+    record: Record,
+    analysis: Any,
+    fingerprint: str,
+    summary: CachedSummary,
+    *,
+    folder_swept: bool = False,
 ) -> Path:
     """Store the engine's marks and the listing cache; every reading is left untouched.
+
+    ``folder_swept``: the caller already removed dead writers' temporary files in the record's
+    folder (``sweep_folder``), so the store need not list the folder again.
 
     Raises the store's errors: LockedError (a window has the record open), ForeignSidecarError
     (the sidecar belongs to other record content), UnreadableSidecarError.
@@ -162,7 +170,15 @@ def store_automatic(
         actor="batch",
         fingerprint=fingerprint,
         listing_cache=summary.to_json(),
+        sweep_temps=not folder_swept,
     )
+
+
+def sweep_folder(folder: Path) -> None:
+    """Remove temporary files of marks writes whose process died (see ``store_automatic``)."""
+    from reviewapp.core.marks.durable import remove_stale_temps_in
+
+    remove_stale_temps_in(folder)
 
 
 @dataclass(frozen=True)

@@ -8,8 +8,11 @@ with an error message, so one bad record never stops a batch.
 from __future__ import annotations
 
 import time
+from collections.abc import Sequence
+from concurrent.futures import Future, ThreadPoolExecutor
 from dataclasses import dataclass
 from pathlib import Path
+from typing import Any
 
 from reviewapp.batch import sidecar_adapter as sidecars
 from reviewapp.batch.summary import CachedSummary, summarise
@@ -31,7 +34,7 @@ class RecordOutcome:
     seconds: float = 0.0  # wall time on the worker
     error: str = ""
     note: str = ""
-    cpu_seconds: float = 0.0  # CPU time of the worker process on this record
+    cpu_seconds: float = 0.0  # CPU time the worker's threads spent on this record
 
 
 def engine_version() -> str:
@@ -60,8 +63,93 @@ def process_record(path: str, force: bool = False) -> RecordOutcome:
     was read on); reviewer overrides are never touched (the store replaces only the automatic
     marks and the listing cache).
     """
+    step = _analyse_step(path, force)
+    return step if isinstance(step, RecordOutcome) else step.store()
+
+
+def process_records(paths: Sequence[str], force: bool = False) -> list[RecordOutcome]:
+    """``process_record`` for several records on one worker, outcomes in input order.
+
+    Each record's sidecar write (lock, atomic write, several fsync waits) runs on one writer
+    thread while this thread analyses the next record, so the disk waits overlap computing;
+    the writes stay one at a time and every outcome is returned only once its write is done
+    (or failed). Each folder's stale temporary files are swept once, not once per record.
+    """
+    swept: set[Path] = set()
+    pending: list[RecordOutcome | Future[RecordOutcome]] = []
+    with ThreadPoolExecutor(1, thread_name_prefix="reviewapp-sidecar-writer") as writer:
+        for path in paths:
+            folder = Path(path).parent
+            if folder not in swept:
+                sidecars.sweep_folder(folder)
+                swept.add(folder)
+            step = _analyse_step(path, force, folder_swept=True)
+            pending.append(step if isinstance(step, RecordOutcome) else writer.submit(step.store))
+        return [p if isinstance(p, RecordOutcome) else p.result() for p in pending]
+
+
+@dataclass
+class _PendingStore:
+    """An analysed record whose sidecar is still to be written."""
+
+    path: str
+    name: str
+    view: sidecars.SidecarView | None
+    record: Any
+    analysis: Any
+    fingerprint: str
+    summary: CachedSummary
+    started: float  # perf_counter at the start of the record
+    cpu_seconds: float  # CPU time of the analysing thread so far
+    folder_swept: bool
+
+    def store(self) -> RecordOutcome:
+        c0 = time.thread_time()
+        error = ""
+        try:
+            sidecars.store_automatic(
+                self.record,
+                self.analysis,
+                self.fingerprint,
+                self.summary,
+                folder_swept=self.folder_swept,
+            )
+        except Exception as err:
+            error = _failure_message(Path(self.path), err)
+        view = self.view
+        return RecordOutcome(
+            self.path,
+            self.name,
+            FAILED if error else DONE,
+            view.status if view is not None else (None if error else "unread"),
+            view.reviewer if view is not None else None,
+            None if error else self.summary,
+            time.perf_counter() - self.started,
+            error=error,
+            note="" if error else "; ".join(self.analysis.notes),
+            cpu_seconds=self.cpu_seconds + time.thread_time() - c0,
+        )
+
+
+def _failure_message(p: Path, err: BaseException) -> str:
+    if isinstance(err, ReviewError):
+        return str(err)
+    if isinstance(err, MemoryError):
+        return f"{p}: not enough memory to analyse this record"
+    # a bug in one record's analysis must not stop the batch
+    return f"{p}: unexpected {type(err).__name__}: {err}"
+
+
+def _analyse_step(
+    path: str, force: bool, *, folder_swept: bool = False
+) -> RecordOutcome | _PendingStore:
+    """Everything but the sidecar write: a final outcome (skipped, failed) or the write to do.
+
+    CPU time is this thread's (``thread_time``), so a writer thread's work is not counted
+    twice.
+    """
     t0 = time.perf_counter()
-    c0 = time.process_time()
+    c0 = time.thread_time()
     p = Path(path)
     name = p.stem
     view = None
@@ -71,12 +159,12 @@ def process_record(path: str, force: bool = False) -> RecordOutcome:
             path,
             name,
             kind,
-            view.status if view is not None else ("unread" if kind == DONE else None),
+            view.status if view is not None else None,
             view.reviewer if view is not None else None,
             summary,
             time.perf_counter() - t0,
             **kw,
-            cpu_seconds=time.process_time() - c0,
+            cpu_seconds=time.thread_time() - c0,
         )
 
     try:
@@ -96,12 +184,17 @@ def process_record(path: str, force: bool = False) -> RecordOutcome:
         summary = summarise(
             analysis.reading(), engine_version=analysis.engine_version, fingerprint=fingerprint
         )
-        sidecars.store_automatic(record, analysis, fingerprint, summary)
-        return outcome(DONE, summary, note="; ".join(analysis.notes))
-    except ReviewError as err:
-        msg = str(err)
-    except MemoryError:
-        msg = f"{p}: not enough memory to analyse this record"
-    except Exception as err:  # a bug in one record's analysis must not stop the batch
-        msg = f"{p}: unexpected {type(err).__name__}: {err}"
-    return outcome(FAILED, error=msg)
+        return _PendingStore(
+            path,
+            name,
+            view,
+            record,
+            analysis,
+            fingerprint,
+            summary,
+            t0,
+            time.thread_time() - c0,
+            folder_swept,
+        )
+    except Exception as err:
+        return outcome(FAILED, error=_failure_message(p, err))

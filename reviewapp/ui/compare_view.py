@@ -190,13 +190,13 @@ class CompareDialog(QtWidgets.QDialog):
         tol = self.tolerances_ms()
         comp = compare_readings(s.analysis, readings[a], readings[b], tol)
         final = self._final_reading()
-        finals = (
-            {}
-            if final is None
-            else {
-                r.item: r.b_ms for r in compare_readings(s.analysis, readings[a], final, tol).rows
+        finals: dict[str, str] = {}
+        if final is not None:
+            adj = compare_readings(s.analysis, readings[a], final, tol)
+            finals = {
+                r.item: _ms(r.b_ms) + (" (auto)" if r.source_b == "automatic" else "")
+                for r in adj.rows
             }
-        )
         self.comparison = comp
         bold = QtGui.QFont(self.table.font())
         bold.setBold(True)
@@ -209,7 +209,7 @@ class CompareDialog(QtWidgets.QDialog):
                 _ms(row.diff_ms, signed=True),
                 "—" if row.tolerance_ms is None else f"± {row.tolerance_ms:g} ms",
                 verdict_text(row),
-                "—" if final is None else _ms(finals.get(row.item)),
+                finals.get(row.item, "—"),
             )
             for col, text in enumerate(cells):
                 it = QtWidgets.QTableWidgetItem(text)

@@ -721,12 +721,24 @@ class MainWindow(QtWidgets.QMainWindow):
     def set_read_mode(self, mode: ReadMode, *, reopen: bool = True) -> None:
         """Read as first reader, blinded second reader or adjudicator; the open record's marks
         are reopened in that role."""
-        self.read_mode = mode
+        old, self.read_mode = self.read_mode, mode
         act = self.act_roles.get(mode)
         if act is not None:
             act.setChecked(True)
         if reopen and self.session is not None:
             self._switch_store(keep_unsaved_calipers=False)
+            rec = self.record
+            if (
+                self.session.store is None
+                and rec is not None
+                and rec.source_path is not None
+                and old != mode
+            ):
+                # Refused (e.g. this id already reads the record in another role): go back,
+                # so edits are never kept in the window only by surprise.
+                self.set_read_mode(old)
+                self.statusBar().showMessage(f"Still reading as {old.text}.", 8000)
+                return
         if self.compare_dialog is not None and mode.blinded:
             self.compare_dialog.close()
         self._update_reading_panel()
@@ -1274,7 +1286,13 @@ class MainWindow(QtWidgets.QMainWindow):
         if self.record is None or self.session is None:
             return
         corrected = {f for f in FIDUCIALS if self.session.is_corrected("representative", f)}
-        self.summary.show_reading(reading, self.record.subject, corrected)
+        st = self.session.store
+        self.summary.show_reading(
+            reading,
+            self.record.subject,
+            corrected,
+            hide_automatic=st is not None and st.blinded and not st.show_automatic,
+        )
 
     def _overrides_changed(self) -> None:
         if (

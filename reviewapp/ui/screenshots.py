@@ -39,6 +39,8 @@ def write_screenshots(outdir: Path, record_path: Path | None = None) -> list[Pat
     ini = outdir / ".screenshots-settings.ini"
     settings = QtCore.QSettings(str(ini), QtCore.QSettings.Format.IniFormat)
     settings.clear()
+    # A demo reviewer id (the window asks for one at the first edit otherwise).
+    settings.setValue("reader/id", "reader1")
     record_path = record_path or _default_record()
     if record_path is None:
         raise SystemExit("no sample record found; pass --record PATH")
@@ -101,6 +103,9 @@ def write_screenshots(outdir: Path, record_path: Path | None = None) -> list[Pat
     shot("dark_3x4_rhythm1")
     w.show_median(True)
     shot("dark_median_beat")
+    w.set_theme("light")
+    w.show_median(False)
+    _sign_off_and_compare(w, app, outdir, shot, written)
     w.settings.clear()
     w.close()
     ini.unlink(missing_ok=True)
@@ -141,6 +146,60 @@ def _demo_calipers_and_correction(w) -> None:
         if wm.t_off is not None and not s.is_corrected("beat", "t_off", mid.r):
             s.commit(s.beat_override(i, "t_off", wm.t_off + round(0.03 * s.fs_hz)))
     w._refresh_marks()
+
+
+def _sign_off_and_compare(w, app, outdir: Path, shot, written: list[Path]) -> None:
+    """The first reader signs off (confirm dialog, then the signed-off window); a blinded
+    second reader corrects T end; an adjudicator compares both readings."""
+    from PySide6 import QtCore, QtWidgets
+
+    from reviewapp.ui.reader import ADJUDICATOR, SECOND_BLINDED
+
+    def confirm() -> None:
+        dlg = w.sign_off_dialog
+        if dlg is None:
+            QtCore.QTimer.singleShot(20, confirm)
+            return
+        app.processEvents()
+        p = outdir / "sign_off_confirm.png"
+        dlg.grab().save(str(p))
+        written.append(p)
+        dlg.accept()
+
+    w.median_auto = True
+    w._auto_median()
+    QtCore.QTimer.singleShot(0, confirm)
+    w.sign_off()
+    shot("signed_off")
+    s = w.session
+    if s is None or s.store is None:
+        return
+    w.settings.setValue("reader/id", "reader2")
+    w.set_read_mode(SECOND_BLINDED)
+    rep = s.reading.marked.representative
+    if rep is not None and rep.marks.t_off is not None:
+        s.commit(s.representative_override("t_off", rep.marks.t_off - round(0.012 * s.fs_hz)))
+    if rep is not None and rep.marks.qrs_on is not None:
+        s.commit(s.representative_override("qrs_on", rep.marks.qrs_on - round(0.004 * s.fs_hz)))
+    w._refresh_marks()
+    shot("second_reader_blinded")
+    w.settings.setValue("reader/id", "adj1")
+    w.set_read_mode(ADJUDICATOR)
+    w.open_compare()
+    dlg = w.compare_dialog
+    if dlg is None:
+        return
+    dlg.resize(980, 600)
+    dlg.select_item("t_off")
+    dlg.adjudicate("a")
+    dlg.select_item("qt_ms")
+    for _ in range(3):
+        app.processEvents()
+    p = outdir / "compare_readings.png"
+    dlg.grab().save(str(p))
+    written.append(p)
+    dlg.close()
+    QtWidgets.QApplication.processEvents()
 
 
 def main(argv: list[str] | None = None) -> int:

@@ -186,9 +186,16 @@ class SummaryPanel(QtWidgets.QWidget):
         return self._values.get(quantity, "")
 
     def show_reading(
-        self, reading: Reading | None, subject: SubjectFacts, corrected: set[str]
+        self,
+        reading: Reading | None,
+        subject: SubjectFacts,
+        corrected: set[str],
+        *,
+        hide_automatic: bool = False,
     ) -> None:
-        """Fill the tables. ``corrected``: global fiducials of the median beat the reader moved."""
+        """Fill the tables. ``corrected``: global fiducials of the median beat the reader moved.
+        ``hide_automatic`` (blinded read without the automatic values): an interval is shown
+        only once the reader has set both of its marks."""
         self._values.clear()
         if reading is None:
             self.status.setText("Analysing…")
@@ -203,8 +210,11 @@ class SummaryPanel(QtWidgets.QWidget):
         for row, (key, label, unit, dec, how) in enumerate(GLOBAL_ROWS):
             v = getattr(iv, key, None)
             rng = normal_range(key, subject)
-            flag, why = flag_for(key, v, rng, reading.findings)
+            hidden = hide_automatic and any(m not in corrected for m in USES_MARKS.get(key, ()))
+            flag, why = ("", "") if hidden else flag_for(key, v, rng, reading.findings)
             text = "—" if v is None else f"{v:.{dec}f} {unit}".replace(" °", "°")
+            if hidden:
+                text = "set marks"
             self._values[key] = text
             moved = [FIDUCIAL_LABELS[m] for m in USES_MARKS.get(key, ()) if m in corrected]
             tip = [f"How computed: {how}."]
@@ -263,7 +273,10 @@ class SummaryPanel(QtWidgets.QWidget):
             )
             + ". Hover a row for its source."
         )
-        self._show_findings(reading.findings)
+        hidden_q = {k for k, marks in USES_MARKS.items() if any(m not in corrected for m in marks)}
+        self._show_findings(
+            tuple(f for f in reading.findings if not (hide_automatic and f.quantity in hidden_q))
+        )
         self._last = (reading, subject)
         if self.leads_table.isVisible():
             self._fill_leads(reading, subject)

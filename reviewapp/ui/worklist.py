@@ -284,7 +284,7 @@ class WorklistFilter(QSortFilterProxyModel):
 
 
 class _ScanSignals(QObject):
-    rows = Signal(int, list, dict)  # generation, rows, {path: subject facts}
+    rows = Signal(int, list, object)  # generation, rows, {path: subject facts}
     progress = Signal(int, int, int)  # generation, done, total (total 0 = still searching)
     finished = Signal(int, int)  # generation, n rows
     failed = Signal(int, str)
@@ -449,10 +449,10 @@ class WorklistWidget(QWidget):
     def is_scanning(self) -> bool:
         return self._task is not None
 
-    def _on_rows(self, generation: int, rows: list, subjects: dict) -> None:
+    def _on_rows(self, generation: int, rows: list, subjects: object) -> None:
         if generation != self._generation:
             return
-        self.model.append_rows(rows, subjects)
+        self.model.append_rows(rows, subjects if isinstance(subjects, dict) else None)
         self._update_count()
 
     def _on_progress(self, generation: int, done: int, total: int) -> None:

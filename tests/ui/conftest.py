@@ -38,6 +38,44 @@ def ptb_analysis(ptb_12lead):
 
 
 @pytest.fixture
+def sample_copy(sample_records_dir, tmp_path):
+    """A copy of the first WFDB sample record (header + signal), so marks sidecars are written
+    beside the copy, never beside the repository's samples."""
+    import shutil
+
+    if not sample_records_dir.is_dir():
+        pytest.skip("no sample_records folder in this checkout")
+    heas = sorted(sample_records_dir.glob("*.hea"))
+    if not heas:
+        pytest.skip("no WFDB sample record")
+    hea = heas[0]
+    for f in sample_records_dir.glob(hea.stem + ".*"):
+        if not f.name.endswith(".marks.json") and not f.name.endswith(".json"):
+            shutil.copy(f, tmp_path / f.name)
+    return tmp_path / hea.name
+
+
+def answer_modal(act, cls=None, tries: int = 300) -> None:
+    """Run ``act(dialog)`` on the next modal dialog (of class ``cls``) once it is shown: the
+    test's way of answering a dialog that ``exec()`` blocks on."""
+    from PySide6 import QtCore, QtWidgets
+
+    cls = cls or QtWidgets.QDialog
+    state = {"left": tries}
+
+    def poll() -> None:
+        dlg = QtWidgets.QApplication.activeModalWidget()
+        if isinstance(dlg, cls) and dlg.isVisible():
+            act(dlg)
+            return
+        state["left"] -= 1
+        if state["left"] > 0:
+            QtCore.QTimer.singleShot(10, poll)
+
+    QtCore.QTimer.singleShot(0, poll)
+
+
+@pytest.fixture
 def settings(tmp_path):
     from PySide6 import QtCore
 

@@ -4,25 +4,10 @@ events), undone there too, and come back when the record is opened again."""
 from __future__ import annotations
 
 import json
-import shutil
 
 import pytest
 
 from tests.ui.test_marks import _median_drag
-
-
-@pytest.fixture
-def sample_copy(sample_records_dir, tmp_path):
-    if not sample_records_dir.is_dir():
-        pytest.skip("no sample_records folder in this checkout")
-    heas = sorted(sample_records_dir.glob("*.hea"))
-    if not heas:
-        pytest.skip("no WFDB sample record")
-    hea = heas[0]
-    for f in sample_records_dir.glob(hea.stem + ".*"):
-        if not f.name.endswith(".marks.json"):
-            shutil.copy(f, tmp_path / f.name)
-    return tmp_path / hea.name
 
 
 def _sidecar(hea):

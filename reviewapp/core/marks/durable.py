@@ -129,6 +129,33 @@ def remove_stale_temps(path: Path) -> list[Path]:
     return removed
 
 
+def remove_stale_temps_in(folder: Path, marker: str = ".marks.json") -> list[Path]:
+    """``remove_stale_temps`` for every file of the folder whose name contains ``marker``.
+
+    A batch over a folder of thousands of records calls this once per folder instead of
+    listing the whole folder again for each record's save.
+    """
+    removed = []
+    try:
+        entries = list(os.scandir(folder))
+    except OSError:
+        return removed
+    me = os.getpid()
+    for entry in entries:
+        m = _TEMP.match(entry.name) if entry.name.startswith(".") else None
+        if not m or marker not in m.group("target"):
+            continue
+        pid = int(m.group("pid"))
+        if pid == me or pid_alive(pid):
+            continue
+        try:
+            os.unlink(entry.path)
+            removed.append(Path(entry.path))
+        except OSError:
+            pass
+    return removed
+
+
 def set_aside(path: Path, reason: str = "set-aside") -> Path:
     """Rename ``path`` to ``<path>.<reason>-<utc>`` (content untouched); returns the new path.
 

@@ -181,6 +181,7 @@ class MarksStore:
         force_lock: bool = False,
         fresh_if_unreadable: bool = False,
         clock: Callable[[], str] = utc_now,
+        sweep_temps: bool = True,
     ) -> MarksStore:
         """Open (or start) the sidecar of ``record`` for ``reviewer``.
 
@@ -194,6 +195,8 @@ class MarksStore:
             for another record, move it (and its backup) aside to ``*.set-aside-<utc>`` and
             start a fresh one; otherwise raise the UnreadableSidecarError and touch nothing.
         fingerprint: the record's fingerprint if already computed (saves hashing twice).
+        sweep_temps: remove dead writers' temporary files of this sidecar first; a batch that
+            swept the whole folder already (``durable.remove_stale_temps_in``) passes False.
         """
         if not REVIEWER_ID.match(reviewer or ""):
             raise MarksError(
@@ -210,7 +213,8 @@ class MarksStore:
         identity = record_identity(record, fingerprint)
         held = None
         if lock and not read_only:
-            remove_stale_temps(path)
+            if sweep_temps:
+                remove_stale_temps(path)
             held = SidecarLock.acquire(path, reviewer, force=force_lock)
         store = cls(path, identity, reviewer, role, blinded, show_automatic, read_only, held, clock)
         try:
@@ -555,11 +559,15 @@ def write_automatic(
     path: Path | None = None,
     fingerprint: str | None = None,
     listing_cache: Mapping[str, Any] | None = None,
+    sweep_temps: bool = True,
 ) -> Path:
     """Batch use: store the engine's marks in the record's sidecar (creating it if needed),
     leaving every reading untouched. Raises LockedError if a window has the record open and
     UnreadableSidecarError if the existing sidecar cannot be used. Returns the sidecar path.
-    ``listing_cache``: the worklist cache derived from these marks (see set_automatic)."""
-    with MarksStore.open(record, actor, path=path, fingerprint=fingerprint) as store:
+    ``listing_cache``: the worklist cache derived from these marks (see set_automatic).
+    ``sweep_temps``: see ``MarksStore.open``."""
+    with MarksStore.open(
+        record, actor, path=path, fingerprint=fingerprint, sweep_temps=sweep_temps
+    ) as store:
         store.set_automatic(automatic, listing_cache)
         return store.path

@@ -1,0 +1,360 @@
+"""The reader's identity, reading status and sign-off, notes, the blinded second read and the
+comparison/adjudication view, driven through the window with real clicks and keys.
+
+Records are copies of the sample WFDB record; the marks sidecar is read back as plain JSON
+(what an auditor would read), independently of the window.
+"""
+
+from __future__ import annotations
+
+import json
+
+import pytest
+from PySide6 import QtCore, QtWidgets
+
+from tests.ui.conftest import answer_modal
+from tests.ui.test_marks import _median_drag
+
+L = QtCore.Qt.MouseButton.LeftButton
+
+
+def _sidecar(hea):
+    p = hea.with_name(hea.stem + ".marks.json")
+    return json.loads(p.read_text()) if p.exists() else None
+
+
+def _ok_button(dlg) -> QtWidgets.QPushButton:
+    box = dlg.findChild(QtWidgets.QDialogButtonBox)
+    for b in box.buttons():
+        if box.buttonRole(b) == QtWidgets.QDialogButtonBox.ButtonRole.AcceptRole:
+            return b
+    raise AssertionError("no OK button")
+
+
+def _type_and_ok(qtbot, text: str, seen: dict):
+    """Answer a text dialog (reader id or note) by typing ``text`` and clicking OK."""
+
+    def act(dlg) -> None:
+        edit = dlg.findChild(QtWidgets.QLineEdit, "reader_id") or dlg.findChild(
+            QtWidgets.QPlainTextEdit
+        )
+        seen["initial"] = edit.text() if isinstance(edit, QtWidgets.QLineEdit) else ""
+        edit.selectAll()
+        qtbot.keyClick(edit, QtCore.Qt.Key.Key_Delete)
+        qtbot.keyClicks(edit, text)
+        qtbot.mouseClick(_ok_button(dlg), L)
+
+    return act
+
+
+def _first_reader_moves_t_end(path, delta_s: float, reviewer="reader1", role="first", note=""):
+    """A reading made through the marks store (as another reader's window would)."""
+    from reviewapp.core.engine import analyse
+    from reviewapp.core.io import open_record
+    from reviewapp.core.marks import MarksStore
+
+    rec = open_record(path)
+    an = analyse(rec)
+    rep = an.representative
+    t_rel_s = (rep.marks.t_off - rep.r_index) / an.fs_hz
+    with MarksStore.open(rec, reviewer, role=role) as st:
+        st.do(st.edits.move_fiducial("t_off", t_rel_s + delta_s))
+        if note:
+            st.do(st.edits.add_note(note))
+        st.do(st.edits.sign_off())
+        reading = st.reading
+    return an, reading
+
+
+def test_reader_is_asked_at_first_edit_not_taken_from_login(window, qtbot, sample_copy, settings):
+    w = window
+    assert w.open_path(sample_copy, analyse_now=True)
+    st = w.session.store
+    assert st is not None and st.read_only  # nobody identified: nothing can be written yet
+    assert "Reader not set" in w.reader_label.text()
+    k0 = w.session.reading.marked.representative.marks.t_off
+    # Cancel: the correction is dropped and nothing is written.
+    answer_modal(lambda dlg: dlg.reject())
+    _median_drag(w, qtbot, "t_off", 40)
+    assert w.session.reading.marked.representative.marks.t_off == k0
+    assert _sidecar(sample_copy) is None
+    # Give an id: the dialog starts empty (the login name is only offered on a button).
+    seen: dict = {}
+    answer_modal(_type_and_ok(qtbot, "reader7", seen))
+    k1, _ = _median_drag(w, qtbot, "t_off", 40)
+    assert seen["initial"] == ""
+    assert k1 != k0 and settings.value("reader/id") == "reader7"
+    side = _sidecar(sample_copy)
+    assert [o["fiducial"] for o in side["readings"]["reader7"]["overrides"]] == ["t_off"]
+    assert w.reader_label.text().startswith("Reader reader7 · first reader")
+
+
+def test_sign_off_shows_values_reopen_is_recorded_and_undo_restores(
+    window, qtbot, sample_copy, settings
+):
+    w = window
+    settings.setValue("reader/id", "reader1")
+    assert w.open_path(sample_copy, analyse_now=True)
+    assert w.reading_panel.banner.text() == "○ Unread"
+    iv = w.session.reading.measurements.intervals
+    seen: dict = {}
+
+    def confirm(dlg) -> None:
+        seen["values"] = dlg.values.text()
+        qtbot.mouseClick(dlg.ok, L)
+
+    answer_modal(confirm)
+    w.act_sign_off.trigger()
+    assert f"QT: {iv.qt_ms:.0f} ms" in seen["values"]
+    assert f"QTc Fridericia: {iv.qtc_fridericia_ms:.0f} ms" in seen["values"]
+    r = _sidecar(sample_copy)["readings"]["reader1"]
+    assert r["status"] == "signed_off" and r["signed_off_by"] == "reader1"
+    assert w.reading_panel.banner.text().startswith("✔ Signed off by reader1 at ")
+    assert r["signed_off_at"][:10] in w.reading_panel.banner.text()
+    assert not w.act_sign_off.isEnabled()
+    # A correction after sign-off reopens the reading: recorded, and the reader is told.
+    _median_drag(w, qtbot, "t_off", 40)
+    side = _sidecar(sample_copy)
+    assert side["readings"]["reader1"]["status"] == "in_progress"
+    assert "reopen" in [e["action"] for e in side["audit"]]
+    assert w.reading_panel.notice.isVisible()
+    assert "Reopened" in w.reading_panel.notice.text()
+    assert w.reading_panel.banner.text() == "◐ In progress"
+    # Ctrl+Z undoes the correction and restores the sign-off (audited too).
+    w.activateWindow()  # focus is back on the window after the dialog
+    qtbot.waitUntil(w.isActiveWindow, timeout=2000)
+    qtbot.keyClick(w, QtCore.Qt.Key.Key_Z, QtCore.Qt.KeyboardModifier.ControlModifier)
+    side = _sidecar(sample_copy)
+    assert side["readings"]["reader1"]["status"] == "signed_off"
+    assert side["audit"][-1]["action"] == "restore_sign_off"
+
+
+def test_notes_add_edit_delete_are_undoable(window, qtbot, sample_copy, settings):
+    w = window
+    settings.setValue("reader/id", "reader1")
+    assert w.open_path(sample_copy, analyse_now=True)
+    panel = w.reading_panel
+    answer_modal(_type_and_ok(qtbot, "T end taken from V5", {}), QtWidgets.QInputDialog)
+    qtbot.mouseClick(panel.add_button, L)
+    assert panel.note_texts() == ["T end taken from V5"]
+    notes = _sidecar(sample_copy)["readings"]["reader1"]["notes"]
+    assert [n["text"] for n in notes] == ["T end taken from V5"]
+    panel.notes.setCurrentRow(0)
+    answer_modal(_type_and_ok(qtbot, "T end taken from II", {}), QtWidgets.QInputDialog)
+    qtbot.mouseClick(panel.edit_button, L)
+    assert panel.note_texts() == ["T end taken from II"]
+    w.session.undo_stack.undo()
+    assert panel.note_texts() == ["T end taken from V5"]
+    panel.notes.setCurrentRow(0)
+    qtbot.mouseClick(panel.delete_button, L)
+    assert panel.note_texts() == [] and _sidecar(sample_copy)["readings"]["reader1"]["notes"] == []
+    w.session.undo_stack.undo()
+    assert panel.note_texts() == ["T end taken from V5"]
+    actions = [e["action"] for e in _sidecar(sample_copy)["audit"]]
+    assert {"add_note", "edit_note", "undo:edit_note", "delete_note"} <= set(actions)
+
+
+def test_blinded_second_reader_never_sees_the_first_reading(
+    window, qtbot, sample_copy, settings, monkeypatch
+):
+    from reviewapp.core.marks import overrides_for
+
+    an, first = _first_reader_moves_t_end(sample_copy, 0.040, note="first reader private note")
+    first_qt = an.reading(
+        overrides_for(first, an.fs_hz, an.representative.r_index)
+    ).measurements.intervals.qt_ms
+    auto_qt = an.reading(()).measurements.intervals.qt_ms
+    assert first_qt - auto_qt == pytest.approx(40.0, abs=1000.0 / an.fs_hz)
+    settings.setValue("reader/id", "reader2")
+    monkeypatch.setattr(
+        QtWidgets.QFileDialog, "getOpenFileName", lambda *a, **k: (str(sample_copy), "")
+    )
+    w = window
+    w.act_open_second.trigger()  # File ▸ Open as second reader (blinded)…
+    qtbot.waitUntil(lambda: w.session is not None, timeout=5000)  # analysed after first paint
+    st = w.session.store
+    assert st.role == "second" and st.blinded and st.reviewer == "reader2"
+    rep = w.session.reading.marked.representative
+    assert rep.marks.t_off == an.representative.marks.t_off  # the automatic T end
+    assert not w.session.is_corrected("representative", "t_off")
+    assert w.summary.value_text("qt_ms") == f"{auto_qt:.0f} ms"
+    assert w.session.reading.measurements.intervals.qt_ms == pytest.approx(auto_qt)
+    assert w.reading_panel.note_texts() == []
+    assert w.reading_panel.banner.text() == "○ Unread"
+    assert "second reader (blinded)" in w.reader_label.text()
+    shown = " ".join(
+        [w.reading_panel.banner.text(), w.reader_label.text(), *w.summary.finding_texts()]
+    )
+    assert "reader1" not in shown and "private" not in shown
+    assert not w.act_compare.isEnabled()
+    w.open_compare()
+    assert "blinded" in w.last_error_box.text() and w.compare_dialog is None
+    w.last_error_box.close()
+
+
+def test_compare_flags_beyond_tolerance_and_adjudicator_picks_a_value(
+    window, qtbot, sample_copy, settings
+):
+    from reviewapp.ui.reader import ADJUDICATOR
+
+    an, first = _first_reader_moves_t_end(sample_copy, 0.040)
+    _an, _second = _first_reader_moves_t_end(sample_copy, -0.010, "reader2", "second")
+    settings.setValue("reader/id", "adj1")
+    w = window
+    w.act_roles[ADJUDICATOR].trigger()
+    assert w.open_path(sample_copy, analyse_now=True)
+    assert w.act_compare.isEnabled()
+    w.act_compare.trigger()  # Tools ▸ Compare readings…
+    dlg = w.compare_dialog
+    assert dlg is not None and dlg.isVisible()
+    assert dlg.a_box.currentData() == "reader1" and dlg.b_box.currentData() == "reader2"
+    t = dlg.table
+    rows = {t.item(r, 0).data(QtCore.Qt.ItemDataRole.UserRole): r for r in range(t.rowCount())}
+    # Both readers keep the automatic QRS onset, so QT differs exactly as T end does:
+    # QT = T end - QRS onset (definition); -10 ms - (+40 ms) = -50 ms.
+    assert t.item(rows["t_off"], 3).text() == "-50 ms"
+    assert t.item(rows["qt_ms"], 3).text() == "-50 ms"
+    verdict = t.item(rows["qt_ms"], 5)
+    assert verdict.text() == "▲ differs by more than 10 ms" and verdict.font().bold()
+    assert t.item(rows["qrs_ms"], 5).text() == "within tolerance"
+    # A wider QT tolerance set by the adjudicator clears the QT flag (words, not colour).
+    dlg.tol["qt_ms"].setValue(60.0)
+    rows = {t.item(r, 0).data(QtCore.Qt.ItemDataRole.UserRole): r for r in range(t.rowCount())}
+    assert t.item(rows["qt_ms"], 5).text() == "within tolerance"
+    # Pick reader A's T end: click its row, then the button.
+    rect = t.visualItemRect(t.item(rows["t_off"], 0))
+    qtbot.mouseClick(t.viewport(), L, pos=rect.center())
+    assert dlg.use_a.isEnabled()
+    qtbot.mouseClick(dlg.use_a, L)
+    side = _sidecar(sample_copy)
+    adj = side["readings"]["adj1"]
+    assert adj["role"] == "adjudicator"
+    want = next(o.new_s for o in first.overrides if o.fiducial == "t_off")
+    assert [(o["fiducial"], o["new_s"]) for o in adj["overrides"]] == [("t_off", want)]
+    ev = side["audit"][-1]
+    assert ev["action"] == "adjudicate" and "chosen from reader1" in ev["target"]
+    assert ev["reviewer"] == "adj1"
+    first_qt = an.reading(
+        __import__("reviewapp.core.marks", fromlist=["x"]).overrides_for(
+            first, an.fs_hz, an.representative.r_index
+        )
+    ).measurements.intervals.qt_ms
+    assert w.session.reading.measurements.intervals.qt_ms == pytest.approx(first_qt)
+    rows = {t.item(r, 0).data(QtCore.Qt.ItemDataRole.UserRole): r for r in range(t.rowCount())}
+    assert t.item(rows["t_off"], 6).text() == f"{want * 1000:.0f} ms"
+    # Undo in the window takes the final value back (audited as undo:adjudicate).
+    w.session.undo_stack.undo()
+    assert _sidecar(sample_copy)["readings"]["adj1"]["overrides"] == []
+    dlg.close()
+
+
+def test_compare_buttons_need_the_adjudicator_role(window, qtbot, sample_copy, settings):
+    _first_reader_moves_t_end(sample_copy, 0.040)
+    _first_reader_moves_t_end(sample_copy, -0.010, "reader2", "second")
+    settings.setValue("reader/id", "reader1")
+    w = window
+    assert w.open_path(sample_copy, analyse_now=True)
+    w.open_compare()
+    dlg = w.compare_dialog
+    dlg.select_item("t_off")
+    assert not dlg.use_a.isEnabled() and not dlg.set_value.isEnabled()
+    assert "adjudicator" in dlg.adj_note.text()
+    dlg.close()
+
+
+def test_summary_lists_findings_in_words_with_source(loaded):
+    w = loaded
+    findings = w.session.reading.findings
+    texts = w.summary.finding_texts()
+    if not findings:
+        assert texts == ["No value outside its limits."]
+        return
+    assert len(texts) == len(findings)
+    for i, f in enumerate(findings):
+        glyph = "▲" if f.direction == "above" else "▼"
+        assert texts[i] == f"{glyph} {f.text}"
+        assert w.summary.findings.item(i).toolTip() == f"Source: {f.source}"
+
+
+def test_median_beats_fill_a_tall_window_below_the_true_size_page(window, qtbot, sample_copy):
+    w = window
+    w.resize(1500, 1150)
+    qtbot.wait(20)
+    w.set_layout("3x4+1")
+    assert w.open_path(sample_copy, analyse_now=True)
+    w.paper.true_size()
+    w._auto_median()
+    room = w.median_room_px()
+    if room + (w.median.height() if w.median.isVisible() else 0) < 240:
+        pytest.skip("the offscreen screen is too small for this window")
+    assert w.median.isVisible()
+    assert w.paper.zoom == pytest.approx(1.0)  # true scale kept
+    # The page takes what it needs; the rest of the height is the median beats, not blank.
+    g = w.paper.geom
+    page_px = g.height_mm * w.scale.px_per_mm
+    assert w.paper.height() - page_px < 60
+    # The reader's own choice (B) wins from then on.
+    qtbot.keyClick(w, QtCore.Qt.Key.Key_B)
+    assert not w.median.isVisible() and not w.median_auto
+    w.set_layout("3x4+3")
+    assert not w.median.isVisible()
+
+
+def test_open_command_second_reader_flags(monkeypatch):
+    import argparse
+
+    from reviewapp.commands import open as open_cmd
+    from reviewapp.core.errors import ReviewError
+
+    p = argparse.ArgumentParser()
+    sub = p.add_subparsers(dest="command")
+    open_cmd.add_parser(sub)
+    seen: dict = {}
+    monkeypatch.setattr("reviewapp.ui.app.run_app", lambda path, **kw: seen.update(kw) or 0)
+    monkeypatch.setenv("QT_QPA_PLATFORM", "offscreen")
+    args = p.parse_args(["open", "--second-reader", "--hide-automatic"])
+    assert open_cmd.run(args) == 0
+    assert seen["second_reader"] is True and seen["hide_automatic"] is True
+    with pytest.raises(ReviewError, match="--second-reader"):
+        open_cmd.run(p.parse_args(["open", "--hide-automatic"]))
+
+
+def test_hidden_automatic_values_appear_only_once_the_reader_set_the_marks(
+    window, qtbot, sample_copy, settings
+):
+    from reviewapp.ui.reader import ReadMode
+
+    settings.setValue("reader/id", "reader2")
+    w = window
+    w.act_roles[ReadMode("second", True, False)].trigger()
+    assert w.open_path(sample_copy, analyse_now=True)
+    st = w.session.store
+    assert st.blinded and not st.show_automatic and st.automatic is None
+    assert w.summary.value_text("qt_ms") == "set marks"
+    assert w.summary.value_text("hr_bpm").endswith("bpm")  # from R peaks, not from marks
+    s = w.session
+    rep = s.reading.marked.representative.marks
+    s.commit(s.representative_override("qrs_on", rep.qrs_on - 2))
+    assert w.summary.value_text("qt_ms") == "set marks"  # T end still the automatic one
+    s.commit(s.representative_override("t_off", rep.t_off + 10))
+    qt = s.reading.measurements.intervals.qt_ms
+    # QT = T end - QRS onset: both moved by the reader, 12 samples longer than automatic.
+    assert qt == pytest.approx((rep.t_off + 10 - (rep.qrs_on - 2)) * 1000.0 / s.fs_hz)
+    assert w.summary.value_text("qt_ms") == f"{qt:.0f} ms"
+
+
+def test_a_refused_role_change_keeps_the_reading_saved(window, qtbot, sample_copy, settings):
+    from reviewapp.ui.reader import ADJUDICATOR, FIRST
+
+    settings.setValue("reader/id", "reader1")
+    w = window
+    assert w.open_path(sample_copy, analyse_now=True)
+    w.add_note("first read note")
+    # reader1 is this record's first reader: the store refuses them as adjudicator.
+    w.act_roles[ADJUDICATOR].trigger()
+    assert "first" in w.last_error_box.text() and "adjudicator" in w.last_error_box.text()
+    w.last_error_box.close()
+    assert w.read_mode == FIRST and w.act_roles[FIRST].isChecked()
+    st = w.session.store
+    assert st is not None and not st.read_only and st.role == "first"
+    assert w.reading_panel.note_texts() == ["first read note"]
