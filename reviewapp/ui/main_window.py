@@ -30,7 +30,7 @@ from reviewapp.ui.reader import (
     ask_reader,
     stored_reader,
 )
-from reviewapp.ui.reading_panel import ReadingPanel, SignOffDialog, when_text
+from reviewapp.ui.reading_panel import STATUS_WORDS, ReadingPanel, SignOffDialog, when_text
 from reviewapp.ui.session import ReadingSession
 from reviewapp.ui.summary import SummaryPanel
 from reviewapp.ui.theme import DARK, LIGHT, THEMES, Theme, apply_palette
@@ -875,6 +875,9 @@ class MainWindow(QtWidgets.QMainWindow):
             st is not None and st.reading.status != "signed_off" and (not st.read_only or not rid)
         )
         self.act_add_note.setEnabled(st is not None)
+        if self.record is not None:
+            status = "" if st is None else STATUS_WORDS.get(st.reading.status, "").lower()
+            self.setWindowTitle(f"{self.record.name}{f' — {status}' if status else ''} — reviewapp")
         self.act_compare.setEnabled(st is not None and not st.blinded)
 
     def open_compare(self) -> None:
@@ -1143,6 +1146,19 @@ class MainWindow(QtWidgets.QMainWindow):
             return {"t1_s": c.a / fs, "t2_s": c.b / fs, "v1_mv": 0.0, "v2_mv": 0.0}
         return {"t1_s": c.at / fs, "t2_s": c.at / fs, "v1_mv": c.a_mv, "v2_mv": c.b_mv}
 
+    def _store_do(self, store, cmd) -> None:
+        """Save a caliper edit; a caliper change after sign-off reopens the reading too, and
+        the reader is told as for a mark."""
+        before = store.reading
+        store.do(cmd)
+        if before.status == "signed_off" and store.reading.status != "signed_off":
+            self._on_reopened(before.signed_off_by or "", before.signed_off_at or "")
+        if before.status != store.reading.status:
+            self._update_reading_panel()
+            src = None if self.record is None else self.record.source_path
+            if src is not None and self.worklist is not None:
+                self.worklist.refresh_record(src)
+
     def _caliper_added(self, c: CaliperPair) -> None:
         s = self.session
         if (
@@ -1166,7 +1182,7 @@ class MainWindow(QtWidgets.QMainWindow):
                 lead=c.lead,
                 label=c.name,
             )
-            store.do(cmd)
+            self._store_do(store, cmd)
             c.store_id = cmd.caliper_id
         except ReviewError as err:
             self.show_error(err)
@@ -1177,7 +1193,7 @@ class MainWindow(QtWidgets.QMainWindow):
         if store is None or c.store_id is None:
             return
         try:
-            store.do(store.edits.delete_caliper(c.store_id))
+            self._store_do(store, store.edits.delete_caliper(c.store_id))
         except ReviewError as err:
             self.show_error(err)
 
@@ -1202,7 +1218,7 @@ class MainWindow(QtWidgets.QMainWindow):
             ):
                 continue
             try:
-                store.do(store.edits.move_caliper(c.store_id, **f))
+                self._store_do(store, store.edits.move_caliper(c.store_id, **f))
             except ReviewError as err:
                 self.show_error(err)
                 return

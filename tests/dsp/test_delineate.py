@@ -176,7 +176,8 @@ def _ludb_rhythms(shared_data: Path) -> dict[str, str]:
 
 def test_no_p_wave_in_most_atrial_fibrillation_records(shared_data: Path) -> None:
     # LUDB diagnoses (ludb.csv): records in atrial fibrillation have no P annotations; an
-    # organised P must not be invented. Measured: 7 of 10 AF records get no P at all.
+    # organised P must not be invented. Measured: 10 of 11 AF records get no P at all (the
+    # beats must repeat the median beat's P; before that rule: 8 of 11).
     rhythms = _ludb_rhythms(shared_data)
     af = [k for k, v in rhythms.items() if v.strip().lower().startswith("atrial fibrillation")]
     af = [k for k in af if (shared_data / "ludb" / f"{k}.hea").exists()]
@@ -187,7 +188,7 @@ def test_no_p_wave_in_most_atrial_fibrillation_records(shared_data: Path) -> Non
         an = _analyse(x, fs)
         frac_p = np.mean([m.p_on is not None for m in an.beat_marks])
         no_p += frac_p < 0.2
-    assert no_p >= 0.6 * len(af), f"P found in {len(af) - no_p} of {len(af)} AF records"
+    assert no_p >= 0.85 * len(af), f"P found in {len(af) - no_p} of {len(af)} AF records"
 
 
 def test_p_wave_found_in_sinus_rhythm(shared_data: Path) -> None:

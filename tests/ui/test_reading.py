@@ -358,3 +358,20 @@ def test_a_refused_role_change_keeps_the_reading_saved(window, qtbot, sample_cop
     st = w.session.store
     assert st is not None and not st.read_only and st.role == "first"
     assert w.reading_panel.note_texts() == ["first read note"]
+
+
+def test_a_caliper_after_sign_off_reopens_with_notice(window, qtbot, sample_copy, settings):
+    settings.setValue("reader/id", "reader1")
+    w = window
+    assert w.open_path(sample_copy, analyse_now=True)
+    answer_modal(lambda dlg: qtbot.mouseClick(dlg.ok, L))
+    assert w.sign_off()
+    assert "signed off" in w.windowTitle()
+    w.activateWindow()
+    qtbot.waitUntil(w.isActiveWindow, timeout=2000)
+    qtbot.keyClick(w, QtCore.Qt.Key.Key_C)  # new time caliper
+    side = _sidecar(sample_copy)
+    assert side["readings"]["reader1"]["status"] == "in_progress"
+    assert [e["action"] for e in side["audit"]][-2:] == ["reopen", "add_caliper"]
+    assert "Reopened" in w.reading_panel.notice.text()
+    assert w.reading_panel.banner.text() == "◐ In progress"

@@ -1,0 +1,183 @@
+"""File-menu exports and printing of the current reading (the same page as `reviewapp export`).
+
+The page is drawn by ``reviewapp.report`` at true scale; this module only asks for a file name
+(or a printer), gathers the current reading from the window's ``ReadingSession`` and reports
+success or the clear error in the status bar or a dialog.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from pathlib import Path
+
+from PySide6.QtCore import QMarginsF, QObject
+from PySide6.QtGui import QAction, QKeySequence, QPageLayout, QPageSize, QPainter
+from PySide6.QtWidgets import QFileDialog, QMainWindow, QMenu
+
+from reviewapp.core.errors import ReviewError
+from reviewapp.report.content import ReportContent, build_report_content
+from reviewapp.report.export import (
+    MM_PER_INCH,
+    write_image,
+    write_measurements_csv,
+    write_pdf,
+    write_wfdb_annotations,
+)
+from reviewapp.report.layout import page_layout
+
+# The window's ReadingSession, or None when no record is open.
+SessionGetter = Callable[[], object | None]
+
+
+def report_content_from_session(session: object) -> ReportContent:
+    """The report page's content for the reading on screen (overrides, status, reviewer)."""
+    analysis = session.analysis  # type: ignore[attr-defined]
+    status, reviewer, signed_at = "unread", None, None
+    store = getattr(session, "store", None)
+    if store is not None:
+        reading = store.reading
+        status = getattr(reading, "status", status)
+        reviewer = getattr(reading, "reviewer", None)
+        signed_at = getattr(reading, "signed_off_at", None)
+    overrides = tuple(session.overrides())  # type: ignore[attr-defined]
+    if overrides and status == "unread":
+        status = "in_progress"
+    return build_report_content(
+        analysis, overrides, status=status, reviewer=reviewer, signed_off_at=signed_at
+    )
+
+
+class ExportActions(QObject):
+    """Adds Export and Print entries to a File menu; one job: turn the reading into files."""
+
+    def __init__(
+        self,
+        window: QMainWindow,
+        menu: QMenu,
+        session: SessionGetter,
+        show_error: Callable[[str], None],
+        paper: Callable[[], str] = lambda: "a4",
+    ) -> None:
+        super().__init__(window)
+        self._window = window
+        self._session = session
+        self._show_error = show_error
+        self._paper = paper
+        sub = menu.addMenu("Export reading")
+        self.pdf = self._add(sub, "Report page as PDF…", self.export_pdf, "Ctrl+E")
+        self.image = self._add(sub, "Report page as image…", self.export_image)
+        self.csv = self._add(sub, "Measurements as CSV…", self.export_csv)
+        self.wfdb = self._add(sub, "Marks as WFDB annotations", self.export_wfdb)
+        self.print_ = self._add(menu, "Print report…", self.print_report, QKeySequence.Print)
+
+    def _add(self, menu: QMenu, text: str, slot: Callable[[], object], key=None) -> QAction:
+        act = QAction(text, self._window)
+        if key is not None:
+            act.setShortcut(QKeySequence(key))
+        act.triggered.connect(lambda _checked=False: self._guarded(slot))
+        menu.addAction(act)
+        return act
+
+    def _guarded(self, slot: Callable[[], object]) -> None:
+        try:
+            slot()
+        except ReviewError as err:
+            self._show_error(str(err))
+
+    def _content(self) -> ReportContent | None:
+        session = self._session()
+        if session is None:
+            self._show_error("Open a record first.")
+            return None
+        return report_content_from_session(session)
+
+    def _ask(self, title: str, suffix: str, filters: str) -> Path | None:
+        session = self._session()
+        rec = session.analysis.record if session is not None else None  # type: ignore[attr-defined]
+        start = ""
+        if rec is not None and rec.source_path is not None:
+            start = str(rec.source_path.with_name(f"{rec.name}-reading{suffix}"))
+        name, _ = QFileDialog.getSaveFileName(self._window, title, start, filters)
+        return Path(name) if name else None
+
+    def _done(self, text: str) -> None:
+        self._window.statusBar().showMessage(text, 6000)
+
+    def export_pdf(self, path: Path | None = None) -> Path | None:
+        content = self._content()
+        if content is None:
+            return None
+        path = path or self._ask("Export report page", ".pdf", "PDF (*.pdf)")
+        if path is None:
+            return None
+        write_pdf(path, content, page_layout(self._paper()))
+        self._done(f"report written to {path}")
+        return path
+
+    def export_image(self, path: Path | None = None) -> Path | None:
+        content = self._content()
+        if content is None:
+            return None
+        path = path or self._ask("Export report image", ".png", "Images (*.png *.jpg *.jpeg)")
+        if path is None:
+            return None
+        write_image(path, content, page_layout(self._paper()))
+        self._done(f"report image written to {path}")
+        return path
+
+    def export_csv(self, path: Path | None = None) -> Path | None:
+        content = self._content()
+        if content is None:
+            return None
+        path = path or self._ask("Export measurements", ".csv", "CSV (*.csv)")
+        if path is None:
+            return None
+        write_measurements_csv(path, content)
+        self._done(f"measurements written to {path}")
+        return path
+
+    def export_wfdb(self) -> Path | None:
+        content = self._content()
+        if content is None:
+            return None
+        if content.record.source_path is None:
+            raise ReviewError("the record has no file to write annotations beside")
+        out = write_wfdb_annotations(content)
+        self._done(f"WFDB annotations written to {out}")
+        return out
+
+    def print_report(self, printer: object | None = None) -> bool:
+        """Print the page at true scale on the chosen printer (A4 or Letter landscape)."""
+        from PySide6.QtPrintSupport import QPrintDialog, QPrinter
+
+        from reviewapp.report.page import paint_page
+
+        content = self._content()
+        if content is None:
+            return False
+        lo = page_layout(self._paper())
+        if printer is None:
+            printer = QPrinter(QPrinter.PrinterMode.HighResolution)
+            dialog = QPrintDialog(printer, self._window)
+            if dialog.exec() != QPrintDialog.DialogCode.Accepted:
+                return False
+        size_id = QPageSize.PageSizeId.A4 if lo.paper == "a4" else QPageSize.PageSizeId.Letter
+        printer.setFullPage(True)  # type: ignore[attr-defined]
+        printer.setPageLayout(  # type: ignore[attr-defined]
+            QPageLayout(
+                QPageSize(size_id),
+                QPageLayout.Orientation.Landscape,
+                QMarginsF(0, 0, 0, 0),
+                QPageLayout.Unit.Millimeter,
+            )
+        )
+        painter = QPainter()
+        if not painter.begin(printer):  # type: ignore[arg-type]
+            raise ReviewError("the printer could not be started")
+        try:
+            # Full-page mode: the device origin is the sheet's corner, so true scale holds.
+            paint_page(painter, printer.resolution() / MM_PER_INCH, lo, content)  # type: ignore[attr-defined]
+        finally:
+            painter.end()
+        self._done("report sent to the printer")
+        return True
