@@ -130,7 +130,52 @@ def test_damaged_sidecars_get_the_same_verdict_and_error(kit: Any, data: st.Data
             parent[where[-1]] = data.draw(_JSON_VALUES)
         if not _paths(damaged)[1:]:
             break
-    assert _verdict(codec._validator(), damaged) == _verdict(_reference(), damaged)
+    expected = _verdict(_reference(), damaged)
+    assert _verdict(codec._validator(), damaged) == expected
+    assert _fast_verdict(damaged) is (expected is None)
+
+
+def _fast_verdict(doc: Any) -> bool:
+    check = codec._fast_check()
+    assert check is not None, "the compiled check must cover the shipped schema"
+    return check(doc)
+
+
+# JSON Schema's own edge cases of type and equality (2020-12 core/validation specification):
+# true is not 1 for const/enum, 5.0 is an integer, a bool is not a number.
+_EDGES = [
+    (("schema_version",), True),
+    (("schema_version",), 1.0),
+    (("record", "n_samples"), 5000.0),
+    (("record", "n_samples"), 5000.5),
+    (("record", "n_samples"), True),
+    (("record", "fs_hz"), False),
+    (("record", "fs_hz"), 0),
+    (("record", "fingerprint"), "sha256:" + "0" * 63),
+    (("readings", "reader1", "blinded"), 1),
+    (("readings", "reader1", "signed_off_at"), None),
+    (("readings", "reader1", "status"), "in_progress"),
+    (("automatic", "beats", 0, "kind"), "Dominant"),
+    (("automatic", "beats", 0, "marks_s", "p_on"), None),
+    (("automatic", "representative"), None),
+    (("automatic",), None),
+    (("listing_cache",), {"kind": "k", "engine_version": "1", "record_fingerprint": "x"}),
+    (("listing_cache",), {"kind": "k", "engine_version": "", "record_fingerprint": "x"}),
+    (("listing_cache",), {"kind": "k", "engine_version": "1", "record_fingerprint": 3}),
+    (("listing_cache",), {"kind": "k", "engine_version": "1", "record_fingerprint": "x", "a": [1]}),
+]
+
+
+@pytest.mark.parametrize("where,value", _EDGES)
+def test_edge_values_get_the_verdict_of_jsonschema(kit: Any, where, value):
+    doc = copy.deepcopy(_one_sidecar_doc(kit))
+    parent = doc
+    for key in where[:-1]:
+        parent = parent[key]
+    parent[where[-1]] = value
+    expected = _verdict(_reference(), doc)
+    assert _fast_verdict(doc) is (expected is None)
+    assert _verdict(codec._validator(), doc) == expected
 
 
 def test_folder_sweep_removes_only_dead_writers_marks_temporaries(scratch: Path):

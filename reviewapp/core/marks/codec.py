@@ -11,9 +11,11 @@ from __future__ import annotations
 import hashlib
 import json
 import math
+from collections.abc import Callable
 from functools import cache
 from importlib import resources
 from pathlib import Path
+from re import error as re_error
 from typing import Any
 
 from reviewapp.core.errors import MarksError
@@ -85,6 +87,131 @@ def inline_refs(doc: dict[str, Any]) -> dict[str, Any]:
         return doc
     # Keep the identifying keywords ($schema picks the draft, $id the base URI).
     return {k: doc[k] for k in ("$schema", "$id") if k in doc} | flat
+
+
+Check = Callable[[Any], bool]
+# Keywords that only annotate: no effect on validity.
+_ANNOTATIONS = frozenset({"$schema", "$id", "$defs", "$comment", "title", "description"})
+_TYPES: dict[str, Check] = {
+    "null": lambda v: v is None,
+    "boolean": lambda v: isinstance(v, bool),
+    "string": lambda v: isinstance(v, str),
+    "object": lambda v: isinstance(v, dict),
+    "array": lambda v: isinstance(v, list),
+    "number": lambda v: isinstance(v, int | float) and not isinstance(v, bool),
+    "integer": lambda v: (
+        (isinstance(v, int) and not isinstance(v, bool))
+        or (isinstance(v, float) and v.is_integer())
+    ),
+}
+
+
+def _json_equal(a: Any, b: Any) -> bool:
+    """JSON Schema equality (``const``, ``enum``): true is not 1, 1 is 1.0."""
+    if isinstance(a, bool) or isinstance(b, bool):
+        return isinstance(a, bool) and isinstance(b, bool) and a is b
+    if isinstance(a, list) and isinstance(b, list):
+        return len(a) == len(b) and all(_json_equal(x, y) for x, y in zip(a, b, strict=True))
+    if isinstance(a, dict) and isinstance(b, dict):
+        return a.keys() == b.keys() and all(_json_equal(a[k], b[k]) for k in a)
+    if isinstance(a, list | dict | str) or isinstance(b, list | dict | str):
+        return type(a) is type(b) and a == b
+    return a == b
+
+
+def _is_number(v: Any) -> bool:
+    return isinstance(v, int | float) and not isinstance(v, bool)
+
+
+def compile_check(node: Any) -> Check:
+    """A yes/no validity check of a reference-free schema (``inline_refs``), compiled once.
+
+    Covers the keywords the sidecar schema uses, with JSON Schema 2020-12 meaning; raises
+    LookupError on any other keyword. It only ever answers "valid" quickly: a document it
+    refuses is checked again by jsonschema, which gives the verdict and the message.
+    """
+    if node is True or node == {}:
+        return lambda v: True
+    if node is False:
+        return lambda v: False
+    if not isinstance(node, dict):
+        raise LookupError(f"schema node {node!r}")
+    checks: list[Check] = []
+    props = node.get("properties", {})
+    for key, arg in node.items():
+        if key in _ANNOTATIONS:
+            continue
+        checks.append(_keyword(key, arg, node, props))
+    return lambda v: all(c(v) for c in checks)
+
+
+def _keyword(key: str, arg: Any, node: dict[str, Any], props: dict[str, Any]) -> Check:
+    import re
+
+    if key == "type":
+        tests = [_TYPES[t] for t in ([arg] if isinstance(arg, str) else arg)]
+        return lambda v: any(t(v) for t in tests)
+    if key == "const":
+        return lambda v: _json_equal(v, arg)
+    if key == "enum":
+        return lambda v: any(_json_equal(v, x) for x in arg)
+    if key in ("minimum", "maximum", "exclusiveMinimum"):
+        cmp = {
+            "minimum": lambda v: v >= arg,
+            "maximum": lambda v: v <= arg,
+            "exclusiveMinimum": lambda v: v > arg,
+        }[key]
+        return lambda v: not _is_number(v) or cmp(v)
+    if key in ("minLength", "maxLength"):
+        ok = (lambda n: n >= arg) if key == "minLength" else (lambda n: n <= arg)
+        return lambda v: not isinstance(v, str) or ok(len(v))
+    if key == "pattern":
+        rx = re.compile(arg)
+        return lambda v: not isinstance(v, str) or rx.search(v) is not None
+    if key == "maxItems":
+        return lambda v: not isinstance(v, list) or len(v) <= arg
+    if key == "maxProperties":
+        return lambda v: not isinstance(v, dict) or len(v) <= arg
+    if key == "required":
+        return lambda v: not isinstance(v, dict) or all(k in v for k in arg)
+    if key == "items":
+        item = compile_check(arg)
+        return lambda v: not isinstance(v, list) or all(item(x) for x in v)
+    if key == "properties":
+        subs = {k: compile_check(s) for k, s in arg.items()}
+        return lambda v: not isinstance(v, dict) or all(c(v[k]) for k, c in subs.items() if k in v)
+    if key == "additionalProperties":
+        if "patternProperties" in node:
+            raise LookupError("patternProperties")
+        extra = compile_check(arg)
+        known = frozenset(props)
+        return lambda v: (
+            not isinstance(v, dict) or all(extra(x) for k, x in v.items() if k not in known)
+        )
+    if key == "propertyNames":
+        name = compile_check(arg)
+        return lambda v: not isinstance(v, dict) or all(name(k) for k in v)
+    if key == "allOf":
+        parts = [compile_check(s) for s in arg]
+        return lambda v: all(p(v) for p in parts)
+    if key == "if":
+        cond = compile_check(arg)
+        then = compile_check(node.get("then", True))
+        other = compile_check(node.get("else", True))
+        return lambda v: then(v) if cond(v) else other(v)
+    if key in ("then", "else") and "if" in node:
+        return lambda v: True  # applied by "if"
+    raise LookupError(f"keyword {key!r}")
+
+
+@cache
+def _fast_check() -> Check | None:
+    """The compiled check of the inlined schema; None if it uses a keyword not covered."""
+    try:
+        # a "$ref" left in (inlining declined) is an unknown keyword: all goes to jsonschema
+        return compile_check(inline_refs(schema()))
+    except (LookupError, TypeError, re_error):
+        return None
 
 
 def sha256_hex(data: bytes) -> str:
@@ -178,6 +305,12 @@ def validate_document(doc: Any, path: Path | None) -> dict[str, Any]:
             f"reads up to version {SCHEMA_VERSION}. Open it with the newer version",
             path,
         )
+    fast = _fast_check()
+    try:
+        if fast is not None and fast(doc):
+            return doc
+    except RecursionError:
+        raise UnreadableSidecarError("marks file nests too deeply", path) from None
     from jsonschema.exceptions import best_match
 
     try:
