@@ -61,8 +61,10 @@ class Analysis:
     def fs_hz(self) -> float:
         return self.record.fs_hz
 
-    def marked(self, overrides: Iterable[MarkOverride] = ()) -> tuple[MarkedECG, tuple[MarkOverride, ...]]:
-        """Apply overrides to the automatic marks; returns the marked ECG and unmatched overrides."""
+    def marked(
+        self, overrides: Iterable[MarkOverride] = ()
+    ) -> tuple[MarkedECG, tuple[MarkOverride, ...]]:
+        """Apply overrides to the automatic marks: (marked ECG, overrides that matched nothing)."""
         names = self.record.lead_names
         beat_marks = list(self.beat_marks)
         beat_lead = [list(row) for row in self.beat_lead_marks]
@@ -120,9 +122,7 @@ def analyse(record: Record, *, mains_hz: float | None = None) -> Analysis:
     """Run the automatic pipeline on a whole record (short records: resting ECG, minutes)."""
     fs = record.fs_hz
     raw = record.signal_mv
-    usable_mask = np.array(
-        [not (lead.flat or lead.missing) for lead in record.leads], dtype=bool
-    )
+    usable_mask = np.array([not (lead.flat or lead.missing) for lead in record.leads], dtype=bool)
     finite = np.isfinite(raw)
     usable_mask &= finite.mean(axis=0) > 0.5
     conditioned = condition(np.where(finite, raw, 0.0).astype(np.float32), fs, mains_hz=mains_hz)

@@ -14,7 +14,7 @@ from __future__ import annotations
 
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field, fields, replace
-from enum import Enum
+from enum import StrEnum
 from typing import Literal
 
 import numpy as np
@@ -54,10 +54,12 @@ class WaveMarks:
 
     def shifted(self, offset: int) -> WaveMarks:
         """All present marks moved by ``offset`` samples (window <-> record coordinates)."""
-        return WaveMarks(**{
-            f.name: (None if getattr(self, f.name) is None else getattr(self, f.name) + offset)
-            for f in fields(self)
-        })
+        return WaveMarks(
+            **{
+                f.name: (None if getattr(self, f.name) is None else getattr(self, f.name) + offset)
+                for f in fields(self)
+            }
+        )
 
     def as_seconds(self, fs_hz: float, offset: int = 0) -> dict[str, float | None]:
         """Boundaries in seconds (``(index + offset) / fs_hz``), None where absent."""
@@ -68,7 +70,9 @@ class WaveMarks:
 
     def as_array(self) -> np.ndarray:
         """The five boundaries as int64 with -1 for absent (vectorised work)."""
-        return np.array([-1 if (v := self.get(n)) is None else v for n in FIDUCIALS], dtype=np.int64)
+        return np.array(
+            [-1 if (v := self.get(n)) is None else v for n in FIDUCIALS], dtype=np.int64
+        )
 
     @classmethod
     def from_array(cls, values: Iterable[int]) -> WaveMarks:
@@ -79,7 +83,7 @@ class WaveMarks:
 _ALL_MARK_NAMES = frozenset(f.name for f in fields(WaveMarks))
 
 
-class BeatKind(str, Enum):
+class BeatKind(StrEnum):
     DOMINANT = "dominant"
     PREMATURE = "premature"
     PACED = "paced"

@@ -28,11 +28,27 @@ CABRERA_ORDER = ("aVL", "I", "-aVR", "II", "aVF", "III")
 FLAT_PEAK_TO_PEAK_MV = 0.02
 
 _ALIASES = {
-    "i": "I", "ii": "II", "iii": "III", "avr": "aVR", "avl": "aVL", "avf": "aVF",
-    "lead i": "I", "lead ii": "II", "lead iii": "III",
-    "mdc_ecg_lead_i": "I", "mdc_ecg_lead_ii": "II", "mdc_ecg_lead_iii": "III",
-    "mdc_ecg_lead_avr": "aVR", "mdc_ecg_lead_avl": "aVL", "mdc_ecg_lead_avf": "aVF",
-    "vx": "X", "vy": "Y", "vz": "Z", "x": "X", "y": "Y", "z": "Z",
+    "i": "I",
+    "ii": "II",
+    "iii": "III",
+    "avr": "aVR",
+    "avl": "aVL",
+    "avf": "aVF",
+    "lead i": "I",
+    "lead ii": "II",
+    "lead iii": "III",
+    "mdc_ecg_lead_i": "I",
+    "mdc_ecg_lead_ii": "II",
+    "mdc_ecg_lead_iii": "III",
+    "mdc_ecg_lead_avr": "aVR",
+    "mdc_ecg_lead_avl": "aVL",
+    "mdc_ecg_lead_avf": "aVF",
+    "vx": "X",
+    "vy": "Y",
+    "vz": "Z",
+    "x": "X",
+    "y": "Y",
+    "z": "Z",
 }
 _V_LEAD = re.compile(r"^(?:lead\s*|mdc_ecg_lead_)?v\s*([1-9])([r]?)$", re.IGNORECASE)
 
@@ -43,8 +59,8 @@ def normalise_lead_name(name: str) -> str:
     Names that are not standard 12-lead or Frank leads are kept as given (stripped), e.g.
     ``MLII`` on Holter-style records.
 
-    >>> normalise_lead_name("avf"), normalise_lead_name("MDC_ECG_LEAD_V2"), normalise_lead_name("MLII")
-    ('aVF', 'V2', 'MLII')
+    >>> [normalise_lead_name(n) for n in ("avf", "MDC_ECG_LEAD_V2", "MLII")]
+    ['aVF', 'V2', 'MLII']
     """
     raw = name.strip()
     key = raw.lower().replace("-", "_") if raw.upper().startswith("MDC") else raw.lower()
@@ -311,7 +327,9 @@ def build_record(
     if source.n_samples <= 0:
         raise RecordError("the record has no samples", where)
     leads = [
-        replace(lead, name=normalise_lead_name(lead.name), original_name=lead.original_name or lead.name)
+        replace(
+            lead, name=normalise_lead_name(lead.name), original_name=lead.original_name or lead.name
+        )
         for lead in leads
     ]
     names = [lead.name for lead in leads]
@@ -402,7 +420,9 @@ def record_from_array(
     """Wrap an in-memory (n_samples, n_leads) mV array as a Record (tests, synth, CSV)."""
     data = np.asarray(signal_mv, dtype=np.float32)
     if data.ndim != 2:
-        raise RecordError(f"signal must be 2-D (samples x leads), got shape {data.shape}", source_path)
+        raise RecordError(
+            f"signal must be 2-D (samples x leads), got shape {data.shape}", source_path
+        )
     if data.shape[1] != len(lead_names):
         raise RecordError(
             f"{len(lead_names)} lead names but {data.shape[1]} signal columns", source_path

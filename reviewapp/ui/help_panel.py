@@ -34,6 +34,8 @@ SHORTCUTS: tuple[tuple[str, str], ...] = (
     ("Ctrl+Shift+R", "Reset all marks to automatic"),
     ("Ctrl+Z / Ctrl+Shift+Z", "Undo / redo a mark correction"),
     ("Alt+1 / Alt+2 / Alt+3", "Display filter: baseline / mains / low-pass"),
+    ("Ctrl+E", "Export the reading as a true-scale PDF page"),
+    ("Ctrl+P", "Print the reading at true scale"),
     ("Ctrl+T", "Light / dark theme"),
     ("F1", "This list"),
 )

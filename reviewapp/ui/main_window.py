@@ -14,6 +14,7 @@ from reviewapp.core.record import Record
 from reviewapp.ui.calibration import CalibrationDialog
 from reviewapp.ui.calipers import CaliperPair
 from reviewapp.ui.display_filters import DisplayFilters
+from reviewapp.ui.export_actions import ExportActions
 from reviewapp.ui.help_panel import HelpPanel, show_about
 from reviewapp.ui.layouts import LAYOUTS
 from reviewapp.ui.mark_items import FiducialMark
@@ -448,6 +449,10 @@ class MainWindow(QtWidgets.QMainWindow):
         m.addSeparator()
         for a in (self.act_next_unread, self.act_prev_unread):
             m.addAction(a)
+        m.addSeparator()
+        self.exports = ExportActions(
+            self, m, lambda: self.session, lambda text: self.show_error(ReviewError(text))
+        )
         m.addSeparator()
         m.addAction(self.act_quit)
         m = mb.addMenu("&Edit")
