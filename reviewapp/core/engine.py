@@ -15,7 +15,11 @@ import numpy as np
 
 from reviewapp import __version__
 from reviewapp.core.dsp.beats import classify_beats, representative_beat
-from reviewapp.core.dsp.delineate import delineate_beats, delineate_representative
+from reviewapp.core.dsp.delineate import (
+    delineate_beats,
+    delineate_representative,
+    representative_p_from_beats,
+)
 from reviewapp.core.dsp.filters import condition
 from reviewapp.core.dsp.qrs import detect_qrs
 from reviewapp.core.fiducials import (
@@ -152,6 +156,10 @@ def analyse(record: Record, *, mains_hz: float | None = None) -> Analysis:
     else:
         notes.append("no representative beat: too few dominant beats")
     beat_marks, beat_lead_marks = delineate_beats(conditioned, fs, beats, usable_mask, rep)
+    if rep is not None:
+        # Whether a P wave exists is decided across the beats (a P must repeat); the median
+        # beat alone cannot tell atrial fibrillation's f-waves from a small P.
+        rep = representative_p_from_beats(rep, beats, beat_marks)
     return Analysis(
         record=record,
         conditioned_mv=conditioned,

@@ -232,7 +232,10 @@ class CaliperPair(pg.GraphicsObject):
         _legs, bar = self._segments()
         if self.kind == "time":
             return QtCore.QPointF(min(bar.x1(), bar.x2()), bar.y1())
-        return QtCore.QPointF(bar.x1() + AMP_LEG_HALF_MM, (bar.y1() + bar.y2()) / 2)
+        # Above the higher leg (e.g. over an R peak), not across the bar's middle, where the
+        # label would hide the very deflection being measured.
+        top = bar.y1() if self.a_mv >= self.b_mv else bar.y2()
+        return QtCore.QPointF(bar.x1() + AMP_LEG_HALF_MM, top)
 
     def boundingRect(self) -> QtCore.QRectF:
         legs, bar = self._segments()

@@ -164,6 +164,7 @@ class MainWindow(QtWidgets.QMainWindow):
         self._caliper_timer.setSingleShot(True)
         self._caliper_timer.setInterval(80)
         self._caliper_timer.timeout.connect(self._update_caliper_list)
+        self._listed_calipers: list[CaliperPair] = []  # the calipers the summary lists
         self.paper.mark_dragging.connect(self._beat_mark_dragging)
         self.paper.mark_dropped.connect(self._beat_mark_dropped)
         self.paper.mark_reset.connect(self._beat_mark_reset)
@@ -412,24 +413,45 @@ class MainWindow(QtWidgets.QMainWindow):
         self.layout_box.setToolTip("Layout (keys 1 to 4)")
         self.rhythm_box = QtWidgets.QComboBox()
         self.rhythm_box.setToolTip("Lead of the (first) rhythm strip")
+        # Frequent actions only, so they all fit at 1600 px: paper speed, gain, layout and
+        # rhythm lead as one group; median beats; the two calipers; page size; sign-off.
+        # Rarely used toggles (superimpose, Cabrera order, march-out, reset) stay in the menus;
+        # the display filters share one drop-down button.
+        view_box = QtWidgets.QWidget()
+        vl = QtWidgets.QHBoxLayout(view_box)
+        vl.setContentsMargins(0, 0, 0, 0)
+        vl.setSpacing(2)
         for w in (self.speed_box, self.gain_box, self.layout_box):
-            tb.addWidget(w)
-        tb.addWidget(QtWidgets.QLabel(" Rhythm "))
-        tb.addWidget(self.rhythm_box)
+            w.setSizeAdjustPolicy(QtWidgets.QComboBox.SizeAdjustPolicy.AdjustToContents)
+            vl.addWidget(w)
+        rhythm_label = QtWidgets.QLabel(" Rhythm")
+        rhythm_label.setBuddy(self.rhythm_box)
+        vl.addWidget(rhythm_label)
+        vl.addWidget(self.rhythm_box)
+        view_box.setObjectName("toolbar_view_group")
+        tb.addWidget(view_box)
         tb.addSeparator()
-        for a in (self.act_median, self.act_superimpose, self.act_cabrera):
-            tb.addAction(a)
+        tb.addAction(self.act_median)
         tb.addSeparator()
-        for a in (self.act_f_base, self.act_f_mains, self.act_f_low):
-            tb.addAction(a)
-        tb.addSeparator()
-        for a in (self.act_time_cal, self.act_amp_cal, self.act_march, self.act_reset_marks):
+        for a in (self.act_time_cal, self.act_amp_cal):
             tb.addAction(a)
         tb.addSeparator()
         tb.addAction(self.act_true)
         tb.addAction(self.act_fit)
         tb.addSeparator()
+        self.filters_button = QtWidgets.QToolButton()
+        self.filters_button.setObjectName("toolbar_filters")
+        self.filters_button.setText("Filters")
+        self.filters_button.setToolTip("Display filters (the signal and the values are unchanged)")
+        self.filters_button.setPopupMode(QtWidgets.QToolButton.ToolButtonPopupMode.InstantPopup)
+        fm = QtWidgets.QMenu(self.filters_button)
+        for a in (self.act_f_base, self.act_f_mains, self.act_f_low):
+            fm.addAction(a)
+        self.filters_button.setMenu(fm)
+        tb.addWidget(self.filters_button)
+        tb.addSeparator()
         tb.addAction(self.act_sign_off)
+        self.toolbar = tb
         self.speed_box.activated.connect(lambda i: self.set_speed(self.speed_box.itemData(i)))
         self.gain_box.activated.connect(lambda i: self.set_gain(self.gain_box.itemData(i)))
         self.layout_box.activated.connect(lambda i: self.set_layout(self.layout_box.itemData(i)))
@@ -1012,6 +1034,12 @@ class MainWindow(QtWidgets.QMainWindow):
         self.median_auto = False
         self._place_median(on)
 
+    def set_median_automatic(self) -> None:
+        """Back to automatic placement: the median beats fill the room below the page while
+        there is room (the same rule in every theme)."""
+        self.median_auto = True
+        self._auto_median()
+
     def _place_median(self, on: bool) -> None:
         self.act_median.setChecked(on)
         if on == self.median.isVisible():
@@ -1034,6 +1062,13 @@ class MainWindow(QtWidgets.QMainWindow):
             lowpass=self.act_f_low.isChecked(),
         )
         self.paper.set_filters(self.filters)
+        self._show_filter_count()
+
+    def _show_filter_count(self) -> None:
+        # The button says how many display filters are on: a filtered trace must not pass
+        # for the raw signal.
+        n = sum(a.isChecked() for a in (self.act_f_base, self.act_f_mains, self.act_f_low))
+        self.filters_button.setText(f"Filters ({n} on)" if n else "Filters")
 
     def set_filters(self, filters: DisplayFilters) -> None:
         self.act_f_base.setChecked(filters.baseline)
@@ -1041,6 +1076,7 @@ class MainWindow(QtWidgets.QMainWindow):
         self.act_f_low.setChecked(filters.lowpass)
         self.filters = filters
         self.paper.set_filters(filters)
+        self._show_filter_count()
 
     def set_theme(self, name: str) -> None:
         self.theme = DARK if name == "dark" else LIGHT
@@ -1257,13 +1293,23 @@ class MainWindow(QtWidgets.QMainWindow):
         if isinstance(_c, CaliperPair) and _c.store_id is not None:
             self._dirty_calipers.add(_c)
             self._caliper_save_timer.start()
-        # The paper label follows every drag step; the dock's list is refreshed at most every
-        # 80 ms, so dragging never waits for a dock relayout.
-        if not self._caliper_timer.isActive():
+        # A caliper added, deleted, restored or cleared with the record is listed at once, so
+        # the list never names calipers that are not on the paper. While a leg is dragged the
+        # paper label follows every step and the list at most every 80 ms, so dragging never
+        # waits for a dock relayout.
+        if self.paper.calipers != self._listed_calipers:
+            self._update_caliper_list()
+        elif not self._caliper_timer.isActive():
             self._caliper_timer.start()
 
     def _update_caliper_list(self) -> None:
-        self.summary.show_calipers([c.label_text() + f"  ({c.lead})" for c in self.paper.calipers])
+        self._caliper_timer.stop()
+        self._listed_calipers = list(self.paper.calipers)
+        self.summary.show_calipers(self.caliper_lines())
+
+    def caliper_lines(self) -> list[str]:
+        """One line per caliper on the paper, in the order they were drawn."""
+        return [c.label_text() + f"  ({c.lead})" for c in self.paper.calipers]
 
     # --- marks ---------------------------------------------------------------------------
     def _beat_mark_dragging(self, mark: FiducialMark, sample: int) -> None:

@@ -88,12 +88,16 @@ class PaperView(pg.GraphicsView):
         self.session = None
         self.page_s = min(page_s, record.duration_s)
         self.page_start = 0
+        had_calipers = bool(self.calipers)
         for c in self.calipers:
             self.vb.removeItem(c)
         self.calipers.clear()
         self.selected = None
         self.rebuild()
         self.true_size()
+        if had_calipers:
+            # Another record: the window's caliper list must not keep the old record's ones.
+            self.caliper_changed.emit(None)
 
     def set_session(self, session: ReadingSession | None) -> None:
         self.session = session
@@ -349,7 +353,7 @@ class PaperView(pg.GraphicsView):
             "at": center_sample,
             "a_mv": 0.0,
             "b_mv": 1.0,
-            "name": f"C{len(self.calipers) + 1}",
+            "name": self.next_caliper_name(),
         }
         if restore is not None:
             values.update({k: v for k, v in restore.items() if k in values})
@@ -366,6 +370,15 @@ class PaperView(pg.GraphicsView):
             self.caliper_added.emit(c)
         self.caliper_changed.emit(c)
         return c
+
+    def next_caliper_name(self) -> str:
+        """``C<n>`` with the lowest n no caliper on the paper uses: after deleting C1 of C1, C2
+        the next one is C1 again, so two calipers never share a name and numbers do not jump."""
+        used = {c.name for c in self.calipers}
+        n = 1
+        while f"C{n}" in used:
+            n += 1
+        return f"C{n}"
 
     def remove_caliper(self, c: CaliperPair) -> None:
         if c in self.calipers:

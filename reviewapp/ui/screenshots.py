@@ -44,10 +44,11 @@ def write_screenshots(outdir: Path, record_path: Path | None = None) -> list[Pat
     record_path = record_path or _default_record()
     if record_path is None:
         raise SystemExit("no sample record found; pass --record PATH")
-    # Work on a copy: the demo corrections below are saved as a marks sidecar, which must not
-    # land beside the original record.
+    # Work on a copy of the record's folder: the demo corrections below are saved as a marks
+    # sidecar, which must not land beside the original record. The whole folder is copied so
+    # the worklist shows the folder's records as a reader would see them.
     tmp = tempfile.TemporaryDirectory(prefix="reviewapp-shots-")
-    for f in record_path.parent.glob(record_path.stem + ".*"):
+    for f in record_path.parent.iterdir():
         if f.is_file() and ".marks." not in f.name:
             shutil.copy(f, Path(tmp.name) / f.name)
     record_path = Path(tmp.name) / record_path.name
@@ -56,8 +57,12 @@ def write_screenshots(outdir: Path, record_path: Path | None = None) -> list[Pat
     )
     w.resize(*SIZE)
     w.show()
-    if not w.open_path(record_path, analyse_now=True):
-        raise SystemExit(f"cannot open {record_path}")
+    if not w.open_path(record_path.parent, analyse_now=True):
+        raise SystemExit(f"cannot open {record_path.parent}")
+    if w.record is None or w.record.source_path != record_path:
+        if not w.open_path(record_path, analyse_now=True):
+            raise SystemExit(f"cannot open {record_path}")
+    _wait_for_worklist(w, app)
     written: list[Path] = []
 
     def shot(name: str) -> None:
@@ -74,6 +79,10 @@ def write_screenshots(outdir: Path, record_path: Path | None = None) -> list[Pat
         else:
             w.paper.true_size()
 
+    w.set_layout("3x4+1")
+    app.processEvents()
+    w.paper.true_size()
+    shot("worklist")
     w.set_layout("12x1")
     app.processEvents()
     fit_if_needed()
@@ -94,7 +103,10 @@ def write_screenshots(outdir: Path, record_path: Path | None = None) -> list[Pat
     w.show_median(True)
     w.median.set_superimpose(True)
     shot("median_beat")
-    w.show_median(False)
+    w.median.set_superimpose(False)
+    # Back to automatic placement: the median beats fill the room below the page, whatever
+    # the theme.
+    w.set_median_automatic()
     w.set_theme("dark")
     w.set_layout("3x4+1")
     app.processEvents()
@@ -102,9 +114,10 @@ def write_screenshots(outdir: Path, record_path: Path | None = None) -> list[Pat
     _demo_calipers_and_correction(w)
     shot("dark_3x4_rhythm1")
     w.show_median(True)
+    w.median.set_superimpose(True)
     shot("dark_median_beat")
+    w.median.set_superimpose(False)
     w.set_theme("light")
-    w.show_median(False)
     _sign_off_and_compare(w, app, outdir, shot, written)
     w.settings.clear()
     w.close()
@@ -113,11 +126,28 @@ def write_screenshots(outdir: Path, record_path: Path | None = None) -> list[Pat
     return written
 
 
+def _wait_for_worklist(w, app) -> None:
+    """Let the worklist's background listing finish, so its rows are in the image."""
+    import time
+
+    wl = w.worklist
+    deadline = time.monotonic() + 20.0
+    while wl is not None and wl.is_scanning() and time.monotonic() < deadline:
+        app.processEvents()
+        time.sleep(0.02)
+    app.processEvents()
+    if w.record is not None and w.record.source_path is not None:
+        w._select_in_list(w.record.source_path)
+
+
 def _demo_calipers_and_correction(w) -> None:
     """One time caliper over an RR interval, one amplitude caliper on an R wave, one corrected
-    T end, so the images show what a reading looks like mid-review."""
+    T end, so the images show what a reading looks like mid-review (once: a second call leaves
+    the calipers already on the paper)."""
     s = w.session
     if s is None or len(s.analysis.beats) < 3:
+        return
+    if w.paper.calipers:
         return
     beats = s.analysis.beats
     page_end = w.paper.page_start + w.paper.geom.page_samples
@@ -166,8 +196,7 @@ def _sign_off_and_compare(w, app, outdir: Path, shot, written: list[Path]) -> No
         written.append(p)
         dlg.accept()
 
-    w.median_auto = True
-    w._auto_median()
+    w.set_median_automatic()
     QtCore.QTimer.singleShot(0, confirm)
     w.sign_off()
     shot("signed_off")

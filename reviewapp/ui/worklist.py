@@ -60,6 +60,9 @@ COLUMNS: tuple[tuple[str, str], ...] = (
     ("folder", "Folder"),
 )
 NUMERIC = {"hr_bpm", "pr_ms", "qrs_ms", "qt_ms", "qtc"}
+# Shown when the list opens: a dock narrow enough to leave the paper at true size beside the
+# reading panels. The other columns come back from the header's right-click menu.
+COMPACT_COLUMNS = ("name", "subject", "timepoint", "status", "qtc", "flags")
 STATUS_TEXT = {"unread": "unread", "in_progress": "in progress", "signed_off": "signed off"}
 SUBJECT_KEYS = ("subject", "timepoint")
 SortKeyRole = Qt.ItemDataRole.UserRole + 1
@@ -373,6 +376,14 @@ class WorklistWidget(QWidget):
         header = self.table.horizontalHeader()
         header.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
         header.setStretchLastSection(True)
+        header.setMinimumSectionSize(24)
+        header.setContextMenuPolicy(Qt.ContextMenuPolicy.CustomContextMenu)
+        header.customContextMenuRequested.connect(self._column_menu)
+        self.set_compact(True)
+        # Status next to the record name, so it stays in sight when the dock is narrow (the
+        # model's column order is unchanged).
+        keys = [k for k, _t in COLUMNS]
+        header.moveSection(header.visualIndex(keys.index("status")), 1)
         self.table.activated.connect(self._on_activated)
 
         self.unread_box = QCheckBox("Unread only", self)
@@ -394,22 +405,49 @@ class WorklistWidget(QWidget):
         self.progress.setTextVisible(True)
         self.progress.hide()
 
+        # Two short rows, not one long one: the dock stays narrow beside the paper.
         bar = QHBoxLayout()
         bar.addWidget(self.unread_box)
         bar.addWidget(self.flagged_box)
-        bar.addWidget(self.qtc_box)
-        bar.addWidget(self.qtc_spin)
         bar.addStretch(1)
-        bar.addWidget(self.count_label)
+        bar2 = QHBoxLayout()
+        bar2.addWidget(self.qtc_box)
+        bar2.addWidget(self.qtc_spin)
+        bar2.addStretch(1)
+        bar2.addWidget(self.count_label)
         layout = QVBoxLayout(self)
         layout.setContentsMargins(2, 2, 2, 2)
         layout.addLayout(bar)
+        layout.addLayout(bar2)
         layout.addWidget(self.progress)
         layout.addWidget(self.table, 1)
 
         # Keys are taken on the table itself (an event filter, before its type-ahead search):
         # N = next unread, Shift+N = previous unread. The window may also call the methods.
         self.table.installEventFilter(self)
+
+    def set_compact(self, compact: bool) -> None:
+        """Show only COMPACT_COLUMNS (True) or every column (False)."""
+        for i, (key, _title) in enumerate(COLUMNS):
+            self.table.setColumnHidden(i, compact and key not in COMPACT_COLUMNS)
+
+    def visible_columns(self) -> list[str]:
+        return [k for i, (k, _t) in enumerate(COLUMNS) if not self.table.isColumnHidden(i)]
+
+    def _column_menu(self, pos) -> None:  # type: ignore[no-untyped-def]
+        from PySide6.QtWidgets import QMenu
+
+        menu = QMenu(self)
+        for i, (key, title) in enumerate(COLUMNS):
+            act = menu.addAction(title)
+            act.setCheckable(True)
+            act.setChecked(not self.table.isColumnHidden(i))
+            act.setEnabled(key != "name")
+            act.toggled.connect(lambda on, i=i: self.table.setColumnHidden(i, not on))
+        menu.addSeparator()
+        menu.addAction("Fewer columns", lambda: self.set_compact(True))
+        menu.addAction("All columns", lambda: self.set_compact(False))
+        menu.popup(self.table.horizontalHeader().mapToGlobal(pos))
 
     def eventFilter(self, obj: QObject, event: QEvent) -> bool:
         if obj is self.table and event.type() == QEvent.Type.KeyPress:
@@ -452,8 +490,16 @@ class WorklistWidget(QWidget):
     def _on_rows(self, generation: int, rows: list, subjects: object) -> None:
         if generation != self._generation:
             return
+        first = self.model.rowCount() == 0
         self.model.append_rows(rows, subjects if isinstance(subjects, dict) else None)
+        if first:
+            self._fit_columns()
         self._update_count()
+
+    def _fit_columns(self) -> None:
+        # Width from the first rows' contents (not the header default of 100 px a column).
+        self.table.horizontalHeader().setResizeContentsPrecision(200)
+        self.table.resizeColumnsToContents()
 
     def _on_progress(self, generation: int, done: int, total: int) -> None:
         if generation != self._generation:
@@ -471,6 +517,7 @@ class WorklistWidget(QWidget):
         self.last_scan_thread_id = self._task.thread_id if self._task is not None else None
         self._task = None
         self.progress.hide()
+        self._fit_columns()
         self._update_count()
         self.scanFinished.emit(n)
 
