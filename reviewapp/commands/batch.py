@@ -102,7 +102,13 @@ def run(args: argparse.Namespace) -> int:
             print(f"failed: {o.error}", file=sys.stderr)
     print(
         f"{len(result.outcomes)} records: {result.done} done, {result.skipped} skipped, "
-        f"{result.failed} failed ({result.seconds:.1f} s)"
+        f"{result.failed} failed ({result.seconds:.1f} s"
+        + (
+            f", of which {result.startup_seconds:.1f} s starting workers; "
+            f"{result.records_per_second:.1f} records/s after start-up)"
+            if result.startup_seconds > 0
+            else ")"
+        )
     )
     # 1 = the batch ran to the end but some records could not be processed (listed above).
     return 1 if result.failed else 0

@@ -569,7 +569,11 @@ class MainWindow(QtWidgets.QMainWindow):
         """List the folder: the worklist (status, cached values, flags) when available."""
         self.folder = folder
         self.records_dock.setWindowTitle(f"Records — {folder.name}")
+        was_visible = self.records_dock.isVisible()
         self.records_dock.setVisible(len(records) > 1)
+        if self.records_dock.isVisible() and not was_visible:
+            # Once the dock has its first layout, narrow it so the page keeps its true size.
+            QtCore.QTimer.singleShot(0, self._fit_records_dock)
         if self.worklist is not None:
             self.worklist.open_folder(folder)
             return
@@ -579,6 +583,19 @@ class MainWindow(QtWidgets.QMainWindow):
             it.setData(QtCore.Qt.ItemDataRole.UserRole, str(p))
             it.setToolTip(str(p))
             self.records_list.addItem(it)
+
+    def _fit_records_dock(self) -> None:
+        """Narrow the records dock (down to 180 px) until the page fits at true size beside
+        it; the reader can widen it again (the list then scrolls the page sideways)."""
+        g = self.paper.geom
+        if g is None or not self.records_dock.isVisible():
+            return
+        page_px = g.width_mm * self.scale.px_per_mm
+        short = page_px - self.paper.vb.width()
+        if short <= 0:
+            return
+        want = max(180, int(self.records_dock.width() - short - 2))
+        self.resizeDocks([self.records_dock], [want], QtCore.Qt.Orientation.Horizontal)
 
     def _select_in_list(self, path: Path | None) -> None:
         self._current_path = path
