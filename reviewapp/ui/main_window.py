@@ -129,6 +129,7 @@ class MainWindow(QtWidgets.QMainWindow):
         if self.worklist is not None:
             self.worklist.recordActivated.connect(self.open_path)
             self.worklist.scanFinished.connect(lambda _n: self._select_in_list(self._current_path))
+            self.worklist.scanFinished.connect(self._records_listed)
             records_widget: QtWidgets.QWidget = self.worklist
         else:
             self.records_list = QtWidgets.QListWidget()
@@ -137,6 +138,7 @@ class MainWindow(QtWidgets.QMainWindow):
             )
             records_widget = self.records_list
         self._current_path: Path | None = None
+        self._records_fit_pending = False
         self.records_dock = self._dock(
             "Records", records_widget, QtCore.Qt.DockWidgetArea.LeftDockWidgetArea
         )
@@ -253,6 +255,11 @@ class MainWindow(QtWidgets.QMainWindow):
             "B",
             True,
             "Each lead's representative (median) beat with the global marks",
+        )
+        self.act_median_auto = A(
+            "Median beat where there is room",
+            lambda: self.set_median_automatic(),
+            tip="Show the median beats below the page whenever the page leaves room for them",
         )
         self.act_superimpose = A(
             "Superimpose beats",
@@ -490,7 +497,7 @@ class MainWindow(QtWidgets.QMainWindow):
         for a in self.act_layouts.values():
             m.addAction(a)
         m.addSeparator()
-        for a in (self.act_median, self.act_superimpose, self.act_cabrera):
+        for a in (self.act_median, self.act_median_auto, self.act_superimpose, self.act_cabrera):
             m.addAction(a)
         m.addSeparator()
         for a in (
@@ -572,7 +579,9 @@ class MainWindow(QtWidgets.QMainWindow):
         was_visible = self.records_dock.isVisible()
         self.records_dock.setVisible(len(records) > 1)
         if self.records_dock.isVisible() and not was_visible:
-            # Once the dock has its first layout, narrow it so the page keeps its true size.
+            # Once the dock has its first layout (and again once the rows are in, which widen
+            # the table), narrow it so the page keeps its true size.
+            self._records_fit_pending = True
             QtCore.QTimer.singleShot(0, self._fit_records_dock)
         if self.worklist is not None:
             self.worklist.open_folder(folder)
@@ -584,6 +593,11 @@ class MainWindow(QtWidgets.QMainWindow):
             it.setToolTip(str(p))
             self.records_list.addItem(it)
 
+    def _records_listed(self, _n: int) -> None:
+        if self._records_fit_pending:
+            self._records_fit_pending = False
+            QtCore.QTimer.singleShot(0, self._fit_records_dock)
+
     def _fit_records_dock(self) -> None:
         """Narrow the records dock (down to 180 px) until the page fits at true size beside
         it; the reader can widen it again (the list then scrolls the page sideways)."""
@@ -591,11 +605,13 @@ class MainWindow(QtWidgets.QMainWindow):
         if g is None or not self.records_dock.isVisible():
             return
         page_px = g.width_mm * self.scale.px_per_mm
-        short = page_px - self.paper.vb.width()
-        if short <= 0:
-            return
-        want = max(180, int(self.records_dock.width() - short - 2))
-        self.resizeDocks([self.records_dock], [want], QtCore.Qt.Orientation.Horizontal)
+        short = page_px - self.paper.vb.width()  # < 0: room to spare beside the page
+        width = self.records_dock.width()
+        want = max(180, int(width - short - 2))
+        if self.worklist is not None and short < 0:
+            want = min(want, max(width, self.worklist.preferred_width()))
+        if want != width:
+            self.resizeDocks([self.records_dock], [want], QtCore.Qt.Orientation.Horizontal)
 
     def _select_in_list(self, path: Path | None) -> None:
         self._current_path = path
@@ -785,6 +801,8 @@ class MainWindow(QtWidgets.QMainWindow):
                 return
         if self.compare_dialog is not None and mode.blinded:
             self.compare_dialog.close()
+        if self.worklist is not None:
+            self.worklist.set_blinded(self.read_mode.blinded)
         self._update_reading_panel()
 
     # --- reading status, sign-off, notes -------------------------------------------------

@@ -22,8 +22,10 @@ MAX_SUPERIMPOSED = 300
 # Curves and grids are cached as device pixels: dragging a mark line repaints a thin column of
 # every panel, which should copy pixels, not stroke the beats again.
 _CACHE = QtWidgets.QGraphicsItem.CacheMode.DeviceCoordinateCache
-# Label heights (fraction of the panel) staggered so neighbouring marks' labels never overlap.
-LABEL_POSITIONS = {"p_on": 0.95, "p_off": 0.95, "qrs_on": 0.86, "qrs_off": 0.86, "t_off": 0.95}
+# Label heights (fraction of the panel from the bottom) staggered so neighbouring marks'
+# labels never overlap. Near the bottom, not the top: the lead name sits top-left and an onset
+# label there hid it in narrow panels.
+LABEL_POSITIONS = {"p_on": 0.05, "p_off": 0.05, "qrs_on": 0.14, "qrs_off": 0.14, "t_off": 0.05}
 # Onset labels sit left of their line, end labels right of it, so a close pair reads apart.
 LABEL_ANCHORS = {
     "p_on": [(1, 0.5), (1, 0.5)],
@@ -156,6 +158,7 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
             f.setBold(True)
             title.setFont(f)
             title.setPos(x0, y_hi)
+            title.setZValue(50)  # the lead name stays readable above mark lines and labels
             p.addItem(title)
             p.setRange(xRange=(x0, x1), yRange=(y_lo, y_hi), padding=0.02)
             self.plots.append(p)

@@ -29,7 +29,7 @@ from PySide6.QtCore import (
     QThreadPool,
     Signal,
 )
-from PySide6.QtGui import QColor, QFont, QKeyEvent
+from PySide6.QtGui import QColor, QFont, QFontMetrics, QGuiApplication, QKeyEvent, QPalette
 from PySide6.QtWidgets import (
     QAbstractItemView,
     QCheckBox,
@@ -38,6 +38,7 @@ from PySide6.QtWidgets import (
     QHeaderView,
     QLabel,
     QProgressBar,
+    QSizePolicy,
     QTableView,
     QVBoxLayout,
     QWidget,
@@ -65,6 +66,8 @@ NUMERIC = {"hr_bpm", "pr_ms", "qrs_ms", "qt_ms", "qtc"}
 COMPACT_COLUMNS = ("name", "subject", "timepoint", "status", "qtc", "flags")
 STATUS_TEXT = {"unread": "unread", "in_progress": "in progress", "signed_off": "signed off"}
 SUBJECT_KEYS = ("subject", "timepoint")
+# Blanked for a blinded second reader: values, flags and the other reader's id.
+BLINDED_KEYS = NUMERIC | {"flags", "reviewer"}
 SortKeyRole = Qt.ItemDataRole.UserRole + 1
 PathRole = Qt.ItemDataRole.UserRole + 2
 RowRole = Qt.ItemDataRole.UserRole + 3
@@ -79,6 +82,8 @@ class WorklistModel(QAbstractTableModel):
         self._index: dict[Path, int] = {}
         self._subjects: dict[Path, dict[str, str]] = {}
         self.qtc_formula = qtc_formula
+        # A blinded second reader must not see another reader's values, flags or id here.
+        self.blinded = False
 
     # --- Qt model API
     def rowCount(self, parent: QModelIndex | QPersistentModelIndex = QModelIndex()) -> int:  # noqa: B008
@@ -115,14 +120,12 @@ class WorklistModel(QAbstractTableModel):
         if role == Qt.ItemDataRole.TextAlignmentRole and key in NUMERIC:
             return int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
         if role == Qt.ItemDataRole.ToolTipRole:
-            return self._tooltip(row)
+            return str(row.path) if self.blinded else self._tooltip(row)
         if role == Qt.ItemDataRole.ForegroundRole:
-            if row.problem:
-                return QColor(170, 0, 0)
+            if row.problem or (key == "flags" and row.flagged and not self.blinded):
+                return _alert_colour()
             if key in NUMERIC and row.stale:
                 return QColor(130, 130, 130)
-            if key == "flags" and row.flagged:
-                return QColor(170, 0, 0)
         if role == Qt.ItemDataRole.FontRole:
             if key in NUMERIC and row.stale:
                 f = QFont()
@@ -140,6 +143,8 @@ class WorklistModel(QAbstractTableModel):
         return getattr(row, key)
 
     def _display(self, row: ListingRow, key: str) -> str:
+        if self.blinded and key in BLINDED_KEYS:
+            return ""
         if key in NUMERIC:
             v = self._value(row, key)
             return "" if v is None else f"{v:.0f}"
@@ -156,6 +161,8 @@ class WorklistModel(QAbstractTableModel):
         return str(getattr(row, key))
 
     def _sort_key(self, row: ListingRow, key: str) -> object:
+        if self.blinded and key in BLINDED_KEYS:
+            return math.nan if key in NUMERIC else ""
         if key in NUMERIC:
             v = self._value(row, key)
             return math.nan if v is None else float(v)
@@ -224,6 +231,11 @@ class WorklistModel(QAbstractTableModel):
     def row_of(self, path: Path) -> int | None:
         return self._index.get(Path(path))
 
+    def set_blinded(self, on: bool) -> None:
+        self.beginResetModel()
+        self.blinded = on
+        self.endResetModel()
+
     def set_qtc_formula(self, formula: str) -> None:
         self.qtc_formula = formula
         col = [k for k, _ in COLUMNS].index("qtc")
@@ -246,10 +258,12 @@ class WorklistFilter(QSortFilterProxyModel):
     def set_filters(
         self, *, unread_only: bool, flagged_only: bool, qtc_above_ms: float | None
     ) -> None:
+        # Qt 6.10: begin/endFilterChange replace the deprecated invalidateFilter.
+        self.beginFilterChange()
         self.unread_only = unread_only
         self.flagged_only = flagged_only
         self.qtc_above_ms = qtc_above_ms
-        self.invalidateFilter()
+        self.endFilterChange()
 
     def filterAcceptsRow(
         self, source_row: int, source_parent: QModelIndex | QPersistentModelIndex
@@ -259,6 +273,8 @@ class WorklistFilter(QSortFilterProxyModel):
         row = model.row_at(source_row)
         if self.unread_only and row.status != "unread":
             return False
+        if model.blinded:
+            return True  # value filters would reveal the values
         if self.flagged_only and not row.flagged:
             return False
         if self.qtc_above_ms is not None:
@@ -414,11 +430,14 @@ class WorklistWidget(QWidget):
         bar2.addWidget(self.qtc_box)
         bar2.addWidget(self.qtc_spin)
         bar2.addStretch(1)
-        bar2.addWidget(self.count_label)
         layout = QVBoxLayout(self)
         layout.setContentsMargins(2, 2, 2, 2)
         layout.addLayout(bar)
         layout.addLayout(bar2)
+        # The count on a line of its own: its text grows with the folder and must not widen
+        # the dock.
+        self.count_label.setSizePolicy(QSizePolicy.Policy.Ignored, QSizePolicy.Policy.Preferred)
+        layout.addWidget(self.count_label)
         layout.addWidget(self.progress)
         layout.addWidget(self.table, 1)
 
@@ -430,6 +449,31 @@ class WorklistWidget(QWidget):
         """Show only COMPACT_COLUMNS (True) or every column (False)."""
         for i, (key, _title) in enumerate(COLUMNS):
             self.table.setColumnHidden(i, compact and key not in COMPACT_COLUMNS)
+
+    def set_blinded(self, on: bool) -> None:
+        """Blinded second reading: the list keeps names, subjects and status but shows no
+        values, flags or reviewer id, and the value filters are off."""
+        current = self.current_path()
+        self.model.set_blinded(on)
+        for w in (self.flagged_box, self.qtc_box, self.qtc_spin):
+            w.setEnabled(not on)
+        self.proxy.invalidate()
+        self._update_count()
+        if current is not None:
+            self.select_path(current)
+
+    def preferred_width(self) -> int:
+        """Width (px) that shows every visible column without scrolling."""
+        header = self.table.horizontalHeader()
+        cols = sum(
+            header.sectionSize(i) for i in range(len(COLUMNS)) if not header.isSectionHidden(i)
+        )
+        return (
+            cols
+            + 2 * self.table.frameWidth()
+            + self.table.verticalScrollBar().sizeHint().width()
+            + 6
+        )
 
     def visible_columns(self) -> list[str]:
         return [k for i, (k, _t) in enumerate(COLUMNS) if not self.table.isColumnHidden(i)]
@@ -498,8 +542,16 @@ class WorklistWidget(QWidget):
 
     def _fit_columns(self) -> None:
         # Width from the first rows' contents (not the header default of 100 px a column).
-        self.table.horizontalHeader().setResizeContentsPrecision(200)
+        header = self.table.horizontalHeader()
+        header.setResizeContentsPrecision(200)
         self.table.resizeColumnsToContents()
+        # Status changes as the reader works ("unread" -> "in progress"): room for the longest
+        # word now, so it is never cut to "in ..." later. Bold, as unread rows are drawn.
+        f = QFont(self.table.font())
+        f.setBold(True)
+        widest = max(QFontMetrics(f).horizontalAdvance(t) for t in STATUS_TEXT.values())
+        col = [k for k, _t in COLUMNS].index("status")
+        header.resizeSection(col, max(header.sectionSize(col), widest + 14))
 
     def _on_progress(self, generation: int, done: int, total: int) -> None:
         if generation != self._generation:
@@ -631,6 +683,13 @@ class WorklistWidget(QWidget):
     def closeEvent(self, event) -> None:  # type: ignore[no-untyped-def]
         self.cancel_scan()
         super().closeEvent(event)
+
+
+def _alert_colour() -> QColor:
+    """Dark red on a light list, light red on a dark one (dark red on near-black is
+    unreadable)."""
+    base = QGuiApplication.palette().color(QPalette.ColorRole.Base)
+    return QColor(170, 0, 0) if base.lightness() >= 128 else QColor(255, 130, 120)
 
 
 def is_listable(path: Path) -> bool:

@@ -89,9 +89,7 @@ def folder_copy(sample_records_dir, tmp_path) -> Path:
     return dst
 
 
-def test_opening_a_folder_shows_the_worklist_beside_a_true_size_page(
-    qtbot, settings, folder_copy
-):
+def test_opening_a_folder_shows_the_worklist_beside_a_true_size_page(qtbot, settings, folder_copy):
     from reviewapp.ui.main_window import MainWindow, list_records
     from reviewapp.ui.worklist import COLUMNS, COMPACT_COLUMNS
 
@@ -115,6 +113,13 @@ def test_opening_a_folder_shows_the_worklist_beside_a_true_size_page(
     status_col = [k for k, _t in COLUMNS].index("status")
     status = w.worklist.proxy.index(0, status_col).data()
     assert status in ("unread", "in progress", "signed off")
+    # Room for the longest status word, so "in progress" is never cut to "in ...".
+    from PySide6 import QtGui
+
+    bold = QtGui.QFont(w.worklist.table.font())
+    bold.setBold(True)
+    need = QtGui.QFontMetrics(bold).horizontalAdvance("in progress")
+    assert w.worklist.table.columnWidth(status_col) > need
     w.worklist.set_compact(False)
     assert len(w.worklist.visible_columns()) == len(COLUMNS)
     w.worklist.set_compact(True)
@@ -180,6 +185,113 @@ def test_median_beats_fill_the_room_below_the_page_in_both_themes(loaded, qtbot,
     assert not w.median.isVisible()
     qtbot.keyClick(w, Key.Key_T, QtCore.Qt.KeyboardModifier.ControlModifier)
     assert w.theme.name != theme
-    w.set_median_automatic()
-    assert w.median.isVisible()
+    w.act_median_auto.trigger()  # View ▸ Median beat where there is room
+    assert w.median.isVisible() and w.median_auto
     w.set_theme("light")
+
+
+def _contrast(a, b) -> float:
+    """WCAG 2.1 contrast ratio (https://www.w3.org/TR/WCAG21/#dfn-contrast-ratio)."""
+
+    def lum(c) -> float:
+        def ch(v: float) -> float:
+            return v / 12.92 if v <= 0.04045 else ((v + 0.055) / 1.055) ** 2.4
+
+        return 0.2126 * ch(c.redF()) + 0.7152 * ch(c.greenF()) + 0.0722 * ch(c.blueF())
+
+    hi, lo = sorted((lum(a), lum(b)), reverse=True)
+    return (hi + 0.05) / (lo + 0.05)
+
+
+@pytest.mark.parametrize("theme", ["light", "dark"])
+def test_worklist_alert_text_is_readable_in_both_themes(qtbot, theme):
+    from PySide6 import QtGui
+
+    from reviewapp.ui.theme import DARK, LIGHT, apply_palette
+    from reviewapp.ui.worklist import _alert_colour
+
+    app = QtWidgets.QApplication.instance()
+    apply_palette(app, DARK if theme == "dark" else LIGHT)
+    try:
+        base = QtGui.QGuiApplication.palette().color(QtGui.QPalette.ColorRole.Base)
+        # WCAG 2.1 level AA asks 4.5:1 for normal text.
+        assert _contrast(_alert_colour(), base) >= 4.5
+    finally:
+        apply_palette(app, LIGHT)
+
+
+def test_amplitude_caliper_label_sits_above_the_higher_leg(loaded):
+    w = loaded
+    w.set_layout("3x4+1")
+    c = w.add_caliper("amplitude", center_sample=2000)
+    for a_mv, b_mv in ((0.0, 1.2), (1.2, 0.0), (-0.5, 0.3)):
+        c.set_levels(a_mv=a_mv, b_mv=b_mv)
+        anchor = c._label_anchor()
+        # The label is drawn above its anchor: at the higher voltage's leg, not mid-bar.
+        assert anchor.y() == pytest.approx(w.paper.geom.y_of_mv(c.row, max(a_mv, b_mv)))
+
+
+def test_blinded_second_reader_sees_no_values_in_the_worklist(window, qtbot, tmp_path):
+    from reviewapp.batch.listing import ListingRow
+    from reviewapp.ui.reader import FIRST, SECOND_BLINDED
+    from reviewapp.ui.worklist import COLUMNS
+
+    wl = window.worklist
+    # A first reader's signed-off row with long QTc and a flag (invented values: blinding is
+    # about what is shown, not about the numbers).
+    row = ListingRow(
+        tmp_path / "r1.hea",
+        "r1",
+        "",
+        "signed_off",
+        reviewer="reader1",
+        qt_ms=480.0,
+        qtc_fridericia_ms=505.0,
+        qtc_bazett_ms=512.0,
+        flags=("QTc above 500 ms",),
+        has_values=True,
+    )
+    wl.model.append_rows([row])
+    col = {k: i for i, (k, _t) in enumerate(COLUMNS)}
+
+    def shown(key: str) -> str:
+        return wl.model.index(0, col[key]).data()
+
+    assert shown("qtc") == "505" and shown("reviewer") == "reader1" and shown("flags")
+    window.set_read_mode(SECOND_BLINDED, reopen=False)
+    for key in ("qtc", "qt_ms", "flags", "reviewer"):
+        assert shown(key) == "", key
+    tip = wl.model.index(0, col["name"]).data(QtCore.Qt.ItemDataRole.ToolTipRole)
+    assert "500" not in tip and "QTc" not in tip
+    assert shown("name") == "r1"
+    # Value filters would reveal the values: they are off while blinded.
+    wl.set_filters(flagged_only=True)
+    assert wl.proxy.rowCount() == 1 and not wl.flagged_box.isEnabled()
+    window.set_read_mode(FIRST, reopen=False)
+    assert shown("qtc") == "505" and wl.flagged_box.isEnabled()
+
+
+def test_median_mark_labels_leave_the_lead_names_readable(loaded, qtbot):
+    import pyqtgraph as pg
+
+    w = loaded
+    w.resize(1300, 1000)  # narrow panels: where an onset label used to cover the lead name
+    w.show_median(True)
+    qtbot.wait(50)
+    labels = [
+        ln.label.sceneBoundingRect()
+        for lines in w.median.lines.values()
+        for ln in lines
+        if getattr(ln, "label", None) is not None and ln.label.isVisible()
+    ]
+    assert labels  # the first row's lines carry labels
+    titles = [
+        it.sceneBoundingRect()
+        for p in w.median.plots
+        for it in p.addedItems
+        if isinstance(it, pg.TextItem) and not isinstance(it, pg.InfLineLabel)
+    ]
+    assert len(titles) == len(w.median.plots)
+    for t in titles:
+        for lab in labels:
+            assert not t.intersects(lab), (t, lab)
