@@ -13,7 +13,6 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from reviewapp import __version__
 from reviewapp.core.dsp.beats import classify_beats, representative_beat
 from reviewapp.core.dsp.delineate import (
     delineate_beats,
@@ -32,8 +31,7 @@ from reviewapp.core.fiducials import (
 )
 from reviewapp.core.measure import Finding, Measurements, compute_measurements, evaluate_findings
 from reviewapp.core.record import Record
-
-ENGINE_VERSION = __version__
+from reviewapp.core.versions import ENGINE_VERSION
 
 
 @dataclass(frozen=True, eq=False)

@@ -736,7 +736,7 @@ def header_subject(path: Path) -> dict[str, str]:
 
 def _engine_version() -> str | None:
     try:
-        from reviewapp.core.engine import ENGINE_VERSION
+        from reviewapp.core.versions import ENGINE_VERSION
     except ImportError:
         return None
     return ENGINE_VERSION
