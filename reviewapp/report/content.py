@@ -14,6 +14,7 @@ from typing import Any
 import numpy as np
 
 from reviewapp.core.fiducials import FIDUCIALS, Beat, MarkOverride, WaveMarks
+from reviewapp.core.measure.findings import displayed
 from reviewapp.core.record import Record
 
 
@@ -165,6 +166,18 @@ def measurement_rows(
                 flag = f"{f.direction} {f.limit:g}"
                 used.add(i)
                 break
+        if not flag and value is not None and nr is not None:
+            # Several QTc formulas flagging together arrive as one merged "qtc_ms" finding;
+            # each formula's own row is still flagged against its own range.
+            shown = displayed(float(value), unit)
+            if nr.is_above(shown):
+                flag = f"above {nr.high:g}"
+            elif nr.is_below(shown):
+                flag = f"below {nr.low:g}"
+            if flag and quantity.startswith("qtc_"):
+                used.update(
+                    i for i, f in enumerate(reading.findings) if f.quantity == "qtc_ms"
+                )
         rows.append(
             MeasurementRow(
                 quantity=quantity,
