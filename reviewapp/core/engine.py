@@ -158,6 +158,16 @@ def analyse(record: Record, *, mains_hz: float | None = None) -> Analysis:
         # Whether a P wave exists is decided across the beats (a P must repeat); the median
         # beat alone cannot tell atrial fibrillation's f-waves from a small P.
         rep = representative_p_from_beats(rep, beats, beat_marks)
+        n_rep = rep.waveform_mv.shape[0]
+        rep = replace(
+            rep,
+            marks=rep.marks.ordered(n_rep),
+            lead_marks=tuple(m.ordered(n_rep) for m in rep.lead_marks),
+        )
+    # Out-of-order or edge-cut boundaries would give silently wrong intervals: drop them.
+    n = record.n_samples
+    beat_marks = tuple(m.ordered(n) for m in beat_marks)
+    beat_lead_marks = tuple(tuple(m.ordered(n) for m in row) for row in beat_lead_marks)
     return Analysis(
         record=record,
         conditioned_mv=conditioned,

@@ -68,6 +68,53 @@ class WaveMarks:
             for name in FIDUCIALS
         }
 
+    def ordered(self, n_samples: int | None = None) -> WaveMarks:
+        """These marks with every inconsistency removed rather than guessed at.
+
+        Boundaries must run P onset <= P end <= QRS onset < QRS end < T end. A P whose onset
+        is not before its end is dropped; a P end past QRS onset is pulled back to it; a QRS
+        whose onset is not before its end is dropped together with T end; a T end without a
+        QRS end, or not after it, is dropped. With ``n_samples``, a T end or P onset on the
+        record's first or last sample is a wave cut by the record edge and is dropped.
+
+        >>> m = WaveMarks(p_on=50, p_off=40, qrs_on=60, qrs_off=100, t_off=300).ordered()
+        >>> (m.p_on, m.p_off, m.qrs_on, m.qrs_off, m.t_off)
+        (None, None, 60, 100, 300)
+        >>> WaveMarks(qrs_on=60, qrs_off=None, t_off=300).ordered().t_off is None
+        True
+        """
+        p_on, p_off, q_on, q_off, t_off = (
+            self.p_on,
+            self.p_off,
+            self.qrs_on,
+            self.qrs_off,
+            self.t_off,
+        )
+        if n_samples is not None:
+            if t_off is not None and t_off >= n_samples - 1:
+                t_off = None
+            if p_on is not None and p_on <= 0:
+                p_on = None
+        if p_on is not None and p_off is not None and p_on >= p_off:
+            p_on = p_off = None
+        if p_off is not None and q_on is not None and p_off > q_on:
+            p_off = q_on
+        if p_on is not None and q_on is not None and p_on >= q_on:
+            p_on = p_off = None
+        if q_on is not None and q_off is not None and q_on >= q_off:
+            q_on = q_off = None
+        if t_off is not None and (q_off is None or t_off <= q_off):
+            t_off = None
+        if (p_on, p_off, q_on, q_off, t_off) == (
+            self.p_on,
+            self.p_off,
+            self.qrs_on,
+            self.qrs_off,
+            self.t_off,
+        ):
+            return self
+        return replace(self, p_on=p_on, p_off=p_off, qrs_on=q_on, qrs_off=q_off, t_off=t_off)
+
     def as_array(self) -> np.ndarray:
         """The five boundaries as int64 with -1 for absent (vectorised work)."""
         return np.array(
