@@ -114,7 +114,10 @@ def _quiet_broken_pipe() -> int:
 def main(argv: Sequence[str] | None = None) -> int:
     args_in = list(sys.argv[1:] if argv is None else argv)
     # `reviewapp` and `reviewapp PATH` open the window: treat them as the `open` subcommand.
-    if not args_in or (args_in[0] not in SUBCOMMANDS and not args_in[0].startswith("-")):
+    if not args_in or (
+        args_in[0] not in SUBCOMMANDS and args_in[0] not in ("-h", "--help", "--version")
+    ):
+        # Window options (`reviewapp --speed 50 PATH`) belong to `open` as well.
         args_in = ["open", *args_in]
     try:
         parser = build_parser()

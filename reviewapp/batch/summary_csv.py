@@ -1,4 +1,11 @@
-"""The batch summary CSV: one row per record, with an error column for records that failed."""
+"""The batch summary CSV: one row per record, with an error column for records that failed.
+
+The values (``auto_*`` columns and ``auto_flags``) are computed from the AUTOMATIC marks the
+batch stored, never from a reader's corrections: a batch never opens a reading, and a
+blinded second reader's list must not show the first reader's numbers. The reading status
+and reviewer columns say whether a reader has worked on the record; open it (or use
+``reviewapp export --csv``) for the values under the reader's marks.
+"""
 
 from __future__ import annotations
 
@@ -16,13 +23,13 @@ COLUMNS = (
     "reading_status",
     "reviewer",
     "engine_version",
-    "hr_bpm",
-    "pr_ms",
-    "qrs_ms",
-    "qt_ms",
-    "qtc_bazett_ms",
-    "qtc_fridericia_ms",
-    "flags",
+    "auto_hr_bpm",
+    "auto_pr_ms",
+    "auto_qrs_ms",
+    "auto_qt_ms",
+    "auto_qtc_bazett_ms",
+    "auto_qtc_fridericia_ms",
+    "auto_flags",
     "seconds",
     "note",
     "error",
@@ -42,13 +49,13 @@ def outcome_row(o: RecordOutcome) -> dict[str, str]:
         "reading_status": o.status or "",
         "reviewer": o.reviewer or "",
         "engine_version": s.engine_version if s else "",
-        "hr_bpm": _fmt(s.hr_bpm if s else None),
-        "pr_ms": _fmt(s.pr_ms if s else None),
-        "qrs_ms": _fmt(s.qrs_ms if s else None),
-        "qt_ms": _fmt(s.qt_ms if s else None),
-        "qtc_bazett_ms": _fmt(s.qtc_bazett_ms if s else None),
-        "qtc_fridericia_ms": _fmt(s.qtc_fridericia_ms if s else None),
-        "flags": " | ".join(s.flags) if s else "",
+        "auto_hr_bpm": _fmt(s.hr_bpm if s else None),
+        "auto_pr_ms": _fmt(s.pr_ms if s else None),
+        "auto_qrs_ms": _fmt(s.qrs_ms if s else None),
+        "auto_qt_ms": _fmt(s.qt_ms if s else None),
+        "auto_qtc_bazett_ms": _fmt(s.qtc_bazett_ms if s else None),
+        "auto_qtc_fridericia_ms": _fmt(s.qtc_fridericia_ms if s else None),
+        "auto_flags": " | ".join(s.flags) if s else "",
         "seconds": f"{o.seconds:.3f}",
         "note": o.note,
         "error": o.error,

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import argparse
+import os
 import sys
 from pathlib import Path
 
@@ -43,7 +44,14 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
         help="run on an existing Dask cluster at ADDRESS (e.g. tcp://10.0.0.5:8786)",
     )
     p.add_argument(
-        "--summary", type=Path, default=None, metavar="PATH", help="write a summary CSV here"
+        "--summary",
+        type=Path,
+        default=None,
+        metavar="PATH",
+        help=(
+            "write a summary CSV here: one row per record, values from the automatic "
+            "marks (auto_* columns) beside the reading status and reviewer"
+        ),
     )
     p.add_argument(
         "--force",
@@ -65,6 +73,12 @@ def run(args: argparse.Namespace) -> int:
         raise ReviewError("not a folder", folder)
     if args.workers is not None and args.workers < 1:
         raise ReviewError(f"--workers must be at least 1, got {args.workers}")
+    if args.summary is not None:
+        # Refuse an unwritable summary before hours of work, not after.
+        target = Path(args.summary)
+        parent = target.parent if str(target.parent) else Path(".")
+        if target.is_dir() or not parent.is_dir() or not os.access(parent, os.W_OK):
+            raise ReviewError("cannot write the summary CSV there", target)
     paths = find_records(folder, recursive=True)
     if args.summary is not None:  # a summary written into the folder is not a record
         summary_file = Path(args.summary).resolve()

@@ -94,10 +94,9 @@ def run(args: argparse.Namespace) -> int:
     results: list[dict[str, Any]] = []
     failed = 0
     if args.per_lead and args.format == "csv":
-        print(
-            "reviewapp: --per-lead applies to json and table output; csv has one row per "
-            "record (global values only)",
-            file=sys.stderr,
+        raise ReviewError(
+            "--per-lead applies to json and table output; csv has one row per record "
+            "(global values only)"
         )
     for path in args.paths:
         try:

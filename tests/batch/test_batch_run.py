@@ -88,7 +88,7 @@ def test_batch_command_on_a_local_cluster_marks_good_records_and_reports_the_bad
     # Synthetic records: the cached heart rate is the generator's (60 and 75 bpm exactly by
     # construction, invented data); a check of the cache, not of the engine.
     for name, hr in (("syn60", 60.0), ("syn75", 75.0)):
-        assert float(rows[name]["hr_bpm"]) == pytest.approx(hr, abs=1.5)
+        assert float(rows[name]["auto_hr_bpm"]) == pytest.approx(hr, abs=1.5)
     # The stored automatic marks are what an in-process analysis of the same file gives.
     p1 = record_folder / "1.hea"
     sc = load_sidecar(sidecars.sidecar_path(p1))
