@@ -22,7 +22,9 @@ from reviewapp.core.dsp.delineate import (
 from reviewapp.core.dsp.filters import condition
 from reviewapp.core.dsp.qrs import detect_qrs
 from reviewapp.core.fiducials import (
+    FIDUCIALS,
     Beat,
+    BeatKind,
     MarkedECG,
     MarkOverride,
     RepresentativeBeat,
@@ -66,7 +68,14 @@ class Analysis:
     def marked(
         self, overrides: Iterable[MarkOverride] = ()
     ) -> tuple[MarkedECG, tuple[MarkOverride, ...]]:
-        """Apply overrides to the automatic marks: (marked ECG, overrides that matched nothing)."""
+        """Apply overrides to the automatic marks: (marked ECG, overrides that matched nothing).
+
+        A correction of the representative beat's global boundary also moves that boundary on
+        every dominant beat by the same amount (or removes it, when the reader says the wave
+        is absent): each dominant beat's automatic marks are the median beat's marks carried
+        over by template alignment, so the reader's correction of the source applies to them.
+        A beat's own override always wins over the carried one.
+        """
         names = self.record.lead_names
         beat_marks = list(self.beat_marks)
         beat_lead = [list(row) for row in self.beat_lead_marks]
@@ -74,6 +83,7 @@ class Analysis:
         rep_marks = rep.marks if rep is not None else None
         rep_lead = list(rep.lead_marks) if rep is not None else []
         unmatched: list[MarkOverride] = []
+        beat_overrides: list[tuple[MarkOverride, int | None]] = []
         for ov in overrides:
             lead_i = None
             if ov.lead is not None:
@@ -82,14 +92,17 @@ class Analysis:
                 except KeyError:
                     unmatched.append(ov)
                     continue
-            if ov.scope == "representative":
-                if rep is None or rep_marks is None:
-                    unmatched.append(ov)
-                elif lead_i is None:
-                    rep_marks = rep_marks.with_mark(ov.fiducial, ov.sample)
-                else:
-                    rep_lead[lead_i] = rep_lead[lead_i].with_mark(ov.fiducial, ov.sample)
-                continue
+            if ov.scope == "beat":
+                beat_overrides.append((ov, lead_i))
+            elif rep is None or rep_marks is None:
+                unmatched.append(ov)
+            elif lead_i is None:
+                rep_marks = rep_marks.with_mark(ov.fiducial, ov.sample)
+            else:
+                rep_lead[lead_i] = rep_lead[lead_i].with_mark(ov.fiducial, ov.sample)
+        if rep is not None and rep_marks is not None and rep_marks != rep.marks:
+            beat_marks = _carry_representative(rep.marks, rep_marks, self.beats, beat_marks)
+        for ov, lead_i in beat_overrides:
             bi = match_beat(self.beats, int(ov.beat_r or 0), self.fs_hz)
             if bi is None:
                 unmatched.append(ov)
@@ -118,6 +131,30 @@ class Analysis:
         measurements = compute_measurements(marked)
         findings = evaluate_findings(measurements, self.record.subject)
         return Reading(marked, measurements, findings, overrides, unmatched)
+
+
+def _carry_representative(
+    auto: WaveMarks, final: WaveMarks, beats: tuple[Beat, ...], beat_marks: list[WaveMarks]
+) -> list[WaveMarks]:
+    """Dominant beats' global marks with the representative beat's corrections carried over."""
+    changes: dict[str, int | None] = {}
+    for name in FIDUCIALS:
+        a, f = auto.get(name), final.get(name)
+        if a == f:
+            continue
+        changes[name] = None if f is None else (None if a is None else f - a)
+    if not changes:
+        return beat_marks
+    out = list(beat_marks)
+    for i, (beat, m) in enumerate(zip(beats, beat_marks, strict=True)):
+        if beat.kind is not BeatKind.DOMINANT:
+            continue
+        for name, delta in changes.items():
+            v = m.get(name)
+            # A wave the reader added on the median beat is not invented on each beat.
+            m = m.with_mark(name, None if (delta is None or v is None) else v + delta)
+        out[i] = m
+    return out
 
 
 def analyse(record: Record, *, mains_hz: float | None = None) -> Analysis:

@@ -129,8 +129,9 @@ class ReportContent:
 
     @property
     def n_corrected(self) -> int:
-        n = sum(m.corrected for m in self.rep_marks)
-        return n + sum(m.corrected for row in self.beat_marks for m in row)
+        """How many boundaries the reviewer corrected (a median-beat correction counts once,
+        though it also moves that boundary on every dominant beat)."""
+        return self.n_overrides
 
 
 def _pairs(auto: WaveMarks, final: WaveMarks) -> tuple[MarkPair, ...]:
