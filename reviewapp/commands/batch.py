@@ -118,7 +118,7 @@ def run(args: argparse.Namespace) -> int:
         f"{len(result.outcomes)} records: {result.done} done, {result.skipped} skipped, "
         f"{result.failed} failed ({result.seconds:.1f} s"
         + (
-            f", of which {result.startup_seconds:.1f} s starting workers; "
+            f", of which {result.startup_seconds:.1f} s starting up; "
             f"{result.records_per_second:.1f} records/s after start-up)"
             if result.startup_seconds > 0
             else ")"
