@@ -4,6 +4,8 @@ from __future__ import annotations
 
 import argparse
 
+from reviewapp.commands._options import add_reading_options
+
 
 def add_parser(sub: argparse._SubParsersAction) -> None:
     p = sub.add_parser(
@@ -16,19 +18,7 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
         metavar="PATH",
         help="record file (WFDB .hea or record name, EDF, CSV, aECG XML, DICOM)",
     )
-    p.add_argument(
-        "--fs",
-        type=float,
-        default=None,
-        metavar="HZ",
-        help="sampling rate for CSV files without a time column",
-    )
-    p.add_argument(
-        "--units",
-        default=None,
-        metavar="U",
-        help="sample units where the file does not say (uV, mV, V)",
-    )
+    add_reading_options(p)
 
 
 def run(args: argparse.Namespace) -> int:

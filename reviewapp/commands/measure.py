@@ -16,6 +16,7 @@ from pathlib import Path
 from typing import Any
 
 from reviewapp import CLINICAL_CAUTION
+from reviewapp.commands._options import add_reading_options
 from reviewapp.core.errors import RecordError, ReviewError
 
 # Shortest record measured: two beats even at 30 bpm, and enough signal for the filters
@@ -52,19 +53,7 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
         help="include each lead's marks per beat (json) / per-lead amplitudes (table); "
         "not available with csv",
     )
-    p.add_argument(
-        "--fs",
-        type=float,
-        default=None,
-        metavar="HZ",
-        help="sampling rate for CSV files without a time column",
-    )
-    p.add_argument(
-        "--units",
-        default=None,
-        metavar="U",
-        help="sample units where the file does not say (uV, mV, V)",
-    )
+    add_reading_options(p)
 
 
 def measure_path(
