@@ -64,6 +64,7 @@ LANE_OF = {"p_on": "P", "p_off": "P", "qrs_on": "QRS", "qrs_off": "QRS", "t_off"
 # Short labels for the page table (the CSV keeps the measurement module's labels).
 PAGE_LABELS = {
     "hr_bpm": "Heart rate",
+    "ventricular_rate_bpm": "Vent. rate",
     "rr_ms": "RR",
     "p_ms": "P duration",
     "pr_ms": "PR",
@@ -80,7 +81,7 @@ PAGE_LABELS = {
 TABLE_GROUPS = (
     ("hr_bpm", "rr_ms", "p_ms", "pr_ms", "qrs_ms"),
     ("qt_ms", "qtc_bazett_ms", "qtc_fridericia_ms", "qtc_framingham_ms", "qtc_hodges_ms"),
-    ("p_axis_deg", "qrs_axis_deg", "t_axis_deg"),
+    ("ventricular_rate_bpm", "p_axis_deg", "qrs_axis_deg", "t_axis_deg"),
 )
 MM_PER_PT = 25.4 / 72.0
 

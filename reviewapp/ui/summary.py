@@ -20,8 +20,21 @@ if TYPE_CHECKING:
 
 # (field, label, unit, decimals, how it is computed)
 GLOBAL_ROWS: tuple[tuple[str, str, str, int, str], ...] = (
-    ("hr_bpm", "Heart rate", "bpm", 0, "60000 / mean RR of all beats"),
-    ("rr_ms", "RR", "ms", 0, "mean interval between successive R fiducial points (all beats)"),
+    (
+        "hr_bpm",
+        "Heart rate",
+        "bpm",
+        0,
+        "60000 / mean RR of consecutive dominant beats (every beat in an irregular rhythm)",
+    ),
+    (
+        "ventricular_rate_bpm",
+        "Ventricular rate",
+        "bpm",
+        0,
+        "every QRS, premature beats included: (beats − 1) × 60 / time from first to last R",
+    ),
+    ("rr_ms", "RR", "ms", 0, "mean RR of consecutive dominant beats (the RR used for QTc)"),
     ("p_ms", "P", "ms", 0, "P end − P onset of the median beat (global marks, all leads)"),
     ("pr_ms", "PR", "ms", 0, "QRS onset − P onset of the median beat (global marks)"),
     ("qrs_ms", "QRS", "ms", 0, "QRS end − QRS onset of the median beat (global marks)"),

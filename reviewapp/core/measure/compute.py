@@ -10,7 +10,7 @@ from dataclasses import replace
 
 import numpy as np
 
-from reviewapp.core.fiducials import BeatKind, MarkedECG, WaveMarks
+from reviewapp.core.fiducials import Beat, BeatKind, MarkedECG, WaveMarks
 from reviewapp.core.measure.amplitudes import (
     cornell_mv,
     isoelectric_levels,
@@ -42,6 +42,19 @@ _AXIS_WAVES: tuple[tuple[str, str, str], ...] = (
 )
 
 
+def ventricular_rate_bpm(beats: tuple[Beat, ...], fs_hz: float) -> float | None:
+    """Rate of every QRS, premature and ectopic beats included: (beats - 1) intervals over
+    the time from the first to the last R. Heart rate (``hr_bpm``) is the dominant rhythm's.
+
+    >>> ventricular_rate_bpm((Beat(0), Beat(400), Beat(700), Beat(1000)), 500.0)
+    90.0
+    """
+    if len(beats) < 2:
+        return None
+    span_s = (beats[-1].r - beats[0].r) / fs_hz
+    return 60.0 * (len(beats) - 1) / span_s if span_s > 0 else None
+
+
 def compute_measurements(marked: MarkedECG) -> Measurements:
     """Intervals, QTc, axes, per-lead amplitudes and ST levels, voltages, beat-by-beat values.
 
@@ -62,6 +75,9 @@ def compute_measurements(marked: MarkedECG) -> Measurements:
         notes.append(IRREGULAR_NOTE)
     g["rr_ms"], g["rr_sd_ms"] = rr.mean_ms, rr.sd_ms
     g["hr_bpm"] = 60000.0 / rr.mean_ms if rr.mean_ms else None
+    g["ventricular_rate_bpm"] = ventricular_rate_bpm(marked.beats, fs)
+    if g["ventricular_rate_bpm"] is None:
+        unmeasured.append(("ventricular_rate_bpm", "fewer than two beats"))
     if rr.mean_ms is None:
         unmeasured += [("rr_ms", rr.basis), ("hr_bpm", rr.basis)]
     elif rr.sd_ms is None:

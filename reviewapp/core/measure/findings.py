@@ -36,6 +36,7 @@ from reviewapp.core.record import SubjectFacts
 
 LABELS: dict[str, str] = {
     "hr_bpm": "Heart rate",
+    "ventricular_rate_bpm": "Ventricular rate",
     "rr_ms": "RR",
     "p_ms": "P duration",
     "pr_ms": "PR",

@@ -15,9 +15,10 @@ seconds; absent or unmeasurable values are ``null``, never a guess.
   intervals ``rr_ms`` (from the previous R), ``pr_ms``, ``qrs_ms``, ``qt_ms``. With
   ``--per-lead`` each beat also has ``leads``: ``{lead name: {"p_on_s": ..., ...}}``.
 - ``global``: ``rr_ms`` (mean of dominant-to-dominant intervals), ``rr_sd_ms``, ``hr_bpm``,
-  ``p_ms``, ``pr_ms``, ``qrs_ms``, ``qt_ms`` (representative beat), ``qtc_ms``
-  ``{"bazett", "fridericia", "framingham", "hodges"}``, ``axis_deg`` ``{"p", "qrs", "t"}``
-  (frontal plane, degrees on (-180, 180]).
+  ``ventricular_rate_bpm`` (every QRS, premature beats included: (n - 1) intervals over the
+  first-to-last R span), ``p_ms``, ``pr_ms``, ``qrs_ms``, ``qt_ms`` (representative beat),
+  ``qtc_ms`` ``{"bazett", "fridericia", "framingham", "hodges"}``, ``axis_deg``
+  ``{"p", "qrs", "t"}`` (frontal plane, degrees on (-180, 180]).
   ``rhythm_irregular`` (bool): RR varies by more than 10 % (CV) within the dominant beat
   group; RR then averages every interval of that group and QTc is less reliable.
 - ``voltages``: ``sokolow_lyon_mv``, ``cornell_mv``.
@@ -139,6 +140,7 @@ MEASURE_JSON_SCHEMA: dict[str, Any] = {
             ],
             "properties": {
                 **{k: _num for k in ("rr_ms", "rr_sd_ms", "hr_bpm", "p_ms", "pr_ms")},
+                "ventricular_rate_bpm": _num,
                 **{k: _num for k in ("qrs_ms", "qt_ms")},
                 "qtc_ms": {
                     "type": "object",
@@ -211,6 +213,7 @@ CSV_COLUMNS: tuple[str, ...] = (
     "rr_ms",
     "rr_sd_ms",
     "hr_bpm",
+    "ventricular_rate_bpm",
     "p_ms",
     "pr_ms",
     "qrs_ms",
@@ -292,6 +295,7 @@ def reading_to_dict(analysis: Any, reading: Any, *, path: str = "", per_lead: bo
             "rr_ms": _f(iv.rr_ms),
             "rr_sd_ms": _f(iv.rr_sd_ms),
             "hr_bpm": _f(iv.hr_bpm),
+            "ventricular_rate_bpm": _f(iv.ventricular_rate_bpm),
             "p_ms": _f(iv.p_ms),
             "pr_ms": _f(iv.pr_ms),
             "qrs_ms": _f(iv.qrs_ms),
@@ -360,7 +364,7 @@ def csv_row(d: Mapping[str, Any]) -> dict[str, Any]:
         return row
     g = d["global"]
     row.update(fs_hz=d["fs_hz"], n_beats=len(d["beats"]))
-    for k in ("rr_ms", "rr_sd_ms", "hr_bpm", "p_ms", "pr_ms", "qrs_ms", "qt_ms"):
+    for k in CSV_COLUMNS[CSV_COLUMNS.index("rr_ms") : CSV_COLUMNS.index("qt_ms") + 1]:
         row[k] = g.get(k)
     for n in QTC_NAMES:
         row[f"qtc_{n}_ms"] = g["qtc_ms"][n]
@@ -397,6 +401,7 @@ def format_range(nr: NormalRange | None) -> str:
 _TABLE_ROWS: tuple[tuple[str, str, str], ...] = (
     # (quantity, where in the dict, unit)
     ("hr_bpm", "global.hr_bpm", "bpm"),
+    ("ventricular_rate_bpm", "global.ventricular_rate_bpm", "bpm"),
     ("rr_ms", "global.rr_ms", "ms"),
     ("p_ms", "global.p_ms", "ms"),
     ("pr_ms", "global.pr_ms", "ms"),

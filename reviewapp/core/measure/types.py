@@ -13,6 +13,7 @@ class GlobalIntervals:
     rr_ms: float | None = None
     rr_sd_ms: float | None = None
     hr_bpm: float | None = None
+    ventricular_rate_bpm: float | None = None  # every QRS, premature beats included
     p_ms: float | None = None
     pr_ms: float | None = None
     qrs_ms: float | None = None
