@@ -1049,7 +1049,7 @@ class MainWindow(QtWidgets.QMainWindow):
         total = self.split.height()
         if g is None:
             return 0
-        page = int(g.height_mm * self.scale.px_per_mm * self.paper.zoom) + 8
+        page = self.paper.page_height_px() + 8
         return total - page
 
     def _auto_median(self) -> None:
@@ -1086,7 +1086,7 @@ class MainWindow(QtWidgets.QMainWindow):
             g = self.paper.geom
             want = total // 2
             if g is not None:
-                want = int(g.height_mm * self.scale.px_per_mm * self.paper.zoom) + 8
+                want = self.paper.page_height_px() + 8
             top = max(160, min(want, int(total * 0.6)))
             self.split.setSizes([top, total - top])
 
@@ -1125,15 +1125,7 @@ class MainWindow(QtWidgets.QMainWindow):
         self.settings.setValue("view/theme", self.theme.name)
 
     def fit_page(self) -> None:
-        g = self.paper.geom
-        if g is None:
-            return
-        vb = self.paper.vb
-        z = min(
-            vb.width() / (g.width_mm * self.scale.px_per_mm),
-            vb.height() / (g.height_mm * self.scale.px_per_mm),
-        )
-        self.paper.set_zoom(z, QtCore.QPointF(0, 0))
+        self.paper.fit_page()
 
     def _step_page(self, d: int) -> None:
         if self.record is None:

@@ -2,7 +2,9 @@
 
 Drawn in millimetres of paper (y down). At zoom 1 one millimetre is ``px_per_mm`` screen
 pixels, so the paper is true size; the wheel zooms, a drag on the paper pans, "0" returns to
-true size. Marks and calipers keep samples and millivolts; this view only places them.
+true size. When the page at the current zoom is larger than the view, scroll bars show the
+part in sight and move it (they follow wheel zoom and drag panning). Marks and calipers keep
+samples and millivolts; this view only places them.
 """
 
 from __future__ import annotations
@@ -81,6 +83,20 @@ class PaperView(pg.GraphicsView):
         self.vb.sigRangeChanged.connect(self._range_changed)
         self.setFocusPolicy(QtCore.Qt.FocusPolicy.StrongFocus)
         self.setAcceptDrops(False)
+        # Own scroll bars in the viewport margins: pyqtgraph keeps the QGraphicsView's scene rect
+        # equal to the viewport, so its built-in bars would never have a range. These are bound
+        # to the ViewBox range (paper mm) instead, in screen pixels at the current zoom.
+        self._syncing_bars = False
+        self.h_scroll = QtWidgets.QScrollBar(QtCore.Qt.Orientation.Horizontal, self)
+        self.v_scroll = QtWidgets.QScrollBar(QtCore.Qt.Orientation.Vertical, self)
+        for sb in (self.h_scroll, self.v_scroll):
+            # No focus: PageUp/PageDown must keep turning the page in time, not scroll a bar.
+            sb.setFocusPolicy(QtCore.Qt.FocusPolicy.NoFocus)
+            sb.setVisible(False)
+        self.h_scroll.setObjectName("paper_h_scroll")
+        self.v_scroll.setObjectName("paper_v_scroll")
+        self.h_scroll.valueChanged.connect(self._h_scrolled)
+        self.v_scroll.valueChanged.connect(self._v_scrolled)
 
     # --- configuration ---------------------------------------------------------------------
     def set_record(self, record: Record, page_s: float = DEFAULT_PAGE_S) -> None:
@@ -214,6 +230,7 @@ class PaperView(pg.GraphicsView):
         for c in self.calipers:
             c.set_geometry(geom, self.scale.gain_mm_per_mv)
         self.rebuild_marks()
+        self._update_scrollbars()
 
     def _header_text(self) -> str:
         rec = self.record
@@ -437,6 +454,33 @@ class PaperView(pg.GraphicsView):
         w, h = self.vb.width() / (self.px_per_mm * new), self.vb.height() / (self.px_per_mm * new)
         self.set_zoom(new, QtCore.QPointF(c.x() - w / 2, c.y() - h / 2))
 
+    def fit_page(self) -> None:
+        """The whole page in sight, as large as the view allows (measured without scroll
+        bars, which a fitted page does not need)."""
+        g = self.geom
+        if g is None:
+            return
+        area = self._full_area()
+        if area.width() <= 1 or area.height() <= 1:
+            return
+        z = min(
+            area.width() / (g.width_mm * self.px_per_mm),
+            area.height() / (g.height_mm * self.px_per_mm),
+        )
+        # Drop the bars first so the ViewBox has the whole area when the zoom is applied.
+        self._set_bars(False, False)
+        self.set_zoom(z, QtCore.QPointF(0.0, 0.0))
+
+    def page_height_px(self) -> int:
+        """Height (px) the paper needs for its whole page height at the current zoom, plus the
+        horizontal scroll bar when the page is wider than the view (so no vertical one)."""
+        g = self.geom
+        if g is None:
+            return 0
+        ppu = self.px_per_mm * self._zoom
+        bar = self._bar_extent() if g.width_mm * ppu > self._full_area().width() + 0.5 else 0
+        return int(g.height_mm * ppu) + bar
+
     def _keep_zoom(self, *_args) -> None:
         self.set_zoom(self._zoom)
 
@@ -447,6 +491,103 @@ class PaperView(pg.GraphicsView):
             if abs(z - self._zoom) > 1e-6:
                 self._zoom = z
                 self.zoom_changed.emit(z)
+        self._update_scrollbars()
+
+    # --- scroll bars: the page beyond the view ------------------------------------------
+    def resizeEvent(self, ev) -> None:
+        # pyqtgraph sizes the scene to the whole widget; with scroll bars in the viewport
+        # margins the scene must be the viewport only, or the ViewBox would run under the bars.
+        if self.closed:
+            return
+        vp = self.viewport().size()
+        self.range = QtCore.QRectF(0, 0, vp.width(), vp.height())
+        pg.GraphicsView.setRange(self, self.range, padding=0, disableAutoPixel=False)
+        self.updateMatrix()
+        if "h_scroll" in self.__dict__:  # pyqtgraph resizes once inside its own __init__
+            self._place_scrollbars()
+            self._update_scrollbars()
+
+    def _full_area(self) -> QtCore.QSize:
+        """The paper's area without scroll bars (viewport plus the margins they take)."""
+        m = self.viewportMargins()
+        vp = self.viewport().size()
+        return QtCore.QSize(vp.width() + m.right(), vp.height() + m.bottom())
+
+    def _bar_extent(self) -> int:
+        return self.style().pixelMetric(QtWidgets.QStyle.PixelMetric.PM_ScrollBarExtent)
+
+    def _set_bars(self, need_h: bool, need_v: bool) -> None:
+        ext = self._bar_extent()
+        m = self.viewportMargins()
+        want = (ext if need_v else 0, ext if need_h else 0)
+        self.h_scroll.setVisible(need_h)
+        self.v_scroll.setVisible(need_v)
+        if (m.right(), m.bottom()) != want:
+            self.setViewportMargins(0, 0, *want)
+        self._place_scrollbars()
+
+    def _place_scrollbars(self) -> None:
+        cr = self.contentsRect()
+        m = self.viewportMargins()
+        self.h_scroll.setGeometry(
+            cr.left(), cr.bottom() + 1 - m.bottom(), cr.width() - m.right(), m.bottom()
+        )
+        self.v_scroll.setGeometry(
+            cr.right() + 1 - m.right(), cr.top(), m.right(), cr.height() - m.bottom()
+        )
+
+    def _update_scrollbars(self) -> None:
+        """Show a bar on each axis where the page at the current zoom is larger than the view,
+        with its range covering the page (and the view, if it was panned past an edge)."""
+        if self._syncing_bars:
+            return
+        g = self.geom
+        ppu = self.px_per_mm * self._zoom
+        if g is None or ppu <= 0:
+            self._set_bars(False, False)
+            return
+        area = self._full_area()
+        page_w, page_h = g.width_mm * ppu, g.height_mm * ppu
+        ext = self._bar_extent()
+        tol = 0.5  # px: a fitted page must not get a bar from rounding
+        need_h = page_w > area.width() + tol
+        need_v = page_h > area.height() + tol
+        # One bar takes room from the other axis, which may then need a bar too.
+        if need_h and not need_v:
+            need_v = page_h > area.height() - ext + tol
+        if need_v and not need_h:
+            need_h = page_w > area.width() - ext + tol
+        self._syncing_bars = True
+        try:
+            self._set_bars(need_h, need_v)
+            vr = self.vb.viewRect()
+            for sb, need, start_mm, size_mm, page_px in (
+                (self.h_scroll, need_h, vr.left(), vr.width(), page_w),
+                (self.v_scroll, need_v, vr.top(), vr.height(), page_h),
+            ):
+                if not need:
+                    continue
+                start, size = start_mm * ppu, size_mm * ppu
+                sb.setRange(round(min(0.0, start)), round(max(page_px - size, start)))
+                sb.setPageStep(max(1, round(size)))
+                sb.setSingleStep(max(1, round(5.0 * ppu)))  # one large (5 mm) square
+                sb.setValue(round(start))
+        finally:
+            self._syncing_bars = False
+
+    def _h_scrolled(self, value: int) -> None:
+        if self._syncing_bars:
+            return
+        vr = self.vb.viewRect()
+        x0 = value / (self.px_per_mm * self._zoom)
+        self.vb.setXRange(x0, x0 + vr.width(), padding=0.0)
+
+    def _v_scrolled(self, value: int) -> None:
+        if self._syncing_bars:
+            return
+        vr = self.vb.viewRect()
+        y0 = value / (self.px_per_mm * self._zoom)
+        self.vb.setYRange(y0, y0 + vr.height(), padding=0.0)
 
     def map_to_viewport(self, x_mm: float, y_mm: float) -> QtCore.QPointF:
         """Paper mm -> viewport pixel (what a mouse event sees)."""
