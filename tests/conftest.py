@@ -30,3 +30,23 @@ def shared_data() -> Path:
 @pytest.fixture(scope="session")
 def sample_records_dir() -> Path:
     return REPO / "sample_records"
+
+
+@pytest.fixture(scope="session", autouse=True)
+def _shared_data_stays_untouched():
+    """Fail the run if any test wrote into the reference data (sidecars, locks, annotations).
+
+    The open records are read in place and never changed; readings made in tests belong in
+    tmp_path copies.
+    """
+    if not _SHARED.is_dir():
+        yield
+        return
+
+    def listing() -> set[str]:
+        return {str(p.relative_to(_SHARED)) for p in _SHARED.rglob("*") if p.is_file()}
+
+    before = listing()
+    yield
+    added = sorted(listing() - before)
+    assert not added, f"tests wrote into {_SHARED}: {added[:10]}"
