@@ -61,6 +61,18 @@ def amplitude_readout(a_mv: float, b_mv: float, gain_mm_per_mv: float) -> Calipe
     return CaliperReadout("amplitude", amplitude_mv=mv, amplitude_mm=mv * gain_mm_per_mv)
 
 
+@dataclass(frozen=True)
+class CaliperState:
+    """Where a caliper's legs are and what it is called: what one undo step restores."""
+
+    a: int
+    b: int
+    at: int
+    a_mv: float
+    b_mv: float
+    name: str
+
+
 class CaliperPair(pg.GraphicsObject):
     """One pair of caliper legs on one row of the paper.
 
@@ -69,6 +81,8 @@ class CaliperPair(pg.GraphicsObject):
     """
 
     changed = QtCore.Signal(object)
+    # A mouse drag of a leg or the bar ended (the release): one undo step in the window.
+    drag_finished = QtCore.Signal(object)
     selected_changed = QtCore.Signal(object)
     rename_requested = QtCore.Signal(object)
 
@@ -99,6 +113,10 @@ class CaliperPair(pg.GraphicsObject):
         self.name = name
         self.store_id: str | None = None  # id of this caliper in the marks sidecar, if saved
         self.march = False
+        # The state last put on the window's undo stack (None: not added there yet).
+        self.committed: CaliperState | None = None
+        # Drawn with Shift + drag: added to the undo stack when the drawing drag ends.
+        self.drawing = False
         self.selected = False
         self.part: Part = "bar"
         self._drag: tuple[Part, float, int, int, int, float, float] | None = None
@@ -116,6 +134,19 @@ class CaliperPair(pg.GraphicsObject):
     def label_text(self) -> str:
         t = self.readout().text()
         return f"{self.name}  {t}" if self.name else t
+
+    def state(self) -> CaliperState:
+        return CaliperState(self.a, self.b, self.at, self.a_mv, self.b_mv, self.name)
+
+    def apply_state(self, st: CaliperState) -> None:
+        """Put the legs and label where ``st`` says (undo / redo)."""
+        self.name = st.name
+        self.set_levels(a_mv=st.a_mv, b_mv=st.b_mv)
+        self.set_legs(a=st.a, b=st.b, at=st.at)
+
+    @property
+    def dragging(self) -> bool:
+        return self._drag is not None
 
     def set_geometry(self, geom: CaliperGeometry, gain_mm_per_mv: float) -> None:
         self.prepareGeometryChange()
@@ -355,11 +386,14 @@ class CaliperPair(pg.GraphicsObject):
         self.grabMouse()
 
     def mouseReleaseEvent(self, ev) -> None:
+        was_dragging = self._drag is not None
         self._drag = None
         scene = self.scene()
         if scene is not None and scene.mouseGrabberItem() is self:
             self.ungrabMouse()
         ev.accept()
+        if was_dragging:
+            self.drag_finished.emit(self)
 
     def mouseDoubleClickEvent(self, ev) -> None:
         self.rename_requested.emit(self)

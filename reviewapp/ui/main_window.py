@@ -3,6 +3,7 @@ list, and routes the reader's actions to the ``ReadingSession``."""
 
 from __future__ import annotations
 
+import dataclasses
 import logging
 from pathlib import Path
 
@@ -12,7 +13,7 @@ from reviewapp.core.errors import ReviewError
 from reviewapp.core.fiducials import FIDUCIALS
 from reviewapp.core.record import Record
 from reviewapp.ui.calibration import CalibrationDialog
-from reviewapp.ui.calipers import CaliperPair
+from reviewapp.ui.calipers import CaliperPair, CaliperState
 from reviewapp.ui.display_filters import DisplayFilters
 from reviewapp.ui.export_actions import ExportActions
 from reviewapp.ui.help_panel import HelpPanel, show_about
@@ -35,6 +36,7 @@ from reviewapp.ui.reading_panel import STATUS_WORDS, ReadingPanel, SignOffDialog
 from reviewapp.ui.session import ReadingSession
 from reviewapp.ui.summary import SummaryPanel
 from reviewapp.ui.theme import DARK, LIGHT, THEMES, Theme, apply_palette
+from reviewapp.ui.undo import CaliperCommand, MarchCommand
 
 log = logging.getLogger(__name__)
 PART_NAMES = {"a": "leg 1", "b": "leg 2", "bar": "the whole pair"}
@@ -174,13 +176,18 @@ class MainWindow(QtWidgets.QMainWindow):
         self.paper.caliper_added.connect(self._caliper_added)
         self.paper.caliper_removed.connect(self._caliper_removed)
         self.paper.caliper_rename.connect(self._rename_caliper_dialog)
-        self._dirty_calipers: set[CaliperPair] = set()
+        self.paper.caliper_drag_finished.connect(self._caliper_drag_finished)
+        # Calipers moved by arrow keys (or from code) but not yet an undo step: a burst of
+        # nudges becomes one step (one sidecar save) once the reader pauses, or at once before
+        # any other caliper edit, undo, redo, sign-off or close. A mouse drag is one step at
+        # its release.
+        self._pending_calipers: set[CaliperPair] = set()
         self._caliper_save_timer = QtCore.QTimer(self)
         self._caliper_save_timer.setSingleShot(True)
-        # Calipers are saved once the reader pauses, not on every drag step or key press
-        # (each save is an fsync'd atomic write of the sidecar).
         self._caliper_save_timer.setInterval(600)
         self._caliper_save_timer.timeout.connect(self.save_calipers)
+        self._placing_caliper = False  # an undo/redo is moving a caliper: not a new edit
+        self._switching_store = False
         self.paper.zoom_changed.connect(lambda _z: self._update_status())
         self.median.mark_dragging.connect(self._rep_mark_dragging)
         self.median.mark_dropped.connect(self._rep_mark_dropped)
@@ -679,6 +686,14 @@ class MainWindow(QtWidgets.QMainWindow):
         self.paper.set_session(self.session)
         self.median.set_session(self.session)
         self.restore_calipers()
+        # Calipers drawn while the analysis ran become undo steps (saved if the reader is set).
+        self._switching_store = True
+        try:
+            for c in list(self.paper.calipers):
+                if c.committed is None and c.store_id is None and not c.drawing:
+                    self._caliper_added(c)
+        finally:
+            self._switching_store = False
         self._reading_changed(self.session.reading)
         self._update_reading_panel()
         self._auto_median()
@@ -732,22 +747,28 @@ class MainWindow(QtWidgets.QMainWindow):
         s, rec = self.session, self.record
         if s is None or rec is None:
             return False
-        self.save_calipers()
-        pending = [c for c in self.paper.calipers if c.store_id is None]
-        # Take the old reading's calipers off the paper without deleting them from its file.
-        self.paper.blockSignals(True)
+        self._switching_store = True
         try:
-            for c in list(self.paper.calipers):
-                if c.store_id is not None or not keep_unsaved_calipers:
-                    self.paper.remove_caliper(c)
+            self.save_calipers()
+            pending = [c for c in self.paper.calipers if c.store_id is None]
+            # Take the old reading's calipers off the paper without deleting them from its file.
+            self.paper.blockSignals(True)
+            try:
+                for c in list(self.paper.calipers):
+                    if c.store_id is not None or not keep_unsaved_calipers:
+                        self.paper.remove_caliper(c)
+            finally:
+                self.paper.blockSignals(False)
+            self._pending_calipers.clear()
+            s.close_store()
+            s.set_store(self._open_store(rec))  # clears the undo history of the old reading
+            self.restore_calipers()
+            if keep_unsaved_calipers:
+                for c in pending:
+                    c.committed = None  # an add step (and a save) in the new reading
+                    self._caliper_added(c)
         finally:
-            self.paper.blockSignals(False)
-        s.close_store()
-        s.set_store(self._open_store(rec))
-        self.restore_calipers()
-        if keep_unsaved_calipers:
-            for c in pending:
-                self._caliper_added(c)
+            self._switching_store = False
         self._calipers_changed(None)
         self._reading_changed(s.reading)
         self._update_reading_panel()
@@ -1177,9 +1198,14 @@ class MainWindow(QtWidgets.QMainWindow):
 
     def _toggle_march(self) -> None:
         c = self._selected_caliper()
-        if c is not None and c.kind == "time":
+        if c is None or c.kind != "time":
+            return
+        if self.session is None:
             c.march = not c.march
             c.update()
+            return
+        self.save_calipers()
+        self.session.undo_stack.push(MarchCommand(c, not c.march))
 
     def _delete_selected(self) -> None:
         c = self._selected_caliper()
@@ -1214,82 +1240,137 @@ class MainWindow(QtWidgets.QMainWindow):
             return {"t1_s": c.a / fs, "t2_s": c.b / fs, "v1_mv": 0.0, "v2_mv": 0.0}
         return {"t1_s": c.at / fs, "t2_s": c.at / fs, "v1_mv": c.a_mv, "v2_mv": c.b_mv}
 
-    def _store_do(self, store, cmd) -> None:
-        """Save a caliper edit; a caliper change after sign-off reopens the reading too, and
-        the reader is told as for a mark."""
-        before = store.reading
-        store.do(cmd)
-        if before.status == "signed_off" and store.reading.status != "signed_off":
-            self._on_reopened(before.signed_off_by or "", before.signed_off_at or "")
-        if before.status != store.reading.status:
-            self._update_reading_panel()
-            src = None if self.record is None else self.record.source_path
-            if src is not None and self.worklist is not None:
-                self.worklist.refresh_record(src)
+    def _place_caliper(self, c: CaliperPair, st: CaliperState | None) -> None:
+        """Undo / redo: put a caliper where a step left it (``None``: off the paper)."""
+        self._placing_caliper = True
+        try:
+            if st is None:
+                self.paper.remove_caliper(c)
+            elif self.paper.attach_caliper(c):
+                c.apply_state(st)
+        finally:
+            self._placing_caliper = False
+        self._pending_calipers.discard(c)
+        c.committed = st
+        self._update_caliper_list()
+
+    def _push_caliper(self, c: CaliperPair, cmd: CaliperCommand) -> None:
+        assert self.session is not None
+        for other in list(self._pending_calipers - {c}):
+            self._commit_caliper(other)  # earlier nudges of other calipers come first
+        self.session.undo_stack.push(cmd)
 
     def _caliper_added(self, c: CaliperPair) -> None:
+        """A new caliper (C / A keys, or a Shift + drag once released): one undo step, saved
+        to the sidecar when the reader is known (asked for here, as for a mark edit)."""
         s = self.session
+        if c.drawing or c.committed is not None or s is None or self.record is None:
+            return
         if (
-            s is not None
+            not self._switching_store
             and s.store is not None
             and s.store.reviewer == UNIDENTIFIED
-            and not self._ensure_reader()
+            and not s.may_edit()
         ):
-            return  # the caliper stays in this window only
-        store = self._store()
-        if store is None or c.store_id is not None or self.record is None:
-            return
-        f = self._caliper_fields(c, self.record.fs_hz)
-        try:
-            cmd = store.edits.add_caliper(
-                c.kind,
-                f["t1_s"],
-                f["t2_s"],
-                v1_mv=f["v1_mv"],
-                v2_mv=f["v2_mv"],
-                lead=c.lead,
-                label=c.name,
+            self.statusBar().showMessage(
+                "Caliper kept in this window only: no reader id given.", 6000
             )
-            self._store_do(store, cmd)
-            c.store_id = cmd.caliper_id
-        except ReviewError as err:
-            self.show_error(err)
-
-    def _caliper_removed(self, c: CaliperPair) -> None:
-        self._dirty_calipers.discard(c)
+        s = self.session
+        if s is None or c.committed is not None or c not in self.paper.calipers:
+            return  # the reader switch just added it (with its save)
         store = self._store()
-        if store is None or c.store_id is None:
-            return
-        try:
-            self._store_do(store, store.edits.delete_caliper(c.store_id))
-        except ReviewError as err:
-            self.show_error(err)
-
-    def save_calipers(self) -> None:
-        """Write moved or relabelled calipers to the sidecar (called after a pause)."""
-        store = self._store()
-        dirty, self._dirty_calipers = self._dirty_calipers, set()
-        if store is None or self.record is None:
-            return
-        fs = self.record.fs_hz
-        for c in dirty:
-            if c.store_id is None or c not in self.paper.calipers:
-                continue
-            saved = store.reading.caliper(c.store_id)
-            f = self._caliper_fields(c, fs)
-            f["label"] = c.name
-            if saved is not None and all(
-                abs(getattr(saved, k) - v) < 1e-9
-                if isinstance(v, float)
-                else getattr(saved, k) == v
-                for k, v in f.items()
-            ):
-                continue
+        cmd = None
+        if store is not None and c.store_id is None:
+            f = self._caliper_fields(c, self.record.fs_hz)
             try:
-                self._store_do(store, store.edits.move_caliper(c.store_id, **f))
+                cmd = store.edits.add_caliper(
+                    c.kind,
+                    f["t1_s"],
+                    f["t2_s"],
+                    v1_mv=f["v1_mv"],
+                    v2_mv=f["v2_mv"],
+                    lead=c.lead,
+                    label=c.name,
+                )
             except ReviewError as err:
                 self.show_error(err)
+        self._push_caliper(
+            c,
+            CaliperCommand(
+                s, self._place_caliper, c, None, c.state(), f"Add caliper {c.name}", cmd
+            ),
+        )
+
+    def _caliper_drag_finished(self, c: CaliperPair) -> None:
+        if c.drawing:
+            c.drawing = False
+            self._caliper_added(c)
+        else:
+            self._commit_caliper(c)
+
+    def _commit_caliper(self, c: CaliperPair, *, removed: bool = False) -> None:
+        """The caliper's change since its last undo step (drag, nudges, label) as one step;
+        ``removed``: it has just been deleted from the paper (its delete step follows)."""
+        self._pending_calipers.discard(c)
+        s, old = self.session, c.committed
+        if s is None or old is None or self.record is None:
+            return
+        if not removed and c not in self.paper.calipers:
+            return
+        new = c.state()
+        if new == old:
+            return
+        store = self._store()
+        cmd = None
+        if store is not None and c.store_id is not None:
+            f = self._caliper_fields(c, self.record.fs_hz)
+            f["label"] = c.name
+            try:
+                cmd = store.edits.move_caliper(c.store_id, **f)
+            except ReviewError as err:
+                self.show_error(err)
+                self._place_caliper(c, old)
                 return
+        renamed = new.name != old.name
+        text = (
+            f"Rename caliper {old.name} to {new.name}"
+            if renamed and dataclasses.replace(new, name=old.name) == old
+            else f"Move caliper {c.name}"
+        )
+        self._push_caliper(c, CaliperCommand(s, self._place_caliper, c, old, new, text, cmd))
+
+    def _caliper_removed(self, c: CaliperPair) -> None:
+        if self._placing_caliper:
+            return
+        s = self.session
+        if c.committed is None or s is None:
+            self._pending_calipers.discard(c)
+            return  # never an undo step (e.g. drawn while the analysis ran): nothing to undo
+        if c in self._pending_calipers:
+            # Its last nudges are a step of their own, so undoing the delete brings it back
+            # exactly where it was.
+            self._commit_caliper(c, removed=True)
+        store = self._store()
+        cmd = None
+        if store is not None and c.store_id is not None:
+            try:
+                cmd = store.edits.delete_caliper(c.store_id)
+            except ReviewError as err:
+                self.show_error(err)
+        self._push_caliper(
+            c,
+            CaliperCommand(
+                s, self._place_caliper, c, c.committed, None, f"Delete caliper {c.name}", cmd
+            ),
+        )
+
+    def save_calipers(self) -> None:
+        """Make the calipers' pending changes (arrow-key nudges, changes from code) undo
+        steps now, each saved once to the sidecar; called after a pause and before any other
+        caliper edit, undo, redo, sign-off, reader switch or close."""
+        self._caliper_save_timer.stop()
+        for c in list(self._pending_calipers):
+            self._commit_caliper(c)
 
     def restore_calipers(self) -> None:
         s = self.session
@@ -1302,12 +1383,16 @@ class MainWindow(QtWidgets.QMainWindow):
                 extra = {"a": round(saved.t1_s * fs), "b": round(saved.t2_s * fs)}
             else:
                 extra = {"at": round(saved.t1_s * fs), "a_mv": saved.v1_mv, "b_mv": saved.v2_mv}
-            self.paper.add_caliper(saved.kind, restore={**common, **extra})
+            c = self.paper.add_caliper(saved.kind, restore={**common, **extra})
+            if c is not None:
+                c.committed = c.state()
 
     def rename_caliper(self, c: CaliperPair, label: str) -> None:
+        """A new label: one undo step (saved with the caliper)."""
         c.name = label.strip()[:40]
         c.update()
-        self._calipers_changed(c)
+        self._commit_caliper(c)
+        self._update_caliper_list()
 
     def _rename_caliper_dialog(self, c: CaliperPair) -> None:
         text, ok = QtWidgets.QInputDialog.getText(
@@ -1317,8 +1402,14 @@ class MainWindow(QtWidgets.QMainWindow):
             self.rename_caliper(c, text)
 
     def _calipers_changed(self, _c: object) -> None:
-        if isinstance(_c, CaliperPair) and _c.store_id is not None:
-            self._dirty_calipers.add(_c)
+        if (
+            isinstance(_c, CaliperPair)
+            and not self._placing_caliper
+            and _c.committed is not None
+            and not _c.dragging
+            and _c in self.paper.calipers
+        ):
+            self._pending_calipers.add(_c)
             self._caliper_save_timer.start()
         # A caliper added, deleted, restored or cleared with the record is listed at once, so
         # the list never names calipers that are not on the paper. While a leg is dragged the
@@ -1370,10 +1461,12 @@ class MainWindow(QtWidgets.QMainWindow):
 
     def _undo(self) -> None:
         if self.session is not None:
+            self.save_calipers()  # a nudge burst in progress is the step undone
             self.session.undo_stack.undo()
 
     def _redo(self) -> None:
         if self.session is not None:
+            self.save_calipers()
             self.session.undo_stack.redo()
 
     def _reading_changed(self, reading) -> None:

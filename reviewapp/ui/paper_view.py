@@ -39,6 +39,7 @@ class PaperView(pg.GraphicsView):
     caliper_added = QtCore.Signal(object)
     caliper_removed = QtCore.Signal(object)
     caliper_rename = QtCore.Signal(object)
+    caliper_drag_finished = QtCore.Signal(object)
     zoom_changed = QtCore.Signal(float)
 
     def __init__(self, scale: PaperScale, theme: Theme = LIGHT, parent=None) -> None:
@@ -318,7 +319,7 @@ class PaperView(pg.GraphicsView):
             cell = self.geom.cell_at(p.x(), p.y())
             if cell is not None:
                 s = self.geom.sample_of_x(p.x())
-                c = self.add_caliper("time", row=cell.row, center_sample=s)
+                c = self.add_caliper("time", row=cell.row, center_sample=s, drawing=True)
                 if c is not None:
                     c.start_drag_from_press(p.x(), s)
                     ev.accept()
@@ -340,10 +341,12 @@ class PaperView(pg.GraphicsView):
         center_sample: int | None = None,
         *,
         restore: dict | None = None,
+        drawing: bool = False,
     ) -> CaliperPair | None:
         """A new caliper pair (legs 400 ms or 1 mV apart around ``center_sample``).
 
         ``restore`` re-creates a saved one (keys: lead, a, b, at, a_mv, b_mv, name, store_id).
+        ``drawing``: the reader is drawing it with Shift + drag (it is an edit once released).
         """
         geom, rec = self.geom, self.record
         if geom is None or rec is None:
@@ -377,7 +380,9 @@ class PaperView(pg.GraphicsView):
         c = CaliperPair(kind, row, cell.lead, geom, self.scale.gain_mm_per_mv, self.theme, **values)
         if restore is not None:
             c.store_id = restore.get("store_id")
+        c.drawing = drawing
         c.changed.connect(self.caliper_changed)
+        c.drag_finished.connect(self.caliper_drag_finished)
         c.selected_changed.connect(self._on_caliper_selected)
         c.rename_requested.connect(self.caliper_rename)
         self.vb.addItem(c)
@@ -396,6 +401,22 @@ class PaperView(pg.GraphicsView):
         while f"C{n}" in used:
             n += 1
         return f"C{n}"
+
+    def attach_caliper(self, c: CaliperPair) -> bool:
+        """Put a removed caliper back on its lead's row (undo of a delete, redo of an add);
+        False if that lead is not on the page."""
+        if c in self.calipers:
+            return True
+        row = self.row_for_lead(c.lead)
+        if row is None or self.geom is None:
+            return False
+        c.row = row
+        c.set_geometry(self.geom, self.scale.gain_mm_per_mv)
+        c.set_theme(self.theme)
+        self.vb.addItem(c)
+        self.calipers.append(c)
+        self.caliper_changed.emit(c)
+        return True
 
     def remove_caliper(self, c: CaliperPair) -> None:
         if c in self.calipers:

@@ -1,7 +1,8 @@
-"""Undoable edits of the reader's marks (QUndoCommand over a ReadingSession)."""
+"""Undoable edits of the reader's marks and calipers (QUndoCommand over a ReadingSession)."""
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from typing import TYPE_CHECKING
 
 from PySide6 import QtGui
@@ -11,6 +12,7 @@ from reviewapp.core.fiducials import FIDUCIAL_LABELS, MarkOverride
 
 if TYPE_CHECKING:
     from reviewapp.core.marks.commands import Command
+    from reviewapp.ui.calipers import CaliperPair, CaliperState
     from reviewapp.ui.session import OverrideKey, ReadingSession
 
 
@@ -56,6 +58,25 @@ class ReplaceOverridesCommand(QtGui.QUndoCommand):
         self.session.replace_all(self.old)
 
 
+def run_store(session: ReadingSession, cmd: Command, mode: str) -> bool:
+    """``store.do`` / ``redo`` / ``undo`` of one marks-store command (saved with its audit
+    event), then the session follows the store. False (and ``store_error``) if it failed."""
+    store = session.store
+    assert store is not None
+    before = store.reading
+    try:
+        getattr(store, mode)(cmd)
+    except MarksError as err:
+        session.reload_from_store()
+        session.store_error.emit(err)
+        return False
+    session.reload_from_store()
+    if before.status == "signed_off" and store.reading.status != "signed_off":
+        # The store recorded a "reopen" event; the window tells the reader.
+        session.reopened.emit(before.signed_off_by or "", before.signed_off_at or "")
+    return True
+
+
 class StoreCommand(QtGui.QUndoCommand):
     """One marks-store edit (``reviewapp.core.marks`` command object) in the window's undo
     stack: redo runs ``store.do`` the first time and ``store.redo`` after; undo runs
@@ -72,30 +93,84 @@ class StoreCommand(QtGui.QUndoCommand):
         self._done_once = False
 
     def redo(self) -> None:
-        store = self.session.store
-        assert store is not None
-        before = store.reading
-        try:
-            if self._done_once:
-                store.redo(self.cmd)
-            else:
-                store.do(self.cmd)
-                self._done_once = True
-        except MarksError as err:
+        if not run_store(self.session, self.cmd, "redo" if self._done_once else "do"):
             self.setObsolete(True)
-            self.session.reload_from_store()
-            self.session.store_error.emit(err)
             return
-        self.session.reload_from_store()
-        if before.status == "signed_off" and store.reading.status != "signed_off":
-            # The store recorded a "reopen" event; the window tells the reader.
-            self.session.reopened.emit(before.signed_off_by or "", before.signed_off_at or "")
+        self._done_once = True
 
     def undo(self) -> None:
-        store = self.session.store
-        assert store is not None
-        try:
-            store.undo(self.cmd)
-        except MarksError as err:
-            self.session.store_error.emit(err)
-        self.session.reload_from_store()
+        run_store(self.session, self.cmd, "undo")
+
+
+class CaliperCommand(QtGui.QUndoCommand):
+    """Add (``old`` None), move / relabel, or delete (``new`` None) one caliper.
+
+    The edit has already happened on the paper when the command is pushed (the reader
+    dragged, typed or pressed Delete), so the first redo only records it: with ``store_cmd``
+    (the store's ``add_caliper`` / ``move_caliper`` / ``delete_caliper``) through
+    ``store.do``, once, with its audit event. Later redo / undo run ``store.redo`` /
+    ``store.undo`` and ``place(caliper, state)`` puts the caliper where that step left it
+    (``None``: off the paper). Without a store the step lives in the window only.
+
+    A save that fails is shown to the reader and the command made obsolete; a move or delete
+    goes back on the paper, an added caliper stays there (kept in this window only).
+    """
+
+    def __init__(
+        self,
+        session: ReadingSession,
+        place: Callable[[CaliperPair, CaliperState | None], None],
+        caliper: CaliperPair,
+        old: CaliperState | None,
+        new: CaliperState | None,
+        text: str,
+        store_cmd: Command | None = None,
+    ) -> None:
+        super().__init__(text)
+        self.session = session
+        self.place = place
+        self.caliper = caliper
+        self.old, self.new = old, new
+        self.store_cmd = store_cmd
+        self._done_once = False
+
+    def redo(self) -> None:
+        c = self.caliper
+        if self.store_cmd is not None and self.session.store is not None:
+            if not run_store(self.session, self.store_cmd, "redo" if self._done_once else "do"):
+                self.setObsolete(True)
+                if not self._done_once:
+                    if self.old is None:
+                        c.committed, c.store_id = None, None
+                    else:
+                        self.place(c, self.old)
+                return
+            if self.new is not None:
+                c.store_id = self.store_cmd.caliper_id  # type: ignore[attr-defined]
+        if self._done_once:
+            self.place(c, self.new)
+        else:
+            c.committed = self.new
+        self._done_once = True
+
+    def undo(self) -> None:
+        if self.store_cmd is not None and self.session.store is not None:
+            run_store(self.session, self.store_cmd, "undo")
+        self.place(self.caliper, self.old)
+
+
+class MarchCommand(QtGui.QUndoCommand):
+    """March-out on or off for one time caliper (drawn in the window only: the marks file
+    keeps no march-out, so there is nothing to save)."""
+
+    def __init__(self, caliper: CaliperPair, on: bool) -> None:
+        super().__init__(f"March-out {'on' if on else 'off'} ({caliper.name})")
+        self.caliper, self.on = caliper, on
+
+    def redo(self) -> None:
+        self.caliper.march = self.on
+        self.caliper.update()
+
+    def undo(self) -> None:
+        self.caliper.march = not self.on
+        self.caliper.update()
