@@ -107,6 +107,52 @@ class ScaledSource:
         return x * self.factors.astype(np.float32)
 
 
+class ChannelWindows:
+    """Shared part of the lazy sources that read selected channels window by window (EDF,
+    WFDB formats that cannot be memory-mapped) and scale them to mV.
+
+    Subclasses are frozen dataclasses with ``total_samples``, ``channels`` and
+    ``factors_to_mv`` fields and a ``read`` method built on ``clip`` and ``refuse_overflow``.
+    """
+
+    total_samples: int
+    channels: tuple[int, ...]
+    factors_to_mv: np.ndarray  # (n_leads,)
+
+    @property
+    def n_samples(self) -> int:
+        return self.total_samples
+
+    @property
+    def n_leads(self) -> int:
+        return len(self.channels)
+
+    def clip(self, start: int, stop: int) -> tuple[int, int]:
+        """``start:stop`` limited to the record; ``stop <= start`` means nothing to read."""
+        return max(0, int(start)), min(self.total_samples, int(stop))
+
+    @staticmethod
+    def refuse_overflow(out_mv: np.ndarray, path: Path, problem: str) -> np.ndarray:
+        """``out_mv`` unchanged, unless scaling overflowed to infinity: then ``problem``."""
+        if np.isinf(out_mv).any():
+            raise RecordError(problem, path)
+        return out_mv
+
+
+def frozen_mv(values: np.ndarray, path: Path, problem: str) -> np.ndarray:
+    """In-memory signal as a contiguous, read-only float32 mV array.
+
+    Values that overflow float32 (absurd scale, gain or sensitivity) are refused with
+    ``problem``, never stored as infinities.
+    """
+    with np.errstate(over="ignore", invalid="ignore"):
+        data = np.ascontiguousarray(values, dtype=np.float32)
+    if not np.isfinite(data).all():
+        raise RecordError(problem, path)
+    data.setflags(write=False)
+    return data
+
+
 _LABEL_PREFIX = re.compile(r"^(?:lead|ecg|ekg)[\s_:-]+(?=\S)", re.IGNORECASE)
 
 

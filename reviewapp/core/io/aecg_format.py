@@ -32,7 +32,13 @@ import defusedxml.ElementTree as SafeET
 import numpy as np
 
 from reviewapp.core.errors import RecordError
-from reviewapp.core.io._common import completed_years, mv_factor, require_finite, unique_names
+from reviewapp.core.io._common import (
+    completed_years,
+    frozen_mv,
+    mv_factor,
+    require_finite,
+    unique_names,
+)
 from reviewapp.core.record import (
     STANDARD_12,
     ArraySource,
@@ -116,11 +122,9 @@ def read_aecg(path: Path, *, series: Series = "rhythm") -> Record:
         raise RecordError("no waveform series in the aECG file", path)
     fs_hz, names, columns, more_notes = _read_series(chosen, path)
     notes += more_notes
-    with np.errstate(over="ignore", invalid="ignore"):
-        data = np.ascontiguousarray(np.column_stack(columns), dtype=np.float32)
-    if not np.isfinite(data).all():
-        raise RecordError("origin and scale give values beyond any voltage", path)
-    data.setflags(write=False)
+    data = frozen_mv(
+        np.column_stack(columns), path, "origin and scale give values beyond any voltage"
+    )
     leads = [LeadInfo(name=n, original_name=o, units="mV") for n, o in names]
     return build_record(
         name=path.stem,

@@ -25,7 +25,7 @@ from pathlib import Path
 import numpy as np
 
 from reviewapp.core.errors import RecordError
-from reviewapp.core.io._common import clean_lead_label, mv_factor, unique_names
+from reviewapp.core.io._common import clean_lead_label, frozen_mv, mv_factor, unique_names
 from reviewapp.core.record import (
     STANDARD_12,
     ArraySource,
@@ -207,10 +207,9 @@ def read_csv(path: Path, *, fs_hz: float | None = None, units: str | None = None
     if unstated:
         _check_plausible_mv(values[:, lead_cols], names, unstated, rate, path)
         notes.append(f"units not given in the file for leads {', '.join(unstated)}; assumed mV")
-    data = np.ascontiguousarray(values[:, lead_cols] * np.array(factors), dtype=np.float32)
-    if not np.isfinite(data).all():
-        raise RecordError("values overflow when converted to mV", path)
-    data.setflags(write=False)
+    data = frozen_mv(
+        values[:, lead_cols] * np.array(factors), path, "values overflow when converted to mV"
+    )
     return build_record(
         name=path.stem,
         fs_hz=rate,

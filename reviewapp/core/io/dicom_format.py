@@ -24,7 +24,13 @@ import pydicom
 from pydicom.dataset import Dataset
 
 from reviewapp.core.errors import RecordError
-from reviewapp.core.io._common import clean_lead_label, mv_factor, reading, unique_names
+from reviewapp.core.io._common import (
+    clean_lead_label,
+    frozen_mv,
+    mv_factor,
+    reading,
+    unique_names,
+)
 from reviewapp.core.record import ArraySource, LeadInfo, Record, SubjectFacts, build_record
 
 # (WaveformBitsAllocated, WaveformSampleInterpretation) -> numpy dtype; PS3.3 C.10.9.1.5.
@@ -172,11 +178,7 @@ def _read_group(ds: Dataset, g: Dataset, index: int, notes: list[str], path: Pat
             + ", ".join(str(k + 1) for k in assumed)
             + "; assumed uV"
         )
-    with np.errstate(over="ignore", invalid="ignore"):
-        data = np.ascontiguousarray(out, dtype=np.float32)
-    if not np.isfinite(data).all():
-        raise RecordError("sensitivity or baseline give values beyond any voltage", path)
-    data.setflags(write=False)
+    data = frozen_mv(out, path, "sensitivity or baseline give values beyond any voltage")
     lead_infos = [
         LeadInfo(name=n, original_name=n, units="mV", **facts)
         for n, facts in zip(unique_names(names), leads, strict=True)

@@ -19,6 +19,7 @@ import pyedflib
 
 from reviewapp.core.errors import RecordError
 from reviewapp.core.io._common import (
+    ChannelWindows,
     clean_lead_label,
     completed_years,
     mv_factor,
@@ -36,7 +37,7 @@ def _open(path: Path) -> pyedflib.EdfReader:
 
 
 @dataclass(frozen=True, eq=False)
-class EdfSource:
+class EdfSource(ChannelWindows):
     """Reads windows of selected EDF signals (physical values) and scales them to mV."""
 
     path: Path
@@ -44,17 +45,8 @@ class EdfSource:
     factors_to_mv: np.ndarray  # (n_leads,)
     total_samples: int
 
-    @property
-    def n_samples(self) -> int:
-        return self.total_samples
-
-    @property
-    def n_leads(self) -> int:
-        return len(self.channels)
-
     def read(self, start: int, stop: int) -> np.ndarray:
-        start = max(0, int(start))
-        stop = min(self.total_samples, int(stop))
+        start, stop = self.clip(start, stop)
         out = np.empty((max(stop - start, 0), self.n_leads), dtype=np.float32)
         if stop <= start:
             return out
@@ -72,9 +64,9 @@ class EdfSource:
                         out[:, j] = x * self.factors_to_mv[j]
         finally:
             reader.close()
-        if np.isinf(out).any():
-            raise RecordError("physical range gives values beyond any voltage", self.path)
-        return out
+        return self.refuse_overflow(
+            out, self.path, "physical range gives values beyond any voltage"
+        )
 
 
 def read_edf(path: Path) -> Record:

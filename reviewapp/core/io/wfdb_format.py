@@ -18,7 +18,13 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from reviewapp.core.errors import RecordError
-from reviewapp.core.io._common import ColumnStackSource, mv_factor, reading, unique_names
+from reviewapp.core.io._common import (
+    ChannelWindows,
+    ColumnStackSource,
+    mv_factor,
+    reading,
+    unique_names,
+)
 from reviewapp.core.record import (
     DigitalMemmapSource,
     LeadInfo,
@@ -86,7 +92,7 @@ def is_wfdb_record(path: Path) -> bool:
 
 
 @dataclass(frozen=True, eq=False)
-class WfdbWindowSource:
+class WfdbWindowSource(ChannelWindows):
     """Reads windows through ``wfdb.rdrecord`` (formats that cannot be memory-mapped)."""
 
     base: str  # record path without extension
@@ -95,17 +101,8 @@ class WfdbWindowSource:
     factors_to_mv: np.ndarray  # (n_leads,) float32
     header_path: Path
 
-    @property
-    def n_samples(self) -> int:
-        return self.total_samples
-
-    @property
-    def n_leads(self) -> int:
-        return len(self.channels)
-
     def read(self, start: int, stop: int) -> np.ndarray:
-        start = max(0, int(start))
-        stop = min(self.total_samples, int(stop))
+        start, stop = self.clip(start, stop)
         if stop <= start:
             return np.zeros((0, self.n_leads), dtype=np.float32)
         import wfdb
@@ -128,9 +125,9 @@ class WfdbWindowSource:
             )
         with np.errstate(over="ignore", invalid="ignore"):
             out = np.asarray(sig, dtype=np.float32) * self.factors_to_mv
-        if np.isinf(out).any():
-            raise RecordError("gain and baseline give values beyond any voltage", self.header_path)
-        return out
+        return self.refuse_overflow(
+            out, self.header_path, "gain and baseline give values beyond any voltage"
+        )
 
 
 @dataclass(frozen=True, eq=False)
