@@ -13,6 +13,7 @@ import os
 import re
 import secrets
 import socket
+from collections.abc import Callable
 from datetime import UTC, datetime
 from pathlib import Path
 
@@ -103,39 +104,10 @@ def _pid_alive_windows(pid: int) -> bool:
         kernel32.CloseHandle(handle)
 
 
-def remove_stale_temps(path: Path) -> list[Path]:
-    """Remove this program's temporary files for ``path`` whose writing process is dead.
-
-    These are never a saved sidecar (a save is complete only once renamed), so removing them
-    loses nothing. Returns what was removed.
-    """
-    path = Path(path)
-    removed = []
-    try:
-        entries = list(os.scandir(path.parent))
-    except OSError:
-        return removed
-    for entry in entries:
-        m = _TEMP.match(entry.name)
-        if not m or not m.group("target").startswith(path.name):
-            continue
-        if int(m.group("pid")) == os.getpid() or pid_alive(int(m.group("pid"))):
-            continue
-        try:
-            os.unlink(entry.path)
-            removed.append(Path(entry.path))
-        except OSError:
-            pass
-    return removed
-
-
-def remove_stale_temps_in(folder: Path, marker: str = ".marks.json") -> list[Path]:
-    """``remove_stale_temps`` for every file of the folder whose name contains ``marker``.
-
-    A batch over a folder of thousands of records calls this once per folder instead of
-    listing the whole folder again for each record's save.
-    """
-    removed = []
+def _sweep_dead_temps(folder: Path, wanted: Callable[[str], bool]) -> list[Path]:
+    """Remove temporary files in ``folder`` whose target name ``wanted`` accepts and whose
+    writing process is dead. Returns what was removed."""
+    removed: list[Path] = []
     try:
         entries = list(os.scandir(folder))
     except OSError:
@@ -143,7 +115,7 @@ def remove_stale_temps_in(folder: Path, marker: str = ".marks.json") -> list[Pat
     me = os.getpid()
     for entry in entries:
         m = _TEMP.match(entry.name) if entry.name.startswith(".") else None
-        if not m or marker not in m.group("target"):
+        if not m or not wanted(m.group("target")):
             continue
         pid = int(m.group("pid"))
         if pid == me or pid_alive(pid):
@@ -154,6 +126,25 @@ def remove_stale_temps_in(folder: Path, marker: str = ".marks.json") -> list[Pat
         except OSError:
             pass
     return removed
+
+
+def remove_stale_temps(path: Path) -> list[Path]:
+    """Remove this program's temporary files for ``path`` whose writing process is dead.
+
+    These are never a saved sidecar (a save is complete only once renamed), so removing them
+    loses nothing. Returns what was removed.
+    """
+    path = Path(path)
+    return _sweep_dead_temps(path.parent, lambda target: target.startswith(path.name))
+
+
+def remove_stale_temps_in(folder: Path, marker: str = ".marks.json") -> list[Path]:
+    """``remove_stale_temps`` for every file of the folder whose name contains ``marker``.
+
+    A batch over a folder of thousands of records calls this once per folder instead of
+    listing the whole folder again for each record's save.
+    """
+    return _sweep_dead_temps(folder, lambda target: marker in target)
 
 
 def set_aside(path: Path, reason: str = "set-aside") -> Path:
