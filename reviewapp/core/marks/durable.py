@@ -46,10 +46,17 @@ def fsync_dir(folder: Path) -> None:
         os.close(fd)
 
 
-def atomic_write(path: Path, data: bytes) -> None:
-    """Replace ``path`` with ``data`` atomically and durably; MarksError on any OS failure."""
+def temp_name(path: Path) -> Path:
+    """Where a write to ``path`` is staged: hidden, beside it, named after this process (so
+    ``remove_stale_temps`` can tell a dead writer's leftovers)."""
+    return path.with_name(f".{path.name}.tmp-{os.getpid()}-{secrets.token_hex(4)}")
+
+
+def atomic_write(path: Path, data: bytes, failure: str = "could not save") -> None:
+    """Replace ``path`` with ``data`` atomically and durably; MarksError(``failure``: why) on
+    any OS failure."""
     path = Path(path)
-    tmp = path.with_name(f".{path.name}.tmp-{os.getpid()}-{secrets.token_hex(4)}")
+    tmp = temp_name(path)
     try:
         fd = os.open(tmp, os.O_WRONLY | os.O_CREAT | os.O_EXCL | getattr(os, "O_BINARY", 0), 0o644)
         try:
@@ -66,7 +73,7 @@ def atomic_write(path: Path, data: bytes) -> None:
             tmp.unlink(missing_ok=True)
         except OSError:
             pass
-        raise MarksError(f"could not save: {exc.strerror or exc}", path) from None
+        raise MarksError(f"{failure}: {exc.strerror or exc}", path) from None
     fsync_dir(path.parent)
 
 

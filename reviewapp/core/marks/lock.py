@@ -18,7 +18,14 @@ from pathlib import Path
 from typing import Any
 
 from reviewapp.core.errors import MarksError
-from reviewapp.core.marks.durable import fsync_dir, host_name, pid_alive, utc_now
+from reviewapp.core.marks.durable import (
+    atomic_write,
+    fsync_dir,
+    host_name,
+    pid_alive,
+    temp_name,
+    utc_now,
+)
 from reviewapp.core.marks.errors import LockedError
 
 
@@ -81,14 +88,14 @@ class SidecarLock:
                     holder,
                 )
             # Stale (dead process on this host, or unreadable) or forced: take it over.
-            _replace(lock, data)
+            atomic_write(lock, data, failure="cannot take over the lock file")
             if (read_holder(lock) or {}).get("token") == token:
                 return cls(lock, token)
         raise MarksError("could not take the record's lock (another process keeps taking it)", lock)
 
     @staticmethod
     def _create(lock: Path, data: bytes) -> bool:
-        tmp = lock.with_name(f".{lock.name}.tmp-{os.getpid()}-{secrets.token_hex(4)}")
+        tmp = temp_name(lock)
         try:
             with open(tmp, "wb") as fh:
                 fh.write(data)
@@ -143,16 +150,3 @@ def _is_live(holder: dict[str, Any]) -> bool:
     if holder.get("host") != host_name():
         return True  # cannot check a process on another machine
     return pid_alive(pid)
-
-
-def _replace(lock: Path, data: bytes) -> None:
-    tmp = lock.with_name(f".{lock.name}.tmp-{os.getpid()}-{secrets.token_hex(4)}")
-    try:
-        with open(tmp, "wb") as fh:
-            fh.write(data)
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.replace(tmp, lock)
-        fsync_dir(lock.parent)
-    except OSError as exc:
-        raise MarksError(f"cannot take over the lock file: {exc.strerror or exc}", lock) from None
