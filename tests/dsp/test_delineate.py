@@ -15,7 +15,7 @@ from scipy import signal
 
 from reviewapp.core.dsp.delineate import delineate_beats, delineate_representative
 from reviewapp.core.dsp.delineate_align import align_lags
-from reviewapp.core.dsp.delineate_core import trapezium_boundary
+from reviewapp.core.dsp.delineate_ops import trapezium_boundary
 from reviewapp.core.engine import analyse
 from reviewapp.core.fiducials import FIDUCIALS, WaveMarks
 from reviewapp.core.record import record_from_array

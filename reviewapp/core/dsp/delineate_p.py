@@ -1,0 +1,99 @@
+"""P wave per lead and the multi-lead (global) P boundaries.
+
+Per lead: in the ``p_max`` before QRS onset - ``p_gap``, with the straight line joining the
+window ends removed, the largest deflection is the P peak (present if >= ``p_min_mv``); onset
+and end by the trapezium-area rule of Vazquez-Seisdedos CR et al., BioMed Eng OnLine 10:77,
+2011 on each side. Global P: multi-lead rules over the lead marks after Laguna P, Jane R,
+Caminal P, Comput Biomed Res 27(1):45-60, 1994 (see ``delineate_core`` for the exact rule).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from reviewapp.core.dsp.delineate_ops import (
+    detrend_between,
+    masked_argmax,
+    order_stat,
+    range_mask,
+    take,
+    trapezium_boundary,
+)
+from reviewapp.core.dsp.delineate_params import N_MARKS, P_OFF, P_ON, P_PEAK, DelineationParams
+
+
+@dataclass(frozen=True)
+class LeadP:
+    """Per (beat, lead) row P marks in window indices (-1 where absent) and P size in mV."""
+
+    on: np.ndarray
+    off: np.ndarray
+    peak: np.ndarray
+    amp_mv: np.ndarray
+    ok: np.ndarray
+
+
+def lead_p_waves(
+    y: np.ndarray, pre_on: np.ndarray, p_lo: np.ndarray, k_iso: int, p: DelineationParams
+) -> LeadP:
+    """P wave of each row of ``y`` (rows, W): the low-passed lead referred to its PR level.
+
+    ``pre_on``: (rows,) QRS onset (or pacing spike) before which P is sought; ``p_lo``: (rows,)
+    earliest allowed P onset; ``k_iso``: samples averaged for a window-end level.
+    """
+    w = y.shape[1]
+    fs = p.fs_hz
+    p_b = pre_on - p.p_gap
+    p_a = np.maximum(p_lo, p_b - p.p_max)
+    p_win = range_mask(w, p_a, p_b)
+    # Remove the straight line joining the window ends so a sloping baseline is not a P wave.
+    yp = detrend_between(y, p_a, p_b, k_iso)
+    p_pk = masked_argmax(np.abs(yp), p_win)
+    p_amp = np.abs(take(yp, p_pk))
+    p_ok = (p_pk >= 0) & (p_amp >= p.p_min_mv) & (p_b - p_a > 2 * p.p_gap)
+    sgn = np.sign(take(yp, p_pk))[:, None]
+    dyp = np.gradient(yp, axis=1) * fs
+    xm_on = masked_argmax(sgn * dyp, range_mask(w, np.maximum(p_a, p_pk - p.p_xm_max), p_pk))
+    xr_on = np.maximum(p_a, xm_on - p.p_xr)
+    p_on = trapezium_boundary(yp, xm_on, xr_on)
+    xm_off = masked_argmax(-sgn * dyp, range_mask(w, p_pk, np.minimum(p_b, p_pk + p.p_xm_max)))
+    xr_off = np.minimum(p_b + p.p_gap, xm_off + p.p_xr_off)
+    p_off = trapezium_boundary(yp, xm_off, xr_off)
+    p_ok &= (p_on >= 0) & (p_off > p_on)
+    return LeadP(on=p_on, off=p_off, peak=p_pk, amp_mv=p_amp, ok=p_ok)
+
+
+def global_p(glob: np.ndarray, lu: np.ndarray, lp: LeadP, p: DelineationParams) -> None:
+    """Global P marks from the lead marks, in place on ``glob`` (B, 8) and ``lu`` (B, U, 8).
+
+    ``lu`` must already hold each lead's own P marks (-1 absent). Only leads whose P is at
+    least ``p_strong_frac`` of the largest vote; onset/end are the ``p_on_q``/``p_off_q``
+    order statistics of their marks; a global P needs a P in ``p_min_lead_frac`` of the
+    leads. Weak-P leads and leads whose own mark strays more than ``p_lead_slack`` take the
+    global mark.
+    """
+    nb, nu, _ = lu.shape
+    n_p = (lu[:, :, P_ON] >= 0).sum(axis=1)
+    has_p = n_p >= np.maximum(1, np.ceil(p.p_min_lead_frac * nu))
+    p_amp_b = np.where(lp.ok, lp.amp_mv, -1.0).reshape(nb, nu)
+    best_p = np.argmax(p_amp_b, axis=1)
+    p_strong = p_amp_b >= p.p_strong_frac * p_amp_b.max(axis=1, keepdims=True)
+    glob[:, P_ON] = np.where(
+        has_p, order_stat(np.where(p_strong, lu[:, :, P_ON], -1), p.p_on_q), -1
+    )
+    glob[:, P_OFF] = np.where(
+        has_p, order_stat(np.where(p_strong, lu[:, :, P_OFF], -1), p.p_off_q), -1
+    )
+    glob[:, P_PEAK] = np.where(has_p, lu[np.arange(nb), best_p, P_PEAK], -1)
+    for col, peak_col in ((P_ON, P_PEAK), (P_OFF, None)):
+        g = glob[:, col][:, None]
+        stray = np.abs(lu[:, :, col] - g) > p.p_lead_slack
+        use_g = (g >= 0) & (~p_strong | stray | (lu[:, :, col] < 0))
+        lu[:, :, col] = np.where(use_g, g, lu[:, :, col])
+        if peak_col is not None:
+            lu[:, :, peak_col] = np.where(use_g, glob[:, peak_col][:, None], lu[:, :, peak_col])
+    lu[~has_p] = np.where(
+        np.isin(np.arange(N_MARKS), [P_ON, P_OFF, P_PEAK])[None, None, :], -1, lu[~has_p]
+    )
