@@ -34,6 +34,11 @@ class ListingRow:
     has_values: bool = False  # a listing cache exists
     stale: bool = False  # cache made by another engine version
     problem: str = ""  # sidecar unreadable: shown, never hidden
+    status_by_reviewer: tuple[tuple[str, str], ...] = ()  # each reader's own status
+
+    def status_for(self, reviewer: str | None) -> str:
+        """``reviewer``'s own reading status ("unread" where they have no reading)."""
+        return next((st for rid, st in self.status_by_reviewer if rid == reviewer), "unread")
 
     @property
     def flagged(self) -> bool:
@@ -63,7 +68,14 @@ def listing_row(
         return ListingRow(path, path.stem, folder, "unread")
     s = view.summary
     if s is None:
-        return ListingRow(path, path.stem, folder, view.status, view.reviewer)
+        return ListingRow(
+            path,
+            path.stem,
+            folder,
+            view.status,
+            view.reviewer,
+            status_by_reviewer=view.status_by_reviewer,
+        )
     return ListingRow(
         path=path,
         name=path.stem,
@@ -79,6 +91,7 @@ def listing_row(
         flags=s.flags,
         has_values=True,
         stale=engine_version is not None and s.engine_version != engine_version,
+        status_by_reviewer=view.status_by_reviewer,
     )
 
 

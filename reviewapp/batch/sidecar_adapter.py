@@ -42,6 +42,10 @@ class SidecarView:
     any_signed_off: bool  # some reading of this record is signed off
     n_readings: int
     summary: CachedSummary | None  # listing cache, or None
+    # Each reader's own status, (reviewer, status) sorted by reviewer: a blinded second reader's
+    # worklist shows theirs, not the record's overall status (which would tell them the first
+    # reader has signed and hide their own unread records from "unread only").
+    status_by_reviewer: tuple[tuple[str, str], ...] = ()
 
     @property
     def signed_off(self) -> bool:
@@ -140,6 +144,13 @@ def read_view(record_path: Path) -> SidecarView | None:
         ),
         n_readings=len(readings),
         summary=CachedSummary.from_json(cache) if isinstance(cache, dict) else None,
+        status_by_reviewer=tuple(
+            sorted(
+                (k, str(v.get("status")))
+                for k, v in readings.items()
+                if isinstance(k, str) and isinstance(v, dict) and v.get("status") in STATUSES
+            )
+        ),
     )
 
 

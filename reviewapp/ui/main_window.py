@@ -797,6 +797,8 @@ class MainWindow(QtWidgets.QMainWindow):
         rid = ask_reader(self, self.settings)
         if rid is not None and rid != old and self.session is not None:
             self._switch_store(keep_unsaved_calipers=False)
+        if rid is not None and self.worklist is not None and self.read_mode.blinded:
+            self.worklist.set_blinded(True, rid)  # the list shows this reader's own status
         self._update_reading_panel()
 
     def set_read_mode(self, mode: ReadMode, *, reopen: bool = True) -> None:
@@ -823,7 +825,7 @@ class MainWindow(QtWidgets.QMainWindow):
         if self.compare_dialog is not None and mode.blinded:
             self.compare_dialog.close()
         if self.worklist is not None:
-            self.worklist.set_blinded(self.read_mode.blinded)
+            self.worklist.set_blinded(self.read_mode.blinded, self.reviewer_id())
         self._update_reading_panel()
 
     # --- reading status, sign-off, notes -------------------------------------------------

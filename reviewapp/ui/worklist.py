@@ -82,8 +82,10 @@ class WorklistModel(QAbstractTableModel):
         self._index: dict[Path, int] = {}
         self._subjects: dict[Path, dict[str, str]] = {}
         self.qtc_formula = qtc_formula
-        # A blinded second reader must not see another reader's values, flags or id here.
+        # A blinded second reader must not see another reader's values, flags or id here,
+        # and sees their own reading status (``own_reviewer``), not the record's overall one.
         self.blinded = False
+        self.own_reviewer: str | None = None
 
     # --- Qt model API
     def rowCount(self, parent: QModelIndex | QPersistentModelIndex = QModelIndex()) -> int:  # noqa: B008
@@ -131,11 +133,15 @@ class WorklistModel(QAbstractTableModel):
                 f = QFont()
                 f.setItalic(True)
                 return f
-            if key == "status" and row.status == "unread":
+            if key == "status" and self.status_of(row) == "unread":
                 f = QFont()
                 f.setBold(True)
                 return f
         return None
+
+    def status_of(self, row: ListingRow) -> str:
+        """The status this list shows for ``row``: the blinded reader's own, else overall."""
+        return row.status_for(self.own_reviewer) if self.blinded else row.status
 
     def _value(self, row: ListingRow, key: str) -> float | None:
         if key == "qtc":
@@ -149,7 +155,8 @@ class WorklistModel(QAbstractTableModel):
             v = self._value(row, key)
             return "" if v is None else f"{v:.0f}"
         if key == "status":
-            return STATUS_TEXT.get(row.status, row.status)
+            status = self.status_of(row)
+            return STATUS_TEXT.get(status, status)
         if key in SUBJECT_KEYS:
             return self._subjects.get(row.path, {}).get(key, "")
         if key == "reviewer":
@@ -167,11 +174,9 @@ class WorklistModel(QAbstractTableModel):
             v = self._value(row, key)
             return math.nan if v is None else float(v)
         if key == "status":
-            return (
-                ("unread", "in_progress", "signed_off").index(row.status)
-                if row.status in ("unread", "in_progress", "signed_off")
-                else 3
-            )
+            status = self.status_of(row)
+            order = ("unread", "in_progress", "signed_off")
+            return order.index(status) if status in order else 3
         if key == "flags":
             return len(row.flags)
         return self._display(row, key).lower()
@@ -231,9 +236,10 @@ class WorklistModel(QAbstractTableModel):
     def row_of(self, path: Path) -> int | None:
         return self._index.get(Path(path))
 
-    def set_blinded(self, on: bool) -> None:
+    def set_blinded(self, on: bool, reviewer: str | None = None) -> None:
         self.beginResetModel()
         self.blinded = on
+        self.own_reviewer = reviewer
         self.endResetModel()
 
     def set_qtc_formula(self, formula: str) -> None:
@@ -271,7 +277,7 @@ class WorklistFilter(QSortFilterProxyModel):
         model = self.sourceModel()
         assert isinstance(model, WorklistModel)
         row = model.row_at(source_row)
-        if self.unread_only and row.status != "unread":
+        if self.unread_only and model.status_of(row) != "unread":
             return False
         if model.blinded:
             return True  # value filters would reveal the values
@@ -450,11 +456,12 @@ class WorklistWidget(QWidget):
         for i, (key, _title) in enumerate(COLUMNS):
             self.table.setColumnHidden(i, compact and key not in COMPACT_COLUMNS)
 
-    def set_blinded(self, on: bool) -> None:
-        """Blinded second reading: the list keeps names, subjects and status but shows no
-        values, flags or reviewer id, and the value filters are off."""
+    def set_blinded(self, on: bool, reviewer: str | None = None) -> None:
+        """Blinded second reading: the list keeps names and subjects, shows ``reviewer``'s own
+        reading status (not the record's overall status, which would tell whether the first
+        reader has signed), no values, flags or reviewer id, and the value filters are off."""
         current = self.current_path()
-        self.model.set_blinded(on)
+        self.model.set_blinded(on, reviewer)
         for w in (self.flagged_box, self.qtc_box, self.qtc_spin):
             w.setEnabled(not on)
         self.proxy.invalidate()
@@ -583,7 +590,9 @@ class WorklistWidget(QWidget):
 
     def _update_count(self) -> None:
         shown, total = self.proxy.rowCount(), self.model.rowCount()
-        unread = sum(1 for i in range(total) if self.model.row_at(i).status == "unread")
+        unread = sum(
+            1 for i in range(total) if self.model.status_of(self.model.row_at(i)) == "unread"
+        )
         text = f"{total} records, {unread} unread"
         if shown != total:
             text += f" ({shown} shown)"
@@ -652,7 +661,7 @@ class WorklistWidget(QWidget):
         r = start + step
         while 0 <= r < n:
             row = self.proxy.index(r, 0).data(RowRole)
-            if row.status == "unread":
+            if self.model.status_of(row) == "unread":
                 self._select_proxy_row(r)
                 if activate:
                     self.recordActivated.emit(row.path)

@@ -192,3 +192,31 @@ def test_rows_from_another_engine_version_are_stale_and_bad_sidecars_are_shown(
     (tmp_path / "bad.marks.json").write_text("{ not json")
     bad = listing_row(tmp_path / "bad.hea", tmp_path)
     assert bad.problem and "not valid JSON" in bad.problem and not bad.has_values
+
+
+def test_blinded_reader_sees_their_own_status_not_the_records(qtbot, marked_folder: Path):
+    # Blinding in a two-reader QT study (common practice, no source): the second reader must
+    # not learn whether the first reader has read or signed a record, and "unread only" must
+    # list the records *they* have not read yet.
+    from reviewapp.ui.worklist import STATUS_TEXT
+
+    w = _open(qtbot, marked_folder)
+    col = _col("status")
+
+    def shown() -> dict[str, str]:
+        return {
+            w.model.row_at(r).name: w.model.index(r, col).data() for r in range(w.model.rowCount())
+        }
+
+    assert shown()["b01"] == STATUS_TEXT["signed_off"]  # overall status for a first reader
+    w.set_blinded(True, "reader3")  # a reader with no reading anywhere
+    assert set(shown().values()) == {STATUS_TEXT["unread"]}
+    w.set_filters(unread_only=True)
+    assert w.proxy.rowCount() == len(RECORDS)
+    assert f"{len(RECORDS)} unread" in w.count_label.text()
+    w.set_blinded(True, "reader2")  # signed b01 themselves
+    assert shown()["b01"] == STATUS_TEXT["signed_off"]
+    assert shown()["a02"] == STATUS_TEXT["unread"]  # reader1's work stays invisible
+    assert w.proxy.rowCount() == len(RECORDS) - 1
+    w.set_blinded(False)
+    assert shown()["a02"] == STATUS_TEXT["in_progress"]
