@@ -22,10 +22,16 @@ MAX_SUPERIMPOSED = 300
 # Curves and grids are cached as device pixels: dragging a mark line repaints a thin column of
 # every panel, which should copy pixels, not stroke the beats again.
 _CACHE = QtWidgets.QGraphicsItem.CacheMode.DeviceCoordinateCache
-# Label heights (fraction of the panel from the bottom) staggered so neighbouring marks'
-# labels never overlap. Near the bottom, not the top: the lead name sits top-left and an onset
-# label there hid it in narrow panels.
-LABEL_POSITIONS = {"p_on": 0.05, "p_off": 0.05, "qrs_on": 0.14, "qrs_off": 0.14, "t_off": 0.05}
+# Mark labels sit in two rows near the panel's bottom (the lead name sits top-left, and an
+# onset label up there hid it in narrow panels): P and T labels on the lower row, QRS labels on
+# the one above. Rows are set in pixels, from the panel's height, so they never touch however
+# short the panel is.
+LABEL_ROWS = {"p_on": 0, "p_off": 0, "qrs_on": 1, "qrs_off": 1, "t_off": 0}
+LABEL_BASE_PX = 13.0  # centre of the lower row above the panel's bottom edge
+LABEL_ROW_PX = 24.0  # label height (22 px: 9-10 pt text with its fill) plus a gap
+# Narrower panels show no labels on the lines (they would run into each other and past the
+# panel's edges); the legend's colour key and each line's tooltip name the marks instead.
+LABEL_MIN_PANEL_PX = 230.0
 # Onset labels sit left of their line, end labels right of it, so a close pair reads apart.
 LABEL_ANCHORS = {
     "p_on": [(1, 0.5), (1, 0.5)],
@@ -167,11 +173,11 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
             self.addLabel("", row=k // ncols, col=k % ncols)
         legend = (
             f"Median of {rep.n_beats_used} beats  ·  {self.scale.speed_mm_per_s:g} mm/s  ·  "
-            f"{self.scale.gain_mm_per_mv:g} mm/mV  ·  "
+            f"{self.scale.gain_mm_per_mv:g} mm/mV  ·  {self._colour_key()}<br>"
             "solid line = automatic, dashed line with ◆ = corrected by the reader"
             + ("  ·  grey = every dominant beat" if self.superimpose else "")
         )
-        self.addLabel(
+        item = self.addLabel(
             legend,
             row=(len(leads) + ncols - 1) // ncols,
             col=0,
@@ -179,6 +185,11 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
             color=self.theme.text_muted,
             size="9pt",
         )
+        # The legend's text width must not widen the grid past the widget (the right-hand
+        # column of beats was cut off in narrow windows): it may be cut itself, the beats not.
+        item.setMinimumWidth(0)
+        if self.plots:
+            self.plots[0].sigResized.connect(self._place_labels)
 
     def _superimposed(
         self, s: ReadingSession, r_index: int, n: int
@@ -245,6 +256,35 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
             "(all leads move together), double-click to reset"
         )
 
+    @staticmethod
+    def _label_position(fid: str, p: pg.ViewBox) -> float:
+        """Label position along the line (0 = bottom, 1 = top) for ``fid``'s label row."""
+        h = max(float(p.height()), 1.0)
+        if h < 4 * LABEL_ROW_PX:
+            h = 160.0  # not laid out yet: a typical panel height until the first resize
+        return min(0.45, (LABEL_BASE_PX + LABEL_ROW_PX * LABEL_ROWS[fid]) / h)
+
+    def _colour_key(self) -> str:
+        """HTML colour key of the mark lines for the legend."""
+        parts = []
+        for fids, name in (("p_on", "P"), ("qrs_on", "QRS"), ("t_off", "T end")):
+            colour = QtGui.QColor(mark_colour(self.theme, fids)).name()
+            parts.append(f'<span style="color:{colour}">&#9475; {name}</span>')
+        return "  ".join(parts)
+
+    def _place_labels(self) -> None:
+        """Keep the label rows a fixed number of pixels apart as the panels change height;
+        hide the labels where the panels are too narrow to hold them apart."""
+        if not self.plots:
+            return
+        show = float(self.plots[0].width()) >= LABEL_MIN_PANEL_PX
+        for fid, lines in self.lines.items():
+            for line in lines:
+                label = getattr(line, "label", None)
+                if label is not None:
+                    label.setPosition(self._label_position(fid, self.plots[0]))
+                    label.setVisible(show)
+
     def _add_lines(self, p: pg.ViewBox, first_row: bool) -> None:
         s = self.session
         assert s is not None
@@ -265,7 +305,7 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
                 hoverPen=hover,
                 label=text,
                 labelOpts={
-                    "position": LABEL_POSITIONS[fid],
+                    "position": self._label_position(fid, p),
                     "color": colour,
                     "anchors": LABEL_ANCHORS[fid],
                     "fill": self.theme.paper,

@@ -275,23 +275,40 @@ def test_median_mark_labels_leave_the_lead_names_readable(loaded, qtbot):
     import pyqtgraph as pg
 
     w = loaded
-    w.resize(1300, 1000)  # narrow panels: where an onset label used to cover the lead name
     w.show_median(True)
+
+    def rects():
+        labels = [
+            ln.label.sceneBoundingRect()
+            for lines in w.median.lines.values()
+            for ln in lines
+            if getattr(ln, "label", None) is not None and ln.label.isVisible()
+        ]
+        titles = [
+            it.sceneBoundingRect()
+            for p in w.median.plots
+            for it in p.addedItems
+            if isinstance(it, pg.TextItem) and not isinstance(it, pg.InfLineLabel)
+        ]
+        return labels, titles
+
+    # Narrow panels: the labels used to cover the lead name, touch each other and push the
+    # right-hand column of beats out of the widget; now they give way to the legend's key.
+    w.resize(1300, 1000)
     qtbot.wait(50)
-    labels = [
-        ln.label.sceneBoundingRect()
-        for lines in w.median.lines.values()
-        for ln in lines
-        if getattr(ln, "label", None) is not None and ln.label.isVisible()
-    ]
-    assert labels  # the first row's lines carry labels
-    titles = [
-        it.sceneBoundingRect()
-        for p in w.median.plots
-        for it in p.addedItems
-        if isinstance(it, pg.TextItem) and not isinstance(it, pg.InfLineLabel)
-    ]
-    assert len(titles) == len(w.median.plots)
+    labels, titles = rects()
+    assert labels == [] and len(titles) == len(w.median.plots)
+    right = max(p.sceneBoundingRect().right() for p in w.median.plots)
+    assert right <= w.median.width() + 1, (right, w.median.width())
+    # Wide panels: the first panel's lines carry labels, clear of the lead names and of
+    # each other.
+    w.resize(2600, 1500)
+    qtbot.wait(50)
+    labels, titles = rects()
+    assert len(labels) == 5
     for t in titles:
         for lab in labels:
             assert not t.intersects(lab), (t, lab)
+    for i, a in enumerate(labels):
+        for b in labels[i + 1 :]:
+            assert not a.intersects(b), (a, b)
