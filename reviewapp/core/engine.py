@@ -84,6 +84,7 @@ class Analysis:
         rep_lead = list(rep.lead_marks) if rep is not None else []
         unmatched: list[MarkOverride] = []
         beat_overrides: list[tuple[MarkOverride, int | None]] = []
+        pinned: set[tuple[str, int | None, int, str]] = set()  # lead marks the reader set
         for ov in overrides:
             lead_i = None
             if ov.lead is not None:
@@ -100,6 +101,7 @@ class Analysis:
                 rep_marks = rep_marks.with_mark(ov.fiducial, ov.sample)
             else:
                 rep_lead[lead_i] = rep_lead[lead_i].with_mark(ov.fiducial, ov.sample)
+                pinned.add(("representative", None, lead_i, ov.fiducial))
         if rep is not None and rep_marks is not None and rep_marks != rep.marks:
             beat_marks = _carry_representative(rep.marks, rep_marks, self.beats, beat_marks)
         for ov, lead_i in beat_overrides:
@@ -110,8 +112,20 @@ class Analysis:
                 beat_marks[bi] = beat_marks[bi].with_mark(ov.fiducial, ov.sample)
             else:
                 beat_lead[bi][lead_i] = beat_lead[bi][lead_i].with_mark(ov.fiducial, ov.sample)
+                pinned.add(("beat", bi, lead_i, ov.fiducial))
+        # A lead's own mark that was the automatic global mark follows the reader's global
+        # correction (e.g. every lead's J point, and so its ST levels, follows a corrected
+        # QRS end); a lead mark found on its own, or corrected for that lead, stays.
         if rep is not None and rep_marks is not None:
+            _follow_global(
+                rep.marks, rep_marks, rep.lead_marks, rep_lead, pinned, ("representative", None)
+            )
             rep = replace(rep, marks=rep_marks, lead_marks=tuple(rep_lead))
+        moved = bool(beat_overrides) or (rep is not None and rep.marks != self.representative.marks)
+        for i, (auto_m, final_m) in enumerate(zip(self.beat_marks, beat_marks, strict=True)):
+            if moved and auto_m is not final_m and auto_m != final_m:
+                key = ("beat", i)
+                _follow_global(auto_m, final_m, self.beat_lead_marks[i], beat_lead[i], pinned, key)
         marked = MarkedECG(
             fs_hz=self.fs_hz,
             lead_names=names,
@@ -131,6 +145,26 @@ class Analysis:
         measurements = compute_measurements(marked)
         findings = evaluate_findings(measurements, self.record.subject)
         return Reading(marked, measurements, findings, overrides, unmatched)
+
+
+def _follow_global(
+    auto: WaveMarks,
+    final: WaveMarks,
+    auto_leads: tuple[WaveMarks, ...],
+    leads: list[WaveMarks],
+    pinned: set[tuple[str, int | None, int, str]],
+    where: tuple[str, int | None],
+) -> None:
+    """In place on ``leads``: lead marks equal to the automatic global mark take its final
+    value, unless the reader set that lead's mark (``pinned``: (scope, beat index, lead, fid);
+    ``where``: (scope, beat index) of these marks)."""
+    for name in FIDUCIALS:
+        a, f = auto.get(name), final.get(name)
+        if a == f or a is None:
+            continue
+        for j, lead_auto in enumerate(auto_leads):
+            if lead_auto.get(name) == a and (*where, j, name) not in pinned:
+                leads[j] = leads[j].with_mark(name, f)
 
 
 def _carry_representative(

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import pytest
+
 from reviewapp.core.engine import analyse
 from reviewapp.core.fiducials import BeatKind, MarkOverride
 from reviewapp.core.synth import SynthParams, generate
@@ -36,3 +38,36 @@ def test_median_correction_moves_dominant_beats_and_beat_override_wins() -> None
         for m, b in zip(absent.beat_marks, a.beats, strict=True)
         if b.kind is BeatKind.DOMINANT
     )
+
+
+def test_global_j_point_correction_moves_every_lead_st_unless_that_lead_was_set() -> None:
+    # ST deviation is read at the J point, the QRS end (Thygesen et al., Fourth Universal
+    # Definition of Myocardial Infarction, 2018): a reader's corrected QRS end must be where
+    # every lead's ST levels are then measured, except in a lead the reader set on its own.
+    from reviewapp.core.measure.amplitudes import isoelectric_level
+
+    syn = generate(SynthParams(hr_bpm=72, seed=3))
+    a = analyse(syn.record)
+    rep = a.representative
+    fs = a.fs_hz
+    new_j = rep.marks.qrs_off + round(0.012 * fs)
+    own_j = rep.marks.qrs_off - round(0.008 * fs)
+    names = a.record.lead_names
+    ovs = [
+        MarkOverride("representative", "qrs_off", new_j),
+        MarkOverride("representative", "qrs_off", own_j, lead=names[0]),
+    ]
+    reading = a.reading(ovs)
+    marked_rep = reading.marked.representative
+    assert marked_rep.lead_marks[0].qrs_off == own_j
+    for j, lm in enumerate(reading.measurements.leads):
+        expect_j = own_j if j == 0 else new_j
+        assert marked_rep.lead_marks[j].qrs_off == expect_j
+        wave = rep.waveform_mv[:, j]
+        base = isoelectric_level(wave, marked_rep.marks.qrs_on, marked_rep.marks.p_off, fs)
+        assert lm.st_j_mv == pytest.approx(float(wave[expect_j]) - base, abs=1e-6)
+    # The dominant beats' own lead marks follow the carried correction too.
+    dom = next(i for i, b in enumerate(a.beats) if b.kind is BeatKind.DOMINANT)
+    moved = reading.marked.beat_marks[dom].qrs_off
+    assert moved == a.beat_marks[dom].qrs_off + (new_j - rep.marks.qrs_off)
+    assert all(m.qrs_off == moved for m in reading.marked.beat_lead_marks[dom])
