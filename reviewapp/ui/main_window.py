@@ -10,7 +10,7 @@ from pathlib import Path
 from PySide6 import QtCore, QtGui, QtWidgets
 
 from reviewapp.core.errors import ReviewError
-from reviewapp.core.fiducials import FIDUCIALS
+from reviewapp.core.fiducials import FIDUCIALS, MarkOverride
 from reviewapp.core.record import Record
 from reviewapp.ui.calibration import CalibrationDialog
 from reviewapp.ui.calipers import CaliperPair, CaliperState
@@ -192,6 +192,9 @@ class MainWindow(QtWidgets.QMainWindow):
         self.median.mark_dragging.connect(self._rep_mark_dragging)
         self.median.mark_dropped.connect(self._rep_mark_dropped)
         self.median.mark_reset.connect(self._rep_mark_reset)
+        self.median.lead_mark_dragging.connect(self._lead_mark_dragging)
+        self.median.lead_mark_dropped.connect(self._lead_mark_dropped)
+        self.median.lead_mark_reset.connect(self._lead_mark_reset)
         self.overview.page_requested.connect(self._page_from_overview)
 
         self.set_theme(self.theme.name)
@@ -1456,6 +1459,18 @@ class MainWindow(QtWidgets.QMainWindow):
     def _rep_mark_reset(self, fid: str) -> None:
         if self.session is not None:
             self.session.reset_mark(("representative", fid, None, None))
+
+    def _lead_mark_dragging(self, fid: str, lead: str, sample: int) -> None:
+        if self.session is not None:
+            self.session.preview(MarkOverride("representative", fid, sample, lead=lead))
+
+    def _lead_mark_dropped(self, fid: str, lead: str, sample: int) -> None:
+        if self.session is not None:
+            self.session.commit(MarkOverride("representative", fid, sample, lead=lead))
+
+    def _lead_mark_reset(self, fid: str, lead: str) -> None:
+        if self.session is not None:
+            self.session.reset_mark(("representative", fid, None, lead))
 
     def _reset_all(self) -> None:
         if self.session is not None:

@@ -11,7 +11,7 @@ import numpy as np
 import pyqtgraph as pg
 from PySide6 import QtCore, QtGui, QtWidgets
 
-from reviewapp.core.fiducials import FIDUCIALS, BeatKind
+from reviewapp.core.fiducials import FIDUCIALS
 from reviewapp.ui.layouts import ordered_leads
 from reviewapp.ui.mark_items import SHORT_LABELS
 from reviewapp.ui.paper import PaperGrid, PaperScale
@@ -48,6 +48,10 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
     mark_dragging = QtCore.Signal(str, int)  # fiducial, window sample
     mark_dropped = QtCore.Signal(str, int)
     mark_reset = QtCore.Signal(str)
+    # A lead's own mark (its J point): fiducial, lead name, window sample.
+    lead_mark_dragging = QtCore.Signal(str, str, int)
+    lead_mark_dropped = QtCore.Signal(str, str, int)
+    lead_mark_reset = QtCore.Signal(str, str)
 
     def __init__(self, scale: PaperScale, theme: Theme = LIGHT, parent=None) -> None:
         super().__init__(parent)
@@ -58,6 +62,7 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
         self.lead_order = "standard"
         self.plots: list[pg.ViewBox] = []
         self.lines: dict[str, list[pg.InfiniteLine]] = {}
+        self.j_marks: list[pg.TargetItem] = []  # one per panel: that lead's own J point
         self._syncing = False
         self._dirty = True
         self.setBackground(theme.window)
@@ -101,6 +106,7 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
         self.clear()
         self.plots.clear()
         self.lines.clear()
+        self.j_marks.clear()
         s = self.session
         if s is None or s.reading.marked.representative is None:
             label = self.addLabel("No representative beat for this record.", color=self.theme.text)
@@ -169,12 +175,14 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
             p.setRange(xRange=(x0, x1), yRange=(y_lo, y_hi), padding=0.02)
             self.plots.append(p)
             self._add_lines(p, first_row=k == 0)
+            self._add_j_mark(p, lead, idx, sign)
         for k in range(len(leads), ((len(leads) + ncols - 1) // ncols) * ncols):
             self.addLabel("", row=k // ncols, col=k % ncols)
         legend = (
             f"Median of {rep.n_beats_used} beats  ·  {self.scale.speed_mm_per_s:g} mm/s  ·  "
             f"{self.scale.gain_mm_per_mv:g} mm/mV  ·  {self._colour_key()}<br>"
-            "solid line = automatic, dashed line with ◆ = corrected by the reader"
+            "solid line = automatic, dashed line with ◆ = corrected by the reader  ·  "
+            "○ = the lead's J point (drag: that lead only)"
             + ("  ·  grey = every dominant beat" if self.superimpose else "")
         )
         item = self.addLabel(
@@ -238,6 +246,7 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
                     del i
             finally:
                 self._syncing = False
+        self._place_j_marks()
 
     def _pens(self, fid: str, corrected: bool):
         colour = QtGui.QColor(
@@ -318,6 +327,95 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
             line.mouseDoubleClickEvent = lambda ev, f=fid: (ev.accept(), self.mark_reset.emit(f))
             p.addItem(line)
             self.lines.setdefault(fid, []).append(line)
+
+    # --- each lead's own J point ---------------------------------------------------------
+    def _add_j_mark(self, p: pg.ViewBox, lead: str, idx: int, sign: float) -> None:
+        """A dot on the lead's median beat at its own J point (its QRS end), where its ST
+        levels are measured; dragging it corrects this lead only."""
+        item = pg.TargetItem(pos=(0.0, 0.0), size=9, symbol="o", movable=True)
+        item.lead = lead
+        item.lead_index = idx
+        item.sign = sign
+        item.setZValue(40)
+        item.sigPositionChanged.connect(self._on_j_drag)
+        item.sigPositionChangeFinished.connect(self._on_j_drop)
+        item.mouseDoubleClickEvent = lambda ev, ld=lead: (
+            ev.accept(),
+            self.lead_mark_reset.emit("qrs_off", ld),
+        )
+        p.addItem(item)
+        self.j_marks.append(item)
+        self._place_j_mark(item)
+
+    def _j_corrected(self, lead: str) -> bool:
+        s = self.session
+        key = ("representative", "qrs_off", None, lead)
+        return s is not None and s.override_for(key) is not None
+
+    def _place_j_mark(self, item: pg.TargetItem) -> None:
+        s = self.session
+        rep = None if s is None else s.reading.marked.representative
+        idx = item.lead_index
+        j = None if rep is None or idx >= len(rep.lead_marks) else rep.lead_marks[idx].qrs_off
+        if rep is None or j is None or not 0 <= j < rep.waveform_mv.shape[0]:
+            item.setVisible(False)
+            return
+        corrected = self._j_corrected(item.lead)
+        colour = QtGui.QColor(
+            self.theme.mark_corrected if corrected else mark_colour(self.theme, "qrs_off")
+        )
+        item.setPen(pg.mkPen(colour, width=1.5))
+        item.setBrush(pg.mkBrush(colour if corrected else self.theme.paper))
+        item.setHoverPen(pg.mkPen(colour, width=2.5))
+        item.setHoverBrush(pg.mkBrush(colour))
+        t = (j - rep.r_index) / s.fs_hz * 1000.0
+        self._syncing = True
+        try:
+            item.setPos(t, item.sign * float(rep.waveform_mv[j, idx]))
+        finally:
+            self._syncing = False
+        item.setVisible(True)
+        item.setToolTip(self._j_tip(item.lead, corrected))
+
+    def _place_j_marks(self) -> None:
+        for item in self.j_marks:
+            self._place_j_mark(item)
+
+    def _j_tip(self, lead: str, corrected: bool) -> str:
+        s = self.session
+        st = ""
+        if s is not None:
+            lm = next((m for m in s.reading.measurements.leads if m.lead == lead), None)
+            vals = [] if lm is None else [lm.st_j_mv, lm.st_j60_mv, lm.st_j80_mv]
+            if vals and all(v is not None for v in vals):
+                st = "<br>ST at J / J+60 / J+80: " + " / ".join(f"{v:+.2f}" for v in vals) + " mV"
+        state = "corrected for this lead" if corrected else "automatic"
+        return (
+            f"<b>J point, lead {lead}</b> ({state}){st}<br>"
+            "Drag to correct this lead only; double-click: back to the global QRS end."
+        )
+
+    def _on_j_drag(self, item: pg.TargetItem) -> None:
+        if self._syncing:
+            return
+        k = self.window_sample(item.pos().x())
+        s = self.session
+        rep = None if s is None else s.reading.marked.representative
+        if rep is not None:
+            k = min(max(k, 0), rep.waveform_mv.shape[0] - 1)
+            # The dot stays on the curve: only time is the reader's to choose.
+            self._syncing = True
+            try:
+                t = (k - rep.r_index) / s.fs_hz * 1000.0
+                item.setPos(t, item.sign * float(rep.waveform_mv[k, item.lead_index]))
+            finally:
+                self._syncing = False
+        self.lead_mark_dragging.emit("qrs_off", item.lead, k)
+
+    def _on_j_drop(self, item: pg.TargetItem) -> None:
+        if self._syncing:
+            return
+        self.lead_mark_dropped.emit("qrs_off", item.lead, self.window_sample(item.pos().x()))
 
     # --- dragging ------------------------------------------------------------------------
     def window_sample(self, t_ms: float) -> int:

@@ -118,3 +118,47 @@ def _beat_qt(w, beat_r):
         if round(b.r_s * fs) == beat_r:
             return b.qt_ms
     return None
+
+
+def test_dragging_one_leads_j_point_moves_only_that_leads_st(loaded, qtbot):
+    # ST deviation is read at the lead's J point (Thygesen et al., Fourth Universal
+    # Definition of Myocardial Infarction, 2018): dragging the J dot of one lead corrects that
+    # lead's J point and ST levels; the global QRS end and the other leads stay.
+    from reviewapp.core.measure.amplitudes import isoelectric_level
+
+    w = loaded
+    w.show_median(True)
+    qtbot.wait(20)
+    mv = w.median
+    item = mv.j_marks[1]
+    lead = item.lead
+    before = w.session.reading
+    rep0 = before.marked.representative
+    j0 = rep0.lead_marks[item.lead_index].qrs_off
+    vb = mv.plots[1]
+    start = mv.mapFromScene(vb.mapViewToScene(item.pos()))
+    end = QtCore.QPoint(start.x() + 14, start.y() - 30)  # up-and-right: only time counts
+    drag(qtbot, mv.viewport(), start, end, steps=8)
+    qtbot.wait(20)
+    after = w.session.reading
+    rep1 = after.marked.representative
+    j1 = rep1.lead_marks[item.lead_index].qrs_off
+    assert j1 > j0 and rep1.marks.qrs_off == rep0.marks.qrs_off
+    assert w.session.override_for(("representative", "qrs_off", None, lead)) is not None
+    lm = next(m for m in after.measurements.leads if m.lead == lead)
+    wave = rep1.waveform_mv[:, item.lead_index]
+    base = isoelectric_level(wave, rep1.marks.qrs_on, rep1.marks.p_off, w.record.fs_hz)
+    assert lm.st_j_mv == pytest.approx(float(wave[j1]) - base, abs=1e-6)
+    for a, b in zip(before.measurements.leads, after.measurements.leads, strict=True):
+        if a.lead != lead:
+            assert (a.st_j_mv, a.st_j60_mv) == (b.st_j_mv, b.st_j60_mv)
+    # The dot sits on the curve at the new J point and is drawn as corrected.
+    t1 = (j1 - rep1.r_index) / w.record.fs_hz * 1000.0
+    assert item.pos().x() == pytest.approx(t1)
+    assert item.pos().y() == pytest.approx(item.sign * float(wave[j1]))
+    assert "corrected for this lead" in item.toolTip()
+    # Undo takes it back to the global QRS end.
+    w.session.undo_stack.undo()
+    qtbot.wait(20)
+    back = w.session.reading.marked.representative
+    assert back.lead_marks[item.lead_index].qrs_off == back.marks.qrs_off
