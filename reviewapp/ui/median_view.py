@@ -32,6 +32,10 @@ LABEL_ROW_PX = 24.0  # label height (22 px: 9-10 pt text with its fill) plus a g
 # Narrower panels show no labels on the lines (they would run into each other and past the
 # panel's edges); the legend's colour key and each line's tooltip name the marks instead.
 LABEL_MIN_PANEL_PX = 230.0
+# Where a mark starts, relative to R, in a blinded read with the automatic marks hidden: fixed
+# positions (not the engine's), drawn dotted and grey until the reader drags each into place,
+# so nothing on screen tells where the engine put it (common practice, no source).
+UNPLACED_MS = {"p_on": -250.0, "p_off": -150.0, "qrs_on": -70.0, "qrs_off": 70.0, "t_off": 380.0}
 # Onset labels sit left of their line, end labels right of it, so a close pair reads apart.
 LABEL_ANCHORS = {
     "p_on": [(1, 0.5), (1, 0.5)],
@@ -225,12 +229,12 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
             return
         rep = s.reading.marked.representative
         have = set(self.lines)
-        want = {f for f in FIDUCIALS if rep.marks.get(f) is not None}
+        want = {f for f in FIDUCIALS if self._shown_sample(f) is not None}
         if have != want:
             self.rebuild()
             return
         for fid, lines in self.lines.items():
-            pos = (rep.marks.get(fid) - rep.r_index) / s.fs_hz * 1000.0
+            pos = (self._shown_sample(fid) - rep.r_index) / s.fs_hz * 1000.0
             corrected = s.is_corrected("representative", fid)
             pen, hover, colour = self._pens(fid, corrected)
             self._syncing = True
@@ -240,15 +244,41 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
                     line.setPen(pen)
                     line.setHoverPen(hover)
                     if getattr(line, "label", None) is not None:
-                        line.label.setFormat(("◆ " if corrected else "") + SHORT_LABELS[fid])
+                        line.label.setFormat(self._label_text(fid, corrected))
                         line.label.setColor(colour)
-                    line.setToolTip(self._tip(fid, corrected))
+                    line.setToolTip(self._line_tip(fid, corrected))
                     del i
             finally:
                 self._syncing = False
         self._place_j_marks()
 
+    def _unplaced(self, fid: str) -> bool:
+        """The mark is shown at its fixed start position (automatic marks hidden)."""
+        s = self.session
+        return s is not None and s.hide_automatic and not s.is_corrected("representative", fid)
+
+    def _shown_sample(self, fid: str) -> int | None:
+        """Window sample where ``fid``'s line is drawn (None: no line)."""
+        s = self.session
+        rep = None if s is None else s.reading.marked.representative
+        if rep is None:
+            return None
+        if self._unplaced(fid):
+            k = rep.r_index + round(UNPLACED_MS[fid] * s.fs_hz / 1000.0)
+            return min(max(k, 0), rep.waveform_mv.shape[0] - 1)
+        return rep.marks.get(fid)
+
+    def _label_text(self, fid: str, corrected: bool) -> str:
+        if self._unplaced(fid):
+            return SHORT_LABELS[fid] + " ?"
+        return ("◆ " if corrected else "") + SHORT_LABELS[fid]
+
     def _pens(self, fid: str, corrected: bool):
+        if self._unplaced(fid):
+            grey = QtGui.QColor(self.theme.text_muted)
+            dot = QtCore.Qt.PenStyle.DotLine
+            pen = pg.mkPen(grey, width=1.6, style=dot, cosmetic=True)
+            return pen, pg.mkPen(grey, width=3.0, style=dot, cosmetic=True), grey
         colour = QtGui.QColor(
             self.theme.mark_corrected if corrected else mark_colour(self.theme, fid)
         )
@@ -256,6 +286,14 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
         pen = pg.mkPen(colour, width=1.6, style=style, cosmetic=True)
         hover = pg.mkPen(colour, width=3.0, style=style, cosmetic=True)
         return pen, hover, colour
+
+    def _line_tip(self, fid: str, corrected: bool) -> str:
+        if self._unplaced(fid):
+            return (
+                f"{SHORT_LABELS[fid]}: not placed yet (automatic marks are hidden in this "
+                "reading); drag it onto the median beat's boundary"
+            )
+        return self._tip(fid, corrected)
 
     @staticmethod
     def _tip(fid: str, corrected: bool) -> str:
@@ -300,12 +338,12 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
         rep = s.reading.marked.representative
         assert rep is not None
         for fid in FIDUCIALS:
-            v = rep.marks.get(fid)
+            v = self._shown_sample(fid)
             if v is None:
                 continue
             corrected = s.is_corrected("representative", fid)
             pen, hover, colour = self._pens(fid, corrected)
-            text = ("◆ " if corrected else "") + SHORT_LABELS[fid] if first_row else None
+            text = self._label_text(fid, corrected) if first_row else None
             line = pg.InfiniteLine(
                 pos=(v - rep.r_index) / s.fs_hz * 1000.0,
                 angle=90,
@@ -321,7 +359,7 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
                 },
             )
             line.fiducial = fid
-            line.setToolTip(self._tip(fid, corrected))
+            line.setToolTip(self._line_tip(fid, corrected))
             line.sigDragged.connect(self._on_drag)
             line.sigPositionChangeFinished.connect(self._on_drop)
             line.mouseDoubleClickEvent = lambda ev, f=fid: (ev.accept(), self.mark_reset.emit(f))
@@ -357,10 +395,13 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
         rep = None if s is None else s.reading.marked.representative
         idx = item.lead_index
         j = None if rep is None or idx >= len(rep.lead_marks) else rep.lead_marks[idx].qrs_off
-        if rep is None or j is None or not 0 <= j < rep.waveform_mv.shape[0]:
+        corrected = self._j_corrected(item.lead)
+        # With the automatic marks hidden, a J dot shows only where the reader set the QRS end
+        # (globally or for this lead): elsewhere it would give away the engine's J point.
+        hidden = self._unplaced("qrs_off") and not corrected
+        if rep is None or j is None or not 0 <= j < rep.waveform_mv.shape[0] or hidden:
             item.setVisible(False)
             return
-        corrected = self._j_corrected(item.lead)
         colour = QtGui.QColor(
             self.theme.mark_corrected if corrected else mark_colour(self.theme, "qrs_off")
         )

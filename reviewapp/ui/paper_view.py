@@ -284,6 +284,8 @@ class PaperView(pg.GraphicsView):
                 s = wm.get(fid)
                 if s is None or not (self.page_start <= s < end):
                     continue
+                if session.hide_automatic and not session.is_corrected("beat", fid, beat.r):
+                    continue  # automatic (or carried from automatic) positions stay hidden
                 item = FiducialMark(
                     fid,
                     s,

@@ -240,6 +240,12 @@ class ReadingSession(QtCore.QObject):
     def beat_marks(self) -> tuple[WaveMarks, ...]:
         return self._reading.marked.beat_marks
 
+    @property
+    def hide_automatic(self) -> bool:
+        """A blinded read without the automatic marks: nothing the engine placed may show."""
+        st = self.store
+        return st is not None and st.blinded and not st.show_automatic
+
     def is_corrected(self, scope: str, fiducial: str, beat_r: int | None = None) -> bool:
         return (scope, fiducial, beat_r, None) in self._overrides
 

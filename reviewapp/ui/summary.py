@@ -11,7 +11,7 @@ from typing import TYPE_CHECKING
 
 from PySide6 import QtCore, QtGui, QtWidgets
 
-from reviewapp.core.fiducials import FIDUCIAL_LABELS
+from reviewapp.core.fiducials import FIDUCIAL_LABELS, FIDUCIALS
 from reviewapp.core.measure import Finding, NormalRange, normal_range
 
 if TYPE_CHECKING:
@@ -69,7 +69,28 @@ USES_MARKS: dict[str, tuple[str, ...]] = {
     "qtc_fridericia_ms": ("qrs_on", "t_off"),
     "qtc_framingham_ms": ("qrs_on", "t_off"),
     "qtc_hodges_ms": ("qrs_on", "t_off"),
+    "p_axis_deg": ("p_on", "p_off"),
+    "qrs_axis_deg": ("qrs_on", "qrs_off"),
+    "t_axis_deg": ("qrs_off", "t_off"),
 }
+# The same for the per-lead values (amplitudes from the isoelectric level before QRS onset,
+# ST levels at and after each lead's J point).
+LEAD_USES_MARKS: dict[str, tuple[str, ...]] = {
+    "p_mv": ("p_on", "p_off", "qrs_on"),
+    "q_mv": ("qrs_on", "qrs_off"),
+    "r_mv": ("qrs_on", "qrs_off"),
+    "s_mv": ("qrs_on", "qrs_off"),
+    "t_mv": ("qrs_on", "qrs_off", "t_off"),
+    "st_j_mv": ("qrs_on", "qrs_off"),
+    "st_j60_mv": ("qrs_on", "qrs_off"),
+    "st_j80_mv": ("qrs_on", "qrs_off"),
+    "q_ms": ("qrs_on", "qrs_off"),
+    "sokolow_lyon_mv": ("qrs_on", "qrs_off"),
+    "cornell_mv": ("qrs_on", "qrs_off"),
+    "qtc_ms": ("qrs_on", "t_off"),  # the finding that merges the QTc formulas
+}
+# Values from R peaks alone: shown in a blinded read even with the automatic marks hidden.
+MARK_FREE = frozenset({"hr_bpm", "ventricular_rate_bpm", "rr_ms", "rr_sd_ms"})
 LEAD_COLUMNS: tuple[tuple[str, str], ...] = (
     ("p_mv", "P"),
     ("q_mv", "Q"),
@@ -153,6 +174,7 @@ class SummaryPanel(QtWidgets.QWidget):
         self.leads_table.setVisible(False)
         self.per_lead_button.toggled.connect(self._show_leads)
         self._last: tuple[Reading, SubjectFacts] | None = None
+        self._lead_hidden: set[str] = set()  # per-lead columns hidden (marks not yet set)
         self.caliper_label = QtWidgets.QLabel("")
         self.caliper_label.setWordWrap(True)
         self.status = QtWidgets.QLabel("")
@@ -271,7 +293,16 @@ class SummaryPanel(QtWidgets.QWidget):
                 if item.font().bold() != bool(flag):
                     item.setFont(bold if flag else self.table.font())
             n_flags += bool(flag)
-        extra = len([f for f in reading.findings if f.lead is not None])
+        uses = {**USES_MARKS, **LEAD_USES_MARKS}
+
+        def hidden_finding(q: str) -> bool:
+            # Fails closed: a quantity this table does not know waits for every mark.
+            return q not in MARK_FREE and any(m not in corrected for m in uses.get(q, FIDUCIALS))
+
+        shown = tuple(
+            f for f in reading.findings if not (hide_automatic and hidden_finding(f.quantity))
+        )
+        extra = len([f for f in shown if f.lead is not None])
         self.status.setText(
             f"{n_flags} value{'s' if n_flags != 1 else ''} outside limits"
             + (
@@ -286,11 +317,13 @@ class SummaryPanel(QtWidgets.QWidget):
             )
             + ". Hover a row for its source."
         )
-        hidden_q = {k for k, marks in USES_MARKS.items() if any(m not in corrected for m in marks)}
-        self._show_findings(
-            tuple(f for f in reading.findings if not (hide_automatic and f.quantity in hidden_q))
-        )
+        self._show_findings(shown)
         self._last = (reading, subject)
+        self._lead_hidden = (
+            {k for k, marks in LEAD_USES_MARKS.items() if any(m not in corrected for m in marks)}
+            if hide_automatic
+            else set()
+        )
         if self.leads_table.isVisible():
             self._fill_leads(reading, subject)
 
@@ -326,8 +359,12 @@ class SummaryPanel(QtWidgets.QWidget):
                 rng = normal_range(key, subject, lead=lm.lead) if key.startswith("st_") else None
                 flag, why = flag_for(key, v, rng, reading.findings, lead=lm.lead)
                 text = "—" if v is None else f"{v:+.2f}"
+                if key in self._lead_hidden:  # blinded, automatic marks hidden: not yet set
+                    flag, why, text = "", "", "set marks"
                 item = QtWidgets.QTableWidgetItem(f"{text} {flag.split(' ')[0]}" if flag else text)
                 tip = f"{lm.lead} {_label}: {text} mV (from the isoelectric level at QRS onset)"
+                if key in self._lead_hidden:
+                    tip = f"{lm.lead} {_label}: shown once the marks it is measured from are set"
                 if rng is not None:
                     tip += f"\nNormal limits: {range_text(rng)}. Source: {rng.source}"
                 if why:

@@ -375,3 +375,64 @@ def test_a_caliper_after_sign_off_reopens_with_notice(window, qtbot, sample_copy
     assert [e["action"] for e in side["audit"]][-2:] == ["reopen", "add_caliper"]
     assert "Reopened" in w.reading_panel.notice.text()
     assert w.reading_panel.banner.text() == "◐ In progress"
+
+
+def test_hidden_automatic_marks_are_not_drawn_until_the_reader_places_them(
+    window, qtbot, sample_records_dir, tmp_path, settings
+):
+    # A blinded second read "without the automatic marks" must show nothing the engine placed
+    # (common practice in two-reader QT studies, no source): the median beat's lines start at
+    # fixed positions, the strip shows no automatic beat marks, J dots and per-lead values
+    # wait until the reader has set the marks they come from.
+    import shutil
+
+    from reviewapp.ui.median_view import UNPLACED_MS
+    from reviewapp.ui.reader import ReadMode
+    from reviewapp.ui.summary import MARK_FREE, finding_line
+
+    # The demo record whose automatic QTc is flagged (so there is a finding to keep hidden).
+    for f in sample_records_dir.glob("s003_post2h.*"):
+        if not f.name.endswith(".json"):
+            shutil.copy(f, tmp_path / f.name)
+    settings.setValue("reader/id", "reader2")
+    w = window
+    w.act_roles[ReadMode("second", True, False)].trigger()
+    assert w.open_path(tmp_path / "s003_post2h.hea", analyse_now=True)
+    w.show_median(True)
+    qtbot.wait(50)
+    s = w.session
+    rep = s.reading.marked.representative
+    fs = s.fs_hz
+    assert any(f.quantity not in MARK_FREE for f in s.reading.findings)
+    for fid, ms in UNPLACED_MS.items():
+        line = w.median.lines[fid][0]
+        assert line.value() == pytest.approx(round(ms * fs / 1000.0) * 1000.0 / fs)
+        assert line.pen.style() == QtCore.Qt.PenStyle.DotLine
+    assert not w.paper.marks  # no automatic beat marks on the strip
+    # No finding from the automatic marks either: only those from R peaks alone may show.
+    allowed = {finding_line(f) for f in s.reading.findings if f.quantity in MARK_FREE}
+    assert set(w.summary.finding_texts()) <= allowed | {"No value outside its limits."}
+    assert not any(j.isVisible() for j in w.median.j_marks)
+    w.summary._show_leads(True)
+    col = {h: c for c, h in enumerate(["lead", "P", "Q", "R", "S", "T", "ST J", "ST J+60"])}
+
+    def cell(name: str) -> str:
+        return w.summary.leads_table.item(0, col[name]).text()
+
+    assert cell("ST J") == "set marks" and cell("R") == "set marks"
+    s.commit(s.representative_override("t_off", rep.marks.t_off + 5))
+    qtbot.wait(50)
+    line = w.median.lines["t_off"][0]
+    assert line.value() == pytest.approx((rep.marks.t_off + 5 - rep.r_index) * 1000.0 / fs)
+    assert line.pen.style() == QtCore.Qt.PenStyle.DashLine  # placed by the reader
+    assert w.median.lines["p_on"][0].pen.style() == QtCore.Qt.PenStyle.DotLine
+    assert not any(j.isVisible() for j in w.median.j_marks)  # QRS end still not set
+    s.commit(s.representative_override("qrs_off", rep.marks.qrs_off + 3))
+    s.commit(s.representative_override("qrs_on", rep.marks.qrs_on - 1))
+    qtbot.wait(50)
+    assert all(j.isVisible() for j in w.median.j_marks)
+    assert cell("ST J") != "set marks" and cell("T") != "set marks"
+    assert cell("P") == "set marks"  # P onset and end still not set
+    # The strip shows the beats' marks that follow the reader's median corrections only if
+    # the reader set them beat by beat: carried marks would reveal the automatic positions.
+    assert not w.paper.marks
