@@ -89,6 +89,14 @@ class ExportActions(QObject):
         if session is None:
             self._show_error("Open a record first.")
             return None
+        if getattr(session, "hide_automatic", False):
+            # Every export draws and lists the automatic marks and values the blinded reader
+            # has not set; they would see them in the file.
+            self._show_error(
+                "Exports and printing are off in a blinded read with the automatic marks "
+                "hidden: the page would show the automatic marks and values."
+            )
+            return None
         return report_content_from_session(session)
 
     def _ask(self, title: str, suffix: str, filters: str) -> Path | None:

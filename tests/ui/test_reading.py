@@ -412,6 +412,9 @@ def test_hidden_automatic_marks_are_not_drawn_until_the_reader_places_them(
     # No finding from the automatic marks either: only those from R peaks alone may show.
     allowed = {finding_line(f) for f in s.reading.findings if f.quantity in MARK_FREE}
     assert set(w.summary.finding_texts()) <= allowed | {"No value outside its limits."}
+    # Nor in an exported page: exports are refused with a message, no file is written.
+    assert w.exports.export_pdf(tmp_path / "page.pdf") is None
+    assert not (tmp_path / "page.pdf").exists() and "blinded read" in w.last_error_box.text()
     assert not any(j.isVisible() for j in w.median.j_marks)
     w.summary._show_leads(True)
     col = {h: c for c, h in enumerate(["lead", "P", "Q", "R", "S", "T", "ST J", "ST J+60"])}
