@@ -20,11 +20,11 @@ from reviewapp.core.dsp.delineate import (
     representative_p_from_beats,
 )
 from reviewapp.core.dsp.filters import condition
+from reviewapp.core.dsp.pacing import paced_beats
 from reviewapp.core.dsp.qrs import detect_qrs
 from reviewapp.core.fiducials import (
     FIDUCIALS,
     Beat,
-    BeatKind,
     MarkedECG,
     MarkOverride,
     RepresentativeBeat,
@@ -181,7 +181,7 @@ def _carry_representative(
         return beat_marks
     out = list(beat_marks)
     for i, (beat, m) in enumerate(zip(beats, beat_marks, strict=True)):
-        if beat.kind is not BeatKind.DOMINANT:
+        if not beat.in_dominant_rhythm:
             continue
         for name, delta in changes.items():
             v = m.get(name)
@@ -239,6 +239,10 @@ def analyse(record: Record, *, mains_hz: float | None = None) -> Analysis:
     n = record.n_samples
     beat_marks = tuple(m.ordered(n) for m in beat_marks)
     beat_lead_marks = tuple(tuple(m.ordered(n) for m in row) for row in beat_lead_marks)
+    # Paced beats are told by the stimulus just before their own QRS onset, so after
+    # delineation; labelling keeps every dominant beat in the dominant rhythm, so the median
+    # beat and the carried marks above stay valid.
+    beats = paced_beats(conditioned, fs, beats, beat_marks, usable_mask)
     return Analysis(
         record=record,
         conditioned_mv=conditioned,

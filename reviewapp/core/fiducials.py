@@ -144,6 +144,26 @@ class Beat:
     r: int
     kind: BeatKind = BeatKind.DOMINANT
     group: int = 0
+    # For a PACED beat: it is of the dominant morphology group and normally timed, i.e. part
+    # of the (paced) dominant rhythm, not an occasional paced beat of another shape. Ignored
+    # for the other kinds.
+    paced_dominant: bool = False
+
+    @property
+    def in_dominant_rhythm(self) -> bool:
+        """Part of the dominant rhythm: DOMINANT, or PACED within the dominant group.
+
+        The one test for "counts as a dominant beat" (median-beat membership, template-carried
+        marks, dominant-rhythm heart rate): a paced rhythm keeps every dominant-beat behaviour.
+
+        >>> Beat(0).in_dominant_rhythm, Beat(0, BeatKind.PACED).in_dominant_rhythm
+        (True, False)
+        >>> Beat(0, BeatKind.PACED, paced_dominant=True).in_dominant_rhythm
+        True
+        """
+        if self.kind == BeatKind.DOMINANT:
+            return True
+        return self.kind == BeatKind.PACED and self.paced_dominant
 
 
 @dataclass(frozen=True, eq=False)

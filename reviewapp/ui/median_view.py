@@ -208,9 +208,7 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
     ) -> tuple[np.ndarray, np.ndarray]:
         """Every dominant beat's window, aligned at R, joined with NaN breaks for one curve."""
         x = s.analysis.conditioned_mv
-        rs = np.array(
-            [b.r for b in s.analysis.beats if b.kind == BeatKind.DOMINANT], dtype=np.int64
-        )
+        rs = np.array([b.r for b in s.analysis.beats if b.in_dominant_rhythm], dtype=np.int64)
         rs = rs[(rs - r_index >= 0) & (rs - r_index + n <= x.shape[0])][:MAX_SUPERIMPOSED]
         if rs.size == 0:
             return np.zeros(0), np.zeros((0, x.shape[1]))

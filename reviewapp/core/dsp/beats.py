@@ -5,9 +5,9 @@ Beats are grouped by the correlation of their multi-lead QRS windows with group 
 practice, no source) and labelled by timing: a beat whose preceding RR is shorter than 85 %
 of the local median RR is premature (common practice, no source; AAMI EC57 leaves the
 threshold to the algorithm). The dominant group is the largest group of normally timed beats.
-``BeatKind.PACED`` is not assigned here: pacing spikes are not detected (after the 150 Hz
-low-pass, at 500 Hz sampling, bipolar pacing spikes are not resolved reliably), so paced
-beats are grouped by morphology like any other beat.
+``BeatKind.PACED`` is not assigned here: paced beats are grouped by morphology like any other
+beat, and ``pacing.paced_beats`` later relabels each beat with a stimulus before its QRS
+(keeping a paced dominant rhythm dominant: ``Beat.in_dominant_rhythm``).
 
 The representative beat is the sample-by-sample median of the dominant beats after aligning
 each on the dominant QRS template by cross-correlation (the usual way a resting-ECG median
@@ -273,7 +273,8 @@ def _align(
 def representative_beat(
     conditioned_mv: np.ndarray, fs_hz: float, beats: tuple[Beat, ...], usable: np.ndarray
 ) -> RepresentativeBeat | None:
-    """Median beat of the DOMINANT beats, per lead, aligned by cross-correlation.
+    """Median beat of the dominant-rhythm beats (``Beat.in_dominant_rhythm``: DOMINANT, or
+    PACED within the dominant group), per lead, aligned by cross-correlation.
 
     Window: R - min(450 ms, 0.45 RR) to R + min(650 ms, 0.65 RR), RR = median RR of all
     detected beats (fixed 450/650 ms with one beat). Beats whose window (plus the alignment
@@ -296,7 +297,7 @@ def representative_beat(
     if not usable.any():
         usable = np.ones(x.shape[1], dtype=bool)
     n = x.shape[0]
-    dom = np.array([b.r for b in beats if b.kind == BeatKind.DOMINANT], dtype=np.int64)
+    dom = np.array([b.r for b in beats if b.in_dominant_rhythm], dtype=np.int64)
     if dom.size == 0:
         return None
     all_r = np.array([b.r for b in beats], dtype=np.int64)

@@ -78,12 +78,13 @@ def rr_statistics(beats: tuple[Beat, ...], fs_hz: float, has_p: bool = True) -> 
 
 
 def dominant_group(beats: tuple[Beat, ...]) -> int | None:
-    """Morphology group id holding the most DOMINANT beats (None when no beat is dominant).
+    """Morphology group id holding the most dominant-rhythm beats (``Beat.in_dominant_rhythm``;
+    None when no beat is).
 
     >>> dominant_group((Beat(0, group=1), Beat(5, group=1), Beat(9, BeatKind.PREMATURE, 0)))
     1
     """
-    groups = [b.group for b in beats if b.kind == BeatKind.DOMINANT]
+    groups = [b.group for b in beats if b.in_dominant_rhythm]
     if not groups:
         return None
     ids, counts = np.unique(np.asarray(groups, dtype=np.int64), return_counts=True)
@@ -93,11 +94,12 @@ def dominant_group(beats: tuple[Beat, ...]) -> int | None:
 def rr_from_beats(beats: tuple[Beat, ...], fs_hz: float, *, has_p: bool = True) -> RRStats:
     """Mean and SD of the RR intervals that set the heart rate, and whether RR is irregular.
 
-    Regular rhythm with P waves: an interval counts only when both of its beats are dominant:
-    intervals that touch a premature beat (its coupling interval and the pause after it) would
-    bias the rate that QTc corrects for. Where no interval joins two dominant beats (e.g. a
-    paced rhythm), intervals between consecutive non-premature beats are used instead and
-    ``basis`` says so.
+    Regular rhythm with P waves: an interval counts only when both of its beats are dominant
+    (``Beat.in_dominant_rhythm``: a paced dominant rhythm counts as dominant): intervals that
+    touch a premature beat (its coupling interval and the pause after it) would bias the rate
+    that QTc corrects for. Where no interval joins two dominant beats (e.g. only occasional
+    paced beats of changing shape), intervals between consecutive non-premature beats are used
+    instead and ``basis`` says so.
 
     Irregular rhythm: the RR coefficient of variation over consecutive beats of the dominant
     morphology group is > ``IRREGULAR_RR_CV`` and, besides, either the representative beat has
@@ -127,7 +129,7 @@ def rr_from_beats(beats: tuple[Beat, ...], fs_hz: float, *, has_p: bool = True) 
         return RRStats(None, None, 0, "fewer than two beats")
     r = np.fromiter((b.r for b in beats), dtype=np.int64, count=len(beats))
     kinds = [b.kind for b in beats]
-    dominant = np.array([k == BeatKind.DOMINANT for k in kinds])
+    dominant = np.array([b.in_dominant_rhythm for b in beats])
     premature = np.array([k == BeatKind.PREMATURE for k in kinds])
     rr = np.diff(r) * 1000.0 / fs_hz
     dom_group = dominant_group(beats)
