@@ -176,9 +176,7 @@ def measurement_rows(
             elif nr.is_below(shown):
                 flag = f"below {nr.low:g}"
             if flag and quantity.startswith("qtc_"):
-                used.update(
-                    i for i, f in enumerate(reading.findings) if f.quantity == "qtc_ms"
-                )
+                used.update(i for i, f in enumerate(reading.findings) if f.quantity == "qtc_ms")
         rows.append(
             MeasurementRow(
                 quantity=quantity,

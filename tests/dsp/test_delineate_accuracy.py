@@ -43,30 +43,39 @@ pytestmark = pytest.mark.slow  # whole-database accuracy (about 30 s)
 
 # (|mean| limit, SD limit) in ms per fiducial. Measured values in the comments.
 QTDB_LIMITS = {
-    "p_on": (4.0, 20.0),  # measured 2.8 +- 18.7 (SD above CSE 10.2); before: 2.7 +- 19.3
-    "p_off": (3.0, 22.0),  # measured 1.0 +- 20.8 (above CSE 12.7); before: 1.4 +- 21.6
-    "qrs_on": (3.0, 11.0),  # measured 1.5 +- 10.0 (above CSE 6.5)
-    "qrs_off": (4.5, 15.5),  # measured 3.1 +- 14.3 (above CSE 11.6)
-    "t_off": (2.5, 46.0),  # measured -0.6 +- 43.8 (above CSE 30.6; a few records dominate)
+    # P: corner refinement (delineate_corner) + coupling rule; measured 5.2 +- 19.1 (SD above
+    # CSE 10.2; QTDB readers mark P onset ~8 ms before a corner fitted on the 40 Hz lead);
+    # before: 2.8 +- 18.7
+    "p_on": (6.0, 20.0),
+    "p_off": (3.0, 22.0),  # measured -1.0 +- 21.0 (above CSE 12.7); before: 1.0 +- 20.8
+    "qrs_on": (3.0, 11.0),  # measured 1.6 +- 10.1 (above CSE 6.5; readers' own beat-to-beat
+    # scatter within a record alone is 7.7, see delineate_qrs); before the corner step 1.5 +- 10.0
+    "qrs_off": (4.5, 15.0),  # measured 3.1 +- 14.3 (above CSE 11.6; readers' scatter 9.1)
+    "t_off": (2.5, 44.0),  # measured 0.9 +- 42.5 (above CSE 30.6: T/U fusion sel45,
+    # sel36, sele0114, sel14172 +60..+165 ms; biphasic/flat T sel48, sel223, sel51 -50..-78 ms);
+    # before this session's T changes -0.6 +- 43.8 (same QRS/P code)
 }
 LUDB_LIMITS = {
-    "p_on": (5.0, 19.5),  # measured -3.4 +- 18.4 (SD above CSE 10.2)
-    "p_off": (5.5, 19.5),  # measured 4.2 +- 18.4 (above CSE 12.7)
-    "qrs_on": (2.0, 11.0),  # measured 1.1 +- 10.3 (above CSE 6.5); before the pacing-spike
+    "p_on": (3.0, 19.5),  # measured -1.4 +- 18.7 (SD above CSE 10.2); before -3.4 +- 18.4
+    "p_off": (3.0, 19.5),  # measured 1.3 +- 18.8 (above CSE 12.7); before 4.2 +- 18.4
+    "qrs_on": (2.0, 11.0),  # measured 1.2 +- 10.3 (above CSE 6.5; readers' lead-to-lead
+    # spread alone 7.4, see delineate_qrs); before the pacing-spike
     # rule 0.2 +- 11.9 (paced records -27.7 ms early offset a +1.5 ms bias elsewhere)
-    "qrs_off": (2.0, 15.0),  # measured 0.9 +- 14.0 (above CSE 11.6)
-    "t_off": (2.5, 30.3),  # measured -1.0 +- 28.8 (within CSE 30.6)
+    "qrs_off": (2.0, 15.0),  # measured 0.9 +- 14.0 (above CSE 11.6; readers' spread 9.6)
+    "t_off": (2.5, 29.0),  # measured -1.2 +- 27.7 (within CSE 30.6); before this session's
+    # T changes (fine-signal refinement, weak-T leads keep their end, next-P limit) -1.0 +- 28.8
 }
 # Fraction of reference marks with no detected mark, and detected marks with no reference.
-# Measured: QTDB P 4.7 % missed (96 of 2055: sel840 47, whose median beat shows no P;
+# Measured: QTDB P 4.5 % missed (93 of 2055: sel840 47, whose median beat shows no P;
 # sel46 29, a 0.03 mV P the beats do not repeat above noise; paced sel104 16), T 1 of 2350;
 # QTDB extra P 60 (sel232, sel310; before the beat-to-beat P check 188, incl. paced sel102);
-# LUDB P 1.0 %, T 0.1 % missed; LUDB extra P 16.3 % (before: 20 %; left: flutter record 35,
-# AF record 101, paced records 104 and 45, and leads the readers left unmarked), extra T
+# LUDB P 1.0 %, T 0.1 % missed; LUDB extra P 13.3 % (before the P-coupling rule 16.3 %,
+# before the beat-to-beat P check 20 %; left: paced records 104 and 45, and leads the
+# readers left unmarked; flutter record 35 and AF record 101 now get no P), extra T
 # 12 %, extra QRS 0.7 %.
 QTDB_MISSED_MAX = {"p_on": 0.05, "p_off": 0.05, "qrs_on": 0.0, "qrs_off": 0.0, "t_off": 0.002}
 LUDB_MISSED_MAX = {"p_on": 0.015, "p_off": 0.015, "qrs_on": 0.0, "qrs_off": 0.0, "t_off": 0.002}
-LUDB_EXTRA_MAX = {"p_on": 0.18, "p_off": 0.18, "qrs_on": 0.01, "qrs_off": 0.01, "t_off": 0.13}
+LUDB_EXTRA_MAX = {"p_on": 0.15, "p_off": 0.15, "qrs_on": 0.01, "qrs_off": 0.01, "t_off": 0.13}
 
 
 @pytest.fixture(scope="module")

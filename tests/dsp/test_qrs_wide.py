@@ -13,8 +13,16 @@ def test_wide_qrs_is_not_split_into_p_and_qrs() -> None:
     # Exact ground truth by construction (reviewapp.core.synth); the check is our own
     # arithmetic, not a clinical reference: every detected R must fall inside a true QRS.
     syn = generate(
-        SynthParams(hr_bpm=70, pr_ms=172, qrs_ms=148, qt_ms=462, qrs_axis_deg=-25,
-                    t_axis_deg=155, wide_qrs=True, seed=1101)
+        SynthParams(
+            hr_bpm=70,
+            pr_ms=172,
+            qrs_ms=148,
+            qt_ms=462,
+            qrs_axis_deg=-25,
+            t_axis_deg=155,
+            wide_qrs=True,
+            seed=1101,
+        )
     )
     rec = syn.record
     x = condition(rec.signal_mv, rec.fs_hz)

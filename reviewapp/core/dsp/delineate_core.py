@@ -17,32 +17,39 @@ Methods:
   QRS end is averaged with the corner where the cumulative slope levels off (trapezium rule,
   below, on that curve). The search is confined to the span where a 20 ms moving average of
   the slope stays above 5 % of its peak, which keeps a steep P or T wave out of the complex.
-  Each lead's QRS marks are the global ones (LUDB readers mark them so; see
-  ``qrs_lead_global``). A pacing spike near the onset (``pacing_spikes``: far steeper and
-  narrower than any QRS slope on the unfiltered input) moves the onset to 10 ms after the
-  spike, where the LUDB readers mark paced QRS onsets (the 40 Hz low-pass would otherwise
-  spread the spike and put the onset ~15 ms before it).
+  Where the 40 Hz low-pass has spread a sharp corner outward, the boundary is then moved to
+  the corner of the conditioned input (coarse-to-fine, ``delineate_refine``; Mallat and
+  Zhong, IEEE TPAMI 14(7):710-732, 1992). Each lead's QRS marks are the global ones (LUDB
+  readers mark them so; see ``qrs_lead_global``). A pacing spike near the onset
+  (``pacing_spikes``: far steeper and narrower than any QRS slope on the unfiltered input)
+  moves the onset to 10 ms after the spike, where the LUDB readers mark paced QRS onsets
+  (the 40 Hz low-pass would otherwise spread the spike and put the onset ~15 ms before it).
 - T wave per lead: on the 20 Hz low-passed lead referred to its PR level, the T flanks are
   the steepest rising and falling slopes (30 ms smoothed) after QRS end + 80 ms, before the
-  next beat's P (the pair of opposite slope maxima Martinez 2004 uses at the T scale); the
+  next beat's P unless that limit cuts the T itself (``lead_t_waves_before_next_p``) (the
+  pair of opposite slope maxima Martinez 2004 uses at the T scale); the
   later significant flank returns to baseline, its sign gives the polarity, the extreme
   before it is the T peak. T end by the trapezium-area method of Vazquez-Seisdedos CR, Neto
   JE, Maranon Reyes EJ, Klautau A, Limao de Oliveira RC, "New approach for T-wave end
   detection on electrocardiogram: performance in noisy conditions", BioMed Eng OnLine 10:77,
   2011: from the steepest point x_m of that flank to x_r = x_m + 80 ms, the end is the x_i
-  maximising A(x_i) = 0.5 |y(x_m) - y(x_i)| (|x_r - x_m| + |x_r - x_i|).
+  maximising A(x_i) = 0.5 |y(x_m) - y(x_i)| (|x_r - x_m| + |x_r - x_i|); the same area is
+  then maximised on the conditioned input within -40/+8 ms of that end
+  (``delineate_t.refine_t_end``: the 20 Hz copy rounds a sharp T end 10-12 ms outward).
 - P wave per lead: in the 300 ms before QRS onset - 20 ms, with the straight line joining the
   window ends removed, the largest deflection is the P peak (present if >= 0.03 mV); onset
   and end by the same trapezium rule on each side (x_r 50 ms before / 25 ms after the
-  steepest slopes within 60 ms of the peak).
+  steepest slopes within 60 ms of the peak); where the 40 Hz lead shows a true corner there,
+  the mark moves to it (two-segment fit, ``delineate_corner``; see ``delineate_p``).
 - Global P and T: multi-lead rules over the single-lead marks, after Laguna P, Jane R,
   Caminal P, "Automatic detection of wave boundaries in multilead ECG signals: validation
   with the CSE database", Comput Biomed Res 27(1):45-60, 1994 (the exact rule here is this
   module's own): only leads whose wave is at least 30 % of the largest one vote; P onset/end
   are the 40th/60th percentiles and T end the median of their marks (order statistics
   rounded up: for two leads, earliest onset and latest end). A global P needs a P in at
-  least 30 % of the usable leads. Leads with a weak wave, or whose own mark lies more than
-  40 ms (P) / 80 ms (T) from the global one, take the global mark.
+  least 30 % of the usable leads. Leads with a weak P, or whose own mark lies more than
+  40 ms (P) / 80 ms (T) from the global one, take the global mark; a lead with a weak but
+  present T (>= 0.04 mV) keeps its own T end (readers mark T end lead by lead).
 
 Code: QRS in ``delineate_qrs``, P in ``delineate_p``, T in ``delineate_t``, shared array
 operations in ``delineate_ops``, settings in ``delineate_params``.
@@ -74,8 +81,13 @@ from reviewapp.core.dsp.delineate_params import (
     BlockBounds,
     DelineationParams,
 )
-from reviewapp.core.dsp.delineate_qrs import pacing_spikes, qrs_bounds
-from reviewapp.core.dsp.delineate_t import global_t, lead_t_waves
+from reviewapp.core.dsp.delineate_qrs import (
+    pacing_spikes,
+    qrs_bounds,
+    qrs_bounds_thresholds,
+    refine_qrs_bounds,
+)
+from reviewapp.core.dsp.delineate_t import global_t, lead_t_waves_before_next_p
 
 __all__ = [
     "DURATIONS_MS",
@@ -159,9 +171,11 @@ def delineate_block(
     d = np.gradient(fast[:, :, ui], axis=1) * fs  # (B, W, U) mV/s
     sv = np.sqrt(np.sum(d * d, axis=2))  # (B, W)
     r = bounds.r.astype(np.int64)
-    g_on, g_off = qrs_bounds(sv, r, bounds.lo, bounds.hi, p)
+    g_on, g_off, thr_on, thr_off = qrs_bounds_thresholds(sv, r, bounds.lo, bounds.hi, p)
     spk = np.full(nb, -1, dtype=np.int64)
     if "raw" in block:
+        # The 40 Hz low-pass spreads a sharp QRS corner outward: locate it on the input.
+        g_on, g_off = refine_qrs_bounds(block["raw"][:, :, ui], g_on, g_off, r, thr_on, thr_off, fs)
         # A paced QRS starts at its stimulus: the low-passed spike would put the onset early.
         spk = pacing_spikes(block["raw"][:, :, ui], sv, g_on, g_off, p)
         g_on = np.where(spk >= 0, np.maximum(g_on, spk + p.spike_delay), g_on)
@@ -170,7 +184,9 @@ def delineate_block(
     rep = lambda a: np.repeat(a, nu)  # noqa: E731 - per-beat value to per-(beat, lead) rows
     if p.qrs_lead_global:
         # LUDB readers' per-lead QRS marks sit on the global boundaries (measured: per-lead
-        # slope thresholds gave +10/-11 ms bias there, the global marks about 0).
+        # slope thresholds gave +10/-11 ms bias there, the global marks about 0; at half the
+        # fractions, within 12 ms of the global marks, LUDB QRS end SD 14.0 -> 13.5 ms, but a
+        # lead's mark then moved 4-17 ms with the sampling rate: too fragile to keep).
         l_on, l_off = rep(g_on), rep(g_off)
     else:
         # Each lead's QRS lies within a few tens of ms of the global one; the bound keeps a
@@ -206,7 +222,8 @@ def delineate_block(
     l_r = masked_argmax(np.abs(xf - base[:, None]), qm)
 
     # --- P wave ------------------------------------------------------------------------------
-    lp = lead_p_waves(y, pre_on, rep(bounds.p_lo), k_iso, p)
+    # Boundaries refined on the 40 Hz copy (the 20 Hz one rounds the P corners).
+    lp = lead_p_waves(y, pre_on, rep(bounds.p_lo), k_iso, p, y_fine=xf)
 
     # Where the RR is known, T must end before the next beat's P (same PR as this beat).
     p_on_b = order_stat(np.where(lp.ok, lp.on, -1).reshape(nb, nu), p.p_on_q)
@@ -217,7 +234,14 @@ def delineate_block(
 
     # --- T wave ------------------------------------------------------------------------------
     off_c = np.where(l_off >= 0, l_off, rep(r))
-    lt = lead_t_waves(y, off_c, rep(t_hi_b), rep(r), p)
+    # The T end is refined on the conditioned input (the 20 Hz copy rounds its corner).
+    t_fine = None
+    if "raw" in block:
+        t_fine = block["raw"][:, :, ui].transpose(0, 2, 1).reshape(nb * nu, w)
+    # T ends before the next P where that limit does not cut the T itself (delineate_t).
+    lt = lead_t_waves_before_next_p(
+        y, off_c, rep(bounds.t_hi), rep(t_hi_b), rep(r), p, y_fine=t_fine
+    )
 
     # --- assemble per-lead ---------------------------------------------------------------------
     cols = np.full((nb * nu, N_MARKS), -1, dtype=np.int64)
