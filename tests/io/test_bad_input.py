@@ -172,3 +172,16 @@ def test_dicom_damaged_elements(tmp_path: Path) -> None:
     del ds.WaveformSequence
     ds.save_as(tmp_path / "nowave.dcm")
     _expect_error(tmp_path / "nowave.dcm", "no waveform")
+
+
+@pytest.mark.parametrize("gain", ["1e300", "1e-300"])
+def test_absurd_adc_gain_is_refused_not_flattened(ludb_copy: Path, gain: str) -> None:
+    # WFDB header signal line: "file format gain(baseline)/units ..." (PhysioNet header(5)
+    # format). A gain beyond float range used to become infinity when read, turning the lead
+    # into zeros without a word; it must be refused as a damaged header.
+    text = ludb_copy.read_text().splitlines()
+    fields = text[1].split()
+    fields[2] = gain + fields[2][fields[2].index("(") :] if "(" in fields[2] else gain
+    text[1] = " ".join(fields)
+    ludb_copy.write_text("\n".join(text) + "\n")
+    _expect_error(ludb_copy, "gain")

@@ -72,6 +72,9 @@ _MAX_SIG_LEN = 100_000_000_000
 
 HEADER_SUFFIX = ".hea"
 _MIN_ABS_GAIN = 1e-6
+# Above 1e12 adu per unit one step is below a femtovolt: a damaged header (and the float32
+# gain used when reading would overflow to infinity, silently flattening the signal).
+_MAX_ABS_GAIN = 1e12
 
 
 def record_base(path: Path) -> Path:
@@ -463,8 +466,11 @@ def _read_single_segment(base: Path, hea: Path, header: wfdb.Record, units: str 
         gains = [float(g) for g in header.adc_gain]
     # Below 1e-6 adu per unit one step would exceed a kilovolt: a damaged header, and float32
     # mV values could overflow.
-    if not all(math.isfinite(g) and abs(g) >= _MIN_ABS_GAIN for g in gains):
-        raise RecordError(f"ADC gains must be finite and not near zero, header says {gains}", hea)
+    if not all(math.isfinite(g) and _MIN_ABS_GAIN <= abs(g) <= _MAX_ABS_GAIN for g in gains):
+        raise RecordError(
+            f"ADC gains must be finite, not near zero and not absurdly large, header says {gains}",
+            hea,
+        )
     names = [str(n) for n in header.sig_name]
     kept, factors, unit_names, unit_notes = _units_factors(names, list(header.units), units, hea)
     notes += unit_notes
