@@ -31,7 +31,8 @@ def _blurred_corner_block(start: int, onset: bool, cut: float = 0.75) -> np.ndar
 @pytest.mark.parametrize("corner", [100, 137])
 def test_corner_step_finds_the_exact_first_and_last_sample(corner: int) -> None:
     # A ramp that leaves the baseline after sample `corner` has its first non-zero sample at
-    # corner + 1; a ramp that reaches it at `corner` has its last non-zero sample at corner - 1.
+    # corner + 1 (the onset); a ramp that reaches it at `corner` is back on the baseline at
+    # `corner` (the end, where ST is read; its last non-zero sample is corner - 1).
     # A zero-phase blur (scipy filtfilt) is symmetric, so the step of the one-sided slope keeps
     # its place. Coarse marks 5 samples outside, as the 40 Hz low-pass leaves them.
     x = _blurred_corner_block(corner, onset=True)
@@ -39,7 +40,7 @@ def test_corner_step_finds_the_exact_first_and_last_sample(corner: int) -> None:
     assert int(on[0]) == corner + 1
     x = _blurred_corner_block(corner, onset=False)
     off = refine_boundary(x, np.array([corner + 4]), np.array([10]), np.array([0.5]), FS, False)
-    assert int(off[0]) == corner - 1
+    assert int(off[0]) == corner
 
 
 def test_corner_step_leaves_a_smooth_onset_and_a_noisy_one_alone() -> None:

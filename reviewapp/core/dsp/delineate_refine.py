@@ -93,7 +93,9 @@ def refine_boundary(
         speed: ``step_speed(x, fs_hz)`` if already computed (onset and end share it).
 
     Returns:
-        (M,) boundary indices: the corner where one is found, else the candidate.
+        (M,) boundary indices: the corner where one is found, else the candidate. An onset is
+        the first sample off the baseline; an end is the first sample back on it (the support
+        edge, one past the last sample of the wave).
 
     Example: a ramp starting after sample 50, blurred by a zero-phase low-pass, with a coarse
     mark 5 samples early; the first sample off the baseline is 51.
@@ -157,4 +159,8 @@ def refine_boundary(
             (idx <= (hit + half)[:, None]) & (idx >= (hit - n_in)[:, None]) & (g >= level[:, None])
         )
         at = np.where(step.any(axis=1), w - 1 - np.argmax(step[:, ::-1], axis=1), hit)
+        # ``at`` is the last sample still on the wave; the end itself (the J point, where ST
+        # levels are read) is the next one, where the wave has rejoined the baseline: read at
+        # ``at`` a sharp S wave's last sample would count as ST depression.
+        at = np.minimum(at + 1, w - 1)
     return np.where(found, at, cand)
