@@ -202,6 +202,9 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
         item.setMinimumWidth(0)
         if self.plots:
             self.plots[0].sigResized.connect(self._place_labels)
+            # The layout has already sized the panels while they were added (each new one
+            # shrank the others): place the labels for the final size now.
+            self._place_labels()
 
     def _superimposed(
         self, s: ReadingSession, r_index: int, n: int

@@ -312,3 +312,12 @@ def test_median_mark_labels_leave_the_lead_names_readable(loaded, qtbot):
     for i, a in enumerate(labels):
         for b in labels[i + 1 :]:
             assert not a.intersects(b), (a, b)
+    # A rebuild at the same size (an edit, a theme change) places them apart too: the panels
+    # are sized while they are added, with no resize afterwards.
+    w.median.rebuild()
+    qtbot.wait(20)
+    labels, _titles = rects()
+    assert len(labels) == 5
+    for i, a in enumerate(labels):
+        for b in labels[i + 1 :]:
+            assert not a.intersects(b), (a, b)
