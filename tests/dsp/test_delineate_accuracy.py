@@ -48,8 +48,10 @@ QTDB_LIMITS = {
     # before: 2.8 +- 18.7
     "p_on": (6.0, 20.0),
     "p_off": (3.0, 22.0),  # measured -1.0 +- 21.0 (above CSE 12.7); before: 1.0 +- 20.8
-    "qrs_on": (3.0, 11.0),  # measured 1.6 +- 10.1 (above CSE 6.5; readers' own beat-to-beat
-    # scatter within a record alone is 7.7, see delineate_qrs); before the corner step 1.5 +- 10.0
+    "qrs_on": (3.0, 11.0),  # measured 2.1 +- 10.4 (above CSE 6.5; readers' own beat-to-beat
+    # scatter within a record alone is 7.7, see delineate_qrs); 1.6 +- 10.1 before the corner
+    # step acted at 250 Hz (sel306, sel310, sele0124 moved to their corner, see
+    # delineate_refine); before any corner step 1.5 +- 10.0
     "qrs_off": (4.5, 15.0),  # measured 3.1 +- 14.3 (above CSE 11.6; readers' scatter 9.1)
     "t_off": (2.5, 44.0),  # measured 0.9 +- 42.5 (above CSE 30.6: T/U fusion sel45,
     # sel36, sele0114, sel14172 +60..+165 ms; biphasic/flat T sel48, sel223, sel51 -50..-78 ms);

@@ -32,6 +32,7 @@ from reviewapp.core.dsp.delineate_ops import (
 )
 from reviewapp.core.dsp.delineate_params import DelineationParams
 from reviewapp.core.dsp.delineate_refine import refine_boundary, step_speed
+from reviewapp.core.dsp.filters import filter_plan
 
 
 def qrs_bounds(
@@ -169,6 +170,13 @@ CORNER_NOISE_MULT = 0.0
 REFINE_MARGIN_MS = 60.0
 
 
+# Coarse-to-fine needs a finer scale: the conditioning low-pass (filters.filter_plan: 187 Hz,
+# or 0.8 x Nyquist at low rates) must pass at least twice the 40 Hz of the coarse copy. At
+# 125 Hz sampling it is 50 Hz, no finer than the coarse copy: there a "corner" is the coarse
+# mark's own blur (LUDB record 1 resampled to 125 Hz: QRS onset moved 3 samples into the QRS).
+FINE_MIN_LOWPASS_HZ = 80.0
+
+
 def refine_qrs_bounds(
     raw: np.ndarray,
     on: np.ndarray,
@@ -188,10 +196,12 @@ def refine_qrs_bounds(
         fs_hz: sampling rate, Hz.
 
     Returns:
-        (onset, end) indices; unchanged where no corner is found.
+        (onset, end) indices; unchanged where no corner is found, and at rates where the
+        conditioned leads are no finer than the 40 Hz copy (see ``FINE_MIN_LOWPASS_HZ``).
     """
     ok = (on >= 0) & (off > on)
-    if not ok.any():
+    lp = filter_plan(fs_hz, None).lowpass_hz
+    if not ok.any() or (lp is not None and lp < FINE_MIN_LOWPASS_HZ):
         return on, off
     # Only the samples around the boundaries matter: work on that span of the windows.
     margin = round(REFINE_MARGIN_MS * fs_hz / 1000.0)

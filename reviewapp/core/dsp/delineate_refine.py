@@ -20,21 +20,29 @@ from __future__ import annotations
 
 import numpy as np
 
+from reviewapp.core.dsp.filters import filter_plan
+
 # The boundary moves inward by at most this much (the 40 Hz spread is 8-10 ms).
 FINE_REACH_MS = 14.0
 # The fine slope must stay above the threshold this long inward (a noise spike is not a QRS).
 FINE_RUN_MS = 4.0
 # Corner test: the mean fine slope over this span outside the boundary ...
 CORNER_OUT_MS = 16.0
-# ... after skipping this much next to it (the conditioning low-pass, -3 dB at 150 Hz, blurs a
-# corner over about 2 ms: reviewapp.core.dsp.filters) ...
-CORNER_SKIP_MS = 2.0
+# ... after skipping, next to it, this many periods of the conditioning low-pass's corner
+# (filters.filter_plan: 187 Hz design corner, or 0.8 x Nyquist below about 470 Hz sampling). Its
+# blur spans a fixed fraction of that period: 2 ms at 500 Hz, and at 250 and 125 Hz (corner 100
+# and 50 Hz) one sample, where a skip in ms rounded to none and let the blur fail every corner.
+CORNER_SKIP_PERIODS = 0.375
 # ... is below CORNER_RATIO x the mean fine slope over this span inside it.
 CORNER_IN_MS = 4.0
 # Measured on median beats (outside / inside ratio at the fine threshold crossing):
-# noise-free synthetic corners 0.01-0.065 at 500-1000 Hz; LUDB (500 Hz) 5th percentile 0.11;
-# QTDB (250 Hz, where the 2 ms skip rounds to none) higher still. The limit sits between, so
-# real onsets and ends keep their coarse mark (see delineate_qrs.CORNER_NOISE_MULT for why).
+# noise-free synthetic corners 0.01-0.07 at 125-2000 Hz; LUDB (500 Hz) 5th percentile 0.11. The
+# limit sits between, so real onsets and ends keep their coarse mark (see
+# delineate_qrs.CORNER_NOISE_MULT for why). Exceptions: QTDB sel306, sel310 and sele0124 show
+# sharper corners than the synthetic ones (ratio 0.03) and their onsets move 8-13 ms to the
+# corner, where their readers marked 8-12 ms earlier (QTDB QRS onset 1.6 +- 10.1 -> 2.1 +-
+# 10.4 ms); no signal test told them from a synthetic corner, and a rule that worked only at
+# 500 Hz would make the marks depend on the sampling rate.
 CORNER_RATIO = 0.075
 # The half-height point is sought this far either side of the fine threshold crossing.
 STEP_SPAN_MS = 4.0
@@ -118,7 +126,8 @@ def refine_boundary(
     n_out = max(2, round(CORNER_OUT_MS * ms))
     n_in = max(1, round(CORNER_IN_MS * ms))
     half = max(1, round(STEP_SPAN_MS * ms))
-    skip = round(CORNER_SKIP_MS * ms)
+    lp = filter_plan(fs_hz, None).lowpass_hz
+    skip = round(CORNER_SKIP_PERIODS * fs_hz / lp) if lp else 0
     g = _one_sided(step_speed(x, fs_hz) if speed is None else speed, onset)
     noise = noise_mult * np.median(g, axis=1) if noise_mult > 0 else np.zeros(m)
     thr = np.maximum(np.asarray(thr, dtype=np.float64), noise)
