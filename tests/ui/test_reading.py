@@ -391,13 +391,13 @@ def test_hidden_automatic_marks_are_not_drawn_until_the_reader_places_them(
     from reviewapp.ui.summary import MARK_FREE, finding_line
 
     # The demo record whose automatic QTc is flagged (so there is a finding to keep hidden).
-    for f in sample_records_dir.glob("s003_post2h.*"):
+    for f in sample_records_dir.glob("s003_post6h.*"):
         if not f.name.endswith(".json"):
             shutil.copy(f, tmp_path / f.name)
     settings.setValue("reader/id", "reader2")
     w = window
     w.act_roles[ReadMode("second", True, False)].trigger()
-    assert w.open_path(tmp_path / "s003_post2h.hea", analyse_now=True)
+    assert w.open_path(tmp_path / "s003_post6h.hea", analyse_now=True)
     w.show_median(True)
     qtbot.wait(50)
     s = w.session
