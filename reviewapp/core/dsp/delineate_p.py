@@ -67,6 +67,16 @@ def lead_p_waves(
     earliest allowed P onset; ``k_iso``: samples averaged for a window-end level;
     ``y_fine``: (rows, W) the same leads less low-passed, on which each boundary is moved to
     the corner of a two-segment line fit (``hinge_corner``) near its trapezium mark.
+
+    Example: a 0.15 mV half-sine P, non-zero on samples 100..148 at 500 Hz, QRS onset at 260:
+
+    >>> import numpy as np
+    >>> y = np.zeros((1, 400))
+    >>> y[0, 100:149] = 0.15 * np.sin(np.pi * np.arange(1, 50) / 50)
+    >>> lp = lead_p_waves(y, np.array([260]), np.array([0]), 5, DelineationParams.for_fs(500.0),
+    ...                   y_fine=y)
+    >>> int(lp.on[0]), int(lp.off[0]), bool(lp.ok[0])
+    (100, 148, True)
     """
     w = y.shape[1]
     fs = p.fs_hz
