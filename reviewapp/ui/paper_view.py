@@ -17,6 +17,7 @@ from PySide6 import QtCore, QtGui, QtWidgets
 
 from reviewapp.core.fiducials import FIDUCIALS
 from reviewapp.core.record import Record
+from reviewapp.ui.beat_tags import beat_tag_items
 from reviewapp.ui.calipers import CaliperPair
 from reviewapp.ui.display_filters import DisplayFilters, apply_display_filters
 from reviewapp.ui.geometry import LEFT_MARGIN_MM, TOP_MARGIN_MM, PageGeometry
@@ -58,6 +59,7 @@ class PaperView(pg.GraphicsView):
         self.geom: PageGeometry | None = None
         self.traces: list[LeadTrace] = []
         self.marks: list[FiducialMark] = []
+        self.beat_tags: list[pg.TextItem] = []  # words under non-dominant beats (beat_tags)
         self.calipers: list[CaliperPair] = []
         self.selected: CaliperPair | FiducialMark | None = None
         self._furniture: list[QtCore.QObject] = []
@@ -266,13 +268,19 @@ class PaperView(pg.GraphicsView):
             self._furniture.append(item)
 
     def rebuild_marks(self) -> None:
-        for m in self.marks:
+        for m in [*self.marks, *self.beat_tags]:
             self.vb.removeItem(m)
         self.marks.clear()
+        self.beat_tags.clear()
         if isinstance(self.selected, FiducialMark):
             self.selected = None
         geom, session = self.geom, self.session
-        if geom is None or session is None or not self.show_beat_marks:
+        if geom is None or session is None:
+            return
+        for tag in beat_tag_items(session.analysis.beats, geom, geom.fs_hz, self.theme):
+            self.vb.addItem(tag)
+            self.beat_tags.append(tag)
+        if not self.show_beat_marks:
             return
         beats = session.analysis.beats
         marks = session.beat_marks()
