@@ -13,6 +13,7 @@ from PySide6 import QtCore, QtGui, QtWidgets
 
 from reviewapp.core.fiducials import FIDUCIAL_LABELS, FIDUCIALS
 from reviewapp.core.measure import Finding, NormalRange, normal_range
+from reviewapp.core.measure.findings import PACED_NOT_ASSESSED
 
 if TYPE_CHECKING:
     from reviewapp.core.engine import Reading
@@ -247,6 +248,8 @@ class SummaryPanel(QtWidgets.QWidget):
             rng = normal_range(key, subject)
             hidden = hide_automatic and any(m not in corrected for m in USES_MARKS.get(key, ()))
             flag, why = ("", "") if hidden else flag_for(key, v, rng, reading.findings)
+            if reading.measurements.paced and key in PACED_NOT_ASSESSED:
+                flag, why = "", "Not judged against this limit: paced rhythm."
             text = "—" if v is None else f"{v:.{dec}f} {unit}".replace(" °", "°")
             if hidden:
                 text = "set marks"

@@ -165,3 +165,35 @@ def test_table_reasons_no_negative_zero_and_aligned_columns():
     assert "123.46" in lead_i.split()
     assert len(head) == len(lead_i)
     assert "flat, missing or invalid" in lead_v2
+
+
+def test_paced_rhythm_conduction_values_are_shown_but_not_judged():
+    # In a ventricular-paced rhythm the QRS is the paced activation and the PR after a sensed
+    # P is the programmed AV delay (common practice, no source): PR, QRS duration, QRS axis and
+    # the voltage criteria are not judged; QTc and the P wave still are.
+    from reviewapp.core.measure.findings import paced_criteria_skipped
+
+    iv = GlobalIntervals(pr_ms=264.0, qrs_ms=146.0, qrs_axis_deg=-48.0, qtc_bazett_ms=480.0)
+    subject = SubjectFacts(sex="female", age_years=75)
+    for paced in (False, True):
+        m = Measurements(iv, sokolow_lyon_mv=4.2, paced=paced)
+        kinds = {f.quantity for f in evaluate_findings(m, subject)}
+        conduction = {"pr_ms", "qrs_ms", "qrs_axis_deg", "sokolow_lyon_mv"}
+        assert (conduction <= kinds) is (not paced), kinds
+        assert "qtc_bazett_ms" in kinds
+        assert (paced_criteria_skipped(m) is not None) is paced
+
+
+def test_ludb_paced_records_get_no_conduction_flags_and_a_note(shared_data: Path):
+    # LUDB record 104: sinus rhythm, third-degree AV block, pacemaker (ludb.csv; Kalyakulina
+    # et al. 2020). Its paced QRS is wide (> 110 ms, measured 146 ms) but not flagged as a
+    # conduction delay; the reading says why.
+    from reviewapp.core.engine import analyse
+    from reviewapp.core.io import open_record
+
+    reading = analyse(open_record(shared_data / "ludb" / "104.hea")).reading()
+    ms = reading.measurements
+    assert ms.paced and ms.intervals.qrs_ms is not None and ms.intervals.qrs_ms > 110.0
+    kinds = {f.quantity for f in reading.findings}
+    assert not kinds & {"pr_ms", "qrs_ms", "qrs_axis_deg"}
+    assert any("paced rhythm" in n and "QRS duration" in n for n in ms.notes)

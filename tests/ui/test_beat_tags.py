@@ -37,6 +37,13 @@ def test_paced_beats_of_a_ludb_pacemaker_record_are_named_under_the_strip(
     assert set(tags) == {b.r for b in on_page if b.kind is not BeatKind.DOMINANT}
     tip = next(t for t in window.paper.beat_tags).toolTip()
     assert "pacing stimulus" in tip and "Q and ST criteria" in tip
+    # Its wide paced QRS is shown but not flagged in the summary, and the tooltip says why.
+    from reviewapp.ui.summary import GLOBAL_ROWS
+
+    row = [k for k, *_ in GLOBAL_ROWS].index("qrs_ms")
+    assert window.session.reading.measurements.intervals.qrs_ms > 110.0
+    assert window.summary.table.item(row, 3).text() == ""
+    assert "paced rhythm" in window.summary.table.item(row, 1).toolTip()
 
 
 def test_a_premature_beat_is_named_and_a_sinus_record_has_no_words(

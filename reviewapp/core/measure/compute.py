@@ -18,7 +18,7 @@ from reviewapp.core.measure.amplitudes import (
     sokolow_lyon_mv,
 )
 from reviewapp.core.measure.axes import LIMB_LEADS, frontal_axis
-from reviewapp.core.measure.findings import infarct_criteria_skipped
+from reviewapp.core.measure.findings import infarct_criteria_skipped, paced_criteria_skipped
 from reviewapp.core.measure.intervals import (
     INTERVAL_MARKS,
     beat_intervals,
@@ -142,9 +142,9 @@ def compute_measurements(marked: MarkedECG) -> Measurements:
         rhythm_irregular=rr.irregular,
         paced=_mostly_paced(marked),
     )
-    skipped = infarct_criteria_skipped(out)
-    if skipped is not None:
-        notes.append(skipped)
+    for skipped in (paced_criteria_skipped(out), infarct_criteria_skipped(out)):
+        if skipped is not None:
+            notes.append(skipped)
     return replace(out, notes=tuple(notes))
 
 

@@ -19,6 +19,13 @@ confound the ECG diagnosis of infarction (secondary ST-T changes, QRS morphology
 from memory). ``infarct_criteria_skipped`` gives the reason, and ``compute_measurements`` puts
 it into ``Measurements.notes``.
 
+In a paced rhythm the conduction limits are not applied either (``PACED_NOT_ASSESSED``: PR,
+QRS duration, QRS axis, Sokolow-Lyon and Cornell voltage): the QRS is the paced activation,
+wide and with an axis set by the lead's position; the "PR" of a beat paced after a sensed P is
+the pacemaker's programmed AV delay; the voltage criteria assume intrinsic conduction (common
+practice, no source). The values are still measured and shown; ``paced_criteria_skipped``
+gives the note.
+
 Every limit is compared with the value *as displayed* (1 ms, 1 bpm, 1 deg, 0.01 mV), so a
 flag never contradicts the printed number (a QTc of 389.6 ms prints as 390 ms and is flagged
 "at 390 ms", not "below 390 ms"). When several QTc formulas flag in the same direction, one
@@ -117,6 +124,18 @@ def displayed(value: float, unit: str) -> float:
     """
     digits = 2 if unit == "mV" else 0
     return float(f"{value:.{digits}f}") + 0.0
+
+
+PACED_NOT_ASSESSED: frozenset[str] = frozenset(
+    {"pr_ms", "qrs_ms", "qrs_axis_deg", "sokolow_lyon_mv", "cornell_mv"}
+)
+
+
+def paced_criteria_skipped(measurements: Measurements) -> str | None:
+    """The note for a paced rhythm's conduction values, or None when the rhythm is not paced."""
+    if not measurements.paced:
+        return None
+    return "PR, QRS duration, QRS axis and voltage criteria not applied: paced rhythm"
 
 
 def infarct_criteria_skipped(measurements: Measurements) -> str | None:
@@ -223,12 +242,17 @@ def evaluate_findings(measurements: Measurements, subject: SubjectFacts) -> tupl
     """
     out: list[Finding] = []
     iv = measurements.intervals
+    skip = PACED_NOT_ASSESSED if measurements.paced else frozenset()
     for q in GLOBAL_CHECKS:
+        if q in skip:
+            continue
         f = _check(q, getattr(iv, q), normal_range(q, subject))
         if f is not None:
             out.append(f)
     out = _merge_qtc(out)
     for q in ("sokolow_lyon_mv", "cornell_mv"):
+        if q in skip:
+            continue
         f = _check(q, getattr(measurements, q), normal_range(q, subject))
         if f is not None:
             out.append(f)
