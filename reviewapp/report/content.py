@@ -14,7 +14,7 @@ from typing import Any
 import numpy as np
 
 from reviewapp.core.fiducials import FIDUCIALS, Beat, MarkOverride, WaveMarks
-from reviewapp.core.measure.findings import PACED_NOT_ASSESSED, displayed
+from reviewapp.core.measure.findings import displayed, judged
 from reviewapp.core.record import Record
 
 
@@ -167,9 +167,8 @@ def measurement_rows(
                 flag = f"{f.direction} {f.limit:g}"
                 used.add(i)
                 break
-        # A paced rhythm's conduction values are shown but not judged (findings.PACED_...).
-        judged = not (ms.paced and quantity in PACED_NOT_ASSESSED)
-        if not flag and judged and value is not None and nr is not None:
+        # A paced rhythm's conduction values are shown but not judged.
+        if not flag and judged(ms, quantity) and value is not None and nr is not None:
             # Several QTc formulas flagging together arrive as one merged "qtc_ms" finding;
             # each formula's own row is still flagged against its own range.
             shown = displayed(float(value), unit)

@@ -13,7 +13,7 @@ from PySide6 import QtCore, QtGui, QtWidgets
 
 from reviewapp.core.fiducials import FIDUCIAL_LABELS, FIDUCIALS
 from reviewapp.core.measure import Finding, NormalRange, normal_range
-from reviewapp.core.measure.findings import PACED_NOT_ASSESSED
+from reviewapp.core.measure.findings import judged
 
 if TYPE_CHECKING:
     from reviewapp.core.engine import Reading
@@ -92,6 +92,18 @@ LEAD_USES_MARKS: dict[str, tuple[str, ...]] = {
 }
 # Values from R peaks alone: shown in a blinded read even with the automatic marks hidden.
 MARK_FREE = frozenset({"hr_bpm", "ventricular_rate_bpm", "rr_ms", "rr_sd_ms"})
+
+
+def waits_for_marks(quantity: str, corrected: set[str]) -> bool:
+    """Whether ``quantity`` depends on a mark the reader has not set (a blinded read with the
+    automatic marks hidden shows it only once they are). Fails closed: a quantity missing from
+    USES_MARKS, LEAD_USES_MARKS and MARK_FREE waits for every mark."""
+    if quantity in MARK_FREE:
+        return False
+    marks = USES_MARKS.get(quantity) or LEAD_USES_MARKS.get(quantity) or FIDUCIALS
+    return any(m not in corrected for m in marks)
+
+
 LEAD_COLUMNS: tuple[tuple[str, str], ...] = (
     ("p_mv", "P"),
     ("q_mv", "Q"),
@@ -246,9 +258,9 @@ class SummaryPanel(QtWidgets.QWidget):
         for row, (key, label, unit, dec, how) in enumerate(GLOBAL_ROWS):
             v = getattr(iv, key, None)
             rng = normal_range(key, subject)
-            hidden = hide_automatic and any(m not in corrected for m in USES_MARKS.get(key, ()))
+            hidden = hide_automatic and waits_for_marks(key, corrected)
             flag, why = ("", "") if hidden else flag_for(key, v, rng, reading.findings)
-            if reading.measurements.paced and key in PACED_NOT_ASSESSED:
+            if not judged(reading.measurements, key):
                 flag, why = "", "Not judged against this limit: paced rhythm."
             text = "—" if v is None else f"{v:.{dec}f} {unit}".replace(" °", "°")
             if hidden:
@@ -296,14 +308,10 @@ class SummaryPanel(QtWidgets.QWidget):
                 if item.font().bold() != bool(flag):
                     item.setFont(bold if flag else self.table.font())
             n_flags += bool(flag)
-        uses = {**USES_MARKS, **LEAD_USES_MARKS}
-
-        def hidden_finding(q: str) -> bool:
-            # Fails closed: a quantity this table does not know waits for every mark.
-            return q not in MARK_FREE and any(m not in corrected for m in uses.get(q, FIDUCIALS))
-
         shown = tuple(
-            f for f in reading.findings if not (hide_automatic and hidden_finding(f.quantity))
+            f
+            for f in reading.findings
+            if not (hide_automatic and waits_for_marks(f.quantity, corrected))
         )
         extra = len([f for f in shown if f.lead is not None])
         self.status.setText(
@@ -322,11 +330,8 @@ class SummaryPanel(QtWidgets.QWidget):
         )
         self._show_findings(shown)
         self._last = (reading, subject)
-        self._lead_hidden = (
-            {k for k, marks in LEAD_USES_MARKS.items() if any(m not in corrected for m in marks)}
-            if hide_automatic
-            else set()
-        )
+        hide = {k for k, _ in LEAD_COLUMNS if waits_for_marks(k, corrected)}
+        self._lead_hidden = hide if hide_automatic else set()
         if self.leads_table.isVisible():
             self._fill_leads(reading, subject)
 

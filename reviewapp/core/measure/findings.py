@@ -131,6 +131,18 @@ PACED_NOT_ASSESSED: frozenset[str] = frozenset(
 )
 
 
+def judged(measurements: Measurements, quantity: str) -> bool:
+    """Whether ``quantity`` is compared with its normal limits for this reading (not one of a
+    paced rhythm's conduction values, ``PACED_NOT_ASSESSED``).
+
+    >>> from reviewapp.core.measure.types import GlobalIntervals
+    >>> m = Measurements(GlobalIntervals(), paced=True)
+    >>> judged(m, "qrs_ms"), judged(m, "qtc_bazett_ms")
+    (False, True)
+    """
+    return not (measurements.paced and quantity in PACED_NOT_ASSESSED)
+
+
 def paced_criteria_skipped(measurements: Measurements) -> str | None:
     """The note for a paced rhythm's conduction values, or None when the rhythm is not paced."""
     if not measurements.paced:
@@ -242,16 +254,15 @@ def evaluate_findings(measurements: Measurements, subject: SubjectFacts) -> tupl
     """
     out: list[Finding] = []
     iv = measurements.intervals
-    skip = PACED_NOT_ASSESSED if measurements.paced else frozenset()
     for q in GLOBAL_CHECKS:
-        if q in skip:
+        if not judged(measurements, q):
             continue
         f = _check(q, getattr(iv, q), normal_range(q, subject))
         if f is not None:
             out.append(f)
     out = _merge_qtc(out)
     for q in ("sokolow_lyon_mv", "cornell_mv"):
-        if q in skip:
+        if not judged(measurements, q):
             continue
         f = _check(q, getattr(measurements, q), normal_range(q, subject))
         if f is not None:
