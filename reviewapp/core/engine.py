@@ -121,9 +121,9 @@ class Analysis:
                 rep.marks, rep_marks, rep.lead_marks, rep_lead, pinned, ("representative", None)
             )
             rep = replace(rep, marks=rep_marks, lead_marks=tuple(rep_lead))
-        moved = bool(beat_overrides) or (rep is not None and rep.marks != self.representative.marks)
+        # Untouched beats still hold the very automatic marks object: skip them cheaply.
         for i, (auto_m, final_m) in enumerate(zip(self.beat_marks, beat_marks, strict=True)):
-            if moved and auto_m is not final_m and auto_m != final_m:
+            if auto_m is not final_m and auto_m != final_m:
                 key = ("beat", i)
                 _follow_global(auto_m, final_m, self.beat_lead_marks[i], beat_lead[i], pinned, key)
         marked = MarkedECG(

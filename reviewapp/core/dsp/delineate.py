@@ -248,8 +248,8 @@ def _p_repeats(
     nz = len(z)
     if nz < 3:
         return True, None
+    corr = _mean_pair_corr(z)
     s = z.sum(axis=0)
-    corr = float((s @ s - nz) / (nz * (nz - 1)))  # mean pairwise correlation
     tmpl = s / max(float(np.linalg.norm(s)), 1e-12)
     if _p_coupled_to_previous_qrs(slow[:, ui], r, dom, win, tmpl):
         return False, tmpl
@@ -264,6 +264,7 @@ def _p_repeats(
 
 
 def _mean_pair_corr(z: np.ndarray) -> float:
+    """Mean pairwise correlation of unit-norm rows ``z`` (0 for fewer than two rows)."""
     n = len(z)
     s = z.sum(axis=0)
     return float((s @ s - n) / (n * (n - 1))) if n >= 2 else 0.0

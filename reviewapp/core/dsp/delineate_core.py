@@ -114,9 +114,12 @@ FAST_HZ = 40.0  # low-pass for QRS slopes
 
 
 @lru_cache(maxsize=32)
-def _lowpass_sos(fs_hz: float, cutoff_hz: float) -> np.ndarray:
+def lowpass_sos(fs_hz: float, cutoff_hz: float, dtype: str = "float32") -> np.ndarray:
+    """The delineator's low-pass (Butterworth order 2 at ``cutoff_hz``, at most 0.95 x
+    Nyquist) as second-order sections, cached per rate; ``prefilter`` uses float32 (ample
+    for boundaries), ``pacing`` float64."""
     wn = min(cutoff_hz / (fs_hz / 2.0), 0.95)
-    return signal.butter(2, wn, btype="lowpass", output="sos").astype(np.float32)
+    return signal.butter(2, wn, btype="lowpass", output="sos").astype(dtype)
 
 
 def prefilter(x_mv: np.ndarray, fs_hz: float) -> dict[str, np.ndarray]:
@@ -131,8 +134,8 @@ def prefilter(x_mv: np.ndarray, fs_hz: float) -> dict[str, np.ndarray]:
         return {"fast": x.copy(), "slow": x.copy(), "raw": x}
     pad = min(x.shape[0] - 1, int(0.1 * fs_hz))
     fs = float(fs_hz)
-    fast = signal.sosfiltfilt(_lowpass_sos(fs, FAST_HZ), x, axis=0, padlen=pad)
-    slow = signal.sosfiltfilt(_lowpass_sos(fs, SLOW_HZ), x, axis=0, padlen=pad)
+    fast = signal.sosfiltfilt(lowpass_sos(fs, FAST_HZ), x, axis=0, padlen=pad)
+    slow = signal.sosfiltfilt(lowpass_sos(fs, SLOW_HZ), x, axis=0, padlen=pad)
     return {
         "fast": fast.astype(np.float32, copy=False),
         "slow": slow.astype(np.float32, copy=False),

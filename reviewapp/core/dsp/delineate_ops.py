@@ -49,12 +49,19 @@ def run_below(f: np.ndarray, thr: np.ndarray, k: int, forward: bool) -> np.ndarr
     return (cs[:, b] - cs[:, a]) == (b - a)[None, :]
 
 
-def trapezium_boundary(y: np.ndarray, xm: np.ndarray, xr: np.ndarray) -> np.ndarray:
+def trapezium_boundary(
+    y: np.ndarray,
+    xm: np.ndarray,
+    xr: np.ndarray,
+    lo: np.ndarray | None = None,
+    hi: np.ndarray | None = None,
+) -> np.ndarray:
     """Trapezium-area boundary (Vazquez-Seisdedos et al. 2011) per row of ``y`` (M, W).
 
     ``xm``: steepest point of the wave's flank; ``xr``: a point beyond the boundary (after it
     for an end, before it for an onset). Returns the index in [xm, xr] maximising
-    A = 0.5 |y(xm) - y(xi)| (|xr - xm| + |xr - xi|); -1 where xm or xr is -1.
+    A = 0.5 |y(xm) - y(xi)| (|xr - xm| + |xr - xi|); -1 where xm or xr is -1, or where the
+    optional bounds ``lo``/``hi`` (M,) leave no index of [xm, xr] to search.
 
     >>> import numpy as np
     >>> y = np.r_[np.linspace(1, 0, 11), np.zeros(10)][None, :]  # a ramp ending at index 10
@@ -70,6 +77,10 @@ def trapezium_boundary(y: np.ndarray, xm: np.ndarray, xr: np.ndarray) -> np.ndar
     area = np.abs(ym[:, None] - y) * (np.abs(xr_c - xm_c)[:, None] + np.abs(xr_c[:, None] - idx))
     a = np.minimum(xm_c, xr_c)
     b = np.maximum(xm_c, xr_c)
+    if lo is not None:
+        a = np.maximum(a, lo)
+    if hi is not None:
+        b = np.minimum(b, hi)
     out = masked_argmax(area, range_mask(w, a, b))
     return np.where(ok, out, -1)
 

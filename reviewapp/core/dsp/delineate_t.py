@@ -76,15 +76,12 @@ def refine_t_end(
     40
     """
     _m, w = y_fine.shape
-    ok = (t_end >= 0) & (xm >= 0) & (xr >= 0)
-    xm_c = np.clip(xm, 0, w - 1)
-    xr_c = np.clip(xr, 0, w - 1)
-    idx = np.arange(w)[None, :]
-    ym = take(y_fine, xm_c)
-    area = np.abs(ym[:, None] - y_fine) * ((xr_c - xm_c)[:, None] + np.abs(xr_c[:, None] - idx))
-    a = np.maximum(xm_c, t_end - round(T_FINE_BEFORE_MS * fs_hz / 1000.0))
-    b = np.minimum(xr_c, t_end + round(T_FINE_AFTER_MS * fs_hz / 1000.0))
-    out = masked_argmax(area, range_mask(w, a, b))
+    # An end flank runs forward (x_r after x_m); a reversed pair is not refined.
+    forward = np.clip(xr, 0, w - 1) >= np.clip(xm, 0, w - 1)
+    ok = (t_end >= 0) & (xm >= 0) & (xr >= 0) & forward
+    lo = t_end - round(T_FINE_BEFORE_MS * fs_hz / 1000.0)
+    hi = t_end + round(T_FINE_AFTER_MS * fs_hz / 1000.0)
+    out = trapezium_boundary(y_fine, xm, xr, lo, hi)
     return np.where(ok & (out >= 0), out, t_end)
 
 

@@ -50,12 +50,11 @@ What it can and cannot see:
 from __future__ import annotations
 
 from dataclasses import replace
-from functools import lru_cache
 
 import numpy as np
 from scipy import signal
 
-from reviewapp.core.dsp.delineate_core import FAST_HZ
+from reviewapp.core.dsp.delineate_core import FAST_HZ, lowpass_sos
 from reviewapp.core.dsp.delineate_ops import range_mask
 from reviewapp.core.dsp.delineate_params import DelineationParams
 from reviewapp.core.dsp.delineate_qrs import pacing_spikes
@@ -68,14 +67,6 @@ SHARPNESS_HALF_MS = 4.0  # +-4 ms: where the low-pass moves a step's steepest sl
 # window has settled where it is read (its impulse response lasts about +-15 ms).
 MARGIN_MS = 40.0
 CHUNK_BEATS = 2048
-
-
-@lru_cache(maxsize=32)
-def _fast_sos(fs_hz: float) -> np.ndarray:
-    """The delineator's QRS low-pass (``delineate_core.prefilter`` "fast": Butterworth order 2
-    at ``FAST_HZ``), which ``pacing_spikes``' slope ratio is measured against."""
-    wn = min(FAST_HZ / (fs_hz / 2.0), 0.95)
-    return signal.butter(2, wn, btype="lowpass", output="sos")
 
 
 def ventricular_stimuli(
@@ -137,7 +128,10 @@ def _block_stimuli(
     nb, _, nu = raw.shape
     rows = np.ascontiguousarray(raw.transpose(0, 2, 1)).reshape(nb * nu, w)
     pad = min(w - 1, round(0.1 * fs_hz))
-    fast = signal.sosfiltfilt(_fast_sos(float(fs_hz)), rows, axis=-1, padlen=pad)
+    # The delineator's QRS low-pass, which pacing_spikes' slope ratio is measured against.
+    fast = signal.sosfiltfilt(
+        lowpass_sos(float(fs_hz), FAST_HZ, "float64"), rows, axis=-1, padlen=pad
+    )
     dl = np.gradient(fast.reshape(nb, nu, w), axis=2) * fs_hz
     sv = np.sqrt(np.sum(dl * dl, axis=1))  # (B, W) low-passed spatial velocity, mV/s
     k = pacing_spikes(raw, sv, on - start, off - start, p)
