@@ -228,19 +228,18 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
         if self._dirty or s is None or s.reading.marked.representative is None or not self.plots:
             self.invalidate()
             return
-        rep = s.reading.marked.representative
         have = set(self.lines)
         want = {f for f in FIDUCIALS if self._shown_sample(f) is not None}
         if have != want:
             self.rebuild()
             return
         for fid, lines in self.lines.items():
-            pos = (self._shown_sample(fid) - rep.r_index) / s.fs_hz * 1000.0
+            pos = self.window_ms(self._shown_sample(fid))
             corrected = s.is_corrected("representative", fid)
             pen, hover, colour = self._pens(fid, corrected)
             self._syncing = True
             try:
-                for i, line in enumerate(lines):
+                for line in lines:
                     line.setPos(pos)
                     line.setPen(pen)
                     line.setHoverPen(hover)
@@ -248,7 +247,6 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
                         line.label.setFormat(self._label_text(fid, corrected))
                         line.label.setColor(colour)
                     line.setToolTip(self._line_tip(fid, corrected))
-                    del i
             finally:
                 self._syncing = False
         self._place_j_marks()
@@ -274,15 +272,18 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
             return SHORT_LABELS[fid] + " ?"
         return ("◆ " if corrected else "") + SHORT_LABELS[fid]
 
+    def _mark_colour(self, fid: str, corrected: bool) -> QtGui.QColor:
+        return QtGui.QColor(
+            self.theme.mark_corrected if corrected else mark_colour(self.theme, fid)
+        )
+
     def _pens(self, fid: str, corrected: bool):
         if self._unplaced(fid):
             grey = QtGui.QColor(self.theme.text_muted)
             dot = QtCore.Qt.PenStyle.DotLine
             pen = pg.mkPen(grey, width=1.6, style=dot, cosmetic=True)
             return pen, pg.mkPen(grey, width=3.0, style=dot, cosmetic=True), grey
-        colour = QtGui.QColor(
-            self.theme.mark_corrected if corrected else mark_colour(self.theme, fid)
-        )
+        colour = self._mark_colour(fid, corrected)
         style = QtCore.Qt.PenStyle.DashLine if corrected else QtCore.Qt.PenStyle.SolidLine
         pen = pg.mkPen(colour, width=1.6, style=style, cosmetic=True)
         hover = pg.mkPen(colour, width=3.0, style=style, cosmetic=True)
@@ -336,8 +337,6 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
     def _add_lines(self, p: pg.ViewBox, first_row: bool) -> None:
         s = self.session
         assert s is not None
-        rep = s.reading.marked.representative
-        assert rep is not None
         for fid in FIDUCIALS:
             v = self._shown_sample(fid)
             if v is None:
@@ -346,7 +345,7 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
             pen, hover, colour = self._pens(fid, corrected)
             text = self._label_text(fid, corrected) if first_row else None
             line = pg.InfiniteLine(
-                pos=(v - rep.r_index) / s.fs_hz * 1000.0,
+                pos=self.window_ms(v),
                 angle=90,
                 movable=True,
                 pen=pen,
@@ -388,8 +387,16 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
 
     def _j_corrected(self, lead: str) -> bool:
         s = self.session
-        key = ("representative", "qrs_off", None, lead)
-        return s is not None and s.override_for(key) is not None
+        return s is not None and s.is_corrected("representative", "qrs_off", lead=lead)
+
+    def _put_on_curve(self, item: pg.TargetItem, k: int) -> None:
+        """Place a J dot at window sample ``k`` on its lead's median beat."""
+        rep = self.session.reading.marked.representative
+        self._syncing = True
+        try:
+            item.setPos(self.window_ms(k), item.sign * float(rep.waveform_mv[k, item.lead_index]))
+        finally:
+            self._syncing = False
 
     def _place_j_mark(self, item: pg.TargetItem) -> None:
         s = self.session
@@ -403,19 +410,12 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
         if rep is None or j is None or not 0 <= j < rep.waveform_mv.shape[0] or hidden:
             item.setVisible(False)
             return
-        colour = QtGui.QColor(
-            self.theme.mark_corrected if corrected else mark_colour(self.theme, "qrs_off")
-        )
+        colour = self._mark_colour("qrs_off", corrected)
         item.setPen(pg.mkPen(colour, width=1.5))
         item.setBrush(pg.mkBrush(colour if corrected else self.theme.paper))
         item.setHoverPen(pg.mkPen(colour, width=2.5))
         item.setHoverBrush(pg.mkBrush(colour))
-        t = (j - rep.r_index) / s.fs_hz * 1000.0
-        self._syncing = True
-        try:
-            item.setPos(t, item.sign * float(rep.waveform_mv[j, idx]))
-        finally:
-            self._syncing = False
+        self._put_on_curve(item, j)
         item.setVisible(True)
         item.setToolTip(self._j_tip(item.lead, corrected))
 
@@ -445,13 +445,7 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
         rep = None if s is None else s.reading.marked.representative
         if rep is not None:
             k = min(max(k, 0), rep.waveform_mv.shape[0] - 1)
-            # The dot stays on the curve: only time is the reader's to choose.
-            self._syncing = True
-            try:
-                t = (k - rep.r_index) / s.fs_hz * 1000.0
-                item.setPos(t, item.sign * float(rep.waveform_mv[k, item.lead_index]))
-            finally:
-                self._syncing = False
+            self._put_on_curve(item, k)  # only time is the reader's to choose
         self.lead_mark_dragging.emit("qrs_off", item.lead, k)
 
     def _on_j_drop(self, item: pg.TargetItem) -> None:
@@ -465,12 +459,14 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
         assert s is not None and s.reading.marked.representative is not None
         return s.reading.marked.representative.r_index + round(t_ms / 1000.0 * s.fs_hz)
 
-    def _snap(self, fid: str, sample: int) -> None:
+    def window_ms(self, sample: int) -> float:
+        """Time (ms from R) of a window sample of the median beat: ``window_sample``'s inverse."""
         s = self.session
-        assert s is not None
-        rep = s.reading.marked.representative
-        assert rep is not None
-        pos = (sample - rep.r_index) / s.fs_hz * 1000.0
+        assert s is not None and s.reading.marked.representative is not None
+        return (sample - s.reading.marked.representative.r_index) / s.fs_hz * 1000.0
+
+    def _snap(self, fid: str, sample: int) -> None:
+        pos = self.window_ms(sample)
         self._syncing = True
         try:
             for line in self.lines.get(fid, []):

@@ -246,8 +246,11 @@ class ReadingSession(QtCore.QObject):
         st = self.store
         return st is not None and st.blinded and not st.show_automatic
 
-    def is_corrected(self, scope: str, fiducial: str, beat_r: int | None = None) -> bool:
-        return (scope, fiducial, beat_r, None) in self._overrides
+    def is_corrected(
+        self, scope: str, fiducial: str, beat_r: int | None = None, lead: str | None = None
+    ) -> bool:
+        """Whether the reader set this mark (``lead``: that lead's own mark, else global)."""
+        return (scope, fiducial, beat_r, lead) in self._overrides
 
     def representative_override(self, fiducial: str, sample: int | None) -> MarkOverride:
         return MarkOverride(scope="representative", fiducial=fiducial, sample=sample)
