@@ -1,0 +1,385 @@
+"""The study report's figures, each drawn into a box (mm) of a page or an image.
+
+- ``draw_qt_rr``: one subject's QT against RR, beat to beat (dominant beats), drug-free and on
+  drug, each ECG's final values, the subject's fit QT = a * RR^b (Malik et al., Heart 2002)
+  over the RR range it rests on (dashed beyond it) and the population fit.
+- ``draw_mean_change``: mean change from baseline per timepoint with its 90 % CI, every
+  subject's change beside it, the zero line and (for QTc) 10 ms, the upper bound ICH E14
+  (2005) compares with.
+- ``draw_individual_changes``: each subject's change from baseline over time.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+from PySide6.QtCore import Qt
+from PySide6.QtGui import QColor
+
+from reviewapp.core.study.analysis import FORMULAS, StudyAnalysis, SubjectCloud
+from reviewapp.core.study.qt_rr import QtRrFit
+from reviewapp.report.layout import Rect
+from reviewapp.study_report.chart import (
+    BLUE,
+    GREY,
+    INK,
+    SERIES_COLOURS,
+    SHAPES,
+    VERMILLION,
+    Axes,
+    LegendItem,
+    MmCanvas,
+    curve,
+    draw_axes,
+    error_bar,
+    hline,
+    legend,
+    line_key,
+    marker,
+    marker_key,
+    markers,
+    nice_range,
+)
+
+WHITE = QColor(255, 255, 255)
+ICH_E14_UPPER_BOUND_MS = 10.0  # ICH E14 (2005): upper bound of the one-sided 95 % CI
+QUANTITY_LABELS = {
+    **{q: f"\u0394{name}" for q, name in FORMULAS.items()},
+    "hr_bpm": "\u0394HR",
+}
+
+
+def fit_lines(fit: QtRrFit) -> tuple[str, str]:
+    """The fit in two lines: the curve with its exponent's CI, then the fit's quality."""
+    ci = "" if fit.b_ci95 is None else f" (95 % CI {fit.b_ci95[0]:.3f} to {fit.b_ci95[1]:.3f})"
+    return (
+        f"QT = {fit.a_ms:.0f} \u00d7 RR^{fit.b:.3f}{ci}, RR in s",
+        f"n = {fit.n} drug-free ECGs, r\u00b2 = {fit.r2:.3f}, residual SD "
+        f"{fit.residual_sd_ms:.1f} ms, RR {fit.rr_min_ms:.0f} to {fit.rr_max_ms:.0f} ms",
+    )
+
+
+def _span(*arrays: np.ndarray) -> tuple[float, float]:
+    vals = np.concatenate([np.asarray(a, float).ravel() for a in arrays if np.size(a)] or [[]])
+    vals = vals[np.isfinite(vals)]
+    if not vals.size:
+        return 0.0, 1.0
+    return float(vals.min()), float(vals.max())
+
+
+def qt_rr_legend(cloud_has_fit: bool = True, population: bool = True) -> list[LegendItem]:
+    items: list[LegendItem] = [
+        ("drug-free beats", marker_key("circle_open", 1.3, BLUE)),
+        ("on-drug beats", marker_key("triangle", 1.3, VERMILLION)),
+        ("drug-free ECG (final values)", marker_key("circle", 2.2, BLUE, WHITE)),
+        ("on-drug ECG (final values)", marker_key("diamond", 2.4, VERMILLION, WHITE)),
+    ]
+    if cloud_has_fit:
+        items.append(("individual fit", line_key(BLUE, 0.55)))
+        items.append(("same, beyond its RR range", line_key(BLUE, 0.3, Qt.PenStyle.DotLine)))
+    if population:
+        items.append(("population fit", line_key(GREY, 0.35, Qt.PenStyle.DashLine)))
+    return items
+
+
+def draw_qt_rr(
+    c: MmCanvas,
+    box: Rect,
+    cloud: SubjectCloud,
+    population: QtRrFit | None,
+    *,
+    size_pt: float = 7.0,
+    legend_right: bool = False,
+) -> None:
+    """One subject's QT/RR picture in ``box``: title, fit, plot; with ``legend_right`` its
+    legend to the right of the plot (otherwise the page draws one legend for all)."""
+    c.text(
+        box.x,
+        box.y + 3.5,
+        f"{cloud.subject}: QT against RR, beat to beat",
+        size_pt + 1.5,
+        bold=True,
+        max_w=box.w,
+    )
+    if cloud.fit is not None:
+        first, second = fit_lines(cloud.fit)
+        c.text(box.x, box.y + 7.2, first, size_pt - 0.8, colour=BLUE, max_w=box.w)
+        c.text(box.x, box.y + 10.4, second, size_pt - 0.8, colour=BLUE, max_w=box.w)
+    else:
+        c.text(
+            box.x,
+            box.y + 7.2,
+            f"no individual fit: {cloud.fit_error}",
+            size_pt - 0.8,
+            colour=GREY,
+            max_w=box.w,
+        )
+    legend_w = 52.0 if legend_right else 0.0
+    plot = Rect(box.x + 14.0, box.y + 13.5, box.w - 16.0 - legend_w, box.h - 25.0)
+    rr_lo, rr_hi = _span(
+        cloud.drug_free_beats[:, 0],
+        cloud.on_drug_beats[:, 0],
+        cloud.drug_free_ecgs[:, 0],
+        cloud.on_drug_ecgs[:, 0],
+    )
+    qt_lo, qt_hi = _span(
+        cloud.drug_free_beats[:, 1],
+        cloud.on_drug_beats[:, 1],
+        cloud.drug_free_ecgs[:, 1],
+        cloud.on_drug_ecgs[:, 1],
+    )
+    pad_x, pad_y = 0.05 * (rr_hi - rr_lo) + 20.0, 0.06 * (qt_hi - qt_lo) + 6.0
+    x0, x1, xs = nice_range(rr_lo - pad_x, rr_hi + pad_x, 6)
+    y0, y1, ys = nice_range(qt_lo - pad_y, qt_hi + pad_y, 5)
+    ax = Axes(plot, x0, x1, y0, y1)
+    draw_axes(
+        c,
+        ax,
+        xlabel="RR interval before the beat (ms)",
+        ylabel="QT (ms)",
+        xstep=xs,
+        ystep=ys,
+        size_pt=size_pt - 0.5,
+    )
+    grid = np.linspace(x0, x1, 120)
+    if population is not None:
+        curve(c, ax, grid, population.qt_ms(grid), GREY, 0.35, Qt.PenStyle.DashLine)
+    if cloud.fit is not None:
+        fit = cloud.fit
+        curve(c, ax, grid, fit.qt_ms(grid), BLUE, 0.3, Qt.PenStyle.DotLine)
+        inside = np.linspace(fit.rr_min_ms, fit.rr_max_ms, 60)
+        curve(c, ax, inside, fit.qt_ms(inside), BLUE, 0.55)
+    markers(
+        c, ax, cloud.drug_free_beats[:, 0], cloud.drug_free_beats[:, 1], "circle_open", 1.1, BLUE
+    )
+    markers(
+        c, ax, cloud.on_drug_beats[:, 0], cloud.on_drug_beats[:, 1], "triangle", 1.1, VERMILLION
+    )
+    markers(
+        c,
+        ax,
+        cloud.drug_free_ecgs[:, 0],
+        cloud.drug_free_ecgs[:, 1],
+        "circle",
+        2.2,
+        BLUE,
+        edge=WHITE,
+    )
+    markers(
+        c,
+        ax,
+        cloud.on_drug_ecgs[:, 0],
+        cloud.on_drug_ecgs[:, 1],
+        "diamond",
+        2.4,
+        VERMILLION,
+        edge=WHITE,
+    )
+    if legend_right:
+        legend(
+            c,
+            plot.right + 3.0,
+            plot.y,
+            qt_rr_legend(cloud.fit is not None, population is not None),
+            size_pt - 1.0,
+            3.6,
+        )
+
+
+def draw_mean_change(
+    c: MmCanvas,
+    box: Rect,
+    analysis: StudyAnalysis,
+    quantity: str,
+    *,
+    size_pt: float = 7.0,
+) -> None:
+    """Mean change from baseline with 90 % CI per on-drug timepoint, subjects beside it."""
+    label = QUANTITY_LABELS.get(quantity, quantity)
+    unit = "bpm" if quantity == "hr_bpm" else "ms"
+    tps = list(analysis.plan.on_drug_labels)
+    c.text(
+        box.x,
+        box.y + 3.5,
+        f"{label}: change from baseline, mean and two-sided 90 % CI per timepoint",
+        size_pt + 1.5,
+        bold=True,
+        max_w=box.w,
+    )
+    plot = Rect(box.x + 14.0, box.y + 7.0, box.w - 16.0, box.h - 18.0)
+    sums = {s.timepoint: s for s in analysis.summaries if s.quantity == quantity}
+    indiv = [ch for ch in analysis.changes if ch.quantity == quantity]
+    values = [ch.change for ch in indiv] + [0.0]
+    for s in sums.values():
+        values += [v for v in (s.mean, s.ci_low, s.ci_high) if v is not None]
+    ref = ICH_E14_UPPER_BOUND_MS if quantity in FORMULAS else None
+    if ref is not None:
+        values.append(ref)
+    lo, hi = min(values), max(values)
+    pad = 0.08 * (hi - lo) + 2.0
+    y0, y1, ys = nice_range(lo - pad, hi + 2.5 * pad, 6)
+    ax = Axes(plot, -0.5, len(tps) - 0.5, y0, y1)
+    draw_axes(
+        c,
+        ax,
+        xlabel="timepoint",
+        ylabel=f"{label} ({unit})",
+        ystep=ys,
+        xcategories=tps,
+        size_pt=size_pt - 0.5,
+    )
+    hline(c, ax, 0.0, INK, 0.3)
+    items: list[LegendItem] = [
+        ("each subject (replicates averaged)", marker_key("circle_open", 1.4, GREY)),
+        ("mean change and two-sided 90 % CI (t distribution)", marker_key("square", 2.0, INK)),
+    ]
+    if ref is not None:
+        hline(c, ax, ref, VERMILLION, 0.3, Qt.PenStyle.DashLine)
+        items.append(
+            (
+                f"{ref:g} ms: threshold for the upper bound (ICH E14, 2005)",
+                line_key(VERMILLION, 0.3, Qt.PenStyle.DashLine),
+            )
+        )
+    for i, tp in enumerate(tps):
+        pts = sorted(ch.change for ch in indiv if ch.timepoint == tp)
+        for k, v in enumerate(pts):
+            jitter = (k - (len(pts) - 1) / 2) * 0.035
+            marker(c, ax.x(i - 0.22 + jitter), ax.y(v), "circle_open", 1.4, GREY)
+        s = sums.get(tp)
+        if s is None:
+            continue
+        if s.ci_low is not None and s.ci_high is not None:
+            error_bar(c, ax, i + 0.08, s.ci_low, s.ci_high, INK, 2.2)
+        marker(c, ax.x(i + 0.08), ax.y(s.mean), "square", 2.0, INK)
+        c.text(
+            ax.x(i + 0.08) + 2.0,
+            ax.y(s.mean) + 1.0,
+            f"{s.mean:+.1f} (n={s.n})",
+            size_pt - 1.5,
+            backdrop=True,
+        )
+    legend(c, plot.x + 1.5, plot.y + 1.5, items, size_pt - 1.5, 3.0)
+
+
+def draw_individual_changes(
+    c: MmCanvas,
+    box: Rect,
+    analysis: StudyAnalysis,
+    quantity: str,
+    *,
+    size_pt: float = 7.0,
+) -> None:
+    """Each subject's change from baseline at every timepoint (baseline = 0)."""
+    label = QUANTITY_LABELS.get(quantity, quantity)
+    tps = ["baseline", *analysis.plan.on_drug_labels]
+    c.text(
+        box.x,
+        box.y + 3.5,
+        f"{label}: each subject's change from baseline",
+        size_pt + 1.5,
+        bold=True,
+        max_w=box.w,
+    )
+    many = len(analysis.subjects) > len(SERIES_COLOURS)
+    plot = Rect(box.x + 14.0, box.y + 7.0, box.w - (16.0 if many else 40.0), box.h - 18.0)
+    series = {
+        s: [0.0]
+        + [
+            next(
+                (
+                    ch.change
+                    for ch in analysis.changes
+                    if ch.subject == s and ch.quantity == quantity and ch.timepoint == tp
+                ),
+                np.nan,
+            )
+            for tp in tps[1:]
+        ]
+        for s in analysis.subjects
+        if (s, quantity) in analysis.baselines
+    }
+    vals = [v for ys in series.values() for v in ys if np.isfinite(v)] or [0.0]
+    lo, hi = min(vals), max(vals)
+    pad = 0.08 * (hi - lo) + 2.0
+    y0, y1, ys = nice_range(lo - pad, hi + pad, 6)
+    ax = Axes(plot, -0.3, len(tps) - 0.7, y0, y1)
+    draw_axes(
+        c,
+        ax,
+        xlabel="timepoint",
+        ylabel=f"{label} (ms)",
+        ystep=ys,
+        xcategories=tps,
+        size_pt=size_pt - 0.5,
+    )
+    hline(c, ax, 0.0, INK, 0.3)
+    items: list[LegendItem] = []
+    xs = np.arange(len(tps), dtype=float)
+    for k, (subject, ys_) in enumerate(series.items()):
+        colour = GREY if many else SERIES_COLOURS[k % len(SERIES_COLOURS)]
+        shape = "circle" if many else SHAPES[k % len(SHAPES)]
+        curve(c, ax, xs, np.asarray(ys_), colour, 0.35)
+        markers(c, ax, xs, np.asarray(ys_), shape, 1.8, colour)
+        if not many:
+            items.append((subject, marker_key(shape, 1.8, colour)))
+    if quantity in FORMULAS:
+        for limit, style in ((30.0, Qt.PenStyle.DashLine), (60.0, Qt.PenStyle.DotLine)):
+            hline(c, ax, limit, VERMILLION, 0.3, style)
+            items.append((f"increase > {limit:g} ms", line_key(VERMILLION, 0.3, style)))
+    if not many:
+        legend(c, plot.right + 2.0, plot.y, items, size_pt - 1.0, 3.4)
+    elif items:
+        legend(c, plot.x + 1.5, plot.y + 1.5, items, size_pt - 1.0, 3.4)
+
+
+def draw_exponents(
+    c: MmCanvas, box: Rect, analysis: StudyAnalysis, *, size_pt: float = 7.0
+) -> None:
+    """Each subject's QT/RR exponent b with its 95 % CI, the population's, and the exponents
+    of Fridericia (1/3) and Bazett (1/2) for comparison."""
+    c.text(
+        box.x,
+        box.y + 3.5,
+        "QT/RR exponent b per subject (95 % CI)",
+        size_pt + 1.5,
+        bold=True,
+        max_w=box.w,
+    )
+    rows = [(s, analysis.fits.get(s)) for s in analysis.subjects]
+    rows.append(("population", analysis.population_fit))
+    names = [r[0] for r in rows][::-1]
+    fits = [r[1] for r in rows][::-1]
+    vals = [1.0 / 3.0, 0.5]
+    for f in fits:
+        if f is not None:
+            vals += [f.b, *(f.b_ci95 or ())]
+    x0, x1, xs = nice_range(min(vals) - 0.03, max(vals) + 0.03, 6)
+    plot = Rect(box.x + 22.0, box.y + 7.0, box.w - 24.0, box.h - 18.0)
+    ax = Axes(plot, x0, x1, -0.7, len(names) - 0.3)
+    draw_axes(
+        c,
+        ax,
+        xlabel="b in QT = a \u00d7 RR^b",
+        ylabel="",
+        xstep=xs,
+        ycategories=names,
+        size_pt=size_pt - 0.5,
+    )
+    for value, style, text in (
+        (1.0 / 3.0, Qt.PenStyle.DashLine, "Fridericia 1/3"),
+        (0.5, Qt.PenStyle.DotLine, "Bazett 1/2"),
+    ):
+        c.pen(GREY, 0.3, style)
+        c.line(ax.x(value), plot.y, ax.x(value), plot.bottom)
+        c.text(ax.x(value) + 0.8, plot.y + 3.0, text, size_pt - 1.5, colour=GREY, backdrop=True)
+    for i, f in enumerate(fits):
+        if f is None:
+            c.text(plot.x + 2.0, ax.y(i) + 1.0, "not fitted", size_pt - 1.0, colour=GREY)
+            continue
+        colour = INK if names[i] == "population" else BLUE
+        if f.b_ci95 is not None:
+            c.pen(colour, 0.45)
+            c.line(ax.x(f.b_ci95[0]), ax.y(i), ax.x(f.b_ci95[1]), ax.y(i))
+        marker(
+            c, ax.x(f.b), ax.y(i), "diamond" if names[i] == "population" else "circle", 2.2, colour
+        )
