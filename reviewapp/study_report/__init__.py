@@ -12,6 +12,7 @@ import re
 from collections.abc import Mapping
 from datetime import UTC, datetime
 from pathlib import Path
+from typing import Any
 
 from reviewapp.core.errors import ReviewError
 from reviewapp.core.marks.final import DEFAULT_STUDY_TOLERANCES_MS, TOLERANCE_SOURCE
@@ -72,7 +73,7 @@ def write_report_pdf(
     from reviewapp import __version__
     from reviewapp.report.export import MM_PER_INCH, PDF_DPI, _ensure_gui
     from reviewapp.study_report.chart import MmCanvas
-    from reviewapp.study_report.pages import draw_frame, study_pages
+    from reviewapp.study_report.pages import paint_page, study_pages
 
     _ensure_gui()
     when = generated_at or datetime.now(UTC)
@@ -93,12 +94,10 @@ def write_report_pdf(
     if not painter.begin(writer):
         raise ReviewError("cannot write the report PDF (folder missing or not writable?)", path)
     try:
-        for i, page in enumerate(pages, start=1):
-            if i > 1:
+        for i in range(len(pages)):
+            if i:
                 writer.newPage()
-            c = MmCanvas(painter, PDF_DPI / MM_PER_INCH)
-            draw_frame(c, page, i, len(pages), title, when)
-            page.draw(c)
+            paint_page(MmCanvas(painter, PDF_DPI / MM_PER_INCH), pages, i, title, when)
     finally:
         painter.end()
     if not path.is_file() or path.stat().st_size == 0:
@@ -106,23 +105,56 @@ def write_report_pdf(
     return path
 
 
-def write_qt_rr_png(
-    path: Path,
+def render_pages(
+    analysis: StudyAnalysis,
+    title: str,
+    tolerances_ms: Mapping[str, float] | None = None,
+    dpi: float = 100.0,
+    generated_at: datetime | None = None,
+) -> list[tuple[Any, Any]]:
+    """Each report page as (QImage, what was drawn where), with the same drawing as the PDF:
+    for previews and for checking the pages' text."""
+    from PySide6.QtGui import QColor, QImage, QPainter
+
+    from reviewapp.report.export import MM_PER_INCH, _ensure_gui
+    from reviewapp.study_report.chart import MmCanvas
+    from reviewapp.study_report.pages import PAGE_H_MM, PAGE_W_MM, paint_page, study_pages
+
+    _ensure_gui()
+    when = generated_at or datetime.now(UTC)
+    pages = study_pages(analysis, tolerance_text(tolerances_ms))
+    s = dpi / MM_PER_INCH
+    out = []
+    for i in range(len(pages)):
+        img = QImage(round(PAGE_W_MM * s), round(PAGE_H_MM * s), QImage.Format.Format_RGB32)
+        img.fill(QColor(255, 255, 255))
+        painter = QPainter(img)
+        try:
+            c = MmCanvas(painter, s)
+            paint_page(c, pages, i, title, when)
+        finally:
+            painter.end()
+        out.append((img, c.drawing))
+    return out
+
+
+def render_qt_rr(
     cloud: SubjectCloud,
     population: QtRrFit | None,
     title: str,
     generated_at: datetime | None = None,
-) -> Path:
-    """One subject's QT/RR picture with the caution and sources, as a PNG."""
+) -> tuple[Any, Any]:
+    """One subject's QT/RR picture with the caution and sources: (QImage, what was drawn)."""
     from PySide6.QtGui import QColor, QImage, QPainter
 
     from reviewapp import CLINICAL_CAUTION, __version__
-    from reviewapp.report.export import MM_PER_INCH
+    from reviewapp.report.export import MM_PER_INCH, _ensure_gui
     from reviewapp.report.layout import Rect
     from reviewapp.study_report.chart import GREY, VERMILLION, MmCanvas
     from reviewapp.study_report.figures import draw_qt_rr
     from reviewapp.study_report.pages import paragraph
 
+    _ensure_gui()
     when = generated_at or datetime.now(UTC)
     s = PNG_DPI / MM_PER_INCH
     img = QImage(round(PNG_W_MM * s), round(PNG_H_MM * s), QImage.Format.Format_RGB32)
@@ -169,6 +201,18 @@ def write_qt_rr_png(
         )
     finally:
         painter.end()
+    return img, c.drawing
+
+
+def write_qt_rr_png(
+    path: Path,
+    cloud: SubjectCloud,
+    population: QtRrFit | None,
+    title: str,
+    generated_at: datetime | None = None,
+) -> Path:
+    """One subject's QT/RR picture (``render_qt_rr``) as a PNG."""
+    img, _ = render_qt_rr(cloud, population, title, generated_at)
     if not img.save(str(path), "PNG"):
         raise ReviewError("cannot write the QT/RR picture", path)
     return path

@@ -250,6 +250,10 @@ def hline(
 LegendItem = tuple[str, Callable[[MmCanvas, float, float], None]]
 
 
+def legend_width(c: MmCanvas, items: Sequence[LegendItem], size_pt: float = 6.5) -> float:
+    return 8.0 + max((c.text_width_mm(t, size_pt) for t, _ in items), default=0.0) + 2.0
+
+
 def legend(
     c: MmCanvas,
     x: float,
@@ -260,7 +264,7 @@ def legend(
 ) -> Rect:
     """A boxed legend with its top-left corner at (x, y); each item draws its own key at the
     given centre. Returns the box."""
-    w = 8.0 + max((c.text_width_mm(t, size_pt) for t, _ in items), default=0.0) + 2.0
+    w = legend_width(c, items, size_pt)
     h = line_h * len(items) + 1.6
     box = Rect(x, y, w, h)
     c.p.setPen(QPen(GREY))

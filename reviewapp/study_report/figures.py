@@ -33,6 +33,7 @@ from reviewapp.study_report.chart import (
     error_bar,
     hline,
     legend,
+    legend_width,
     line_key,
     marker,
     marker_key,
@@ -113,7 +114,8 @@ def draw_qt_rr(
             colour=GREY,
             max_w=box.w,
         )
-    legend_w = 52.0 if legend_right else 0.0
+    items = qt_rr_legend(cloud.fit is not None, population is not None)
+    legend_w = legend_width(c, items, size_pt - 1.0) + 4.0 if legend_right else 0.0
     plot = Rect(box.x + 14.0, box.y + 13.5, box.w - 16.0 - legend_w, box.h - 25.0)
     rr_lo, rr_hi = _span(
         cloud.drug_free_beats[:, 0],
@@ -175,14 +177,30 @@ def draw_qt_rr(
         edge=WHITE,
     )
     if legend_right:
-        legend(
-            c,
-            plot.right + 3.0,
-            plot.y,
-            qt_rr_legend(cloud.fit is not None, population is not None),
-            size_pt - 1.0,
-            3.6,
-        )
+        legend(c, plot.right + 3.0, plot.y, items, size_pt - 1.0, 3.6)
+
+
+def timepoint_axes(
+    c: MmCanvas,
+    plot: Rect,
+    tps: list[str],
+    values: list[float],
+    ylabel: str,
+    size_pt: float,
+    x_margin: float,
+    top_pad: float,
+) -> Axes:
+    """Axes with one category per timepoint and a y range over ``values`` and zero (``top_pad``
+    times the padding above, room for a legend); draws them and the zero line."""
+    lo, hi = min([*values, 0.0]), max([*values, 0.0])
+    pad = 0.08 * (hi - lo) + 2.0
+    y0, y1, ys = nice_range(lo - pad, hi + top_pad * pad, 6)
+    ax = Axes(plot, -x_margin, len(tps) - 1 + x_margin, y0, y1)
+    draw_axes(
+        c, ax, xlabel="timepoint", ylabel=ylabel, ystep=ys, xcategories=tps, size_pt=size_pt - 0.5
+    )
+    hline(c, ax, 0.0, INK, 0.3)
+    return ax
 
 
 def draw_mean_change(
@@ -214,20 +232,7 @@ def draw_mean_change(
     ref = ICH_E14_UPPER_BOUND_MS if quantity in FORMULAS else None
     if ref is not None:
         values.append(ref)
-    lo, hi = min(values), max(values)
-    pad = 0.08 * (hi - lo) + 2.0
-    y0, y1, ys = nice_range(lo - pad, hi + 2.5 * pad, 6)
-    ax = Axes(plot, -0.5, len(tps) - 0.5, y0, y1)
-    draw_axes(
-        c,
-        ax,
-        xlabel="timepoint",
-        ylabel=f"{label} ({unit})",
-        ystep=ys,
-        xcategories=tps,
-        size_pt=size_pt - 0.5,
-    )
-    hline(c, ax, 0.0, INK, 0.3)
+    ax = timepoint_axes(c, plot, tps, values, f"{label} ({unit})", size_pt, 0.5, 2.5)
     items: list[LegendItem] = [
         ("each subject (replicates averaged)", marker_key("circle_open", 1.4, GREY)),
         ("mean change and two-sided 90 % CI (t distribution)", marker_key("square", 2.0, INK)),
@@ -281,7 +286,6 @@ def draw_individual_changes(
         max_w=box.w,
     )
     many = len(analysis.subjects) > len(SERIES_COLOURS)
-    plot = Rect(box.x + 14.0, box.y + 7.0, box.w - (16.0 if many else 40.0), box.h - 18.0)
     series = {
         s: [0.0]
         + [
@@ -298,36 +302,30 @@ def draw_individual_changes(
         for s in analysis.subjects
         if (s, quantity) in analysis.baselines
     }
-    vals = [v for ys in series.values() for v in ys if np.isfinite(v)] or [0.0]
-    lo, hi = min(vals), max(vals)
-    pad = 0.08 * (hi - lo) + 2.0
-    y0, y1, ys = nice_range(lo - pad, hi + pad, 6)
-    ax = Axes(plot, -0.3, len(tps) - 0.7, y0, y1)
-    draw_axes(
-        c,
-        ax,
-        xlabel="timepoint",
-        ylabel=f"{label} (ms)",
-        ystep=ys,
-        xcategories=tps,
-        size_pt=size_pt - 0.5,
-    )
-    hline(c, ax, 0.0, INK, 0.3)
     items: list[LegendItem] = []
-    xs = np.arange(len(tps), dtype=float)
-    for k, (subject, ys_) in enumerate(series.items()):
+    styles = []
+    for k, subject in enumerate(series):
         colour = GREY if many else SERIES_COLOURS[k % len(SERIES_COLOURS)]
         shape = "circle" if many else SHAPES[k % len(SHAPES)]
-        curve(c, ax, xs, np.asarray(ys_), colour, 0.35)
-        markers(c, ax, xs, np.asarray(ys_), shape, 1.8, colour)
+        styles.append((colour, shape))
         if not many:
             items.append((subject, marker_key(shape, 1.8, colour)))
+    limits = ((30.0, Qt.PenStyle.DashLine), (60.0, Qt.PenStyle.DotLine))
     if quantity in FORMULAS:
-        for limit, style in ((30.0, Qt.PenStyle.DashLine), (60.0, Qt.PenStyle.DotLine)):
-            hline(c, ax, limit, VERMILLION, 0.3, style)
-            items.append((f"increase > {limit:g} ms", line_key(VERMILLION, 0.3, style)))
+        items += [(f"increase > {v:g} ms", line_key(VERMILLION, 0.3, st)) for v, st in limits]
+    legend_w = 0.0 if many else legend_width(c, items, size_pt - 1.0) + 3.0
+    plot = Rect(box.x + 14.0, box.y + 7.0, box.w - 16.0 - legend_w, box.h - 18.0)
+    vals = [v for ys in series.values() for v in ys if np.isfinite(v)]
+    ax = timepoint_axes(c, plot, tps, vals, f"{label} (ms)", size_pt, 0.3, 1.0)
+    xs = np.arange(len(tps), dtype=float)
+    for (colour, shape), ys_ in zip(styles, series.values(), strict=True):
+        curve(c, ax, xs, np.asarray(ys_), colour, 0.35)
+        markers(c, ax, xs, np.asarray(ys_), shape, 1.8, colour)
+    if quantity in FORMULAS:
+        for v, st in limits:
+            hline(c, ax, v, VERMILLION, 0.3, st)
     if not many:
-        legend(c, plot.right + 2.0, plot.y, items, size_pt - 1.0, 3.4)
+        legend(c, plot.right + 3.0, plot.y, items, size_pt - 1.0, 3.4)
     elif items:
         legend(c, plot.x + 1.5, plot.y + 1.5, items, size_pt - 1.0, 3.4)
 

@@ -310,7 +310,7 @@ def _subject_rows(a: StudyAnalysis) -> list[list[str]]:
         deltas = [ch for ch in a.changes if ch.subject == s and ch.quantity == q]
         big = max(deltas, key=lambda ch: ch.change, default=None)
         met = [
-            cc.category.replace("QTc ", "").replace("increase ", "\u0394").replace(" ms", "")
+            cc.category.replace("QTc > ", ">").replace("increase > ", "\u0394>").replace(" ms", "")
             for cc in a.categories
             if cc.formula == q and cc.timepoint == ANY_ON_DRUG and s in cc.subjects
         ]
@@ -322,7 +322,7 @@ def _subject_rows(a: StudyAnalysis) -> list[list[str]]:
                 "-" if base is None else f"{base.mean:.1f} ms",
                 "-" if top is None else f"{top.mean:.1f} ms ({top.timepoint})",
                 "-" if big is None else f"{big.change:+.1f} ms ({big.timepoint})",
-                ", ".join(met) or "none",
+                " ".join(met) or "none",
             ]
         )
     return rows
@@ -595,6 +595,14 @@ def _attention_pages(a: StudyAnalysis) -> list[Page]:
     return pages
 
 
+def paint_page(
+    c: MmCanvas, pages: Sequence[Page], index: int, study_title: str, generated_at: datetime
+) -> None:
+    """Frame and body of ``pages[index]``."""
+    draw_frame(c, pages[index], index + 1, len(pages), study_title, generated_at)
+    pages[index].draw(c)
+
+
 def study_pages(a: StudyAnalysis, tolerance_text: str) -> list[Page]:
     """Every page of the report, in order."""
     pages = [_summary_page(a, tolerance_text)]
@@ -613,6 +621,7 @@ __all__ = [
     "TOLERANCE_SOURCE",
     "Page",
     "draw_frame",
+    "paint_page",
     "paragraph",
     "study_pages",
 ]

@@ -3,7 +3,8 @@
 One pure function, ``resolve_final(sidecar, analysis)``, used by ``reviewapp measure --final``,
 ``reviewapp study`` and the window's reading workflow alike. It reads nothing from disk: give
 it the loaded sidecar (``store.load_sidecar`` or ``MarksStore.sidecar``; ``None`` when the
-record has none) and the engine's ``Analysis`` of the same record.
+record has none; a blinded reader's ``MarksStore.view`` gives the final reading as far as that
+reader may see it) and the engine's ``Analysis`` of the same record.
 
 Precedence (the rule a core laboratory applies before it locks a study database)
 -----------------------------------------------------------------------------------

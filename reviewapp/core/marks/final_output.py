@@ -170,15 +170,18 @@ def readers_text(final_d: Mapping[str, Any]) -> str:
     )
 
 
+FLAG_COLUMNS: tuple[str, ...] = (
+    "flag_not_signed",
+    "flag_readers_differ",
+    "flag_no_adjudication",
+    "differences",
+)
 PROVENANCE_COLUMNS: tuple[str, ...] = (
     *(c for n in VALUE_NAMES for c in (f"{n}_source", f"auto_{n}")),
     "status",
     "readers",
     "basis",
-    "flag_not_signed",
-    "flag_readers_differ",
-    "flag_no_adjudication",
-    "differences",
+    *FLAG_COLUMNS,
 )
 
 

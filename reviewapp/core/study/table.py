@@ -34,7 +34,12 @@ from typing import Any
 from reviewapp import CLINICAL_CAUTION
 from reviewapp.core.errors import ReviewError
 from reviewapp.core.marks.final import VALUE_NAMES, FinalReading
-from reviewapp.core.marks.final_output import PROVENANCE_COLUMNS, final_to_dict, provenance_columns
+from reviewapp.core.marks.final_output import (
+    FLAG_COLUMNS,
+    PROVENANCE_COLUMNS,
+    final_to_dict,
+    provenance_columns,
+)
 from reviewapp.core.record import Record
 from reviewapp.core.study.timepoints import MapEntry, timepoint_from_comments
 
@@ -69,6 +74,7 @@ class StudyRow:
     notes: str = ""
     error: str = ""
     beats: tuple[BeatPoint, ...] = ()
+    cpu_seconds: float = 0.0  # CPU time the worker spent on the record (not in the table)
 
     # What the batch runner's progress callbacks read.
     @property
@@ -153,10 +159,7 @@ RECORD_COLUMNS: tuple[str, ...] = (
     "readers",
     "basis",
     *(c for n in VALUE_NAMES for c in (n, f"{n}_source", f"auto_{n}")),
-    "flag_not_signed",
-    "flag_readers_differ",
-    "flag_no_adjudication",
-    "differences",
+    *FLAG_COLUMNS,
     "n_dominant_beats",
     "engine_version",
     "subject_from",

@@ -9,7 +9,9 @@ row with its ``error`` (a wrong reading is never reported as final).
 
 from __future__ import annotations
 
+import time
 from collections.abc import Mapping, Sequence
+from dataclasses import replace
 
 from reviewapp.core.errors import ReviewError
 from reviewapp.core.study.table import StudyRow, failed_row, row_from_final
@@ -21,6 +23,12 @@ MIN_DURATION_S = 2.0
 
 def study_record(path: str, tolerances_ms: Mapping[str, float] | None = None) -> StudyRow:
     """The study-table row of the record at ``path`` (see the module docstring)."""
+    c0 = time.thread_time()
+    row = _row(path, tolerances_ms)
+    return replace(row, cpu_seconds=time.thread_time() - c0)
+
+
+def _row(path: str, tolerances_ms: Mapping[str, float] | None) -> StudyRow:
     try:
         from reviewapp.core.engine import analyse
         from reviewapp.core.io import open_record

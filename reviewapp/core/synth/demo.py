@@ -229,6 +229,13 @@ def _readme() -> str:
         "|---|---|---|---|",
     ]
     lines += [f"| {d.name} | {d.subject_id} | {d.timepoint} | {d.scenario} |" for d in DEMO_RECORDS]
+    lines += [
+        "",
+        "`study/` holds a second invented study for `reviewapp study`: triplicate ECGs of five",
+        "subjects with drug-free, baseline and post-dose timepoints and their readings; see",
+        "`study/README.md` (regenerate with `--study`, or",
+        "`python -m reviewapp.core.synth.demo_study sample_records/study`).",
+    ]
     return "\n".join(lines) + "\n"
 
 
@@ -264,9 +271,16 @@ def main(argv: Sequence[str] | None = None) -> int:
         description="Write the invented demo worklist (synthetic ECGs with exact truth).",
     )
     parser.add_argument("folder", type=Path, help="output folder, e.g. sample_records")
+    parser.add_argument(
+        "--study", action="store_true", help="also write the demo QT study into FOLDER/study"
+    )
     args = parser.parse_args(argv)
     paths = write_demo(args.folder)
     print(f"wrote {len(paths)} synthetic records to {args.folder}")
+    if args.study:
+        from reviewapp.core.synth.demo_study import main as study_main
+
+        return study_main([str(Path(args.folder) / "study")])
     return 0
 
 

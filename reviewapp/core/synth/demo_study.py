@@ -97,6 +97,8 @@ STUDY_TIMEPOINTS: tuple[StudyTimepoint, ...] = (
     StudyTimepoint("post-dose 6 h", "6h", 3, 0.0, 0.45, DOSE_AT + timedelta(hours=6)),
 )
 
+_TIMEPOINT_CODES = tuple(t.code for t in STUDY_TIMEPOINTS)
+
 
 @dataclass(frozen=True)
 class StudyECG:
@@ -126,7 +128,7 @@ class StudyECG:
             t_axis_deg=s.qrs_axis_deg - 15.0,
             t_amp_mv=s.t_amp_mv,
             baseline_wander_mv=0.05,
-            seed=s.seed + 10 * STUDY_TIMEPOINTS.index(self.timepoint) + self.replicate,
+            seed=s.seed + 10 * _TIMEPOINT_CODES.index(self.timepoint.code) + self.replicate,
         )
 
 
@@ -320,6 +322,8 @@ def write_study(
     paths = write_records(out, ecgs)
     if readings:
         write_readings(out, ecgs)
+        for bak in out.glob("*.marks.json.bak"):  # the store's backups of its own first saves
+            bak.unlink()
     with (out / "worklist.csv").open("w", newline="", encoding="utf-8") as fh:
         w = csv.writer(fh, lineterminator="\n")
         w.writerow(["record", "subject", "timepoint", "replicate", "acquired_at", "study"])
