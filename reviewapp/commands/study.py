@@ -32,9 +32,9 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
             "Build the study table of every record under FOLDER (final reading of each record "
             "with where each value came from, subject, timepoint, reading status and flags) "
             "and the analysis a drug-safety QT study reports: replicates averaged, change from "
-            "baseline of QTcF and heart rate with 90 %% CI, ICH E14 categorical outliers, "
-            "individual (QTcI) and population QT/RR corrections, and a QT/RR picture per "
-            "subject. " + CLINICAL_CAUTION.replace("%", "%%")
+            "baseline of QTcF and heart rate with 90 % CI, categorical outliers (ICH E14, "
+            "2005), individual (QTcI) and population QT/RR corrections (Malik et al., Heart "
+            "2002), and a QT/RR picture per subject. " + CLINICAL_CAUTION
         ),
     )
     p.add_argument("folder", type=Path, metavar="FOLDER", help="folder of records (recursive)")
@@ -170,6 +170,8 @@ def run(args: argparse.Namespace) -> int:
         raise ReviewError(f"--workers must be at least 1, got {args.workers}")
     tolerances = parse_tolerances(args.tolerance)
     mapping = read_timepoint_map(args.timepoints) if args.timepoints is not None else None
+    if Path(args.out).resolve() == folder.resolve():
+        raise ReviewError("give a results folder other than the study folder itself", args.out)
     out = _check_out(Path(args.out))
     out_resolved = out.resolve()
     paths = [

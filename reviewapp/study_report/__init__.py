@@ -53,9 +53,11 @@ def write_study_report(
     when = generated_at or datetime.now(UTC)
     names = [write_report_pdf(out / "report.pdf", analysis, title, tolerances_ms, when).name]
     for cloud in analysis.clouds:
-        path = out / png_name(cloud.subject)
-        write_qt_rr_png(path, cloud, analysis.population_fit, title, when)
-        names.append(path.name)
+        name = png_name(cloud.subject)
+        if name in names:  # two subject ids that differ only in characters replaced
+            name = name.removesuffix(".png") + f"_{len(names)}.png"
+        write_qt_rr_png(out / name, cloud, analysis.population_fit, title, when)
+        names.append(name)
     return names
 
 

@@ -13,7 +13,7 @@ from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 
 import numpy as np
-from PySide6.QtCore import QPointF, Qt
+from PySide6.QtCore import QPointF, QRectF, Qt
 from PySide6.QtGui import QBrush, QColor, QPen, QPolygonF
 
 from reviewapp.report.layout import Rect
@@ -165,7 +165,7 @@ def marker(
         c.p.drawEllipse(QPointF(cx, cy), r, r)
     elif base == "square":
         k = r * 0.85
-        c.p.drawRect(cx - k, cy - k, 2 * k, 2 * k)
+        c.p.drawRect(QRectF(cx - k, cy - k, 2 * k, 2 * k))
     else:
         pts = {
             "triangle": ((0, -1.15), (1.0, 0.65), (-1.0, 0.65)),

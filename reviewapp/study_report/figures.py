@@ -60,7 +60,8 @@ def fit_lines(fit: QtRrFit) -> tuple[str, str]:
 
 
 def _span(*arrays: np.ndarray) -> tuple[float, float]:
-    vals = np.concatenate([np.asarray(a, float).ravel() for a in arrays if np.size(a)] or [[]])
+    parts = [np.asarray(a, float).ravel() for a in arrays if np.size(a)]
+    vals = np.concatenate(parts) if parts else np.empty(0)
     vals = vals[np.isfinite(vals)]
     if not vals.size:
         return 0.0, 1.0
@@ -250,16 +251,16 @@ def draw_mean_change(
         for k, v in enumerate(pts):
             jitter = (k - (len(pts) - 1) / 2) * 0.035
             marker(c, ax.x(i - 0.22 + jitter), ax.y(v), "circle_open", 1.4, GREY)
-        s = sums.get(tp)
-        if s is None:
+        here = sums.get(tp)
+        if here is None:
             continue
-        if s.ci_low is not None and s.ci_high is not None:
-            error_bar(c, ax, i + 0.08, s.ci_low, s.ci_high, INK, 2.2)
-        marker(c, ax.x(i + 0.08), ax.y(s.mean), "square", 2.0, INK)
+        if here.ci_low is not None and here.ci_high is not None:
+            error_bar(c, ax, i + 0.08, here.ci_low, here.ci_high, INK, 2.2)
+        marker(c, ax.x(i + 0.08), ax.y(here.mean), "square", 2.0, INK)
         c.text(
             ax.x(i + 0.08) + 2.0,
-            ax.y(s.mean) + 1.0,
-            f"{s.mean:+.1f} (n={s.n})",
+            ax.y(here.mean) + 1.0,
+            f"{here.mean:+.1f} (n={here.n})",
             size_pt - 1.5,
             backdrop=True,
         )

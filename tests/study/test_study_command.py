@@ -159,6 +159,7 @@ def test_a_bad_record_or_sidecar_is_one_row_not_a_stop(tmp_path, record_writer, 
             lambda t: ["study", str(t / "empty"), "--out", str(t / "o"), "--workers", "0"],
             "--workers",
         ),
+        (lambda t: ["study", str(t / "empty"), "--out", str(t / "empty")], "other than"),
     ],
 )
 def test_bad_input_is_one_line_and_exit_2(tmp_path, run_cli, make, problem):

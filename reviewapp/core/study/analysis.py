@@ -153,6 +153,11 @@ def _exclusion(row: StudyRow, signed_only: bool) -> str | None:
     return None
 
 
+def _values(rows: Sequence[StudyRow], name: str) -> list[float]:
+    """One value of each row (rows are only used when they have QT and RR)."""
+    return [float("nan") if r.values.get(name) is None else float(r.values[name]) for r in rows]  # type: ignore[arg-type]
+
+
 def _fit_or_error(rr: Sequence[float], qt: Sequence[float]) -> tuple[QtRrFit | None, str]:
     try:
         return fit_qt_rr(np.asarray(rr, dtype=float), np.asarray(qt, dtype=float)), ""
@@ -212,18 +217,13 @@ def analyse_study(
     fit_errors: dict[str, str] = {}
     for s in subjects:
         mine = [r for r in used if r.subject == s and r.timepoint in free]
-        fit, err = _fit_or_error(
-            [r.values["rr_ms"] for r in mine], [r.values["qt_ms"] for r in mine]
-        )  # type: ignore[misc]
+        fit, err = _fit_or_error(_values(mine, "rr_ms"), _values(mine, "qt_ms"))
         if fit is not None:
             fits[s] = fit
         else:
             fit_errors[s] = err
     pool = [r for r in used if r.timepoint in free]
-    population_fit, population_error = _fit_or_error(
-        [r.values["rr_ms"] for r in pool],
-        [r.values["qt_ms"] for r in pool],  # type: ignore[misc]
-    )
+    population_fit, population_error = _fit_or_error(_values(pool, "rr_ms"), _values(pool, "qt_ms"))
 
     ecgs = []
     for r in used:

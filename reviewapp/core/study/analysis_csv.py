@@ -143,17 +143,17 @@ def analysis_rows(a: StudyAnalysis) -> Iterator[dict[str, Any]]:
             "unit": _unit(t.quantity),
             "source": "two-sided 90 % CI, t distribution; ICH E14, 2005",
         }
-    for c in a.categories:
+    for cc in a.categories:
         yield {
             "section": "categorical",
-            "quantity": c.formula,
-            "category": c.category,
-            "timepoint": c.timepoint,
-            "n": c.n_subjects,
-            "value": c.n_meeting,
+            "quantity": cc.formula,
+            "category": cc.category,
+            "timepoint": cc.timepoint,
+            "n": cc.n_subjects,
+            "value": cc.n_meeting,
             "unit": "subjects",
-            "subjects": " ".join(c.subjects),
-            "source": f"{ICH_E14}; {SOURCES[c.formula]}",
+            "subjects": " ".join(cc.subjects),
+            "source": f"{ICH_E14}; {SOURCES[cc.formula]}",
         }
     for record, why in a.excluded:
         yield {"section": "excluded", "subject": "", "note": f"{record}: {why}"}

@@ -55,9 +55,9 @@ class QtRrFit:
     rr_min_ms: float
     rr_max_ms: float
 
-    def qt_ms(self, rr_ms: float | np.ndarray) -> float | np.ndarray:
-        """The fitted QT at ``rr_ms``."""
-        return self.a_ms * (np.asarray(rr_ms, dtype=float) / 1000.0) ** self.b
+    def qt_ms(self, rr_ms: float | np.ndarray) -> np.ndarray:
+        """The fitted QT at ``rr_ms`` (an array of the same shape)."""
+        return np.asarray(self.a_ms * (np.asarray(rr_ms, dtype=float) / 1000.0) ** self.b)
 
     def qtc_ms(self, qt_ms: float, rr_ms: float) -> float:
         """QT corrected with this fit: QT / RR_s ** b (ms)."""
