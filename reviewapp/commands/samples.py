@@ -16,7 +16,8 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
     p.add_argument(
         "--study",
         action="store_true",
-        help="also write the invented demo QT study (75 records with readings) into FOLDER/study",
+        help="write the invented demo QT study (75 records with readings) instead of the "
+        "worklist",
     )
 
 

@@ -1,6 +1,6 @@
 """The bundled invented demo study, run through `reviewapp study`, and the report it gives.
 
-The demo is invented (sample_records/study/README.md); here it checks that the study shows
+The demo is invented (sample_study/README.md); here it checks that the study shows
 every part it was built for (design facts from ``demo_study.SUBJECTS``, not clinical
 references), and that every page and picture carries the clinical caution and its sources.
 """
@@ -16,7 +16,7 @@ from reviewapp.core.study.analysis import ANY_ON_DRUG
 from reviewapp.core.synth import demo_study
 
 REPO = Path(__file__).resolve().parents[2]
-STUDY = REPO / "sample_records" / "study"
+STUDY = REPO / "sample_study"
 
 
 @pytest.fixture(scope="module")
@@ -24,7 +24,7 @@ def demo() -> dict:
     """The shipped demo through the study's own worker function and analysis (in-process; the
     command line around them is checked in test_study_command)."""
     if not (STUDY / "README.md").is_file():
-        pytest.skip("no sample_records/study in this checkout")
+        pytest.skip("no sample_study in this checkout")
     from reviewapp.core.io import find_records
     from reviewapp.core.study.analysis import analyse_study
     from reviewapp.core.study.task import study_records
@@ -48,7 +48,7 @@ def test_demo_design_has_every_part():
 
 def test_a_shipped_record_regenerates_identically(tmp_path):
     if not STUDY.is_dir():
-        pytest.skip("no sample_records/study in this checkout")
+        pytest.skip("no sample_study in this checkout")
     ecg = next(e for e in demo_study.study_ecgs() if e.name == "s103_3h_1")
     demo_study.write_records(tmp_path, [ecg])
     for suffix in (".hea", ".dat"):

@@ -22,7 +22,10 @@ adopts the second reader's QT, on another they differ and nobody has adjudicated
 
 Regenerate (the records are identical each time; the sidecars' event ids are random)::
 
-    python -m reviewapp.core.synth.demo_study sample_records/study
+    python -m reviewapp.core.synth.demo_study sample_study
+
+It lives in its own folder, not under ``sample_records/``: the workbench lists a folder
+recursively, and the demo worklist is meant to open on its eleven records.
 """
 
 from __future__ import annotations
@@ -269,15 +272,17 @@ def _readme(ecgs: Sequence[StudyECG], subjects: Sequence[StudySubject]) -> str:
     lines = [
         "# Demo QT study (invented)",
         "",
-        f"Synthetic ECGs of a {STUDY_TITLE}, study code {STUDY}. The study, the compound,",
-        "the subjects, the readers and every fact are made up; no record comes from a person.",
+        "Synthetic ECGs of a",
+        f"{STUDY_TITLE},",
+        f"study code {STUDY}. The study, the compound, the subjects, the readers and every fact",
+        "are made up; no record comes from a person.",
         "Use them to try `reviewapp study`, never as a reference for clinical values.",
         "",
-        "    reviewapp study sample_records/study --out study-results",
+        "    reviewapp study sample_study --out study-results",
         "",
         "Regenerate (records identical each time; the marks files' event ids are random):",
         "",
-        "    python -m reviewapp.core.synth.demo_study sample_records/study",
+        "    python -m reviewapp.core.synth.demo_study sample_study",
         "",
         "Design per subject: day -1 (drug-free) single ECGs supine, standing and after a short",
         "walk (heart-rate spread for the individual QT/RR fit), then on the dosing day a",
@@ -347,7 +352,7 @@ def main(argv: Sequence[str] | None = None) -> int:
         prog="python -m reviewapp.core.synth.demo_study",
         description="Write the invented demo QT study (synthetic ECGs with readings).",
     )
-    parser.add_argument("folder", type=Path, help="output folder, e.g. sample_records/study")
+    parser.add_argument("folder", type=Path, help="output folder, e.g. sample_study")
     parser.add_argument(
         "--more-subjects",
         type=int,
