@@ -107,6 +107,21 @@ def write_report_pdf(
     return path
 
 
+def blank_image(width_mm: float, height_mm: float, dpi: float) -> Any:
+    """A white QImage of that physical size (its dots per metre recorded)."""
+    from PySide6.QtGui import QColor, QImage
+
+    from reviewapp.report.export import MM_PER_INCH
+
+    s = dpi / MM_PER_INCH
+    img = QImage(round(width_mm * s), round(height_mm * s), QImage.Format.Format_RGB32)
+    dpm = round(dpi / 0.0254)
+    img.setDotsPerMeterX(dpm)
+    img.setDotsPerMeterY(dpm)
+    img.fill(QColor(255, 255, 255))
+    return img
+
+
 def render_pages(
     analysis: StudyAnalysis,
     title: str,
@@ -116,7 +131,7 @@ def render_pages(
 ) -> list[tuple[Any, Any]]:
     """Each report page as (QImage, what was drawn where), with the same drawing as the PDF:
     for previews and for checking the pages' text."""
-    from PySide6.QtGui import QColor, QImage, QPainter
+    from PySide6.QtGui import QPainter
 
     from reviewapp.report.export import MM_PER_INCH, _ensure_gui
     from reviewapp.study_report.chart import MmCanvas
@@ -128,8 +143,7 @@ def render_pages(
     s = dpi / MM_PER_INCH
     out = []
     for i in range(len(pages)):
-        img = QImage(round(PAGE_W_MM * s), round(PAGE_H_MM * s), QImage.Format.Format_RGB32)
-        img.fill(QColor(255, 255, 255))
+        img = blank_image(PAGE_W_MM, PAGE_H_MM, dpi)
         painter = QPainter(img)
         try:
             c = MmCanvas(painter, s)
@@ -147,7 +161,7 @@ def render_qt_rr(
     generated_at: datetime | None = None,
 ) -> tuple[Any, Any]:
     """One subject's QT/RR picture with the caution and sources: (QImage, what was drawn)."""
-    from PySide6.QtGui import QColor, QImage, QPainter
+    from PySide6.QtGui import QPainter
 
     from reviewapp import CLINICAL_CAUTION, __version__
     from reviewapp.report.export import MM_PER_INCH, _ensure_gui
@@ -159,11 +173,7 @@ def render_qt_rr(
     _ensure_gui()
     when = generated_at or datetime.now(UTC)
     s = PNG_DPI / MM_PER_INCH
-    img = QImage(round(PNG_W_MM * s), round(PNG_H_MM * s), QImage.Format.Format_RGB32)
-    dpm = round(PNG_DPI / 0.0254)
-    img.setDotsPerMeterX(dpm)
-    img.setDotsPerMeterY(dpm)
-    img.fill(QColor(255, 255, 255))
+    img = blank_image(PNG_W_MM, PNG_H_MM, PNG_DPI)
     painter = QPainter(img)
     try:
         c = MmCanvas(painter, s)

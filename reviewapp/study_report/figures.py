@@ -68,12 +68,20 @@ def _span(*arrays: np.ndarray) -> tuple[float, float]:
     return float(vals.min()), float(vals.max())
 
 
+# What the QT/RR picture draws as markers: (SubjectCloud field, legend, shape, size mm,
+# colour, edge). Beats small and light, each ECG's final values large, on top.
+CLOUD_STYLES: tuple[tuple[str, str, str, float, QColor, QColor | None], ...] = (
+    ("drug_free_beats", "drug-free beats", "circle_open", 1.1, BLUE, None),
+    ("on_drug_beats", "on-drug beats", "triangle", 1.1, VERMILLION, None),
+    ("drug_free_ecgs", "drug-free ECG (final values)", "circle", 2.2, BLUE, WHITE),
+    ("on_drug_ecgs", "on-drug ECG (final values)", "diamond", 2.4, VERMILLION, WHITE),
+)
+
+
 def qt_rr_legend(cloud_has_fit: bool = True, population: bool = True) -> list[LegendItem]:
     items: list[LegendItem] = [
-        ("drug-free beats", marker_key("circle_open", 1.3, BLUE)),
-        ("on-drug beats", marker_key("triangle", 1.3, VERMILLION)),
-        ("drug-free ECG (final values)", marker_key("circle", 2.2, BLUE, WHITE)),
-        ("on-drug ECG (final values)", marker_key("diamond", 2.4, VERMILLION, WHITE)),
+        (label, marker_key(shape, max(size, 1.3), colour, edge))
+        for _attr, label, shape, size, colour, edge in CLOUD_STYLES
     ]
     if cloud_has_fit:
         items.append(("individual fit", line_key(BLUE, 0.55)))
@@ -151,32 +159,9 @@ def draw_qt_rr(
         curve(c, ax, grid, fit.qt_ms(grid), BLUE, 0.3, Qt.PenStyle.DotLine)
         inside = np.linspace(fit.rr_min_ms, fit.rr_max_ms, 60)
         curve(c, ax, inside, fit.qt_ms(inside), BLUE, 0.55)
-    markers(
-        c, ax, cloud.drug_free_beats[:, 0], cloud.drug_free_beats[:, 1], "circle_open", 1.1, BLUE
-    )
-    markers(
-        c, ax, cloud.on_drug_beats[:, 0], cloud.on_drug_beats[:, 1], "triangle", 1.1, VERMILLION
-    )
-    markers(
-        c,
-        ax,
-        cloud.drug_free_ecgs[:, 0],
-        cloud.drug_free_ecgs[:, 1],
-        "circle",
-        2.2,
-        BLUE,
-        edge=WHITE,
-    )
-    markers(
-        c,
-        ax,
-        cloud.on_drug_ecgs[:, 0],
-        cloud.on_drug_ecgs[:, 1],
-        "diamond",
-        2.4,
-        VERMILLION,
-        edge=WHITE,
-    )
+    for attr, _label, shape, size, colour, edge in CLOUD_STYLES:
+        points = getattr(cloud, attr)
+        markers(c, ax, points[:, 0], points[:, 1], shape, size, colour, edge=edge)
     if legend_right:
         legend(c, plot.right + 3.0, plot.y, items, size_pt - 1.0, 3.6)
 

@@ -360,7 +360,9 @@ def resolve_final(
     """The final reading of the record ``analysis`` was made from (see the module docstring).
 
     Args:
-        sidecar: the record's loaded sidecar (every reading, not a blinded view), or None.
+        sidecar: the record's loaded sidecar, or None. With every reading (``store.sidecar``)
+            this is the study's final reading; a blinded reader's ``store.view`` gives it as
+            far as that reader may see.
         analysis: ``engine.analyse(record)`` of the same record.
         tolerances_ms: intervals compared between signed readers and their tolerances in ms
             (default ``DEFAULT_STUDY_TOLERANCES_MS``).
