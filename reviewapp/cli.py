@@ -28,7 +28,7 @@ from pathlib import Path
 from reviewapp import CLINICAL_CAUTION, __version__
 from reviewapp.core.errors import ReviewError
 
-SUBCOMMANDS = ("open", "info", "measure", "batch", "export", "samples")
+SUBCOMMANDS = ("open", "info", "measure", "batch", "study", "export", "samples")
 
 EXIT_OK = 0
 EXIT_SOME_FAILED = 1

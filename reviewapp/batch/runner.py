@@ -21,6 +21,8 @@ from pathlib import Path
 from reviewapp.batch.task import DONE, FAILED, SKIPPED, RecordOutcome, process_records
 
 ProgressFn = Callable[[RecordOutcome], None]
+# A chunk task: (paths, force) -> one outcome per path, in order (default: the batch step).
+ChunkTask = Callable[[list[str], bool], list]
 
 
 @dataclass(frozen=True)
@@ -71,6 +73,7 @@ def run_batch(
     force: bool = False,
     progress: ProgressFn | None = None,
     processes: bool = True,
+    task: ChunkTask = process_records,
 ) -> BatchResult:
     """Process ``paths``; never raises for a bad record (its outcome carries the error).
 
@@ -78,14 +81,18 @@ def run_batch(
         no cluster. Ignored with ``scheduler``.
     scheduler: address of an existing Dask scheduler (``tcp://host:8786``).
     processes: local cluster of processes (default) or of threads.
+    task: what each worker runs on a chunk of paths (picklable; e.g. the study table's
+        ``study_records``); its outcomes need ``path``, ``record`` and ``outcome``.
     """
     t0 = time.perf_counter()
     items = [str(p) for p in paths]
     n_workers = default_workers() if workers is None else max(1, int(workers))
     if scheduler is None and n_workers == 1:
-        outcomes, startup = _run_in_process(items, force, progress)
+        outcomes, startup = _run_in_process(items, force, progress, task)
     else:
-        outcomes, startup = _run_on_dask(items, force, progress, n_workers, scheduler, processes)
+        outcomes, startup = _run_on_dask(
+            items, force, progress, n_workers, scheduler, processes, task
+        )
     return BatchResult(tuple(outcomes), time.perf_counter() - t0, n_workers, startup)
 
 
@@ -100,14 +107,14 @@ def chunks(items: Sequence[str], n_workers: int) -> list[list[str]]:
 
 
 def _run_in_process(
-    items: list[str], force: bool, progress: ProgressFn | None
+    items: list[str], force: bool, progress: ProgressFn | None, task: ChunkTask
 ) -> tuple[list[RecordOutcome], float]:
     t0 = time.perf_counter()
     _warm_up(_suffixes(items))
     startup = time.perf_counter() - t0
     outcomes: list[RecordOutcome] = []
     for chunk in chunks(items, 1):
-        for out in process_records(chunk, force):
+        for out in task(chunk, force):
             outcomes.append(out)
             if progress is not None:
                 progress(out)
@@ -121,6 +128,7 @@ def _run_on_dask(
     n_workers: int,
     scheduler: str | None,
     processes: bool,
+    task: ChunkTask,
 ) -> tuple[list[RecordOutcome], float]:
     import dask
     from dask.distributed import Client, LocalCluster, as_completed
@@ -171,7 +179,7 @@ def _run_on_dask(
         futures = {}
         offset = 0
         for group in chunks(items, n):
-            futures[client.submit(process_records, group, force, pure=False)] = (offset, group)
+            futures[client.submit(task, group, force, pure=False)] = (offset, group)
             offset += len(group)
         results: list[RecordOutcome | None] = [None] * len(items)
         for fut in as_completed(futures):

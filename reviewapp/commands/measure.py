@@ -53,13 +53,29 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
         help="include each lead's marks per beat (json) / per-lead amplitudes (table); "
         "not available with csv",
     )
+    p.add_argument(
+        "--final",
+        action="store_true",
+        help="report the final reading from the record's marks file (adjudicated, else the "
+        "signed reading, first reader before second, else a reading in progress, else "
+        "automatic) with where each value came from; json adds a 'final' object, csv "
+        "<name>_source and auto_<name> columns",
+    )
     add_reading_options(p)
 
 
 def measure_path(
-    path: Path, *, fs_hz: float | None = None, per_lead: bool = False, units: str | None = None
+    path: Path,
+    *,
+    fs_hz: float | None = None,
+    per_lead: bool = False,
+    units: str | None = None,
+    final: bool = False,
 ) -> dict:
-    """Open, analyse and measure one record; the JSON-ready dict (raises ReviewError)."""
+    """Open, analyse and measure one record; the JSON-ready dict (raises ReviewError).
+
+    ``final``: measure under the final reading of the record's sidecar and add its ``final``
+    object (``core/marks/final_output.py``)."""
     from reviewapp.core.engine import analyse
     from reviewapp.core.io import open_record
     from reviewapp.core.measure.output import reading_to_dict
@@ -74,10 +90,19 @@ def measure_path(
             path,
         )
     analysis = analyse(record)
-    return reading_to_dict(analysis, analysis.reading(), path=str(path), per_lead=per_lead)
+    if not final:
+        return reading_to_dict(analysis, analysis.reading(), path=str(path), per_lead=per_lead)
+    from reviewapp.core.marks.final import resolve_final, sidecar_for
+    from reviewapp.core.marks.final_output import final_to_dict
+
+    resolved = resolve_final(sidecar_for(record), analysis)
+    d = reading_to_dict(analysis, resolved.reading, path=str(path), per_lead=per_lead)
+    d["final"] = final_to_dict(resolved)
+    return d
 
 
 def run(args: argparse.Namespace) -> int:
+    from reviewapp.core.marks.final_output import final_csv_text, final_table_text
     from reviewapp.core.measure.output import csv_text, error_dict, table_text
 
     results: list[dict[str, Any]] = []
@@ -89,7 +114,9 @@ def run(args: argparse.Namespace) -> int:
         )
     for path in args.paths:
         try:
-            d = measure_path(path, fs_hz=args.fs, per_lead=args.per_lead, units=args.units)
+            d = measure_path(
+                path, fs_hz=args.fs, per_lead=args.per_lead, units=args.units, final=args.final
+            )
         except ReviewError as err:
             msg = str(err)
         except MemoryError:
@@ -101,7 +128,8 @@ def run(args: argparse.Namespace) -> int:
             if args.format == "json":
                 print(json.dumps(d, allow_nan=False), flush=True)
             elif args.format == "table":
-                print(table_text(d, per_lead=args.per_lead), flush=True)
+                head = final_table_text(d["final"]) + "\n" if "final" in d else ""
+                print(head + table_text(d, per_lead=args.per_lead), flush=True)
             continue
         failed += 1
         msg = " ".join(msg.split())  # one line, whatever the underlying error said
@@ -111,7 +139,7 @@ def run(args: argparse.Namespace) -> int:
         if args.format == "json":
             print(json.dumps(e), flush=True)
     if args.format == "csv":
-        sys.stdout.write(csv_text(results))
+        sys.stdout.write(final_csv_text(results) if args.final else csv_text(results))
     if not failed:
         return 0
     return 2 if failed == len(args.paths) else 1

@@ -13,6 +13,12 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
         description="Regenerate the bundled, invented demo worklist. Same files every time.",
     )
     p.add_argument("outdir", metavar="FOLDER", help="folder to write the records into")
+    p.add_argument(
+        "--study",
+        action="store_true",
+        help="write the invented demo QT study (75 records with readings) instead of the "
+        "worklist",
+    )
 
 
 def run(args: argparse.Namespace) -> int:
@@ -22,4 +28,4 @@ def run(args: argparse.Namespace) -> int:
     out = Path(args.outdir)
     if out.exists() and not out.is_dir():
         raise ReviewError("exists and is not a folder; give a folder for the records", out)
-    return int(demo_main([args.outdir]) or 0)
+    return int(demo_main([args.outdir, *(["--study"] if args.study else [])]) or 0)

@@ -229,6 +229,12 @@ def _readme() -> str:
         "|---|---|---|---|",
     ]
     lines += [f"| {d.name} | {d.subject_id} | {d.timepoint} | {d.scenario} |" for d in DEMO_RECORDS]
+    lines += [
+        "",
+        "`../sample_study/` holds a second invented study, for `reviewapp study`: triplicate",
+        "ECGs of five subjects at drug-free, baseline and post-dose timepoints, with readings;",
+        "see its README (regenerate: `python -m reviewapp.core.synth.demo sample_study --study`).",
+    ]
     return "\n".join(lines) + "\n"
 
 
@@ -264,7 +270,14 @@ def main(argv: Sequence[str] | None = None) -> int:
         description="Write the invented demo worklist (synthetic ECGs with exact truth).",
     )
     parser.add_argument("folder", type=Path, help="output folder, e.g. sample_records")
+    parser.add_argument(
+        "--study", action="store_true", help="write the demo QT study instead of the worklist"
+    )
     args = parser.parse_args(argv)
+    if args.study:
+        from reviewapp.core.synth.demo_study import main as study_main
+
+        return study_main([str(args.folder)])
     paths = write_demo(args.folder)
     print(f"wrote {len(paths)} synthetic records to {args.folder}")
     return 0
