@@ -24,6 +24,7 @@ from PySide6.QtCore import QLineF, QPointF, QRectF, Qt
 from PySide6.QtGui import QBrush, QColor, QFont, QFontMetricsF, QPainter, QPen, QPolygonF
 
 from reviewapp import CLINICAL_CAUTION
+from reviewapp.core.measure import limit_text
 from reviewapp.report.content import MarkPair, ReportContent, study_facts
 from reviewapp.report.layout import (
     CAL_PULSE_S,
@@ -435,8 +436,8 @@ def _mark_glyph(
             _glyph(c, xf, lane, onset)
 
 
-def _fmt(v: float | None) -> str:
-    return "--" if v is None else f"{v:.0f}"
+def _fmt(v: float | None, unit: str) -> str:
+    return "--" if v is None else limit_text.number_text(v, unit)
 
 
 def _facts(content: ReportContent) -> list[tuple[str, bool]]:
@@ -554,14 +555,13 @@ def _draw_table(c: _Canvas, box: Rect, content: ReportContent) -> None:
             flagged = bool(row.flag)
             colour = FLAG if flagged else TEXT
             c.text(gx + cols[0], y, PAGE_LABELS.get(q, row.label), 7.5, max_w=cols[1] - 9.0)
-            c.text(gx + cols[1], y, _fmt(row.value), 8.0, bold=True, colour=colour, align="right")
-            c.text(gx + cols[2], y, row.unit, 6.5)
+            value = _fmt(row.value, row.unit)
+            c.text(gx + cols[1], y, value, 8.0, bold=True, colour=colour, align="right")
+            c.text(gx + cols[2], y, limit_text.unit_symbol(row.unit), 6.5)
             c.text(gx + cols[3], y, row.range_text, 6.5, colour=MARK_AUTO, max_w=cols[4] - cols[3])
             if flagged:
-                flag = row.flag.replace("above", ">").replace("below", "<")
-                c.text(
-                    gx + cols[4], y, flag, 7.0, bold=True, colour=FLAG, max_w=group_w - 3 - cols[4]
-                )
+                flag_w = group_w - 3 - cols[4]
+                c.text(gx + cols[4], y, row.flag, 7.0, bold=True, colour=FLAG, max_w=flag_w)
     # Other flags (per-lead values, voltages) under the axes in the third group.
     if content.other_findings:
         gx = x0 + 2 * group_w
