@@ -161,14 +161,14 @@ def measurement_rows(
         flag = ""
         for i, f in enumerate(reading.findings):
             if f.quantity == quantity and f.lead is None:
-                flag = limit_text.flag_text(nr, f.direction)
+                flag = limit_text.flag_text(f.direction)
                 used.add(i)
                 break
         # A paced rhythm's conduction values are shown but not judged.
         if not flag and judged(ms, quantity) and value is not None and nr is not None:
             # Several QTc formulas flagging together arrive as one merged "qtc_ms" finding;
             # each formula's own row is still flagged against its own range.
-            flag = limit_text.flag_text(nr, limit_text.direction_of(nr, float(value)))
+            flag = limit_text.flag_text(limit_text.direction_of(nr, float(value)))
             if flag and quantity.startswith("qtc_"):
                 used.update(i for i, f in enumerate(reading.findings) if f.quantity == "qtc_ms")
         rows.append(

@@ -136,13 +136,13 @@ def flag_for(
     for f in findings:
         if f.quantity == quantity and f.lead == lead:
             glyph = ABOVE if f.direction == "above" else BELOW
-            return f"{glyph} {limit_text.flag_text(rng, f.direction)}".rstrip(), f.text
+            return f"{glyph} {limit_text.flag_text(f.direction)}", f.text
     direction = limit_text.direction_of(rng, value)
     if rng is not None and direction:
         glyph = ABOVE if direction == "above" else BELOW
         label = LABELS.get(quantity, quantity) + (f" in {lead}" if lead else "")
         why = limit_text.finding_text(label, limit_text.shown(value, rng.unit), rng, direction)
-        return f"{glyph} {limit_text.flag_text(rng, direction)}", why
+        return f"{glyph} {limit_text.flag_text(direction)}", why
     return "", ""
 
 

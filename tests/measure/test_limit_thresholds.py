@@ -20,6 +20,7 @@ from reviewapp.core.measure import (
     evaluate_findings,
     normal_range,
 )
+from reviewapp.core.measure.limit_text import range_text
 from reviewapp.core.measure.limits import COMMON_PRACTICE, FROM_MEMORY, LIMITS, _applies
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
@@ -94,6 +95,7 @@ def test_normal_range_is_the_published_one(e: Expected) -> None:
             assert nr.low_is_normal is e.low_is_normal
         if e.high is not None:
             assert nr.high_is_normal is e.high_is_normal
+        assert range_text(nr) == e.range_text
 
 
 def _rows_for(e: Expected) -> list[int]:

@@ -10,9 +10,10 @@ practice, no source). A value is judged against its limit *as printed* (``shown`
 never contradicts the number beside it.
 
 A range says which side of each bound is normal: "120 to 200 ms" (both bounds normal),
-"< 120 ms" (120 is abnormal), "<= 110 ms" (110 is normal), "> 390 and < 450 ms". A flag states
-the abnormal condition that was met, the mirror of the range: "high (>= 120 ms)" beside
-"< 120 ms". Operators are ASCII so every console and CSV reader shows them.
+"< 120 ms" (120 is abnormal), "<= 110 ms" (110 is normal), "> 390 and < 450 ms". A flag is
+"high" or "low", always beside its range; a finding's sentence gives value, side and range:
+"P duration 120 ms, above normal (normal < 120 ms)". Operators are ASCII so every console and
+CSV reader shows them.
 """
 
 from __future__ import annotations
@@ -123,33 +124,14 @@ def direction_of(nr: NormalRange | None, value: float | None) -> str:
     return ""
 
 
-def breach_text(nr: NormalRange, direction: str) -> str:
-    """The abnormal condition met, the mirror of ``range_text``: ">= 120 ms", "< 50 bpm".
+def flag_text(direction: str) -> str:
+    """The flag of a table cell: "high" or "low"; "" when normal. Which side of the bound is
+    normal is said once, by the range printed beside it (``range_text``).
 
-    >>> breach_text(NormalRange("p_ms", None, 120.0, "ms", "", high_is_normal=False), "above")
-    '>= 120 ms'
-    >>> breach_text(NormalRange("qrs_ms", None, 110.0, "ms", ""), "above")
-    '> 110 ms'
+    >>> flag_text("below"), flag_text("")
+    ('low', '')
     """
-    if direction == "above":
-        assert nr.high is not None
-        op = ">" if nr.high_is_normal else ">="
-        return with_unit(f"{op} {number_text(nr.high, nr.unit)}", nr.unit)
-    assert nr.low is not None
-    op = "<" if nr.low_is_normal else "<="
-    return with_unit(f"{op} {number_text(nr.low, nr.unit)}", nr.unit)
-
-
-def flag_text(nr: NormalRange | None, direction: str) -> str:
-    """Short flag for a table cell: "high (>= 120 ms)", "low (< 50 bpm)"; "" when normal.
-
-    >>> flag_text(NormalRange("hr_bpm", 50.0, 100.0, "bpm", ""), "below")
-    'low (< 50 bpm)'
-    """
-    if nr is None or direction not in ("above", "below"):
-        return ""
-    word = "high" if direction == "above" else "low"
-    return f"{word} ({breach_text(nr, direction)})"
+    return {"above": "high", "below": "low"}.get(direction, "")
 
 
 def normal_clause(nr: NormalRange) -> str:

@@ -474,7 +474,7 @@ def table_text(d: Mapping[str, Any], *, per_lead: bool = False) -> str:
         if not direction and v is not None and nr is not None and q.startswith("qtc_"):
             # Merged QTc finding: each formula's own flag from its limit, on the shown value.
             direction = direction_of(nr, v)
-        flag = flag_text(nr, direction)
+        flag = flag_text(direction)
         if v is None:
             flag = reasons.get(q, "not measured")
         label = LABELS.get(q, q)
