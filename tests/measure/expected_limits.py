@@ -28,6 +28,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+from reviewapp.core.measure import GlobalIntervals, LeadMeasurements, Measurements
 from reviewapp.core.record import SubjectFacts
 
 MAN = SubjectFacts(sex="male", age_years=55)
@@ -38,6 +39,10 @@ CHILD_12 = SubjectFacts(sex="female", age_years=12)
 CHILD_5 = SubjectFacts(sex="male", age_years=5)
 STEP = {"ms": 1.0, "bpm": 1.0, "deg": 1.0, "mV": 0.01}
 QTC = ("qtc_bazett_ms", "qtc_fridericia_ms", "qtc_framingham_ms", "qtc_hodges_ms")
+VOLTAGES = ("sokolow_lyon_mv", "cornell_mv")
+# Q waves outside V2-V3 count only when >= 0.1 mV deep (4th UDMI, from memory): placed deeper
+# than that so the duration alone decides.
+Q_DEPTH_MV = -0.15
 
 
 @dataclass(frozen=True)
@@ -130,3 +135,16 @@ EXPECTED: tuple[Expected, ...] = (
 def entry_id(e: Expected) -> str:
     who = f"{e.subject.sex or 'any'}-{e.subject.age_years:g}y"
     return "-".join(x for x in (e.quantity, who, "+".join(e.leads)) if x)
+
+
+def measurements_for(e: Expected, value: float) -> Measurements:
+    """Measurements holding ``value`` where ``e`` judges it (its leads for ST and Q)."""
+    if e.quantity in VOLTAGES:
+        return Measurements(GlobalIntervals(), **{e.quantity: value})
+    if e.quantity == "st_j_mv":
+        leads = tuple(LeadMeasurements(n, st_j_mv=value) for n in e.leads)
+        return Measurements(GlobalIntervals(), leads=leads)
+    if e.quantity == "q_ms":
+        leads = tuple(LeadMeasurements(n, q_ms=value, q_mv=Q_DEPTH_MV) for n in e.leads)
+        return Measurements(GlobalIntervals(), leads=leads)
+    return Measurements(GlobalIntervals(**{e.quantity: value}))

@@ -14,9 +14,6 @@ from pathlib import Path
 import pytest
 
 from reviewapp.core.measure import (
-    GlobalIntervals,
-    LeadMeasurements,
-    Measurements,
     evaluate_findings,
     normal_range,
 )
@@ -24,29 +21,11 @@ from reviewapp.core.measure.limit_text import range_text
 from reviewapp.core.measure.limits import COMMON_PRACTICE, FROM_MEMORY, LIMITS, _applies
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
-from expected_limits import EXPECTED, STEP, Expected, entry_id
-
-VOLTAGES = ("sokolow_lyon_mv", "cornell_mv")
-# Q waves outside V2-V3 count only when >= 0.1 mV deep (4th UDMI, from memory): place them
-# deeper than that so the duration alone decides.
-Q_DEPTH_MV = -0.15
-
-
-def _measurements(e: Expected, value: float) -> Measurements:
-    if e.quantity in VOLTAGES:
-        return Measurements(GlobalIntervals(), **{e.quantity: value})
-    if e.quantity == "st_j_mv":
-        return Measurements(
-            GlobalIntervals(), leads=tuple(LeadMeasurements(n, st_j_mv=value) for n in e.leads)
-        )
-    if e.quantity == "q_ms":
-        leads = tuple(LeadMeasurements(n, q_ms=value, q_mv=Q_DEPTH_MV) for n in e.leads)
-        return Measurements(GlobalIntervals(), leads=leads)
-    return Measurements(GlobalIntervals(**{e.quantity: value}))
+from expected_limits import EXPECTED, STEP, Expected, entry_id, measurements_for
 
 
 def _flags(e: Expected, value: float) -> list:
-    found = evaluate_findings(_measurements(e, value), e.subject)
+    found = evaluate_findings(measurements_for(e, value), e.subject)
     return [f for f in found if f.quantity == e.quantity]
 
 

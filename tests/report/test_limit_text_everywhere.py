@@ -23,9 +23,6 @@ import pytest
 
 from reviewapp.core.engine import analyse
 from reviewapp.core.measure import (
-    GlobalIntervals,
-    LeadMeasurements,
-    Measurements,
     evaluate_findings,
 )
 from reviewapp.core.measure.findings import LABELS
@@ -38,10 +35,7 @@ from reviewapp.report.export import _write_csv_rows, render_page
 from reviewapp.ui.summary import GLOBAL_ROWS, LEAD_COLUMNS, SummaryPanel
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "measure"))
-from expected_limits import EXPECTED, STEP, Expected, entry_id
-
-VOLTAGES = ("sokolow_lyon_mv", "cornell_mv")
-Q_DEPTH_MV = -0.15  # deeper than the 0.1 mV the Q criterion asks outside V2-V3
+from expected_limits import EXPECTED, STEP, Expected, entry_id, measurements_for
 
 
 def _printed(value: float, unit: str) -> str:
@@ -51,18 +45,6 @@ def _printed(value: float, unit: str) -> str:
     if unit == "deg":
         return f"{value:+.0f}°" if round(value) else "0°"
     return f"{value:.0f} {unit}"
-
-
-def _measurements(e: Expected, value: float) -> Measurements:
-    if e.quantity in VOLTAGES:
-        return Measurements(GlobalIntervals(), **{e.quantity: value})
-    if e.quantity == "st_j_mv":
-        leads = tuple(LeadMeasurements(n, st_j_mv=value) for n in e.leads)
-        return Measurements(GlobalIntervals(), leads=leads)
-    if e.quantity == "q_ms":
-        leads = tuple(LeadMeasurements(n, q_ms=value, q_mv=Q_DEPTH_MV) for n in e.leads)
-        return Measurements(GlobalIntervals(), leads=leads)
-    return Measurements(GlobalIntervals(**{e.quantity: value}))
 
 
 def _cases() -> list[tuple[Expected, float, str]]:
@@ -98,7 +80,7 @@ class Case:
 
 
 def _case(e: Expected, value: float, direction: str) -> Case:
-    m = _measurements(e, value)
+    m = measurements_for(e, value)
     findings = evaluate_findings(m, e.subject)
     marked = SimpleNamespace(beats=(), beat_marks=(), beat_lead_marks=(), representative=None)
     reading = SimpleNamespace(marked=marked, measurements=m, findings=findings)
