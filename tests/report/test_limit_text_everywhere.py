@@ -23,6 +23,9 @@ import pytest
 
 from reviewapp.core.engine import analyse
 from reviewapp.core.measure import (
+    GlobalIntervals,
+    LeadMeasurements,
+    Measurements,
     evaluate_findings,
 )
 from reviewapp.core.measure.findings import LABELS
@@ -223,3 +226,22 @@ def test_p_duration_at_its_limit_reads_one_way_on_screen_page_and_pdf(
     text = _squash(pdf_text(out.read_bytes()))
     assert "Pduration120ms<120mshigh" in text
     assert "<=120" not in text
+
+
+def test_a_lone_lead_outside_its_st_limit_reads_in_mv_with_its_range(qtbot) -> None:
+    # One lead above its ST limit without a contiguous partner is no finding (4th UDMI, from
+    # memory: two contiguous leads), but its cell is marked and its tooltip says why, in mV to
+    # 0.01 with the range: never "0 above the limit 0.1".
+    (e,) = [x for x in EXPECTED if x.quantity == "st_j_mv" and x.leads == ("II", "III")]
+    reading = _case(e, 0.12, "above").reading
+    lone = Measurements(GlobalIntervals(), leads=(LeadMeasurements("V1", st_j_mv=0.12),))
+    reading = SimpleNamespace(marked=reading.marked, measurements=lone, findings=())
+    panel = SummaryPanel()
+    qtbot.addWidget(panel)
+    panel.show_reading(reading, e.subject, set())
+    panel.per_lead_button.click()
+    item = panel.leads_table.item(0, 1 + [k for k, _ in LEAD_COLUMNS].index("st_j_mv"))
+    assert item.text() == "+0.12 ▲"
+    assert "ST at J in V1 0.12 mV, above normal (normal > -0.05 and < 0.10 mV; V1)" in (
+        item.toolTip()
+    )

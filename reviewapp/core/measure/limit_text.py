@@ -159,14 +159,3 @@ def merged_text(label: str, parts: list[tuple[str, float]], nr: NormalRange, dir
     """
     by = ", ".join(f"{name} {value_text(v, nr.unit)}" for name, v in parts)
     return f"{label} {direction} normal by {by} {normal_clause(nr)}"
-
-
-def limit_sentence(nr: NormalRange, value: float | None) -> str:
-    """A tooltip line for a value against its limit: the finding sentence without a label,
-    or that it is within the range."""
-    if value is None:
-        return ""
-    d = direction_of(nr, value)
-    if not d:
-        return f"{value_text(value, nr.unit)}, within normal {normal_clause(nr)}"
-    return f"{value_text(value, nr.unit)}, {d} normal {normal_clause(nr)}"
