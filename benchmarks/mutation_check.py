@@ -13,7 +13,7 @@ A mutant is caught when the tests fail. First the tests aimed at these tables ru
 a mutant they miss is run against the wider set (``tests/measure``, ``tests/report``,
 ``tests/test_cli.py``) before it is reported as surviving. The unmutated copy must pass.
 
-Run (about 10 minutes on 2 cores; not part of CI)::
+Run (about 15 minutes on 2 cores; not part of CI)::
 
     .venv/bin/python benchmarks/mutation_check.py            # this checkout
     .venv/bin/python benchmarks/mutation_check.py --repo DIR # another tree (e.g. an old commit)
