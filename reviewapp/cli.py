@@ -20,6 +20,7 @@ import argparse
 import importlib
 import os
 import sys
+import textwrap
 import traceback
 from collections.abc import Sequence
 from datetime import UTC, datetime
@@ -46,13 +47,15 @@ exit codes:
        wrong option)
   {EXIT_INTERNAL}    internal error (a bug: please report it with the log file named)
   {EXIT_BROKEN_PIPE}  output pipe closed early (e.g. piped into head)"""
+# The clinical caution as every --help prints it (top level and each subcommand).
+HELP_CAUTION = textwrap.fill(CLINICAL_CAUTION, width=79)
 
 
 def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="reviewapp",
-        description="ECG review and caliper workbench. " + CLINICAL_CAUTION,
-        epilog=EXIT_CODES,
+        description="ECG review and caliper workbench.",
+        epilog=f"{HELP_CAUTION}\n\n{EXIT_CODES}",
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
     parser.add_argument("--version", action="version", version=f"reviewapp {__version__}")
@@ -60,10 +63,11 @@ def build_parser() -> argparse.ArgumentParser:
     for name in SUBCOMMANDS:
         module = importlib.import_module(f"reviewapp.commands.{name}")
         module.add_parser(sub)
-    for p in sub.choices.values():  # every subcommand's --help lists the exit codes too
+    for p in sub.choices.values():  # every subcommand's --help: the caution, the exit codes
         if p.epilog is None:
             p.epilog = EXIT_CODES
             p.formatter_class = argparse.RawDescriptionHelpFormatter
+        p.epilog = f"{HELP_CAUTION}\n\n{p.epilog}"
     return parser
 
 

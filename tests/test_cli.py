@@ -6,6 +6,7 @@ Exit codes (documented in `reviewapp --help`): 0 ok; 1 finished but some records
 
 from __future__ import annotations
 
+import argparse
 import shutil
 import subprocess
 import sys
@@ -13,7 +14,7 @@ from pathlib import Path
 
 import pytest
 
-from reviewapp import cli
+from reviewapp import CLINICAL_CAUTION, cli
 
 REPO = Path(__file__).resolve().parents[1]
 SAMPLES = REPO / "sample_records"
@@ -134,6 +135,27 @@ def test_help_lists_exit_codes(run) -> None:
     fs_help = "sampling rate for CSV files without a time column"
     assert fs_help in " ".join(out.split())
     assert fs_help in " ".join(run("info", "--help")[1].split())
+
+
+def _subcommand_parsers() -> dict[str, argparse.ArgumentParser]:
+    """Every subcommand the parser knows (so a subcommand added later is checked too)."""
+    parser = cli.build_parser()
+    (action,) = [a for a in parser._actions if isinstance(a, argparse._SubParsersAction)]
+    return dict(action.choices)
+
+
+def test_every_help_carries_the_clinical_caution_once(run) -> None:
+    # RULES: automated measurements verified by a clinician, not a certified device, local
+    # protocols govern: in the top-level help and in each subcommand's, from one constant.
+    names = _subcommand_parsers()
+    assert set(cli.SUBCOMMANDS) <= set(names)
+    caution = " ".join(CLINICAL_CAUTION.split())
+    for argv in (["--help"], *([name, "--help"] for name in names)):
+        code, out, _ = run(*argv)
+        assert code == 0, argv
+        assert " ".join(out.split()).count(caution) == 1, argv
+    for name, sub in names.items():  # straight from each parser too, whatever main routes
+        assert " ".join(sub.format_help().split()).count(caution) == 1, name
 
 
 @pytest.mark.skipif(shutil.which("bash") is None or shutil.which("head") is None,

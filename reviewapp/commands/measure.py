@@ -15,7 +15,6 @@ import sys
 from pathlib import Path
 from typing import Any
 
-from reviewapp import CLINICAL_CAUTION
 from reviewapp.commands._options import add_reading_options
 from reviewapp.core.errors import RecordError, ReviewError
 
@@ -30,7 +29,7 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
         help="measure records without the window (table, JSON or CSV)",
         description=(
             "Detect beats and wave boundaries and print intervals, QTc, axes, amplitudes, "
-            "ST levels and findings for each record. " + CLINICAL_CAUTION
+            "ST levels and findings for each record."
         ),
     )
     p.add_argument(

@@ -14,7 +14,9 @@ from typing import Any
 import numpy as np
 
 from reviewapp.core.fiducials import FIDUCIALS, Beat, MarkOverride, WaveMarks
-from reviewapp.core.measure.findings import displayed, judged
+from reviewapp.core.measure import limit_text
+from reviewapp.core.measure.findings import judged
+from reviewapp.core.measure.types import NormalRange
 from reviewapp.core.record import Record
 
 
@@ -76,16 +78,11 @@ class MeasurementRow:
     high: float | None = None
     flag: str = ""
     range_source: str = ""
+    normal: NormalRange | None = None
 
     @property
     def range_text(self) -> str:
-        if self.low is None and self.high is None:
-            return ""
-        if self.low is None:
-            return f"<= {self.high:g}"
-        if self.high is None:
-            return f">= {self.low:g}"
-        return f"{self.low:g}-{self.high:g}"
+        return limit_text.range_text(self.normal)
 
 
 @dataclass(frozen=True)
@@ -164,18 +161,14 @@ def measurement_rows(
         flag = ""
         for i, f in enumerate(reading.findings):
             if f.quantity == quantity and f.lead is None:
-                flag = f"{f.direction} {f.limit:g}"
+                flag = limit_text.flag_text(f.direction)
                 used.add(i)
                 break
         # A paced rhythm's conduction values are shown but not judged.
         if not flag and judged(ms, quantity) and value is not None and nr is not None:
             # Several QTc formulas flagging together arrive as one merged "qtc_ms" finding;
             # each formula's own row is still flagged against its own range.
-            shown = displayed(float(value), unit)
-            if nr.is_above(shown):
-                flag = f"above {nr.high:g}"
-            elif nr.is_below(shown):
-                flag = f"below {nr.low:g}"
+            flag = limit_text.flag_text(limit_text.direction_of(nr, float(value)))
             if flag and quantity.startswith("qtc_"):
                 used.update(i for i, f in enumerate(reading.findings) if f.quantity == "qtc_ms")
         rows.append(
@@ -188,6 +181,7 @@ def measurement_rows(
                 high=None if nr is None else nr.high,
                 flag=flag,
                 range_source="" if nr is None else nr.source,
+                normal=nr,
             )
         )
     others = tuple(f.text for i, f in enumerate(reading.findings) if i not in used)

@@ -15,6 +15,7 @@ from typing import TextIO
 
 from reviewapp import CLINICAL_CAUTION, __version__
 from reviewapp.core.errors import ReviewError
+from reviewapp.core.measure import limit_text
 from reviewapp.report.content import ReportContent
 from reviewapp.report.layout import PageLayout, page_layout
 
@@ -152,6 +153,7 @@ CSV_HEADER = (
     "unit",
     "normal_low",
     "normal_high",
+    "normal_range",
     "flag",
     "range_source",
     "marks",
@@ -164,7 +166,9 @@ CSV_HEADER = (
 def write_measurements_csv(path: Path | str, content: ReportContent) -> None:
     """Every global value (the quantities of ``reviewapp measure``'s CSV: RR, HR, intervals,
     the four QTc formulas, axes, voltages) with normal range and flag, one row each, then the
-    clinical caution. ``path`` "-" writes to standard output."""
+    clinical caution. Values and limits are written as the page prints them (whole ms, bpm
+    and degrees, mV to 0.01), so each flag agrees with the number beside it. ``path`` "-"
+    writes to standard output."""
     if str(path) == STDOUT:
         _write_csv_rows(sys.stdout, content)
         sys.stdout.flush()
@@ -177,10 +181,9 @@ def write_measurements_csv(path: Path | str, content: ReportContent) -> None:
         raise ReviewError(f"cannot write the CSV: {err.strerror or err}", path) from err
 
 
-def _value_text(value: float | None, unit: str) -> str:
-    if value is None:
-        return ""
-    return f"{value:.2f}" if unit == "mV" else f"{value:.1f}"
+def _number(value: float | None, unit: str) -> str:
+    """A value or limit as the page prints it (so the flag beside it agrees)."""
+    return "" if value is None else limit_text.number_text(value, unit, signed=False)
 
 
 def _write_csv_rows(fh: TextIO, content: ReportContent) -> None:
@@ -193,10 +196,11 @@ def _write_csv_rows(fh: TextIO, content: ReportContent) -> None:
                 content.record.name,
                 r.quantity,
                 r.label,
-                _value_text(r.value, r.unit),
+                _number(r.value, r.unit),
                 r.unit,
-                "" if r.low is None else f"{r.low:g}",
-                "" if r.high is None else f"{r.high:g}",
+                _number(r.low, r.unit),
+                _number(r.high, r.unit),
+                r.range_text,
                 r.flag,
                 r.range_source,
                 marks,

@@ -24,6 +24,7 @@ from PySide6.QtCore import QLineF, QPointF, QRectF, Qt
 from PySide6.QtGui import QBrush, QColor, QFont, QFontMetricsF, QPainter, QPen, QPolygonF
 
 from reviewapp import CLINICAL_CAUTION
+from reviewapp.core.measure import limit_text
 from reviewapp.report.content import MarkPair, ReportContent, study_facts
 from reviewapp.report.layout import (
     CAL_PULSE_S,
@@ -435,8 +436,14 @@ def _mark_glyph(
             _glyph(c, xf, lane, onset)
 
 
-def _fmt(v: float | None) -> str:
-    return "--" if v is None else f"{v:.0f}"
+def _fmt(v: float | None, unit: str) -> str:
+    """The value cell: the number, with the unit's symbol attached where it has one ("+60°");
+    other units go in their own column."""
+    if v is None:
+        return "--"
+    if limit_text.unit_symbol(unit) != limit_text.unit_key(unit):
+        return limit_text.value_text(v, unit)
+    return limit_text.number_text(v, unit)
 
 
 def _facts(content: ReportContent) -> list[tuple[str, bool]]:
@@ -535,7 +542,9 @@ def _draw_table(c: _Canvas, box: Rect, content: ReportContent) -> None:
     formulas / axes and other flags): name, value, unit, normal range, flag."""
     row_h = 3.4
     group_w = (box.w + 3.0) / 3.0
-    cols = (0.0, 32.0, 33.5, 42.0, 57.0)  # label, value (right edge), unit, range, flag
+    # label, value (right edge), unit, range, flag: room for the longest range, "> 390 and
+    # < 450 ms" (about 23 mm at 6.2 pt), so no range is ever cut short.
+    cols = (0.0, 29.5, 30.3, 36.0, 59.8)
     by_q = {r.quantity: r for r in content.rows}
     x0, y0 = box.x, box.y
     for gi, group in enumerate(TABLE_GROUPS):
@@ -553,15 +562,16 @@ def _draw_table(c: _Canvas, box: Rect, content: ReportContent) -> None:
             y = y0 + 3.4 + (i + 1) * row_h
             flagged = bool(row.flag)
             colour = FLAG if flagged else TEXT
-            c.text(gx + cols[0], y, PAGE_LABELS.get(q, row.label), 7.5, max_w=cols[1] - 9.0)
-            c.text(gx + cols[1], y, _fmt(row.value), 8.0, bold=True, colour=colour, align="right")
-            c.text(gx + cols[2], y, row.unit, 6.5)
-            c.text(gx + cols[3], y, row.range_text, 6.5, colour=MARK_AUTO, max_w=cols[4] - cols[3])
+            c.text(gx + cols[0], y, PAGE_LABELS.get(q, row.label), 7.5, max_w=cols[1] - 6.8)
+            value = _fmt(row.value, row.unit)
+            c.text(gx + cols[1], y, value, 8.0, bold=True, colour=colour, align="right")
+            if limit_text.unit_symbol(row.unit) == limit_text.unit_key(row.unit):
+                c.text(gx + cols[2], y, row.unit, 6.5)
+            range_w = cols[4] - cols[3] - 0.3
+            c.text(gx + cols[3], y, row.range_text, 6.2, colour=MARK_AUTO, max_w=range_w)
             if flagged:
-                flag = row.flag.replace("above", ">").replace("below", "<")
-                c.text(
-                    gx + cols[4], y, flag, 7.0, bold=True, colour=FLAG, max_w=group_w - 3 - cols[4]
-                )
+                flag_w = group_w - 3 - cols[4]
+                c.text(gx + cols[4], y, row.flag, 7.0, bold=True, colour=FLAG, max_w=flag_w)
     # Other flags (per-lead values, voltages) under the axes in the third group.
     if content.other_findings:
         gx = x0 + 2 * group_w

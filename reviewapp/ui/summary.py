@@ -12,8 +12,8 @@ from typing import TYPE_CHECKING
 from PySide6 import QtCore, QtGui, QtWidgets
 
 from reviewapp.core.fiducials import FIDUCIAL_LABELS, FIDUCIALS
-from reviewapp.core.measure import Finding, NormalRange, normal_range
-from reviewapp.core.measure.findings import judged
+from reviewapp.core.measure import Finding, NormalRange, limit_text, normal_range
+from reviewapp.core.measure.findings import LABELS, judged
 
 if TYPE_CHECKING:
     from reviewapp.core.engine import Reading
@@ -119,17 +119,8 @@ _RIGHT = QtCore.Qt.AlignmentFlag.AlignRight | QtCore.Qt.AlignmentFlag.AlignVCent
 
 
 def range_text(r: NormalRange | None) -> str:
-    if r is None:
-        return "—"
-    u = "" if r.unit in ("°", "deg") else f" {r.unit}"
-    u = "°" if r.unit in ("°", "deg") else u
-    if r.low is not None and r.high is not None:
-        return f"{r.low:g} to {r.high:g}{u}"
-    if r.high is not None:
-        return f"{'≤' if getattr(r, 'high_is_normal', True) else '<'} {r.high:g}{u}"
-    if r.low is not None:
-        return f"{'≥' if getattr(r, 'low_is_normal', True) else '>'} {r.low:g}{u}"
-    return "—"
+    """The normal range as every output writes it (``limit_text.range_text``)."""
+    return limit_text.range_text(r, missing="—")
 
 
 def flag_for(
@@ -145,12 +136,13 @@ def flag_for(
     for f in findings:
         if f.quantity == quantity and f.lead == lead:
             glyph = ABOVE if f.direction == "above" else BELOW
-            return f"{glyph} {f.direction} {f.limit:g}", f.text
-    if rng is not None:
-        if hasattr(rng, "is_above") and rng.is_above(value):
-            return f"{ABOVE} above {rng.high:g}", f"{value:.0f} above the limit {rng.high:g}"
-        if hasattr(rng, "is_below") and rng.is_below(value):
-            return f"{BELOW} below {rng.low:g}", f"{value:.0f} below the limit {rng.low:g}"
+            return f"{glyph} {limit_text.flag_text(f.direction)}", f.text
+    direction = limit_text.direction_of(rng, value)
+    if rng is not None and direction:
+        glyph = ABOVE if direction == "above" else BELOW
+        label = LABELS.get(quantity, quantity) + (f" in {lead}" if lead else "")
+        why = limit_text.finding_text(label, limit_text.shown(value, rng.unit), rng, direction)
+        return f"{glyph} {limit_text.flag_text(direction)}", why
     return "", ""
 
 
@@ -255,14 +247,14 @@ class SummaryPanel(QtWidgets.QWidget):
         n_flags = 0
         bold = QtGui.QFont(self.table.font())
         bold.setBold(True)
-        for row, (key, label, unit, dec, how) in enumerate(GLOBAL_ROWS):
+        for row, (key, label, unit, _dec, how) in enumerate(GLOBAL_ROWS):
             v = getattr(iv, key, None)
             rng = normal_range(key, subject)
             hidden = hide_automatic and waits_for_marks(key, corrected)
             flag, why = ("", "") if hidden else flag_for(key, v, rng, reading.findings)
             if not judged(reading.measurements, key):
                 flag, why = "", "Not judged against this limit: paced rhythm."
-            text = "—" if v is None else f"{v:.{dec}f} {unit}".replace(" °", "°")
+            text = limit_text.value_text(v, unit)
             if hidden:
                 text = "set marks"
             self._values[key] = text
@@ -366,7 +358,7 @@ class SummaryPanel(QtWidgets.QWidget):
                 v = getattr(lm, key, None)
                 rng = normal_range(key, subject, lead=lm.lead) if key.startswith("st_") else None
                 flag, why = flag_for(key, v, rng, reading.findings, lead=lm.lead)
-                text = "—" if v is None else f"{v:+.2f}"
+                text = "—" if v is None else limit_text.number_text(v, "mV", signed=True)
                 if key in self._lead_hidden:  # blinded, automatic marks hidden: not yet set
                     flag, why, text = "", "", "set marks"
                 item = QtWidgets.QTableWidgetItem(f"{text} {flag.split(' ')[0]}" if flag else text)

@@ -62,18 +62,48 @@ def test_response_matches_scipy_sosfreqz_squared(fs: float) -> None:
     np.testing.assert_allclose(h[mid - 2000 : mid], h[mid + 2000 : mid : -1], atol=1e-6)
 
 
+def _high_edge_hz(sos: np.ndarray, fs: float) -> float:
+    """Where the whole zero-phase response (|H|^2, power in dB: 20 log10 |H|^2) first falls
+    to -3 dB above 20 Hz, read off scipy.signal.sosfreqz on a 0.1 Hz grid."""
+    f = np.arange(20.0, fs / 2.0, 0.1)
+    _, h = signal.sosfreqz(sos, worN=f, fs=fs)
+    gain_db = 20 * np.log10(np.abs(h) ** 2)
+    k = int(np.argmax(gain_db <= -3.0))
+    assert gain_db[k] <= -3.0, "the response never falls to -3 dB below Nyquist"
+    return float(np.interp(-3.0, [gain_db[k], gain_db[k - 1]], [f[k], f[k - 1]]))
+
+
 @pytest.mark.parametrize("fs", RATES)
 def test_band_edges_follow_aha_2007(fs: float) -> None:
     # Kligfield et al., Circulation 2007;115:1306-1324: a zero-phase filter may cut the low
     # end at up to 0.67 Hz; the high end should reach 150 Hz for adolescents and adults.
     plan = filter_plan(fs, None)
-    _, h = signal.sosfreqz(plan.sos, worN=np.array([0.67, 150.0 if fs >= 500 else 1.0]), fs=fs)
-    gain_db = 20 * np.log10(np.abs(h) ** 2)
-    assert gain_db[0] > -3.0
-    assert gain_db[1] > -3.0
+    _, h = signal.sosfreqz(plan.sos, worN=np.array([0.67]), fs=fs)
+    assert 20 * np.log10(np.abs(h[0]) ** 2) > -3.0
     # Respiratory baseline wander (0.2 Hz) is removed.
     _, hw = signal.sosfreqz(plan.sos, worN=np.array([0.2]), fs=fs)
     assert 20 * np.log10(np.abs(hw[0]) ** 2) < -30.0
+    # The high edge, measured on the real response at every rate. Where the rate allows
+    # (0.8 x Nyquist above the corner that gives 150 Hz: fs >= 500 Hz) it reaches 150 Hz.
+    # Below that the low-pass corner fc sits at 0.8 x Nyquist (filters.py's stated design),
+    # and the edge is where a 2nd-order Butterworth run forward and backward is -3 dB:
+    # |H|^4 = 1/2 at (f/fc)^4 = sqrt(2) - 1 in the analog prototype (Butterworth 1930), moved
+    # to the digital axis by the bilinear transform's tan(pi f / fs) warping (Oppenheim &
+    # Schafer, Discrete-Time Signal Processing, 3rd ed., 2010, sec. 7.2; from memory).
+    edge = _high_edge_hz(plan.sos, fs)
+    nyq = fs / 2.0
+    if fs >= 500.0:
+        assert 150.0 <= edge < 0.8 * nyq
+    else:
+        fc = 0.8 * nyq
+        ratio = (np.sqrt(2.0) - 1.0) ** 0.25
+        expected = fs / np.pi * np.arctan(ratio * np.tan(np.pi * fc / fs))
+        assert edge == pytest.approx(expected, rel=0.01), (edge, expected)
+        assert edge < 150.0  # the rate, not the design, keeps it below 150 Hz
+    # Just inside the edge the band is kept, just outside it is not (no flat-topped probe).
+    _, hh = signal.sosfreqz(plan.sos, worN=np.array([0.97 * edge, 1.03 * edge]), fs=fs)
+    inside, outside = 20 * np.log10(np.abs(hh) ** 2)
+    assert inside > -3.0 > outside
 
 
 @pytest.mark.parametrize("mains", [50.0, 60.0])

@@ -8,6 +8,7 @@ import shutil
 import pytest
 import wfdb
 
+from reviewapp.core import engine
 from reviewapp.core.errors import MarksError
 from reviewapp.core.marks import (
     BlindedError,
@@ -19,8 +20,6 @@ from reviewapp.core.marks import (
     write_automatic,
 )
 from reviewapp.core.record import record_from_array
-
-engine = pytest.importorskip("reviewapp.core.engine")
 
 
 @pytest.fixture(scope="module")

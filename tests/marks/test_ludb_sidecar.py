@@ -17,6 +17,7 @@ import numpy as np
 import pytest
 import wfdb
 
+from reviewapp.core import engine
 from reviewapp.core.marks import (
     ForeignSidecarError,
     MarksStore,
@@ -30,8 +31,6 @@ from reviewapp.core.marks import (
     schema,
 )
 from reviewapp.core.record import Record, record_from_array
-
-engine = pytest.importorskip("reviewapp.core.engine")
 
 
 def _wfdb_record(header: Path) -> Record:

@@ -7,7 +7,7 @@ import importlib
 
 import pytest
 
-MODULES = ["qtc", "intervals", "axes", "amplitudes", "limits", "findings", "output"]
+MODULES = ["qtc", "intervals", "axes", "amplitudes", "limits", "limit_text", "findings", "output"]
 
 
 @pytest.mark.parametrize("name", MODULES)

@@ -205,8 +205,10 @@ def test_png_letter_and_speed_50(tmp_path: Path, synth_content):
 def _stream(body: bytes) -> bytes:
     m = re.search(rb"stream\r?\n(.*?)\r?\nendstream", body, re.S)
     assert m
+    # The lazy "\r?\n" before "endstream" eats a compressed stream's last byte when that
+    # byte is "\r" (1 time in 256): decompress what is there rather than fail on the checksum.
     try:
-        return zlib.decompress(m.group(1))
+        return zlib.decompressobj().decompress(m.group(1))
     except zlib.error:
         return m.group(1)
 

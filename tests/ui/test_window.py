@@ -160,7 +160,7 @@ def test_summary_flags_in_words_and_glyph_with_source_tooltip(loaded):
             "hr_bpm": "Heart rate",
         }[f.quantity]
         flag = t.item(rows[label], 3).text()
-        assert ("▲ above" if f.direction == "above" else "▼ below") in flag
+        assert flag == ("▲ high" if f.direction == "above" else "▼ low")
         tip = t.item(rows[label], 1).toolTip()
         assert "Source:" in tip and "How computed" in tip
     rng = normal_range("pr_ms", w.record.subject)

@@ -3,7 +3,7 @@
 Structure read (HL7 Annotated ECG, namespace ``urn:hl7-org:v3``)::
 
     AnnotatedECG
-      effectiveTime/low@value                       acquisition time
+      effectiveTime/low@value (or center@value)     acquisition time
       componentOf/.../trialSubject/id@extension       subject id
       .../subjectDemographicPerson/administrativeGenderCode@code, birthTime@value
       component/series                              code RHYTHM
@@ -251,7 +251,10 @@ def _read_series(
 
 
 def _subject(root: Element) -> SubjectFacts:
+    # The implementation guide allows an interval (low/high) or a single time (center).
     low = root.find(_q("effectiveTime", "low"))
+    if low is None:
+        low = root.find(_q("effectiveTime", "center"))
     acquired = _parse_ts(low.get("value")) if low is not None else None
     trial_subject = next(root.iter(_N + "trialSubject"), None)
     subject_id = sex = None

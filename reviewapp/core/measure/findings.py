@@ -27,9 +27,10 @@ practice, no source). The values are still measured and shown; ``paced_criteria_
 gives the note.
 
 Every limit is compared with the value *as displayed* (1 ms, 1 bpm, 1 deg, 0.01 mV), so a
-flag never contradicts the printed number (a QTc of 389.6 ms prints as 390 ms and is flagged
-"at 390 ms", not "below 390 ms"). When several QTc formulas flag in the same direction, one
-``qtc_ms`` finding lists them; each formula's own limit stays available via ``normal_range``.
+flag never contradicts the printed number (a QTc of 389.6 ms prints as 390 ms and is flagged:
+390 is outside the normal "> 390"). The sentences come from ``limit_text``. When several QTc
+formulas flag in the same direction, one ``qtc_ms`` finding lists them; each formula's own
+limit stays available via ``normal_range``.
 """
 
 from __future__ import annotations
@@ -37,6 +38,7 @@ from __future__ import annotations
 import itertools
 from collections.abc import Callable, Iterable
 
+from reviewapp.core.measure.limit_text import finding_text, merged_text, shown
 from reviewapp.core.measure.limits import normal_range
 from reviewapp.core.measure.types import Finding, LeadMeasurements, Measurements, NormalRange
 from reviewapp.core.record import SubjectFacts
@@ -122,8 +124,7 @@ def displayed(value: float, unit: str) -> float:
     >>> displayed(389.6, "ms"), displayed(-0.004, "mV"), displayed(0.126, "mV")
     (390.0, 0.0, 0.13)
     """
-    digits = 2 if unit == "mV" else 0
-    return float(f"{value:.{digits}f}") + 0.0
+    return shown(value, unit)
 
 
 PACED_NOT_ASSESSED: frozenset[str] = frozenset(
@@ -160,23 +161,6 @@ def infarct_criteria_skipped(measurements: Measurements) -> str | None:
     return None
 
 
-def _fmt(value: float, unit: str, digits: int = 2) -> str:
-    if unit == "mV":
-        return f"{value:.{digits}f} mV"
-    if unit == "deg":
-        return f"{value:+.0f} deg"
-    return f"{value:.0f} {unit}"
-
-
-def _text(label: str, value: float, unit: str, limit: float, above: bool, nr: NormalRange) -> str:
-    if value == limit:
-        rel = "at"
-    else:
-        rel = "above" if above else "below"
-    who = f" ({nr.applies_to})" if nr.applies_to else ""
-    return f"{label} {_fmt(value, unit)} {rel} {_fmt(limit, unit)}{who}"
-
-
 def _check(
     quantity: str, value: float | None, nr: NormalRange | None, lead: str | None = None
 ) -> Finding | None:
@@ -195,7 +179,7 @@ def _check(
             nr.high,
             "above",
             nr.source,
-            _text(label, value, nr.unit, nr.high, True, nr),
+            finding_text(label, value, nr, "above"),
             lead,
         )
     if nr.is_below(value):
@@ -207,7 +191,7 @@ def _check(
             nr.low,
             "below",
             nr.source,
-            _text(label, value, nr.unit, nr.low, False, nr),
+            finding_text(label, value, nr, "below"),
             lead,
         )
     return None
@@ -260,7 +244,7 @@ def evaluate_findings(measurements: Measurements, subject: SubjectFacts) -> tupl
         f = _check(q, getattr(iv, q), normal_range(q, subject))
         if f is not None:
             out.append(f)
-    out = _merge_qtc(out)
+    out = _merge_qtc(out, subject)
     for q in ("sokolow_lyon_mv", "cornell_mv"):
         if not judged(measurements, q):
             continue
@@ -298,7 +282,7 @@ def evaluate_findings(measurements: Measurements, subject: SubjectFacts) -> tupl
     return tuple(out)
 
 
-def _merge_qtc(findings: list[Finding]) -> list[Finding]:
+def _merge_qtc(findings: list[Finding], subject: SubjectFacts) -> list[Finding]:
     """One ``qtc_ms`` finding for the QTc formulas that flag in the same direction.
 
     A single flagging formula keeps its own finding. The merged finding's value is the
@@ -313,10 +297,9 @@ def _merge_qtc(findings: list[Finding]) -> list[Finding]:
             continue
         same.sort(key=lambda f: QTC_ORDER.index(f.quantity))
         first = same[0]
-        by = ", ".join(f"{LABELS[f.quantity][5:-1]} {f.value:.0f} ms" for f in same)
-        at = [f.value == f.limit for f in same]
-        rel = "at" if all(at) else f"at or {direction}" if any(at) else direction
-        who = first.text.rsplit(f"{first.limit:.0f} ms", 1)[-1]  # " (female adult)" or ""
+        by = [(LABELS[f.quantity][5:-1], f.value) for f in same]
+        nr = normal_range(first.quantity, subject)
+        assert nr is not None  # it flagged, so it has a range
         replace_at[id(first)] = Finding(
             "qtc_ms",
             first.value,
@@ -324,7 +307,7 @@ def _merge_qtc(findings: list[Finding]) -> list[Finding]:
             first.limit,
             first.direction,
             first.source,
-            f"QTc {rel} {first.limit:.0f} ms by {by}{who}",
+            merged_text("QTc", by, nr, direction),
         )
         drop.update(id(f) for f in same[1:])
     return [replace_at.get(id(f), f) for f in findings if id(f) not in drop]

@@ -1,24 +1,26 @@
 """Normal limits, each row with its source.
 
-Sources (abbreviations used in the rows):
+Every row carries two texts. ``source`` is what the reader sees (summary tooltip, report,
+``measure`` output): the citation (authors, journal, year) and the rule it states, or, where
+the trade has no single citable source, that it is a conventional limit. ``basis`` is for the
+code and the tests only: "from memory" where the value was recalled rather than read from the
+document here, "common practice, no source" where there is no single source.
 
-- AHA 2007 I/II: Kligfield P et al., "Recommendations for the standardization and
-  interpretation of the electrocardiogram. Part I", Circulation 115:1306-1324, 2007; Mason JW
-  et al., "... Part II: electrocardiography diagnostic statement list", Circulation
-  115:1325-1332, 2007 (from memory; the axis and rate rows below are stated as common practice
-  because no single number could be checked against these texts here).
-- AHA 2009 III: Surawicz B et al., "... Part III: intraventricular conduction disturbances",
-  Circulation 119:e235-e240, 2009.
-- AHA 2009 IV: Rautaharju PM et al., "... Part IV: the ST segment, T and U waves, and the QT
-  interval", Circulation 119:e241-e250, 2009.
-- 4th UDMI: Thygesen K et al., "Fourth universal definition of myocardial infarction (2018)",
+Sources:
+
+- Kligfield P et al., "Recommendations for the standardization and interpretation of the
+  electrocardiogram. Part I", Circulation 115:1306-1324, 2007; Mason JW et al., "... Part II:
+  electrocardiography diagnostic statement list", Circulation 115:1325-1332, 2007 (from
+  memory; the axis and rate rows below are common practice, no source, because no single
+  number could be checked against these texts here).
+- Surawicz B et al., "... Part III: intraventricular conduction disturbances", Circulation
+  119:e235-e240, 2009.
+- Rautaharju PM et al., "... Part IV: the ST segment, T and U waves, and the QT interval",
+  Circulation 119:e241-e250, 2009.
+- Thygesen K et al., "Fourth universal definition of myocardial infarction (2018)",
   Circulation 138:e618-e651, 2018; Eur Heart J 40:237-269, 2019.
-- Sokolow & Lyon, Am Heart J 37:161-186, 1949; Casale PN et al., J Am Coll Cardiol 6:572-580,
-  1985 (Cornell voltage).
-
-Limit values are recalled, not read from the documents here: every such row says "from memory"
-in its source. Facts of the trade without a single citable source say "common practice, no
-source".
+- Sokolow M, Lyon TP, Am Heart J 37:161-186, 1949; Casale PN et al., J Am Coll Cardiol
+  6:572-580, 1985 (Cornell voltage).
 
 Heart rate: 50-100 bpm. The upper limit 100 bpm is common practice, no source. The lower limit
 is 50 rather than the traditional 60 bpm because a resting rate of 50-59 bpm is frequent in
@@ -40,27 +42,40 @@ from dataclasses import dataclass
 from reviewapp.core.measure.types import NormalRange
 from reviewapp.core.record import SubjectFacts
 
+# What the reader sees for each source (citation and the rule it states).
 _AHA_IV = (
-    "AHA/ACCF/HRS 2009 Part IV (Rautaharju et al., Circulation 2009;119:e241-e250): "
-    "QTc prolonged >= 450 ms men, >= 460 ms women; short <= 390 ms (from memory)"
+    "Rautaharju PM et al., AHA/ACCF/HRS recommendations Part IV, Circulation "
+    "2009;119:e241-e250: QTc prolonged >= 450 ms men, >= 460 ms women; short <= 390 ms"
 )
 _AHA_III = (
-    "AHA/ACCF/HRS 2009 Part III (Surawicz et al., Circulation 2009;119:e235-e240): "
-    "nonspecific intraventricular conduction delay QRS > 110 ms adults, > 90 ms age 8-16, "
-    "> 80 ms under 8 (from memory)"
+    "Surawicz B et al., AHA/ACCF/HRS recommendations Part III, Circulation "
+    "2009;119:e235-e240: nonspecific intraventricular conduction delay QRS > 110 ms adults, "
+    "> 90 ms age 8-16, > 80 ms under 8"
 )
 _UDMI_ST = (
-    "Fourth Universal Definition of MI (Thygesen et al., 2018): new ST elevation at J in two "
-    "contiguous leads >= 0.1 mV except V2-V3 (>= 0.2 mV men >= 40 y, >= 0.25 mV men < 40 y, "
-    ">= 0.15 mV women); V7-V9 >= 0.05 mV; V3R-V4R >= 0.05 mV (>= 0.1 mV men < 30 y); "
-    "ST depression >= 0.05 mV (horizontal/downsloping) in two contiguous leads (from memory)"
+    "Thygesen K et al., Fourth Universal Definition of Myocardial Infarction, Circulation "
+    "2018;138:e618-e651: new ST elevation at J in two contiguous leads >= 0.1 mV except V2-V3 "
+    "(>= 0.2 mV men >= 40 y, >= 0.25 mV men < 40 y, >= 0.15 mV women); V7-V9 >= 0.05 mV; "
+    "V3R-V4R >= 0.05 mV (>= 0.1 mV men < 30 y); ST depression >= 0.05 mV "
+    "(horizontal/downsloping) in two contiguous leads"
 )
 _UDMI_Q = (
-    "Fourth Universal Definition of MI (Thygesen et al., 2018): Q in V2-V3 > 20 ms; "
-    "Q >= 30 ms and >= 0.1 mV deep in I, II, aVL, aVF, V4-V6 in two contiguous leads "
-    "(from memory)"
+    "Thygesen K et al., Fourth Universal Definition of Myocardial Infarction, Circulation "
+    "2018;138:e618-e651: Q in V2-V3 > 20 ms; Q >= 30 ms and >= 0.1 mV deep in I, II, aVL, "
+    "aVF, V4-V6 in two contiguous leads"
 )
-_CP = "common practice, no source"
+_HR_SOURCE = (
+    "Kusumoto FM et al., ACC/AHA/HRS bradycardia guideline, Circulation 2019;140:e382-e482: "
+    "sinus bradycardia < 50 bpm; upper limit 100 bpm is the conventional one"
+)
+_SOKOLOW = "Sokolow M, Lyon TP, Am Heart J 1949;37:161-186: SV1 + RV5/V6 > 3.5 mV"
+_CASALE = "Casale PN et al., J Am Coll Cardiol 1985;6:572-580: RaVL + SV3 > {} mV {}"
+# Where the trade has no single citable source, the reader is told it is a conventional limit.
+_CONVENTIONAL = "conventional limit, no single published source: "
+
+# ``basis`` markers (code and tests only, never shown).
+FROM_MEMORY = "from memory"
+COMMON_PRACTICE = "common practice, no source"
 
 QTC_QUANTITIES = ("qtc_bazett_ms", "qtc_fridericia_ms", "qtc_framingham_ms", "qtc_hodges_ms")
 _V2V3 = ("V2", "V3")
@@ -90,6 +105,8 @@ class LimitRow:
     exclude_leads: tuple[str, ...] = ()
     low_is_normal: bool = True
     high_is_normal: bool = True
+    # How the value is known, for code and tests only: FROM_MEMORY, COMMON_PRACTICE or both.
+    basis: str = FROM_MEMORY
 
     def who(self) -> str:
         parts = []
@@ -119,29 +136,25 @@ def _st(high: float, **where: object) -> LimitRow:
                     low_is_normal=False, high_is_normal=False, **where)  # type: ignore[arg-type]  # fmt: skip
 
 
-_HR_SOURCE = (
-    _CP + " (upper 100 bpm); lower 50 bpm per 2018 ACC/AHA/HRS bradycardia guideline "
-    "(Kusumoto et al.; from memory), see module notes"
-)
-
 # fmt: off
 LIMITS: tuple[LimitRow, ...] = (
-    LimitRow("hr_bpm", 50.0, 100.0, "bpm", _HR_SOURCE),
-    LimitRow("pr_ms", 120.0, 200.0, "ms", _CP + ": PR 120-200 ms"),
-    LimitRow("p_ms", None, 120.0, "ms", _CP + ": P duration < 120 ms", high_is_normal=False),
+    LimitRow("hr_bpm", 50.0, 100.0, "bpm", _HR_SOURCE,
+             basis=f"lower {FROM_MEMORY}; upper {COMMON_PRACTICE}"),
+    LimitRow("pr_ms", 120.0, 200.0, "ms", _CONVENTIONAL + "PR 120-200 ms", basis=COMMON_PRACTICE),
+    LimitRow("p_ms", None, 120.0, "ms", _CONVENTIONAL + "P duration < 120 ms",
+             high_is_normal=False, basis=COMMON_PRACTICE),
     LimitRow("qrs_ms", None, 110.0, "ms", _AHA_III, min_age_years=ADULT_AGE_YEARS),
     LimitRow("qrs_ms", None, 90.0, "ms", _AHA_III, min_age_years=8, max_age_years=16),
     LimitRow("qrs_ms", None, 80.0, "ms", _AHA_III, max_age_years=8),
     *(_qtc(q, 450.0, "male") for q in QTC_QUANTITIES),
     *(_qtc(q, 460.0, "female") for q in QTC_QUANTITIES),
-    LimitRow("qrs_axis_deg", -30.0, 90.0, "deg", _CP + ": frontal QRS axis -30 to +90 deg"),
-    LimitRow("p_axis_deg", 0.0, 75.0, "deg", _CP + ": frontal P axis 0 to +75 deg (from memory)"),
-    LimitRow("sokolow_lyon_mv", None, 3.5, "mV",
-             "Sokolow & Lyon, Am Heart J 1949: SV1 + RV5/V6 > 3.5 mV (from memory)"),
-    LimitRow("cornell_mv", None, 2.8, "mV",
-             "Casale et al., JACC 1985: RaVL + SV3 > 2.8 mV men (from memory)", sex="male"),
-    LimitRow("cornell_mv", None, 2.0, "mV",
-             "Casale et al., JACC 1985: RaVL + SV3 > 2.0 mV women (from memory)", sex="female"),
+    LimitRow("qrs_axis_deg", -30.0, 90.0, "deg",
+             _CONVENTIONAL + "frontal QRS axis -30 to +90 deg", basis=COMMON_PRACTICE),
+    LimitRow("p_axis_deg", 0.0, 75.0, "deg", _CONVENTIONAL + "frontal P axis 0 to +75 deg",
+             basis=f"{COMMON_PRACTICE}; {FROM_MEMORY}"),
+    LimitRow("sokolow_lyon_mv", None, 3.5, "mV", _SOKOLOW),
+    LimitRow("cornell_mv", None, 2.8, "mV", _CASALE.format("2.8", "men"), sex="male"),
+    LimitRow("cornell_mv", None, 2.0, "mV", _CASALE.format("2.0", "women"), sex="female"),
     _st(0.20, leads=_V2V3, sex="male", min_age_years=40),
     _st(0.25, leads=_V2V3, sex="male", max_age_years=40),
     _st(0.15, leads=_V2V3, sex="female"),

@@ -48,6 +48,13 @@ from typing import Any
 from reviewapp import CLINICAL_CAUTION
 from reviewapp.core.fiducials import FIDUCIALS, WaveMarks
 from reviewapp.core.measure.findings import LABELS, displayed
+from reviewapp.core.measure.limit_text import (
+    direction_of,
+    flag_text,
+    number_text,
+    range_text,
+    value_text,
+)
 from reviewapp.core.measure.limits import normal_range
 from reviewapp.core.measure.types import LeadMeasurements, NormalRange
 from reviewapp.core.record import SubjectFacts
@@ -377,25 +384,12 @@ def csv_row(d: Mapping[str, Any]) -> dict[str, Any]:
 
 
 def format_range(nr: NormalRange | None) -> str:
-    """A normal range as text: ``120 to 200 ms``, ``< 450 ms``, ``> 390 and < 460 ms``.
+    """A normal range as text (``limit_text.range_text``: the one writer of ranges).
 
     >>> format_range(NormalRange("pr_ms", 120.0, 200.0, "ms", ""))
     '120 to 200 ms'
-    >>> format_range(NormalRange("q", 390.0, 450.0, "ms", "", False, False))
-    '> 390 and < 450 ms'
     """
-    if nr is None:
-        return ""
-    lo, hi = nr.low, nr.high
-    g = "{:g}".format
-    if lo is not None and hi is not None and nr.low_is_normal and nr.high_is_normal:
-        return f"{g(lo)} to {g(hi)} {nr.unit}"
-    parts = []
-    if lo is not None:
-        parts.append(f"{'>=' if nr.low_is_normal else '>'} {g(lo)}")
-    if hi is not None:
-        parts.append(f"{'<=' if nr.high_is_normal else '<'} {g(hi)}")
-    return " and ".join(parts) + f" {nr.unit}"
+    return range_text(nr)
 
 
 _TABLE_ROWS: tuple[tuple[str, str, str], ...] = (
@@ -424,14 +418,7 @@ def _dig(d: Mapping[str, Any], dotted: str) -> Any:
 
 
 def _val(v: float | None, unit: str) -> str:
-    if v is None:
-        return "-"
-    v = displayed(v, unit)
-    if unit == "mV":
-        return f"{v:.2f} mV"
-    if unit == "deg":
-        return f"{v:+.0f} deg"
-    return f"{v:.0f} {unit}"
+    return value_text(v, unit, missing="-")
 
 
 def _reasons(d: Mapping[str, Any]) -> dict[str, str]:
@@ -445,9 +432,7 @@ def _reasons(d: Mapping[str, Any]) -> dict[str, str]:
 def _cell(v: float | None, key: str) -> str:
     if v is None:
         return "-"
-    if key == "q_ms":
-        return f"{displayed(v, 'ms'):.0f}"
-    return f"{displayed(v, 'mV'):.2f}"
+    return number_text(v, "ms" if key == "q_ms" else "mV")
 
 
 def table_text(d: Mapping[str, Any], *, per_lead: bool = False) -> str:
@@ -488,9 +473,8 @@ def table_text(d: Mapping[str, Any], *, per_lead: bool = False) -> str:
         direction = flagged.get((q, None), "")
         if not direction and v is not None and nr is not None and q.startswith("qtc_"):
             # Merged QTc finding: each formula's own flag from its limit, on the shown value.
-            shown = displayed(v, unit)
-            direction = "above" if nr.is_above(shown) else "below" if nr.is_below(shown) else ""
-        flag = {"above": "HIGH", "below": "LOW"}.get(direction, "")
+            direction = direction_of(nr, v)
+        flag = flag_text(direction)
         if v is None:
             flag = reasons.get(q, "not measured")
         label = LABELS.get(q, q)
