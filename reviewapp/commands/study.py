@@ -34,7 +34,7 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
             "and the analysis a drug-safety QT study reports: replicates averaged, change from "
             "baseline of QTcF and heart rate with 90 % CI, categorical outliers (ICH E14, "
             "2005), individual (QTcI) and population QT/RR corrections (Malik et al., Heart "
-            "2002), and a QT/RR picture per subject. " + CLINICAL_CAUTION
+            "2002), and a QT/RR picture per subject."
         ),
     )
     p.add_argument("folder", type=Path, metavar="FOLDER", help="folder of records (recursive)")
