@@ -22,6 +22,7 @@ from reviewapp.core.io._common import (
     ChannelWindows,
     clean_lead_label,
     completed_years,
+    listed,
     mv_factor,
     reading,
     unique_names,
@@ -206,7 +207,7 @@ def read_edf(path: Path) -> Record:
     if other:
         notes.append(
             "non-voltage signals left out: "
-            + ", ".join(f"{labels[i]} ({dims[i] or 'no unit'})" for i in sorted(other))
+            + listed(f"{labels[i]} ({dims[i] or 'no unit'})" for i in sorted(other))
         )
     if not voltage:
         raise RecordError("no voltage (ECG) signals in the EDF file", path)
@@ -237,7 +238,7 @@ def read_edf(path: Path) -> Record:
     if off_rate:
         notes.append(
             f"leads at other sampling rates than {common_rate:g} Hz left out: "
-            + ", ".join(f"{labels[i]} ({rates[i]:g} Hz)" for i in off_rate)
+            + listed(f"{labels[i]} ({rates[i]:g} Hz)" for i in off_rate)
         )
     channels = [i for i in voltage if rates[i] == common_rate]
     length = min(n_samples[i] for i in channels)

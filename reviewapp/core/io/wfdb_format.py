@@ -22,6 +22,7 @@ from reviewapp.core.errors import RecordError
 from reviewapp.core.io._common import (
     ChannelWindows,
     ColumnStackSource,
+    listed,
     mv_factor,
     reading,
     unique_names,
@@ -37,7 +38,7 @@ from reviewapp.core.io.wfdb_header import (
 from reviewapp.core.record import (
     DigitalMemmapSource,
     LeadInfo,
-    LinearSource,
+    PickSource,
     Record,
     SignalSource,
     SubjectFacts,
@@ -313,10 +314,10 @@ def _units_factors(
         kept.append(i)
         factors.append(f)
         unit_names.append(str(u))
-    notes = [f"non-voltage signals left out: {', '.join(dropped)}"] if dropped else []
+    notes = [f"non-voltage signals left out: {listed(dropped)}"] if dropped else []
     if not kept:
         raise RecordError(
-            f"no voltage (ECG) signals in the record; signals: {', '.join(dropped)}", hea
+            f"no voltage (ECG) signals in the record; signals: {listed(dropped)}", hea
         )
     return kept, factors, unit_names, notes
 
@@ -421,13 +422,10 @@ def _memmap_source(
             )
         )
     whole: SignalSource = parts[0] if len(parts) == 1 else ColumnStackSource(tuple(parts))
-    # Select voltage channels and convert units to mV in one matrix.
-    matrix = np.zeros((n_sig, len(kept)), dtype=np.float32)
-    for j, (c, f) in enumerate(zip(kept, factors, strict=True)):
-        matrix[c, j] = f
-    if len(kept) == n_sig and np.array_equal(matrix, np.eye(n_sig, dtype=np.float32)):
+    # Select voltage channels and convert units to mV (linear in the number of signals).
+    if kept == list(range(n_sig)) and all(f == 1.0 for f in factors):
         return whole
-    return LinearSource(whole, matrix)
+    return PickSource(whole, np.array(kept, dtype=np.int64), np.array(factors, dtype=np.float32))
 
 
 def _lead_infos(
@@ -501,7 +499,7 @@ def _read_single_segment(
     if uncalibrated:
         notes.append(
             "ADC gain 0 (uncalibrated) in the header for "
-            + ", ".join(str(header.sig_name[c]) for c in uncalibrated if c in kept)
+            + listed(str(header.sig_name[c]) for c in uncalibrated if c in kept)
             + "; WFDB's default 200 adu per mV used, amplitudes may be off"
         )
     if units is not None:
