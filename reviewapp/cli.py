@@ -23,10 +23,10 @@ import sys
 import traceback
 from collections.abc import Sequence
 from datetime import UTC, datetime
-from pathlib import Path
 
 from reviewapp import CLINICAL_CAUTION, __version__
-from reviewapp.core.errors import ReviewError
+from reviewapp.core.errors import ReviewError, printable
+from reviewapp.core.log import cache_dir, capture_warnings
 
 SUBCOMMANDS = ("open", "info", "measure", "batch", "export", "samples")
 
@@ -67,12 +67,6 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
-def cache_dir() -> Path:
-    """The user cache folder of reviewapp (``$XDG_CACHE_HOME/reviewapp`` or ~/.cache/...)."""
-    base = os.environ.get("XDG_CACHE_HOME") or os.environ.get("LOCALAPPDATA")
-    return (Path(base) if base else Path.home() / ".cache") / "reviewapp"
-
-
 def _log_internal_error(err: BaseException, argv: Sequence[str]) -> str:
     """Write the traceback to the cache folder; returns where, or why it could not."""
     path = cache_dir() / "last-error.log"
@@ -97,7 +91,8 @@ def _os_error_line(err: OSError) -> str:
     elif isinstance(err, NotADirectoryError):
         problem += " (a part of the path is a file)"
     where = [str(f) for f in (err.filename, err.filename2) if f is not None]
-    return "reviewapp: " + ": ".join([" -> ".join(where), problem] if where else [problem])
+    text = ": ".join([" -> ".join(where), problem] if where else [problem])
+    return "reviewapp: " + printable(text)
 
 
 def _quiet_broken_pipe() -> int:
@@ -119,6 +114,10 @@ def main(argv: Sequence[str] | None = None) -> int:
     ):
         # Window options (`reviewapp --speed 50 PATH`) belong to `open` as well.
         args_in = ["open", *args_in]
+    if args_in[0] != "open":
+        # Headless commands: third-party warnings go to the log file, not the terminal
+        # (the window keeps Python's default, which Qt's message handling shows).
+        capture_warnings()
     try:
         parser = build_parser()
         args = parser.parse_args(args_in)
@@ -143,8 +142,8 @@ def main(argv: Sequence[str] | None = None) -> int:
         print(_os_error_line(err), file=sys.stderr)
         return EXIT_BAD_INPUT
     except Exception as err:  # last resort: a bug; one line for the user, details in a log
-        where = _log_internal_error(err, args_in)
-        msg = " ".join(str(err).split())
+        where = printable(_log_internal_error(err, args_in))
+        msg = printable(" ".join(str(err).split()))
         print(
             f"reviewapp: internal error: {type(err).__name__}: {msg} "
             f"(please report; details in {where})",

@@ -173,8 +173,10 @@ def _analyse_step(
             return outcome(SKIPPED, view.summary, note="signed off: left as read")
         from reviewapp.core.engine import analyse
         from reviewapp.core.io import open_record
+        from reviewapp.core.record import check_analysable
 
         record = open_record(p)
+        check_analysable(record, p)
         fingerprint = sidecars.record_fingerprint(record)
         version = engine_version()
         if not force and is_current(view, fingerprint, version):

@@ -99,7 +99,13 @@ def run(args: argparse.Namespace) -> int:
     to_stdout = args.csv == STDOUT
     if args.csv and not to_stdout:
         check_output_path(args.csv, "CSV")
+    from reviewapp.core.io import open_record
+    from reviewapp.core.record import check_analysable
     from reviewapp.report.content import load_report_content
+
+    # The analysis cannot work on a record too short, too coarsely sampled or too large:
+    # refuse it in words before the report is made.
+    check_analysable(open_record(args.path), args.path)
     from reviewapp.report.export import (
         write_image,
         write_measurements_csv,

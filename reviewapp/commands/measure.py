@@ -17,11 +17,11 @@ from typing import Any
 
 from reviewapp import CLINICAL_CAUTION
 from reviewapp.commands._options import add_reading_options
-from reviewapp.core.errors import RecordError, ReviewError
+from reviewapp.core.errors import ReviewError
+from reviewapp.core.record import MIN_ANALYSIS_S, check_analysable
 
-# Shortest record measured: two beats even at 30 bpm, and enough signal for the filters
-# (common practice, no source).
-MIN_DURATION_S = 2.0
+# Shortest record measured (see core.record.check_analysable).
+MIN_DURATION_S = MIN_ANALYSIS_S
 
 
 def add_parser(sub: argparse._SubParsersAction) -> None:
@@ -67,12 +67,7 @@ def measure_path(
     if fs_hz is not None and not fs_hz > 0:
         raise ReviewError(f"--fs must be a positive number of Hz, got {fs_hz}")
     record = open_record(path, fs_hz=fs_hz, units=units)
-    if record.duration_s < MIN_DURATION_S:
-        raise RecordError(
-            f"record too short to measure ({record.n_samples} samples, "
-            f"{record.duration_s:.3g} s; at least {MIN_DURATION_S:g} s needed)",
-            path,
-        )
+    check_analysable(record, path)
     analysis = analyse(record)
     return reading_to_dict(analysis, analysis.reading(), path=str(path), per_lead=per_lead)
 

@@ -388,6 +388,48 @@ class Record:
         return replace(self, leads=tuple(leads))
 
 
+# Shortest record analysed: two beats even at 30 bpm, and enough signal for the filters
+# (common practice, no source). The engine's filters fail on shorter records (a 1 ms aECG).
+MIN_ANALYSIS_S = 2.0
+# Lowest sampling rate analysed: the QRS detector's pass band reaches 18 Hz and is designed
+# below 0.4 x the rate (core/dsp/qrs.py), so 45 Hz is its floor; at 50 Hz a QRS of 80-120 ms
+# still spans 4-6 samples. Below that no QRS can be told (common practice, no source).
+MIN_ANALYSIS_FS_HZ = 50.0
+
+
+def check_analysable(record: Record, path: Path | None = None) -> None:
+    """Refuse (RecordError naming ``path``, default the record's file) a record the analysis
+    cannot work on: shorter than MIN_ANALYSIS_S, sampled below MIN_ANALYSIS_FS_HZ, or too
+    large to hold whole within the memory budget. Cheap: nothing is read.
+
+    >>> import numpy as np
+    >>> check_analysable(record_from_array(np.zeros((5000, 1)), 500.0, ["V1"]))
+    >>> check_analysable(record_from_array(np.zeros((1, 1)), 1000.0, ["V1"]))
+    Traceback (most recent call last):
+    ...
+    reviewapp.core.errors.RecordError: record too short to measure (1 samples, 0.001 s; ...
+    """
+    where = path if path is not None else record.source_path
+    if record.duration_s < MIN_ANALYSIS_S:
+        raise RecordError(
+            f"record too short to measure ({record.n_samples} samples, "
+            f"{record.duration_s:.3g} s; at least {MIN_ANALYSIS_S:g} s needed)",
+            where,
+        )
+    if record.fs_hz < MIN_ANALYSIS_FS_HZ:
+        raise RecordError(
+            f"sampling rate {record.fs_hz:g} Hz is too low to measure (at least "
+            f"{MIN_ANALYSIS_FS_HZ:g} Hz needed: a QRS complex must span several samples)",
+            where,
+        )
+    check_signal_budget(
+        record.n_samples,
+        record.n_leads,
+        where,
+        f"the whole record ({_duration_text(record.duration_s)})",
+    )
+
+
 def _duration_text(seconds: float) -> str:
     if seconds >= 3600:
         return f"{seconds / 3600:.1f} h"
