@@ -25,7 +25,7 @@ from pathlib import Path
 from typing import Any
 
 from reviewapp.batch.summary import CachedSummary
-from reviewapp.core.errors import MarksError
+from reviewapp.core.errors import MarksError, printable
 from reviewapp.core.fiducials import MarkOverride
 from reviewapp.core.marks.errors import ForeignSidecarError, UnreadableSidecarError
 from reviewapp.core.marks.model import RecordIdentity, ReviewerReading, Sidecar
@@ -189,7 +189,7 @@ def read_view(record_path: Path, fingerprint: str | None = None) -> SidecarView 
     view = _decoded_view(path)
     if view is None:
         return None
-    if view.record_name != record_path.stem:
+    if view.record_name != printable(record_path.stem):
         raise SidecarProblem(
             f"the marks file was made for record {view.record_name!r}, not "
             f"{record_path.stem!r} (copied from another record?); left untouched",
