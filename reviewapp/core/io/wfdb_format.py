@@ -181,11 +181,19 @@ class Format212Source:
         last = stop * self.n_signals
         pair0, pair1 = first // 2, (last + 1) // 2
         raw = np.asarray(self.packed[pair0 * 3 : pair1 * 3], dtype=np.int32)
+        n_pairs = raw.size // 3
+        # An odd number of samples ends the file with two bytes: the last pair's first sample
+        # (byte0 + low nibble of byte1) without its second one.
+        half = raw.size - n_pairs * 3 == 2
+        if half:
+            raw = np.concatenate([raw, np.zeros(1, dtype=np.int32)])
         raw = raw[: (raw.size // 3) * 3].reshape(-1, 3)
         flat = np.empty(raw.shape[0] * 2, dtype=np.int32)
         flat[0::2] = raw[:, 0] | ((raw[:, 1] & 0x0F) << 8)
         flat[1::2] = raw[:, 2] | ((raw[:, 1] & 0xF0) << 4)
         flat[flat > 2047] -= 4096
+        if half:
+            flat = flat[:-1]
         if flat.size < last - pair0 * 2:
             raise RecordError(
                 f"format 212 signal file ends before sample {stop} of {self.total_samples}",
