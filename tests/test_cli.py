@@ -237,3 +237,24 @@ def test_third_party_warnings_go_to_the_log_not_the_terminal(tmp_path: Path) -> 
     assert out.returncode == 0 and out.stdout == "done\n" and out.stderr == ""
     log = (tmp_path / "reviewapp" / "reviewapp.log").read_text()
     assert "RuntimeWarning: Mean of empty slice" in log
+
+
+def test_an_export_that_fails_midway_leaves_the_previous_file_whole(
+    run, monkeypatch, tmp_path: Path
+) -> None:
+    import reviewapp.report.export as report_export
+
+    rec = SAMPLES / "s001_predose.hea"
+    out = tmp_path / "page.csv"
+    assert run("export", str(rec), "--csv", str(out))[0] == 0
+    previous = out.read_bytes()
+
+    def disk_full(path, content):  # writes half a file, then the disk is full
+        Path(path).write_text("record,quantity\ns001_predose,hr")
+        raise OSError(28, "No space left on device", str(path))
+
+    monkeypatch.setattr(report_export, "write_measurements_csv", disk_full)
+    code, _, err = run("export", str(rec), "--csv", str(out))
+    assert code == 2 and "No space left on device" in _one_line(err)
+    assert out.read_bytes() == previous
+    assert [p.name for p in tmp_path.iterdir()] == ["page.csv"]  # no temporary file left

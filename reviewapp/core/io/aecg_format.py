@@ -40,7 +40,7 @@ from reviewapp.core.io._common import (
     require_finite,
     unique_names,
 )
-from reviewapp.core.io.files import require_regular
+from reviewapp.core.io.files import atomic_output, require_regular
 from reviewapp.core.io.numbers import DECIMAL_EXP, parse_number
 from reviewapp.core.record import (
     READ_WHOLE,
@@ -362,7 +362,8 @@ def write_aecg(record: Record, path: str | Path, *, include_derived: bool = Fals
     tree = StdET.ElementTree(root)
     StdET.indent(tree, space=" ")
     try:
-        tree.write(path, encoding="UTF-8", xml_declaration=True)
+        with atomic_output(path) as tmp:
+            tree.write(tmp, encoding="UTF-8", xml_declaration=True)
     except OSError as err:
         raise RecordError(f"cannot write aECG file: {err.strerror or err}", path) from None
     return path

@@ -7,13 +7,20 @@ refused unless it is a regular file. Where this program opens the file itself, i
 ``O_NONBLOCK`` and checks the open descriptor again (``fstat``), so a file swapped for a FIFO
 between the two steps is refused too instead of blocking. Libraries that take a path (wfdb,
 pyedflib, pydicom) get it only after the ``stat`` check.
+
+Output files are written the other way round: to a temporary file beside the target, fsynced,
+then renamed over it (``atomic_output``), so a full disk or a kill never leaves a file cut
+short in place of the previous one.
 """
 
 from __future__ import annotations
 
 import os
+import secrets
+import shutil
 import stat
-from collections.abc import Callable
+from collections.abc import Callable, Iterator
+from contextlib import contextmanager
 from pathlib import Path
 from typing import BinaryIO
 
@@ -116,3 +123,59 @@ def read_regular(
     """Up to ``limit`` bytes of a regular file (``open_regular``)."""
     with open_regular(path, error) as fh:
         return fh.read(limit)
+
+
+def _fsync_path(path: Path) -> None:
+    fd = os.open(path, os.O_RDONLY)
+    try:
+        os.fsync(fd)
+    except OSError:
+        pass  # some file systems refuse fsync on folders; the rename is still atomic
+    finally:
+        os.close(fd)
+
+
+@contextmanager
+def atomic_output(
+    path: str | os.PathLike[str], error: ErrorFactory = RecordError
+) -> Iterator[Path]:
+    """Write an output file all at once: yields a temporary path beside ``path`` (hidden, same
+    suffix, so writers that choose a format by suffix still do), then fsyncs it and renames it
+    over ``path``. A full disk, a crash or a kill leaves the previous file whole (or none),
+    never one cut short; the temporary file is removed on failure."""
+    path = Path(path)
+    tmp = path.with_name(f".{path.stem}.tmp-{os.getpid()}-{secrets.token_hex(4)}{path.suffix}")
+    try:
+        yield tmp
+        _fsync_path(tmp)
+        os.replace(tmp, path)
+        _fsync_path(path.parent)
+    except OSError as err:
+        raise error(f"cannot write: {err.strerror or err}", path) from None
+    finally:
+        try:
+            tmp.unlink(missing_ok=True)
+        except OSError:
+            pass
+
+
+@contextmanager
+def atomic_outputs(
+    folder: Path, names: list[str], error: ErrorFactory = RecordError
+) -> Iterator[Path]:
+    """Like ``atomic_output`` for writers that write several files into a folder (wfdb's
+    wrsamp, wrann): yields a hidden temporary folder inside ``folder``; each of ``names`` is
+    then fsynced and renamed into ``folder`` in the order given (a WFDB header last, so a
+    header never names a signal file that is not complete)."""
+    tmp = folder / f".tmp-{os.getpid()}-{secrets.token_hex(4)}"
+    try:
+        tmp.mkdir()
+        yield tmp
+        for name in names:
+            _fsync_path(tmp / name)
+            os.replace(tmp / name, folder / name)
+        _fsync_path(folder)
+    except OSError as err:
+        raise error(f"cannot write: {err.strerror or err}", folder) from None
+    finally:
+        shutil.rmtree(tmp, ignore_errors=True)
