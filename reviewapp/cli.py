@@ -43,7 +43,7 @@ exit codes:
   {EXIT_SOME_FAILED}    finished, but some records failed (measure with several files, batch);
        each failure is reported on stderr
   {EXIT_BAD_INPUT}    bad input or nothing could be done (unreadable record, no records found,
-       wrong option)
+       every record failed, wrong option)
   {EXIT_INTERNAL}    internal error (a bug: please report it with the log file named)
   {EXIT_BROKEN_PIPE}  output pipe closed early (e.g. piped into head)"""
 

@@ -137,5 +137,8 @@ def run(args: argparse.Namespace) -> int:
             else ")"
         )
     )
-    # 1 = the batch ran to the end but some records could not be processed (listed above).
+    # 1 = the batch ran to the end but some records could not be processed (listed above);
+    # 2 = none could be (nothing was done), as for measure.
+    if result.failed and result.failed == len(result.outcomes):
+        return 2
     return 1 if result.failed else 0

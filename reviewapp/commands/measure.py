@@ -60,14 +60,17 @@ def measure_path(
     path: Path, *, fs_hz: float | None = None, per_lead: bool = False, units: str | None = None
 ) -> dict:
     """Open, analyse and measure one record; the JSON-ready dict (raises ReviewError)."""
-    from reviewapp.core.engine import analyse
     from reviewapp.core.io import open_record
-    from reviewapp.core.measure.output import reading_to_dict
 
     if fs_hz is not None and not fs_hz > 0:
         raise ReviewError(f"--fs must be a positive number of Hz, got {fs_hz}")
     record = open_record(path, fs_hz=fs_hz, units=units)
     check_analysable(record, path)
+    # The engine (and SciPy) is imported only for a record it can work on: a refused file
+    # costs the reader alone.
+    from reviewapp.core.engine import analyse
+    from reviewapp.core.measure.output import reading_to_dict
+
     analysis = analyse(record)
     return reading_to_dict(analysis, analysis.reading(), path=str(path), per_lead=per_lead)
 

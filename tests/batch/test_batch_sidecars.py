@@ -128,6 +128,20 @@ def test_a_one_millisecond_aecg_fails_in_words(tmp_path: Path, folder: Path):
     assert "LinAlgError" not in rows["tiny"]["error"]
 
 
+def test_batch_on_only_a_one_millisecond_aecg_is_exit_2_naming_it(tmp_path: Path, capsys):
+    from reviewapp.core.io.aecg_format import write_aecg
+    from reviewapp.core.record import record_from_array
+
+    one = record_from_array(np.full((1, 2), 0.1, np.float32), 1000.0, ["I", "II"], name="t")
+    write_aecg(one, tmp_path / "tiny.xml")
+    assert main(["batch", str(tmp_path), "--workers", "1"]) == 2
+    failures = [ln for ln in capsys.readouterr().err.splitlines() if ln.startswith("failed:")]
+    assert failures == [
+        f"failed: {tmp_path / 'tiny.xml'}: record too short to measure (1 samples, 0.001 s; "
+        "at least 2 s needed)"
+    ]
+
+
 def test_summary_with_a_non_utf8_file_name_is_written_whole(tmp_path: Path, folder: Path, capsys):
     rec = open_record(folder / "a.hea")
     t = np.arange(rec.n_samples) / rec.fs_hz

@@ -350,7 +350,7 @@ _WRITER = textwrap.dedent(
 def test_two_processes_saving_at_once_lose_no_acknowledged_save(scratch, mode):
     (scratch / "rec.csv").write_bytes(b"demo signal file\n")
     env = dict(os.environ, PYTHONPATH=str(REPO) + os.pathsep + os.environ.get("PYTHONPATH", ""))
-    cmd = [sys.executable, "-c", _WRITER, mode, str(scratch), "40"]
+    cmd = [sys.executable, "-c", _WRITER, mode, str(scratch), "30"]
     procs = [
         subprocess.Popen([*cmd, tag], stdout=subprocess.PIPE, text=True, env=env)
         for tag in ("a", "b")
@@ -361,6 +361,6 @@ def test_two_processes_saving_at_once_lose_no_acknowledged_save(scratch, mode):
         assert p.returncode == 0
         acked += json.loads(out)
     notes = {n.text for n in load_sidecar(scratch / "rec.marks.json").reading("reader1").notes}
-    assert len(acked) >= 40  # both made progress
+    assert len(acked) >= 30  # both made progress
     assert set(acked) <= notes, sorted(set(acked) - notes)
     assert not (scratch / "rec.marks.json.lock").exists()
