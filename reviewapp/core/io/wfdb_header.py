@@ -103,10 +103,8 @@ def parse_header(text: str, path: Path) -> HeaderFields:
     sig_len = None
     if len(fields) > 3:
         sig_len = parse_int(fields[3], "number of samples per signal", path)
-    when = {
-        "base_time": fields[4] if len(fields) > 4 else None,
-        "base_date": fields[5] if len(fields) > 5 else None,
-    }
+    base_time = fields[4] if len(fields) > 4 else None
+    base_date = fields[5] if len(fields) > 5 else None
     if n_segments is not None:
         segments = []
         for k, line in enumerate(lines[1:], start=1):
@@ -115,10 +113,26 @@ def parse_header(text: str, path: Path) -> HeaderFields:
                 raise RecordError(f"segment line {k} {line[:60]!r} has no length", path)
             segments.append((parts[0], parse_int(parts[1], f"segment {parts[0]!r} length", path)))
         return HeaderFields(
-            name, n_segments, n_signals, fs_hz, sig_len, segments=tuple(segments), **when
+            name,
+            n_segments,
+            n_signals,
+            fs_hz,
+            sig_len,
+            segments=tuple(segments),
+            base_time=base_time,
+            base_date=base_date,
         )
     signals = tuple(_signal_line(k, line, path) for k, line in enumerate(lines[1:], start=1))
-    return HeaderFields(name, None, n_signals, fs_hz, sig_len, signals=signals, **when)
+    return HeaderFields(
+        name,
+        None,
+        n_signals,
+        fs_hz,
+        sig_len,
+        signals=signals,
+        base_time=base_time,
+        base_date=base_date,
+    )
 
 
 def _time_of(text: str) -> time | None:
