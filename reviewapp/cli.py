@@ -24,10 +24,10 @@ import textwrap
 import traceback
 from collections.abc import Sequence
 from datetime import UTC, datetime
-from pathlib import Path
 
 from reviewapp import CLINICAL_CAUTION, __version__
-from reviewapp.core.errors import ReviewError
+from reviewapp.core.errors import ReviewError, printable
+from reviewapp.core.log import cache_dir, capture_warnings
 
 SUBCOMMANDS = ("open", "info", "measure", "batch", "study", "export", "samples")
 
@@ -44,7 +44,7 @@ exit codes:
   {EXIT_SOME_FAILED}    finished, but some records failed (measure with several files, batch);
        each failure is reported on stderr
   {EXIT_BAD_INPUT}    bad input or nothing could be done (unreadable record, no records found,
-       wrong option)
+       every record failed, wrong option)
   {EXIT_INTERNAL}    internal error (a bug: please report it with the log file named)
   {EXIT_BROKEN_PIPE}  output pipe closed early (e.g. piped into head)"""
 # The clinical caution as every --help prints it (top level and each subcommand).
@@ -71,12 +71,6 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
-def cache_dir() -> Path:
-    """The user cache folder of reviewapp (``$XDG_CACHE_HOME/reviewapp`` or ~/.cache/...)."""
-    base = os.environ.get("XDG_CACHE_HOME") or os.environ.get("LOCALAPPDATA")
-    return (Path(base) if base else Path.home() / ".cache") / "reviewapp"
-
-
 def _log_internal_error(err: BaseException, argv: Sequence[str]) -> str:
     """Write the traceback to the cache folder; returns where, or why it could not."""
     path = cache_dir() / "last-error.log"
@@ -101,7 +95,8 @@ def _os_error_line(err: OSError) -> str:
     elif isinstance(err, NotADirectoryError):
         problem += " (a part of the path is a file)"
     where = [str(f) for f in (err.filename, err.filename2) if f is not None]
-    return "reviewapp: " + ": ".join([" -> ".join(where), problem] if where else [problem])
+    text = ": ".join([" -> ".join(where), problem] if where else [problem])
+    return "reviewapp: " + printable(text)
 
 
 def _quiet_broken_pipe() -> int:
@@ -123,6 +118,10 @@ def main(argv: Sequence[str] | None = None) -> int:
     ):
         # Window options (`reviewapp --speed 50 PATH`) belong to `open` as well.
         args_in = ["open", *args_in]
+    if args_in[0] != "open":
+        # Headless commands: third-party warnings go to the log file, not the terminal
+        # (the window keeps Python's default, which Qt's message handling shows).
+        capture_warnings()
     try:
         parser = build_parser()
         args = parser.parse_args(args_in)
@@ -147,8 +146,8 @@ def main(argv: Sequence[str] | None = None) -> int:
         print(_os_error_line(err), file=sys.stderr)
         return EXIT_BAD_INPUT
     except Exception as err:  # last resort: a bug; one line for the user, details in a log
-        where = _log_internal_error(err, args_in)
-        msg = " ".join(str(err).split())
+        where = printable(_log_internal_error(err, args_in))
+        msg = printable(" ".join(str(err).split()))
         print(
             f"reviewapp: internal error: {type(err).__name__}: {msg} "
             f"(please report; details in {where})",

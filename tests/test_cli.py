@@ -7,11 +7,13 @@ Exit codes (documented in `reviewapp --help`): 0 ok; 1 finished but some records
 from __future__ import annotations
 
 import argparse
+import os
 import shutil
 import subprocess
 import sys
 from pathlib import Path
 
+import numpy as np
 import pytest
 
 from reviewapp import CLINICAL_CAUTION, cli
@@ -174,3 +176,107 @@ def test_broken_pipe_is_quiet(tmp_path: Path) -> None:
     err = err_file.read_text()
     assert "Traceback" not in err and "BrokenPipe" not in err and err.strip() == ""
     assert proc.returncode in (0, 141)  # pipefail: the reviewapp exit code, 141 when cut off
+
+
+# ---------------------------------------------------------------- bad inputs: exit 2, one line
+
+
+@pytest.mark.parametrize(
+    "arg,message",
+    [
+        (".", "reviewapp: .: is a folder, not a record file"),
+        ("/", "reviewapp: /: is a folder, not a record file"),
+        ("", "reviewapp: '' is not a record file: the path is empty"),
+    ],
+)
+def test_info_on_a_folder_or_an_empty_path_is_one_line_exit_2(run, arg: str, message: str):
+    code, out, err = run("info", arg)
+    assert code == 2 and out == "" and _one_line(err) == message
+
+
+def test_info_on_a_fifo_is_refused_without_blocking(run, tmp_path: Path) -> None:
+    import signal
+
+    fifo = tmp_path / "f"
+    os.mkfifo(fifo)
+    signal.alarm(10)  # a blocking open would hang here; the alarm fails the test instead
+    try:
+        code, _, err = run("info", str(fifo))
+    finally:
+        signal.alarm(0)
+    assert code == 2 and _one_line(err) == (
+        f"reviewapp: {fifo}: is a FIFO (named pipe), not a regular file; refused without reading it"
+    )
+
+
+def test_a_file_name_with_a_newline_stays_on_one_line(run, tmp_path: Path) -> None:
+    bad = tmp_path / "two\nlines.csv"
+    bad.write_text("hello\n")
+    code, _, err = run("info", str(bad))
+    line = _one_line(err)
+    assert code == 2 and line.startswith(f"reviewapp: {tmp_path}/two\\nlines.csv: ")
+
+
+def _csv_at(path: Path, fs_hz: float, seconds: float = 10.0) -> Path:
+    t = np.arange(int(fs_hz * seconds)) / fs_hz
+    x = np.sin(2 * np.pi * 1.2 * t)
+    rows = "\n".join(f"{a:.6f},{b:.6f},{b / 2:.6f}" for a, b in zip(t, x, strict=True))
+    path.write_text("time_s,I,II\n" + rows + "\n")
+    return path
+
+
+def test_export_of_a_record_sampled_too_coarsely_is_exit_2(run, tmp_path: Path) -> None:
+    """A 10 Hz record: the engine's QRS band-pass (5-18 Hz) cannot be designed below 45 Hz;
+    before, export failed with exit 3 (ValueError from the filter design)."""
+    rec = _csv_at(tmp_path / "ten_hz.csv", 10.0)
+    code, out, err = run("export", str(rec), "--pdf", str(tmp_path / "out.pdf"))
+    assert code == 2 and out == ""
+    assert _one_line(err) == (
+        f"reviewapp: {rec}: sampling rate 10 Hz is too low to measure (at least 50 Hz "
+        "needed: a QRS complex must span several samples)"
+    )
+    assert not (tmp_path / "out.pdf").exists()
+    assert run("measure", str(rec))[0] == 2
+
+
+def test_third_party_warnings_go_to_the_log_not_the_terminal(tmp_path: Path) -> None:
+    # In a fresh interpreter: pytest records warnings itself, in-process.
+    code = (
+        "import warnings, sys\n"
+        "import reviewapp.commands.info as info\n"
+        "def noisy(args):\n"
+        "    warnings.warn('Mean of empty slice (a library notice)', RuntimeWarning)\n"
+        "    print('done')\n"
+        "    return 0\n"
+        "info.run = noisy\n"
+        "from reviewapp.cli import main\n"
+        "sys.exit(main(['info', 'whatever.hea']))\n"
+    )
+    env = dict(os.environ, XDG_CACHE_HOME=str(tmp_path), PYTHONPATH=str(REPO))
+    out = subprocess.run(
+        [sys.executable, "-c", code], capture_output=True, text=True, env=env, timeout=120
+    )
+    assert out.returncode == 0 and out.stdout == "done\n" and out.stderr == ""
+    log = (tmp_path / "reviewapp" / "reviewapp.log").read_text()
+    assert "RuntimeWarning: Mean of empty slice" in log
+
+
+def test_an_export_that_fails_midway_leaves_the_previous_file_whole(
+    run, monkeypatch, tmp_path: Path
+) -> None:
+    import reviewapp.report.export as report_export
+
+    rec = SAMPLES / "s001_predose.hea"
+    out = tmp_path / "page.csv"
+    assert run("export", str(rec), "--csv", str(out))[0] == 0
+    previous = out.read_bytes()
+
+    def disk_full(path, content):  # writes half a file, then the disk is full
+        Path(path).write_text("record,quantity\ns001_predose,hr")
+        raise OSError(28, "No space left on device", str(path))
+
+    monkeypatch.setattr(report_export, "write_measurements_csv", disk_full)
+    code, _, err = run("export", str(rec), "--csv", str(out))
+    assert code == 2 and "No space left on device" in _one_line(err)
+    assert out.read_bytes() == previous
+    assert [p.name for p in tmp_path.iterdir()] == ["page.csv"]  # no temporary file left

@@ -4,8 +4,10 @@ Workers receive paths, never arrays: each opens its records, analyses them and w
 sidecars itself, returning only small ``RecordOutcome``s. Records go out in small chunks
 (``task.process_records``): one Dask task per record of ~40 ms would spend a noticeable share
 of the two cores on scheduling, and within a chunk each sidecar's fsync waits overlap the
-analysis of the next record. Futures are collected with ``as_completed`` so progress moves as
-chunks finish, in whatever order they finish.
+analysis of the next record. Futures are collected as they finish (``_completed``), so progress
+moves as chunks finish, in whatever order; a worker lost mid-run costs only a retry of its
+chunk on another worker, and a cluster left with no worker stops the batch with a message
+instead of a wait without end.
 """
 
 from __future__ import annotations
@@ -14,11 +16,14 @@ import logging
 import math
 import os
 import time
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass
 from pathlib import Path
+from typing import Any
 
 from reviewapp.batch.task import DONE, FAILED, SKIPPED, RecordOutcome, process_records
+from reviewapp.core.errors import printable
+from reviewapp.core.log import capture_warnings, log_path
 
 ProgressFn = Callable[[RecordOutcome], None]
 # A chunk task: (paths, force) -> one outcome per path, in order (default: the batch step).
@@ -65,6 +70,11 @@ def default_workers() -> int:
     return max(1, os.cpu_count() or 1)
 
 
+# How long an existing cluster may be without any worker (none joined yet, or all lost) before
+# the batch stops with a clear message instead of waiting forever.
+WORKER_WAIT_S = 60.0
+
+
 def run_batch(
     paths: Sequence[Path],
     *,
@@ -74,6 +84,7 @@ def run_batch(
     progress: ProgressFn | None = None,
     processes: bool = True,
     task: ChunkTask = process_records,
+    worker_wait_s: float = WORKER_WAIT_S,
 ) -> BatchResult:
     """Process ``paths``; never raises for a bad record (its outcome carries the error).
 
@@ -83,6 +94,10 @@ def run_batch(
     processes: local cluster of processes (default) or of threads.
     task: what each worker runs on a chunk of paths (picklable; e.g. the study table's
         ``study_records``); its outcomes need ``path``, ``record`` and ``outcome``.
+    worker_wait_s: with ``scheduler``, how long to wait for a first worker, and how long the
+        cluster may be left without workers mid-run; then ReviewError (none joined) or the
+        remaining records fail with "no Dask worker left". A worker lost while others remain
+        costs nothing: the scheduler gives its records to the others.
     """
     t0 = time.perf_counter()
     items = [str(p) for p in paths]
@@ -91,7 +106,7 @@ def run_batch(
         outcomes, startup = _run_in_process(items, force, progress, task)
     else:
         outcomes, startup = _run_on_dask(
-            items, force, progress, n_workers, scheduler, processes, task
+            items, force, progress, n_workers, scheduler, processes, task, worker_wait_s
         )
     return BatchResult(tuple(outcomes), time.perf_counter() - t0, n_workers, startup)
 
@@ -129,9 +144,10 @@ def _run_on_dask(
     scheduler: str | None,
     processes: bool,
     task: ChunkTask,
+    worker_wait_s: float = WORKER_WAIT_S,
 ) -> tuple[list[RecordOutcome], float]:
     import dask
-    from dask.distributed import Client, LocalCluster, as_completed
+    from dask.distributed import Client, LocalCluster
 
     t0 = time.perf_counter()
     cluster = None
@@ -172,8 +188,18 @@ def _run_on_dask(
         except (OSError, TimeoutError) as err:
             raise ReviewError(f"cannot reach the Dask scheduler at {scheduler}: {err}") from err
     try:
-        # Import the pipeline on every worker first, so records start together.
-        client.run(_warm_up, _suffixes(items))
+        if scheduler is not None:
+            try:
+                client.wait_for_workers(1, timeout=worker_wait_s)
+            except (TimeoutError, OSError):
+                raise ReviewError(
+                    f"no Dask worker joined the scheduler at {scheduler} within "
+                    f"{worker_wait_s:g} s; start workers (dask worker {scheduler}) or run "
+                    "without --scheduler"
+                ) from None
+        # Import the pipeline on every worker first, so records start together; their
+        # warnings go to the log file, not to the terminal the workers were started from.
+        client.run(_warm_up, _suffixes(items), str(log_path()))
         n = n_workers if scheduler is None else max(1, len(client.scheduler_info()["workers"]))
         startup = time.perf_counter() - t0
         futures = {}
@@ -182,25 +208,17 @@ def _run_on_dask(
             futures[client.submit(task, group, force, pure=False)] = (offset, group)
             offset += len(group)
         results: list[RecordOutcome | None] = [None] * len(items)
-        for fut in as_completed(futures):
-            offset, group = futures[fut]
-            try:
-                outs = fut.result()
-            except Exception as err:  # a worker died on this chunk (crash, OOM kill)
-                outs = [
-                    RecordOutcome(
-                        path,
-                        Path(path).stem,
-                        FAILED,
-                        error=f"{path}: worker failed: {type(err).__name__}: {err}",
-                    )
-                    for path in group
-                ]
+
+        def finish(fut: Any, outs: list[RecordOutcome]) -> None:
+            offset, _group = futures.pop(fut)
             fut.release()
             for j, out in enumerate(outs):
                 results[offset + j] = out
                 if progress is not None:
                     progress(out)
+
+        for fut, outs in _completed(client, futures, worker_wait_s):
+            finish(fut, outs)
         return [r for r in results if r is not None], startup
     finally:
         client.close()
@@ -208,12 +226,66 @@ def _run_on_dask(
             cluster.close()
 
 
+def _failed(group: Sequence[str], why: str) -> list[RecordOutcome]:
+    return [
+        RecordOutcome(path, Path(path).stem, FAILED, error=printable(f"{path}: {why}"))
+        for path in group
+    ]
+
+
+def _completed(
+    client: Any, futures: dict[Any, tuple[int, list[str]]], worker_wait_s: float
+) -> Iterator[tuple[Any, list[RecordOutcome]]]:
+    """Each chunk's outcomes as its future finishes, in whatever order.
+
+    A chunk whose worker died is given to another worker by the scheduler (Dask retries a task
+    whose worker was lost); one that kept killing workers fails with the error. If the cluster
+    has no worker at all for ``worker_wait_s``, the chunks still waiting fail with "no Dask
+    worker left" instead of the batch waiting forever.
+    """
+    from dask.distributed import wait
+
+    pending = set(futures)
+    alone_since: float | None = None
+    while pending:
+        try:
+            done, pending = wait(pending, timeout=1.0, return_when="FIRST_COMPLETED")
+        except TimeoutError:
+            done = set()
+        for fut in done:
+            group = futures[fut][1]
+            try:
+                outs = fut.result()
+            except Exception as err:  # the chunk killed its workers (crash, OOM kill)
+                outs = _failed(group, f"worker failed: {type(err).__name__}: {err}")
+            yield fut, outs
+        if done:
+            alone_since = None
+            continue
+        if client.nthreads():
+            alone_since = None
+        elif alone_since is None:
+            alone_since = time.monotonic()
+        elif time.monotonic() - alone_since > worker_wait_s:
+            for fut in list(pending):
+                yield (
+                    fut,
+                    _failed(
+                        futures[fut][1], f"no Dask worker left for {worker_wait_s:g} s; not marked"
+                    ),
+                )
+            return
+
+
 def _suffixes(items: Sequence[str]) -> set[str]:
     return {Path(p).suffix.lower() for p in items}
 
 
-def _warm_up(suffixes: set[str] | frozenset[str] = frozenset()) -> None:
-    """Import the pipeline, and the readers of the given file suffixes, before timing starts."""
+def _warm_up(suffixes: set[str] | frozenset[str] = frozenset(), log: str | None = None) -> None:
+    """Import the pipeline, and the readers of the given file suffixes, before timing starts;
+    with ``log``, send this process's warnings to that log file."""
+    if log is not None:
+        capture_warnings(Path(log))
     import reviewapp.core.engine
     import reviewapp.core.io
     import reviewapp.core.marks

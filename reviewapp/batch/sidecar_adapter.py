@@ -1,37 +1,45 @@
 """The one place batch, worklist and export touch the marks sidecar (``reviewapp.core.marks``).
 
-Two paths, on purpose:
-- writing (batch) and reading marks for a report go through the marks store, which validates
-  against the schema, checks the record fingerprint, takes the lock and writes atomically;
-- listing (worklist rows) and the batch's "is this sidecar current?" decision read the raw
-  JSON for a handful of fields. Schema validation costs tens of milliseconds per file, which a
-  10,000-record worklist cannot pay; nothing read this way is ever written back or measured
-  on, and a file this fast path cannot make sense of is simply treated as not current (the
-  store then gives the proper error).
+Every sidecar is read and judged by the marks store's own reader: ``read_sidecar_bytes`` (a
+regular file, under the size cap) and ``codec.decode`` (JSON, schema, version), and, where the
+record's content fingerprint is known (batch), the store's identity check. A file the store
+would refuse is never reported as signed or current: it is ``invalid`` (unreadable, hostile,
+another schema version), ``foreign`` (made for another record: its record name differs) or
+``stale`` (same record name, but the record's files changed after the marks were made), and
+it is left untouched.
+
+The worklist lists thousands of records and does not open them, so it cannot know their
+fingerprints: it gets the codec's verdict and the record-name check. Decoded views are kept
+in a small cache keyed by the file's identity (device, inode, size, modification and change
+times), so listing a folder again costs a ``stat`` per sidecar; any change to the file
+misses the cache and is judged afresh.
 """
 
 from __future__ import annotations
 
-import json
-from collections.abc import Mapping
-from dataclasses import dataclass
+import os
+import stat
+import threading
+from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Any
 
 from reviewapp.batch.summary import CachedSummary
-from reviewapp.core.errors import MarksError
+from reviewapp.core.errors import MarksError, printable
 from reviewapp.core.fiducials import MarkOverride
+from reviewapp.core.marks.errors import ForeignSidecarError, UnreadableSidecarError
+from reviewapp.core.marks.model import RecordIdentity, ReviewerReading, Sidecar
 from reviewapp.core.record import Record
 
 SIDECAR_SUFFIX = ".marks.json"
 STATUSES = ("unread", "in_progress", "signed_off")
-# Same cap as the marks store: larger files are not marks files this program wrote.
-_MAX_BYTES = 50 * 2**20
+# What a batch or a listing found in a record's marks file (``MarksState``).
+ABSENT, VALID, FOREIGN, STALE, INVALID = "absent", "valid", "foreign", "stale", "invalid"
 
 
 @dataclass(frozen=True)
 class SidecarView:
-    """What the batch and the worklist read from one sidecar (fast path, read-only)."""
+    """What the batch and the worklist read from one valid sidecar (read-only)."""
 
     sidecar: Path
     fingerprint: str | None  # of the record the sidecar belongs to
@@ -46,10 +54,23 @@ class SidecarView:
     # worklist shows theirs, not the record's overall status (which would tell them the first
     # reader has signed and hide their own unread records from "unread only").
     status_by_reviewer: tuple[tuple[str, str], ...] = ()
+    record: RecordIdentity | None = None  # the record the sidecar names
+
+    @property
+    def record_name(self) -> str:
+        return "" if self.record is None else self.record.name
 
     @property
     def signed_off(self) -> bool:
         return self.status == "signed_off"
+
+
+class SidecarProblem(MarksError):
+    """A marks file the store would refuse; ``state`` is FOREIGN, STALE or INVALID."""
+
+    def __init__(self, problem: str, path: Path, state: str) -> None:
+        self.state = state
+        super().__init__(problem, path)
 
 
 def sidecar_path(record_path: Path) -> Path:
@@ -65,93 +86,131 @@ def record_fingerprint(record: Record) -> str:
     return fp(record)
 
 
-# --- fast read-only view ---------------------------------------------------------------------
+# --- reading through the store's codec --------------------------------------------------------
 
 
-def _load_raw(path: Path) -> dict[str, Any] | None:
+def primary_reading(sidecar: Sidecar) -> ReviewerReading | None:
+    """The reading a worklist shows: signed off first, then the most recently edited."""
+    if not sidecar.readings:
+        return None
+    latest: dict[str, str] = {}
+    for e in sidecar.audit:
+        if e.at > latest.get(e.reviewer, ""):
+            latest[e.reviewer] = e.at
+    rank = {"signed_off": 2, "in_progress": 1}
+    return max(
+        sidecar.readings,
+        key=lambda r: (rank.get(r.status, 0), latest.get(r.reviewer, ""), r.reviewer),
+    )
+
+
+def _view(path: Path, sidecar: Sidecar) -> SidecarView:
+    shown = primary_reading(sidecar)
+    cache = sidecar.listing_cache
+    return SidecarView(
+        sidecar=path,
+        fingerprint=sidecar.record.fingerprint,
+        engine_version=None if sidecar.automatic is None else sidecar.automatic.engine_version,
+        status=shown.status if shown is not None else "unread",
+        reviewer=shown.reviewer if shown is not None else None,
+        signed_off_at=shown.signed_off_at if shown is not None else None,
+        any_signed_off=any(r.status == "signed_off" for r in sidecar.readings),
+        n_readings=len(sidecar.readings),
+        summary=CachedSummary.from_json(cache) if isinstance(cache, dict) else None,
+        status_by_reviewer=tuple(sorted((r.reviewer, r.status) for r in sidecar.readings)),
+        record=sidecar.record,
+    )
+
+
+_CACHE: dict[tuple[Any, ...], SidecarView] = {}
+_CACHE_LOCK = threading.Lock()
+_CACHE_MAX = 100_000
+
+
+def _identity(path: Path) -> tuple[Any, ...] | None:
+    """The file's identity for the cache; None when absent. A path that is not a regular
+    file is an INVALID sidecar (a FIFO is never opened)."""
     try:
-        with open(path, "rb") as fh:
-            data = fh.read(_MAX_BYTES + 1)
+        st = os.stat(path)
     except FileNotFoundError:
         return None
     except OSError as err:
-        raise MarksError(f"cannot read the marks file: {err.strerror or err}", path) from None
-    if len(data) > _MAX_BYTES:
-        raise MarksError("marks file is larger than any this program writes", path)
-    try:
-        doc = json.loads(data)
-    except (json.JSONDecodeError, UnicodeDecodeError, RecursionError) as err:
-        raise MarksError(f"the marks file is not valid JSON ({type(err).__name__})", path) from None
-    if not isinstance(doc, dict) or doc.get("format") != "reviewapp-marks":
-        raise MarksError("not a reviewapp marks file", path)
-    return doc
+        raise SidecarProblem(
+            f"cannot read the marks file: {err.strerror or err}", path, INVALID
+        ) from None
+    if not stat.S_ISREG(st.st_mode):
+        from reviewapp.core.io.files import file_kind
+
+        raise SidecarProblem(
+            f"the marks file is {file_kind(st.st_mode)}, not a regular file; left untouched",
+            path,
+            INVALID,
+        )
+    return (str(path), st.st_dev, st.st_ino, st.st_size, st.st_mtime_ns, st.st_ctime_ns)
 
 
-def _latest_event_by(doc: Mapping[str, Any]) -> dict[str, str]:
-    latest: dict[str, str] = {}
-    audit = doc.get("audit")
-    for e in audit if isinstance(audit, list) else ():
-        if isinstance(e, dict) and isinstance(e.get("reviewer"), str):
-            at = str(e.get("at", ""))
-            if at > latest.get(e["reviewer"], ""):
-                latest[e["reviewer"]] = at
-    return latest
-
-
-def _primary(doc: Mapping[str, Any]) -> tuple[str | None, Mapping[str, Any] | None]:
-    """The reading a worklist shows: signed off first, then the most recently edited."""
-    readings = doc.get("readings")
-    items = [
-        (k, v)
-        for k, v in (readings.items() if isinstance(readings, dict) else ())
-        if isinstance(v, dict)
-    ]
-    if not items:
-        return None, None
-    latest = _latest_event_by(doc)
-    rank = {"signed_off": 2, "in_progress": 1}
-    return max(
-        items, key=lambda kv: (rank.get(kv[1].get("status"), 0), latest.get(kv[0], ""), kv[0])
-    )
-
-
-def read_view(record_path: Path) -> SidecarView | None:
-    """The listing view of ``record_path``'s sidecar; None when there is none.
-
-    Raises MarksError when the file exists but is not a readable marks file.
-    """
-    path = sidecar_path(record_path)
-    doc = _load_raw(path)
-    if doc is None:
+def _decoded_view(path: Path) -> SidecarView | None:
+    key = _identity(path)
+    if key is None:
         return None
-    rec = doc.get("record") if isinstance(doc.get("record"), dict) else {}
-    auto = doc.get("automatic") if isinstance(doc.get("automatic"), dict) else None
-    reviewer, reading = _primary(doc)
-    status = str(reading.get("status", "unread")) if reading is not None else "unread"
-    if status not in STATUSES:
-        raise MarksError(f"unknown reading status {status[:40]!r}", path)
-    readings = doc.get("readings") if isinstance(doc.get("readings"), dict) else {}
-    cache = doc.get("listing_cache")
-    return SidecarView(
-        sidecar=path,
-        fingerprint=rec.get("fingerprint") if isinstance(rec.get("fingerprint"), str) else None,
-        engine_version=None if auto is None else auto.get("engine_version"),
-        status=status,
-        reviewer=reviewer,
-        signed_off_at=None if reading is None else reading.get("signed_off_at"),
-        any_signed_off=any(
-            isinstance(r, dict) and r.get("status") == "signed_off" for r in readings.values()
-        ),
-        n_readings=len(readings),
-        summary=CachedSummary.from_json(cache) if isinstance(cache, dict) else None,
-        status_by_reviewer=tuple(
-            sorted(
-                (k, str(v.get("status")))
-                for k, v in readings.items()
-                if isinstance(k, str) and isinstance(v, dict) and v.get("status") in STATUSES
+    with _CACHE_LOCK:
+        hit = _CACHE.get(key)
+    if hit is not None:
+        return hit
+    from reviewapp.core.marks import codec
+    from reviewapp.core.marks.store import read_sidecar_bytes
+
+    try:
+        data = read_sidecar_bytes(path)
+        if data is None:
+            return None
+        view = _view(path, codec.decode(data, path))
+    except UnreadableSidecarError as err:
+        raise SidecarProblem(f"{err.problem}; left untouched", path, INVALID) from None
+    if _identity(path) == key:  # unchanged while it was read: safe to remember
+        with _CACHE_LOCK:
+            if len(_CACHE) >= _CACHE_MAX:
+                _CACHE.clear()
+            _CACHE[key] = view
+    return view
+
+
+def read_view(record_path: Path, fingerprint: str | None = None) -> SidecarView | None:
+    """The view of ``record_path``'s sidecar, judged by the marks store; None when there is
+    none.
+
+    Raises SidecarProblem (a MarksError) when the store would refuse the file: INVALID (not
+    JSON, not the schema, a newer schema version, not a regular file), FOREIGN (it names
+    another record) or, given the record's ``fingerprint``, STALE (the record's files changed
+    since the marks were made; the store's identity check).
+    """
+    record_path = Path(record_path)
+    path = sidecar_path(record_path)
+    view = _decoded_view(path)
+    if view is None:
+        return None
+    if view.record_name != printable(record_path.stem):
+        raise SidecarProblem(
+            f"the marks file was made for record {view.record_name!r}, not "
+            f"{record_path.stem!r} (copied from another record?); left untouched",
+            path,
+            FOREIGN,
+        )
+    if fingerprint is not None and view.record is not None and view.fingerprint != fingerprint:
+        from reviewapp.core.marks.store import check_identity
+
+        try:  # the store's own identity check and wording
+            check_identity(
+                Sidecar(record=view.record), replace(view.record, fingerprint=fingerprint), path
             )
-        ),
-    )
+        except ForeignSidecarError as err:
+            raise SidecarProblem(
+                f"the record's files changed after these marks were made: {err.problem}; left "
+                "untouched",
+                path,
+                STALE,
+            ) from None
+    return view
 
 
 # --- through the marks store ------------------------------------------------------------------
@@ -183,6 +242,14 @@ def store_automatic(
         listing_cache=summary.to_json(),
         sweep_temps=not folder_swept,
     )
+
+
+def clean_stale_lock(record_path: Path) -> bool:
+    """Remove the lock of ``record_path``'s sidecar if its holder is gone (a crashed window),
+    so it does not outlive a batch that found the record current. A live lock is kept."""
+    from reviewapp.core.marks.lock import remove_if_stale
+
+    return remove_if_stale(sidecar_path(record_path))
 
 
 def sweep_folder(folder: Path) -> None:
@@ -226,9 +293,7 @@ def reading_for_report(
         if chosen is None:
             raise MarksError(f"no reading by {reviewer!r} in the marks file", side)
     else:
-        doc = _load_raw(side) or {}
-        name, _ = _primary(doc)
-        chosen = sidecar.reading(name) if name is not None else None
+        chosen = primary_reading(sidecar)
     if chosen is None:
         return ReadingForReport()
     rep = analysis.representative

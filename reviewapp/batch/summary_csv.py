@@ -4,17 +4,26 @@ The values (``auto_*`` columns and ``auto_flags``) are computed from the AUTOMAT
 batch stored, never from a reader's corrections: a batch never opens a reading, and a
 blinded second reader's list must not show the first reader's numbers. The reading status
 and reviewer columns say whether a reader has worked on the record; open it (or use
-``reviewapp export --csv``) for the values under the reader's marks.
+``reviewapp export --csv``) for the values under the reader's marks. ``marks_file`` says how
+the marks store judged the record's sidecar: absent, valid, or foreign / stale / invalid (left
+untouched; the record failed, the error column says why).
+
+The file is written atomically (temporary file, fsync, rename): a full disk or a kill leaves
+the previous summary whole, never one cut mid-row. Text is UTF-8; characters a file name may
+hold that are not printable or not UTF-8 (a newline, a byte of another encoding) are written
+escaped (``\n``, ``\xff``), as on the terminal.
 """
 
 from __future__ import annotations
 
 import csv
+import io
 from collections.abc import Iterable
 from pathlib import Path
 
 from reviewapp.batch.task import RecordOutcome
-from reviewapp.core.errors import ReviewError
+from reviewapp.core.errors import printable
+from reviewapp.core.marks.durable import atomic_write
 
 COLUMNS = (
     "record",
@@ -22,6 +31,7 @@ COLUMNS = (
     "outcome",
     "reading_status",
     "reviewer",
+    "marks_file",
     "engine_version",
     "auto_hr_bpm",
     "auto_pr_ms",
@@ -43,11 +53,12 @@ def _fmt(v: float | None) -> str:
 def outcome_row(o: RecordOutcome) -> dict[str, str]:
     s = o.summary
     return {
-        "record": o.record,
-        "path": o.path,
+        "record": printable(o.record),
+        "path": printable(o.path),
         "outcome": o.outcome,
         "reading_status": o.status or "",
         "reviewer": o.reviewer or "",
+        "marks_file": o.marks_file,
         "engine_version": s.engine_version if s else "",
         "auto_hr_bpm": _fmt(s.hr_bpm if s else None),
         "auto_pr_ms": _fmt(s.pr_ms if s else None),
@@ -57,19 +68,21 @@ def outcome_row(o: RecordOutcome) -> dict[str, str]:
         "auto_qtc_fridericia_ms": _fmt(s.qtc_fridericia_ms if s else None),
         "auto_flags": " | ".join(s.flags) if s else "",
         "seconds": f"{o.seconds:.3f}",
-        "note": o.note,
-        "error": o.error,
+        "note": printable(o.note),
+        "error": printable(o.error),
     }
 
 
+def summary_csv_text(outcomes: Iterable[RecordOutcome]) -> str:
+    out = io.StringIO()
+    w = csv.DictWriter(out, fieldnames=COLUMNS, lineterminator="\r\n")
+    w.writeheader()
+    for o in outcomes:
+        w.writerow(outcome_row(o))
+    return out.getvalue()
+
+
 def write_summary_csv(path: Path, outcomes: Iterable[RecordOutcome]) -> None:
-    """Write the summary (UTF-8, comma-separated, header row of COLUMNS)."""
-    path = Path(path)
-    try:
-        with open(path, "w", newline="", encoding="utf-8") as fh:
-            w = csv.DictWriter(fh, fieldnames=COLUMNS)
-            w.writeheader()
-            for o in outcomes:
-                w.writerow(outcome_row(o))
-    except OSError as err:
-        raise ReviewError(f"cannot write the batch summary: {err.strerror or err}", path) from err
+    """Write the summary (UTF-8, comma-separated, header row of COLUMNS) atomically."""
+    data = summary_csv_text(outcomes).encode("utf-8")
+    atomic_write(Path(path), data, failure="cannot write the batch summary")

@@ -16,7 +16,7 @@ from typing import Any
 
 from reviewapp.batch import sidecar_adapter as sidecars
 from reviewapp.batch.summary import CachedSummary, summarise
-from reviewapp.core.errors import ReviewError
+from reviewapp.core.errors import ReviewError, printable
 
 DONE, SKIPPED, FAILED = "done", "skipped", "failed"
 
@@ -35,6 +35,9 @@ class RecordOutcome:
     error: str = ""
     note: str = ""
     cpu_seconds: float = 0.0  # CPU time the worker's threads spent on this record
+    # The record's marks file as the store judged it: absent, valid, foreign, stale, invalid
+    # (sidecar_adapter); the last three are left untouched and the record fails.
+    marks_file: str = "absent"
 
 
 def engine_version() -> str:
@@ -128,16 +131,17 @@ class _PendingStore:
             error=error,
             note="" if error else "; ".join(self.analysis.notes),
             cpu_seconds=self.cpu_seconds + time.thread_time() - c0,
+            marks_file="valid" if not error or view is not None else "absent",
         )
 
 
 def _failure_message(p: Path, err: BaseException) -> str:
     if isinstance(err, ReviewError):
-        return str(err)
+        return str(err)  # one printable line naming the file
     if isinstance(err, MemoryError):
-        return f"{p}: not enough memory to analyse this record"
+        return printable(f"{p}: not enough memory to analyse this record")
     # a bug in one record's analysis must not stop the batch
-    return f"{p}: unexpected {type(err).__name__}: {err}"
+    return printable(f"{p}: unexpected {type(err).__name__}: {err}")
 
 
 def _analyse_step(
@@ -154,6 +158,8 @@ def _analyse_step(
     name = p.stem
     view = None
 
+    marks = sidecars.ABSENT
+
     def outcome(kind: str, summary: CachedSummary | None = None, **kw: str) -> RecordOutcome:
         return RecordOutcome(
             path,
@@ -165,21 +171,34 @@ def _analyse_step(
             time.perf_counter() - t0,
             **kw,
             cpu_seconds=time.thread_time() - c0,
+            marks_file=marks,
         )
 
     try:
-        view = sidecars.read_view(p)
-        if view is not None and view.any_signed_off:
-            return outcome(SKIPPED, view.summary, note="signed off: left as read")
         from reviewapp.core.engine import analyse
         from reviewapp.core.io import open_record
+        from reviewapp.core.record import check_analysable
 
         record = open_record(p)
         fingerprint = sidecars.record_fingerprint(record)
+        try:
+            # The store's own judgement: codec (JSON, schema, version) and identity.
+            view = sidecars.read_view(p, fingerprint)
+        except sidecars.SidecarProblem as problem:
+            marks = problem.state
+            return outcome(FAILED, error=f"{p}: {problem.state} marks file: {problem}")
+        marks = sidecars.VALID if view is not None else sidecars.ABSENT
+        if view is not None and view.any_signed_off:
+            sidecars.clean_stale_lock(p)
+            return outcome(SKIPPED, view.summary, note="signed off: left as read")
         version = engine_version()
         if not force and is_current(view, fingerprint, version):
             assert view is not None
+            sidecars.clean_stale_lock(p)
             return outcome(SKIPPED, view.summary, note="current")
+        # The engine's filters fail on a record too short or too coarsely sampled, and it
+        # holds the whole record: refuse those in words (measure's limits).
+        check_analysable(record, p)
         analysis = analyse(record)
         summary = summarise(
             analysis.reading(), engine_version=analysis.engine_version, fingerprint=fingerprint

@@ -44,6 +44,14 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
         help="run on an existing Dask cluster at ADDRESS (e.g. tcp://10.0.0.5:8786)",
     )
     p.add_argument(
+        "--worker-wait",
+        type=float,
+        default=None,
+        metavar="SECONDS",
+        help="with --scheduler: how long to wait for a first worker, and how long the cluster "
+        "may be without workers during the run, before stopping with a message (default 60)",
+    )
+    p.add_argument(
         "--summary",
         type=Path,
         default=None,
@@ -73,6 +81,10 @@ def run(args: argparse.Namespace) -> int:
         raise ReviewError("not a folder", folder)
     if args.workers is not None and args.workers < 1:
         raise ReviewError(f"--workers must be at least 1, got {args.workers}")
+    if args.worker_wait is not None and not args.worker_wait > 0:
+        raise ReviewError(
+            f"--worker-wait must be a positive number of seconds, got {args.worker_wait}"
+        )
     if args.summary is not None:
         # Refuse an unwritable summary before hours of work, not after.
         target = Path(args.summary)
@@ -106,6 +118,7 @@ def run(args: argparse.Namespace) -> int:
             scheduler=args.scheduler,
             force=args.force,
             progress=on_outcome,
+            **({} if args.worker_wait is None else {"worker_wait_s": args.worker_wait}),
         )
     finally:
         bar.close()
@@ -124,5 +137,8 @@ def run(args: argparse.Namespace) -> int:
             else ")"
         )
     )
-    # 1 = the batch ran to the end but some records could not be processed (listed above).
+    # 1 = the batch ran to the end but some records could not be processed (listed above);
+    # 2 = none could be (nothing was done), as for measure.
+    if result.failed and result.failed == len(result.outcomes):
+        return 2
     return 1 if result.failed else 0

@@ -99,7 +99,14 @@ def run(args: argparse.Namespace) -> int:
     to_stdout = args.csv == STDOUT
     if args.csv and not to_stdout:
         check_output_path(args.csv, "CSV")
+    from reviewapp.core.io import open_record
+    from reviewapp.core.io.files import atomic_output
+    from reviewapp.core.record import check_analysable
     from reviewapp.report.content import load_report_content
+
+    # The analysis cannot work on a record too short, too coarsely sampled or too large:
+    # refuse it in words before the report is made.
+    check_analysable(open_record(args.path), args.path)
     from reviewapp.report.export import (
         write_image,
         write_measurements_csv,
@@ -111,16 +118,22 @@ def run(args: argparse.Namespace) -> int:
     content = load_report_content(args.path, args.reviewer)
     layout = page_layout(args.paper, args.speed, args.gain)
     written: list[Path] = []
+    # Each file is written to a temporary name beside it and renamed when complete: a full
+    # disk or a kill never leaves a report cut short in place of the previous one.
     if args.pdf:
-        write_pdf(args.pdf, content, layout)
+        with atomic_output(args.pdf, ReviewError) as tmp:
+            write_pdf(tmp, content, layout)
         written.append(args.pdf)
     if args.png:
-        write_image(args.png, content, layout, dpi=args.dpi)
+        with atomic_output(args.png, ReviewError) as tmp:
+            write_image(tmp, content, layout, dpi=args.dpi)
         written.append(args.png)
-    if args.csv:
+    if args.csv and to_stdout:
         write_measurements_csv(args.csv, content)
-        if not to_stdout:
-            written.append(Path(args.csv))
+    elif args.csv:
+        with atomic_output(args.csv, ReviewError) as tmp:
+            write_measurements_csv(tmp, content)
+        written.append(Path(args.csv))
     if args.wfdb_annotations:
         written.append(write_wfdb_annotations(content))
     # With the CSV on standard output, progress goes to standard error to keep the CSV clean.

@@ -16,11 +16,11 @@ from pathlib import Path
 from typing import Any
 
 from reviewapp.commands._options import add_reading_options
-from reviewapp.core.errors import RecordError, ReviewError
+from reviewapp.core.errors import ReviewError
+from reviewapp.core.record import MIN_ANALYSIS_S, check_analysable
 
-# Shortest record measured: two beats even at 30 bpm, and enough signal for the filters
-# (common practice, no source).
-MIN_DURATION_S = 2.0
+# Shortest record measured (see core.record.check_analysable).
+MIN_DURATION_S = MIN_ANALYSIS_S
 
 
 def add_parser(sub: argparse._SubParsersAction) -> None:
@@ -75,19 +75,17 @@ def measure_path(
 
     ``final``: measure under the final reading of the record's sidecar and add its ``final``
     object (``core/marks/final_output.py``)."""
-    from reviewapp.core.engine import analyse
     from reviewapp.core.io import open_record
-    from reviewapp.core.measure.output import reading_to_dict
 
     if fs_hz is not None and not fs_hz > 0:
         raise ReviewError(f"--fs must be a positive number of Hz, got {fs_hz}")
     record = open_record(path, fs_hz=fs_hz, units=units)
-    if record.duration_s < MIN_DURATION_S:
-        raise RecordError(
-            f"record too short to measure ({record.n_samples} samples, "
-            f"{record.duration_s:.3g} s; at least {MIN_DURATION_S:g} s needed)",
-            path,
-        )
+    check_analysable(record, path)
+    # The engine (and SciPy) is imported only for a record it can work on: a refused file
+    # costs the reader alone.
+    from reviewapp.core.engine import analyse
+    from reviewapp.core.measure.output import reading_to_dict
+
     analysis = analyse(record)
     if not final:
         return reading_to_dict(analysis, analysis.reading(), path=str(path), per_lead=per_lead)

@@ -7,7 +7,10 @@ and be read window by window; short resting ECGs are simply held in memory.
 
 from __future__ import annotations
 
+import math
+import os
 import re
+from collections import Counter
 from collections.abc import Sequence
 from dataclasses import dataclass, field, replace
 from datetime import datetime
@@ -193,9 +196,100 @@ class LinearSource:
         return out
 
 
-# Records longer than this are not loaded whole by ``signal_mv`` unless asked; readers may
-# still hold them in a memory map.
-_IN_MEMORY_LIMIT_SAMPLES = 50_000_000
+@dataclass(frozen=True, eq=False)
+class PickSource:
+    """Leads picked (and scaled) from another source's columns, plus a few weighted sums.
+
+    ``out[:, j] = base[:, pick[j]] * scale[j]`` where ``pick[j] >= 0``; the leads listed in
+    ``sums`` (output column, ((base column, weight), ...)) are computed. Unlike a dense
+    ``LinearSource`` matrix its size and cost grow linearly with the number of leads, so a
+    file of 10^5 columns costs 10^5, not 10^10. A gap (NaN) in a lead reaches only the leads
+    made from it.
+    """
+
+    base: SignalSource
+    pick: np.ndarray  # (n_out,) int64, -1 where the lead is a sum
+    scale: np.ndarray  # (n_out,) float32
+    sums: tuple[tuple[int, tuple[tuple[int, float], ...]], ...] = ()
+
+    @property
+    def n_samples(self) -> int:
+        return self.base.n_samples
+
+    @property
+    def n_leads(self) -> int:
+        return int(self.pick.shape[0])
+
+    def read(self, start: int, stop: int) -> np.ndarray:
+        x = np.asarray(self.base.read(start, stop), dtype=np.float32)
+        out = np.empty((x.shape[0], self.n_leads), dtype=np.float32)
+        picked = self.pick >= 0
+        with np.errstate(over="ignore", invalid="ignore"):
+            out[:, picked] = x[:, self.pick[picked]] * self.scale[picked]
+            for j, terms in self.sums:
+                acc = np.zeros(x.shape[0], dtype=np.float32)
+                for col, weight in terms:
+                    acc += np.float32(weight) * x[:, col]
+                out[:, j] = acc
+        return out
+
+
+# The memory budget of a whole record held in memory (``signal_mv``, text formats read whole,
+# the analysis): a resting ECG (10 s x 12 leads at 500 Hz) is 0.24 MB as float32; the default
+# of 64 MB still holds 23 minutes of 12 leads at 1 kHz, and the analysis needs a few times the
+# signal on top (3-4x measured on a 5-minute record), so a workstation with a few GB is safe.
+# Longer records stay on disk and are paged in windows. Set REVIEWAPP_SIGNAL_BUDGET_MB to change
+# it (common practice, no source: sized for a resting-ECG workstation).
+DEFAULT_SIGNAL_BUDGET_MB = 64.0
+SIGNAL_BUDGET_ENV = "REVIEWAPP_SIGNAL_BUDGET_MB"
+# Bytes of one sample of one lead as held (float32 mV).
+_BYTES_PER_VALUE = 4
+
+
+def signal_budget_bytes() -> int:
+    """The memory budget for one record's samples held in memory, in bytes.
+
+    From ``REVIEWAPP_SIGNAL_BUDGET_MB`` when it is a positive number, else 64 MB.
+    """
+    text = os.environ.get(SIGNAL_BUDGET_ENV, "").strip()
+    try:
+        mb = float(text) if text else DEFAULT_SIGNAL_BUDGET_MB
+    except ValueError:
+        mb = DEFAULT_SIGNAL_BUDGET_MB
+    if not (math.isfinite(mb) and mb > 0):
+        mb = DEFAULT_SIGNAL_BUDGET_MB
+    return int(mb * 2**20)
+
+
+PAGE_IT = "page through it in the window instead"
+READ_WHOLE = "this format is read whole, so the file cannot be opened within the budget"
+
+
+def check_signal_budget(
+    n_samples: int,
+    n_leads: int,
+    path: Path | None,
+    what: str = "the record",
+    advice: str = PAGE_IT,
+) -> None:
+    """Refuse (RecordError naming ``path``) before holding ``n_samples`` x ``n_leads`` values
+    above the memory budget (``signal_budget_bytes``).
+
+    >>> check_signal_budget(5000, 12, None)  # a resting ECG: 0.24 MB
+    >>> check_signal_budget(49_000_000, 1, None)
+    Traceback (most recent call last):
+    ...
+    reviewapp.core.errors.RecordError: the record would hold 49,000,000 samples x 1 leads ...
+    """
+    need = int(n_samples) * int(n_leads) * _BYTES_PER_VALUE
+    budget = signal_budget_bytes()
+    if need > budget:
+        raise RecordError(
+            f"{what} would hold {int(n_samples):,} samples x {int(n_leads):,} leads "
+            f"({need / 2**20:,.0f} MB) in memory, above the {budget / 2**20:,.0f} MB budget "
+            f"for one record ({SIGNAL_BUDGET_ENV}); {advice}",
+            path,
+        )
 
 
 @dataclass(frozen=True, eq=False)
@@ -235,9 +329,16 @@ class Record:
         if self.source.n_samples <= 0:
             raise RecordError("the record has no samples", where)
 
-    @property
+    @cached_property
     def lead_names(self) -> tuple[str, ...]:
         return tuple(lead.name for lead in self.leads)
+
+    @cached_property
+    def _column_of(self) -> dict[str, int]:
+        out: dict[str, int] = {}
+        for i, name in enumerate(self.lead_names):
+            out.setdefault(name, i)
+        return out
 
     @property
     def n_samples(self) -> int:
@@ -253,11 +354,10 @@ class Record:
 
     def lead_index(self, name: str) -> int:
         """Column of a lead by (any spelling of) its name; KeyError if absent."""
-        want = normalise_lead_name(name)
-        for i, lead in enumerate(self.leads):
-            if lead.name == want:
-                return i
-        raise KeyError(name)
+        column = self._column_of.get(normalise_lead_name(name))
+        if column is None:
+            raise KeyError(name)
+        return column
 
     def window(self, start: int, stop: int) -> np.ndarray:
         """Samples ``start:stop`` (clipped to the record) of every lead, mV float32 (n, n_leads)."""
@@ -274,18 +374,68 @@ class Record:
     @cached_property
     def signal_mv(self) -> np.ndarray:
         """The whole signal in mV, float32 (n_samples, n_leads), read-only. Loaded once."""
-        if self.n_samples * self.n_leads > _IN_MEMORY_LIMIT_SAMPLES:
-            raise RecordError(
-                f"record is too long to load whole ({self.duration_s / 3600:.1f} h); "
-                "read it in windows",
-                self.source_path,
-            )
+        check_signal_budget(
+            self.n_samples,
+            self.n_leads,
+            self.source_path,
+            f"the whole record ({_duration_text(self.duration_s)})",
+        )
         data = np.ascontiguousarray(self.window(0, self.n_samples))
         data.setflags(write=False)
         return data
 
     def with_leads(self, leads: Sequence[LeadInfo]) -> Record:
         return replace(self, leads=tuple(leads))
+
+
+# Shortest record analysed: two beats even at 30 bpm, and enough signal for the filters
+# (common practice, no source). The engine's filters fail on shorter records (a 1 ms aECG).
+MIN_ANALYSIS_S = 2.0
+# Lowest sampling rate analysed: the QRS detector's pass band reaches 18 Hz and is designed
+# below 0.4 x the rate (core/dsp/qrs.py), so 45 Hz is its floor; at 50 Hz a QRS of 80-120 ms
+# still spans 4-6 samples. Below that no QRS can be told (common practice, no source).
+MIN_ANALYSIS_FS_HZ = 50.0
+
+
+def check_analysable(record: Record, path: Path | None = None) -> None:
+    """Refuse (RecordError naming ``path``, default the record's file) a record the analysis
+    cannot work on: shorter than MIN_ANALYSIS_S, sampled below MIN_ANALYSIS_FS_HZ, or too
+    large to hold whole within the memory budget. Cheap: nothing is read.
+
+    >>> import numpy as np
+    >>> check_analysable(record_from_array(np.zeros((5000, 1)), 500.0, ["V1"]))
+    >>> check_analysable(record_from_array(np.zeros((1, 1)), 1000.0, ["V1"]))
+    Traceback (most recent call last):
+    ...
+    reviewapp.core.errors.RecordError: record too short to measure (1 samples, 0.001 s; ...
+    """
+    where = path if path is not None else record.source_path
+    if record.duration_s < MIN_ANALYSIS_S:
+        raise RecordError(
+            f"record too short to measure ({record.n_samples} samples, "
+            f"{record.duration_s:.3g} s; at least {MIN_ANALYSIS_S:g} s needed)",
+            where,
+        )
+    if record.fs_hz < MIN_ANALYSIS_FS_HZ:
+        raise RecordError(
+            f"sampling rate {record.fs_hz:g} Hz is too low to measure (at least "
+            f"{MIN_ANALYSIS_FS_HZ:g} Hz needed: a QRS complex must span several samples)",
+            where,
+        )
+    check_signal_budget(
+        record.n_samples,
+        record.n_leads,
+        where,
+        f"the whole record ({_duration_text(record.duration_s)})",
+    )
+
+
+def _duration_text(seconds: float) -> str:
+    if seconds >= 3600:
+        return f"{seconds / 3600:.1f} h"
+    if seconds >= 60:
+        return f"{seconds / 60:.1f} min"
+    return f"{seconds:.3g} s"
 
 
 def flat_lead_mask(signal_mv: np.ndarray) -> np.ndarray:
@@ -300,6 +450,18 @@ def flat_lead_mask(signal_mv: np.ndarray) -> np.ndarray:
             safe, axis=0, initial=np.inf, where=finite
         )
         return all_nan | (ptp < FLAT_PEAK_TO_PEAK_MV)
+
+
+def _normalised(lead: LeadInfo) -> LeadInfo:
+    name = normalise_lead_name(lead.name)
+    if name == lead.name and lead.original_name:
+        return lead
+    return replace(lead, name=name, original_name=lead.original_name or lead.name)
+
+
+# At most this many values are read to judge which leads are flat (a minute of 12 leads at
+# 1 kHz is 720,000).
+_FLAT_SCAN_VALUES = 1_000_000
 
 
 def build_record(
@@ -326,19 +488,22 @@ def build_record(
         raise RecordError(f"sampling rate must be a positive number, got {fs_hz!r}", where)
     if source.n_samples <= 0:
         raise RecordError("the record has no samples", where)
-    leads = [
-        replace(
-            lead, name=normalise_lead_name(lead.name), original_name=lead.original_name or lead.name
-        )
-        for lead in leads
-    ]
-    names = [lead.name for lead in leads]
-    dupes = {n for n in names if names.count(n) > 1}
+    leads = [_normalised(lead) for lead in leads]
+    counts = Counter(lead.name for lead in leads)
+    dupes = sorted(n for n, k in counts.items() if k > 1)
     if dupes:
-        raise RecordError(f"lead names appear more than once: {', '.join(sorted(dupes))}", where)
-    head = np.asarray(source.read(0, min(source.n_samples, flat_scan_samples)), dtype=np.float32)
+        shown = ", ".join(dupes[:10]) + (f" and {len(dupes) - 10} more" if len(dupes) > 10 else "")
+        raise RecordError(f"lead names appear more than once: {shown}", where)
+    # Judge flatness on at most _FLAT_SCAN_VALUES values, so a file of very many columns is
+    # not read whole just to open it.
+    scan = min(source.n_samples, flat_scan_samples, max(1, _FLAT_SCAN_VALUES // max(1, len(leads))))
+    head = np.asarray(source.read(0, scan), dtype=np.float32)
     flat = flat_lead_mask(head)
-    leads = [replace(lead, flat=bool(f) or lead.flat) for lead, f in zip(leads, flat, strict=True)]
+    # dataclasses.replace costs ~15 us: only for the leads that change (10^5 columns).
+    leads = [
+        replace(lead, flat=True) if f and not lead.flat else lead
+        for lead, f in zip(leads, flat.tolist(), strict=True)
+    ]
     record = Record(
         name=name,
         fs_hz=float(fs_hz),
@@ -373,20 +538,21 @@ def with_derived_limb_leads(record: Record) -> Record:
     wanted = [n for n in ("III", "aVR", "aVL", "aVF") if n not in names]
     if not wanted:
         return record
-    n_base = record.n_leads
-    i_col, ii_col = names.index("I"), names.index("II")
+    column = {n: i for i, n in enumerate(names)}
+    i_col, ii_col = column["I"], column["II"]
     # Output order: existing leads, with derived ones inserted in standard limb order.
-    new_names = [n for n in STANDARD_12 if n in names or n in wanted]
-    new_names += [n for n in names if n not in new_names]
-    matrix = np.zeros((n_base, len(new_names)), dtype=np.float32)
+    new_names = [n for n in STANDARD_12 if n in column or n in wanted]
+    placed = set(new_names)
+    new_names += [n for n in names if n not in placed]
+    pick = np.full(len(new_names), -1, dtype=np.int64)
+    sums: list[tuple[int, tuple[tuple[int, float], ...]]] = []
     new_leads: list[LeadInfo] = []
     for j, n in enumerate(new_names):
-        if n in names:
-            matrix[names.index(n), j] = 1.0
-            new_leads.append(record.leads[names.index(n)])
+        if n in column:
+            pick[j] = column[n]
+            new_leads.append(record.leads[column[n]])
         else:
-            matrix[i_col, j] = recipes[n]["I"]
-            matrix[ii_col, j] = recipes[n]["II"]
+            sums.append((j, ((i_col, recipes[n]["I"]), (ii_col, recipes[n]["II"]))))
             src = record.leads[i_col]
             new_leads.append(
                 LeadInfo(
@@ -397,7 +563,7 @@ def with_derived_limb_leads(record: Record) -> Record:
                     units=src.units,
                 )
             )
-    source = LinearSource(record.source, matrix)
+    source = PickSource(record.source, pick, np.ones(len(new_names), np.float32), tuple(sums))
     return replace(
         record,
         leads=tuple(new_leads),

@@ -4,7 +4,9 @@ from __future__ import annotations
 
 
 def pytest_terminal_summary(terminalreporter, exitstatus, config) -> None:
-    line = getattr(config, "reviewapp_fuzz_line", None)
-    if line:
+    lines = [getattr(config, k, None) for k in ("reviewapp_fuzz_line", "reviewapp_rss_line")]
+    if any(lines):
         terminalreporter.write_sep("-", "reviewapp io fuzzing")
-        terminalreporter.write_line(line)
+        for line in lines:
+            if line:
+                terminalreporter.write_line(line)

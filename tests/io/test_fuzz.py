@@ -73,7 +73,7 @@ def check_outcome(path: Path, folder: Path, **kw) -> str:
             return "ok"
         except RecordError as err:
             assert err.path is not None, f"RecordError without a file: {err}"
-            assert err.path.resolve().parent == folder.resolve(), str(err)
+            assert err.path.parent.resolve() == folder.resolve(), str(err)
             assert err.path.name in str(err)
             # open_record's safety net caught something no reader wrapped: a reader bug.
             assert UNEXPECTED not in str(err), str(err)
@@ -457,3 +457,219 @@ def test_zz_fuzz_total(request) -> None:
     assert total >= 2000, FUZZ_COUNTS
     # Both outcomes must occur, or the mutations are too weak (or too strong) to test anything.
     assert FUZZ_COUNTS["outcome:ok"] > 0 and FUZZ_COUNTS["outcome:error"] > 0, FUZZ_COUNTS
+
+
+# ---------------------------------------------------------------- hostile files (issue 14)
+# FIFOs, devices, sockets and folders under every record suffix; sparse files whose length
+# matches what the header declares; header numbers in exponent notation; very wide CSVs. The
+# property is the same: a valid Record or one RecordError naming the file, never a hang
+# (check_outcome's alarm).
+
+SUFFIXES = ["", ".hea", ".dat", ".csv", ".tsv", ".txt", ".edf", ".bdf", ".xml", ".dcm"]
+
+
+def _special(path: Path, kind: str) -> object:
+    import socket
+
+    if kind == "fifo":
+        os.mkfifo(path)
+    elif kind == "device":
+        path.symlink_to("/dev/null")
+    elif kind == "folder":
+        path.mkdir()
+    elif kind == "dangling":
+        path.symlink_to(path.with_name("nowhere"))
+    elif kind == "loop":
+        path.symlink_to(path)
+    else:
+        sock = socket.socket(socket.AF_UNIX)
+        sock.bind(str(path))
+        return sock
+    return None
+
+
+@settings(max_examples=round(60 * FUZZ_SCALE), **FUZZ_SETTINGS)
+@given(
+    suffix=st.sampled_from(SUFFIXES),
+    kind=st.sampled_from(["fifo", "device", "folder", "dangling", "loop", "socket"]),
+    beside=st.sampled_from(["none", "header", "sidecar"]),
+)
+def test_fuzz_special_files(suffix: str, kind: str, beside: str) -> None:
+    with tempfile.TemporaryDirectory(prefix="fuzz_") as d:
+        folder = Path(d)
+        target = folder / f"rec{suffix}"
+        keep = _special(target, kind)
+        if beside == "header" and suffix != ".hea":
+            # A header naming the special file as its signal file.
+            (folder / "rec.hea").write_text(f"rec 1 500 100\nrec{suffix} 16 200 16 0 0 0 0 I\n")
+            target = folder / "rec.hea"
+        elif beside == "sidecar":
+            os.mkfifo(folder / "rec.marks.json")
+        try:
+            outcome = check_outcome(target, folder)
+        finally:
+            if keep is not None:
+                keep.close()
+    assert outcome == "error"
+    FUZZ_COUNTS["special_files"] += 1
+    FUZZ_COUNTS["outcome:error"] += 1
+
+
+@settings(max_examples=round(40 * FUZZ_SCALE), **FUZZ_SETTINGS)
+@given(
+    n_samples=st.integers(1, 2_000_000_000),
+    n_signals=st.integers(1, 12),
+    fmt=st.sampled_from(["16", "212", "80", "32"]),
+)
+def test_fuzz_sparse_wfdb(n_samples: int, n_signals: int, fmt: str) -> None:
+    """A signal file of exactly the declared size, with nothing on disk (sparse): opened as a
+    paged record, never read whole; the analysis refuses what exceeds the memory budget."""
+    from reviewapp.core.record import check_analysable, signal_budget_bytes
+
+    bits = {"16": 16, "212": 12, "80": 8, "32": 32}[fmt]
+    with tempfile.TemporaryDirectory(prefix="fuzz_") as d:
+        folder = Path(d)
+        lines = [f"rec {n_signals} 500 {n_samples}"]
+        lines += [f"rec.dat {fmt} 200 12 0 0 0 0 s{k}" for k in range(n_signals)]
+        (folder / "rec.hea").write_text("\n".join(lines) + "\n")
+        with open(folder / "rec.dat", "wb") as fh:
+            fh.truncate(-(-n_samples * n_signals * bits // 8))
+        assert check_outcome(folder / "rec.hea", folder) == "ok"
+        rec = open_record(folder / "rec.hea")
+        held = rec.n_samples * rec.n_leads * 4
+        if held > signal_budget_bytes() or rec.duration_s < 2.0:
+            with pytest.raises(RecordError):
+                check_analysable(rec)
+        else:
+            check_analysable(rec)
+    FUZZ_COUNTS["sparse_wfdb"] += 1
+    FUZZ_COUNTS["outcome:ok"] += 1
+
+
+@st.composite
+def exponent_forms(draw) -> tuple[str, float]:
+    """A sampling rate and one of its spellings with an exponent (5e2, 0.5E3, 5000e-1)."""
+    value = float(draw(st.integers(50, 20_000)))
+    shift = draw(st.integers(-3, 3))
+    mantissa = value / 10**shift
+    text = draw(st.sampled_from([f"{mantissa!r}", f"{mantissa:.6f}".rstrip("0")]))
+    marker = draw(st.sampled_from(["e", "E"]))
+    sign = "+" if shift >= 0 and draw(st.booleans()) else ""
+    return f"{text}{marker}{sign}{shift}", value
+
+
+@settings(max_examples=round(60 * FUZZ_SCALE), **FUZZ_SETTINGS)
+@given(form=exponent_forms())
+def test_fuzz_exponent_header_numbers(seeds, form) -> None:
+    """WFDB: the frequency reads as the number written (header(5) floating-point field).
+    EDF: an exponent in the record duration is refused by name (EDF numbers are plain)."""
+    written, value = form
+    files = _wfdb_files(seeds["ludb"])
+    text = files["1.hea"].decode()
+    files["1.hea"] = text.replace("1 12 500 1000", f"1 12 {written} 1000", 1).encode()
+    with tempfile.TemporaryDirectory(prefix="fuzz_") as d:
+        folder = Path(d)
+        for fname, data in files.items():
+            (folder / fname).write_bytes(data)
+        rec = open_record(folder / "1.hea")
+        assert rec.fs_hz == pytest.approx(value, rel=1e-12), written
+        raw = bytearray(seeds["edf"].read_bytes())
+        edf_text = written if len(written) <= 8 else f"{value / 100:g}E2"[:8]  # 8-char field
+        assert "e" in edf_text.lower()
+        raw[244:252] = edf_text.ljust(8).encode()
+        (folder / "ecg.edf").write_bytes(bytes(raw))
+        with pytest.raises(RecordError, match=r"data record duration .* is not a plain decimal"):
+            open_record(folder / "ecg.edf")
+    FUZZ_COUNTS["exponent_headers"] += 2
+    FUZZ_COUNTS["outcome:ok"] += 1
+    FUZZ_COUNTS["outcome:error"] += 1
+
+
+@settings(max_examples=round(8 * FUZZ_SCALE), **FUZZ_SETTINGS)
+@given(n_columns=st.integers(1_000, 40_000), n_rows=st.integers(2, 5))
+def test_fuzz_wide_csv(n_columns: int, n_rows: int) -> None:
+    rng = np.random.default_rng(n_columns)
+    values = rng.normal(0.0, 0.5, (n_rows, n_columns))
+    t = np.arange(n_rows) / 500.0
+    with tempfile.TemporaryDirectory(prefix="fuzz_") as d:
+        folder = Path(d)
+        header = "time_s," + ",".join(f"ch{i} [mV]" for i in range(n_columns))
+        body = "\n".join(
+            f"{t[r]:.3f}," + ",".join(f"{v:.4f}" for v in values[r]) for r in range(n_rows)
+        )
+        (folder / "wide.csv").write_text(header + "\n" + body + "\n")
+        assert check_outcome(folder / "wide.csv", folder) == "ok"
+        rec = open_record(folder / "wide.csv")
+        assert rec.n_leads == n_columns
+        np.testing.assert_allclose(rec.window(0, n_rows)[:, -1], values[:, -1], atol=6e-5)
+    FUZZ_COUNTS["wide_csv"] += 1
+    FUZZ_COUNTS["outcome:ok"] += 1
+
+
+# Peak memory of `reviewapp measure` on tiny hostile inputs, each in its own interpreter so the
+# figure is that input's: every one must be refused cheaply (before, the sparse WFDB record and
+# the EDF claiming 14,000 records made measure allocate about 2 GB, the NUL-filled CSV 1 GB).
+# The interpreter with numpy, scipy and the readers imported takes about 100-150 MB. The peak
+# is the kernel's high-water mark of the process's own address space (VmHWM, Linux), which an
+# exec starts afresh; resource.getrusage's ru_maxrss (the fallback elsewhere) also carries the
+# forking parent's peak across exec on Linux, so under pytest it would report pytest's.
+RSS_BUDGET_MB = 300
+RSS_FIGURES: dict[str, float] = {}
+_RSS_SCRIPT = (
+    "import resource, sys\n"
+    "from reviewapp.cli import main\n"
+    "code = main(['measure', sys.argv[1]])\n"
+    "kb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss\n"
+    "try:\n"
+    "    status = open('/proc/self/status').read().split('VmHWM:')[1]\n"
+    "    kb = int(status.split()[0])\n"
+    "except (OSError, IndexError, ValueError):\n"
+    "    pass\n"
+    "print('RSS', code, kb)\n"
+)
+
+
+def _hostile_inputs(folder: Path) -> dict[str, Path]:
+    from pyedflib import highlevel
+
+    (folder / "sparse.hea").write_text("sparse 1 500 49000000\nsparse.dat 16 200 16 0 0 0 0 I\n")
+    with open(folder / "sparse.dat", "wb") as fh:
+        fh.truncate(98_000_000)
+    hdr = [highlevel.make_signal_header("ECG I", dimension="mV", sample_frequency=500)]
+    highlevel.write_edf(str(folder / "many.edf"), [np.zeros(1000)], hdr)
+    raw = bytearray((folder / "many.edf").read_bytes())
+    raw[236:244] = b"14000   "
+    (folder / "many.edf").write_bytes(bytes(raw))
+    with open(folder / "nul.csv", "wb") as fh:
+        fh.truncate(400_000_000)
+    return {n: folder / n for n in ("sparse.hea", "many.edf", "nul.csv")}
+
+
+def test_tiny_hostile_inputs_are_refused_within_a_memory_budget(tmp_path: Path, request) -> None:
+    import subprocess
+    import sys
+
+    repo = Path(__file__).resolve().parents[2]
+    env = dict(os.environ, PYTHONPATH=str(repo) + os.pathsep + os.environ.get("PYTHONPATH", ""))
+    inputs = _hostile_inputs(tmp_path)
+    procs = {
+        name: subprocess.Popen(
+            [sys.executable, "-c", _RSS_SCRIPT, str(path)],
+            stdout=subprocess.PIPE,
+            stderr=subprocess.PIPE,
+            text=True,
+            env=env,
+        )
+        for name, path in inputs.items()
+    }
+    for name, proc in procs.items():
+        out, err = proc.communicate(timeout=300)
+        _, code, rss_kb = out.strip().splitlines()[-1].split()
+        assert code == "2", (name, err)
+        line = err.strip().splitlines()
+        assert len(line) == 1 and name in line[0], (name, err)
+        RSS_FIGURES[name] = int(rss_kb) / 1024
+        assert RSS_FIGURES[name] < RSS_BUDGET_MB, (name, RSS_FIGURES[name])
+    request.config.reviewapp_rss_line = "max RSS of `measure` on hostile inputs (MB): " + ", ".join(
+        f"{k} {v:.0f}" for k, v in RSS_FIGURES.items()
+    )

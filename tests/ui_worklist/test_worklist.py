@@ -183,6 +183,7 @@ def test_rows_from_another_engine_version_are_stale_and_bad_sidecars_are_shown(
     src = next(marked_folder.rglob("a01.marks.json"))
     doc = json.loads(src.read_text())
     doc["listing_cache"]["engine_version"] = "0.0.1-old"
+    doc["record"]["name"] = "old"  # a sidecar naming another record is foreign, not listed
     (tmp_path / "old.hea").write_text("old 12 500 5000\n")
     (tmp_path / "old.marks.json").write_text(json.dumps(doc))
     row = listing_row(tmp_path / "old.hea", tmp_path, engine_version="0.1.0")

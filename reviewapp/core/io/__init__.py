@@ -10,6 +10,7 @@ from __future__ import annotations
 from pathlib import Path
 
 from reviewapp.core.errors import RecordError
+from reviewapp.core.io.files import is_regular, read_regular, require_regular
 from reviewapp.core.record import Record
 
 WFDB_SUFFIXES = (".hea",)
@@ -27,14 +28,21 @@ _SIDECAR_ENDINGS = (".marks.json",)
 
 def _sniff(path: Path) -> bytes:
     try:
-        with path.open("rb") as fh:
-            return fh.read(_DICOM_MAGIC_OFFSET + 4)
+        return read_regular(path, _DICOM_MAGIC_OFFSET + 4)
+    except FileNotFoundError:
+        raise RecordError("file not found", path) from None
     except OSError as err:
         raise RecordError(f"cannot open file: {err.strerror or err}", path) from None
 
 
 def _is_dicom(head: bytes) -> bool:
     return len(head) >= _DICOM_MAGIC_OFFSET + 4 and head[128:132] == b"DICM"
+
+
+def _not_a_record(problem: str, path: Path) -> RecordError:
+    if problem.startswith("is a folder"):
+        problem = "is a folder, not a record file"
+    return RecordError(problem, path)
 
 
 def detect_format(path: Path) -> str:
@@ -56,12 +64,10 @@ def detect_format(path: Path) -> str:
         return "DICOM"
     from reviewapp.core.io.wfdb_format import is_wfdb_record
 
-    if is_wfdb_record(path):
+    if path.name not in ("", ".", "..") and is_wfdb_record(path):
         return "WFDB"
-    if not path.exists():
-        raise RecordError("file not found", path)
-    if path.is_dir():
-        raise RecordError("is a folder, not a record file", path)
+    # stat, never open: a FIFO or device would block the sniffing read below.
+    require_regular(path, _not_a_record)
     head = _sniff(path)
     if _is_dicom(head):
         return "DICOM"
@@ -95,6 +101,8 @@ def open_record(
     >>> rec.lead_names[:3], rec.fs_hz  # doctest: +SKIP
     (('I', 'II', 'III'), 500.0)
     """
+    if isinstance(path, str) and not path.strip():
+        raise RecordError(f"{path!r} is not a record file: the path is empty")
     path = Path(path)
     fmt = detect_format(path)
     try:
@@ -117,8 +125,8 @@ UNEXPECTED = "unexpected failure"
 
 
 def _open_as(path: Path, fmt: str, *, fs_hz: float | None, units: str | None) -> Record:
-    if fmt != "WFDB" and not path.is_file():
-        raise RecordError("file not found" if not path.exists() else "not a regular file", path)
+    if fmt != "WFDB":
+        require_regular(path, _not_a_record)  # the libraries below open it by name
     if fmt == "WFDB":
         from reviewapp.core.io.wfdb_format import read_wfdb
 
@@ -155,7 +163,7 @@ def find_records(folder: str | Path, recursive: bool = True) -> list[Path]:
     pattern = "**/*" if recursive else "*"
     found: list[Path] = []
     for p in folder.glob(pattern):
-        if not p.is_file() or p.name.startswith("."):
+        if p.name.startswith(".") or not is_regular(p):
             continue
         name = p.name.lower()
         if name.endswith(_SIDECAR_ENDINGS) or name.endswith(".json"):
@@ -175,9 +183,8 @@ def find_records(folder: str | Path, recursive: bool = True) -> list[Path]:
 
 def _mentions(path: Path, marker: bytes) -> bool:
     try:
-        with path.open("rb") as fh:
-            return marker in fh.read(4096)
-    except OSError:
+        return marker in read_regular(path, 4096)
+    except (OSError, RecordError):
         return False
 
 
@@ -188,12 +195,13 @@ def _without_wfdb_segments(paths: list[Path]) -> list[Path]:
         if p.suffix.lower() != ".hea":
             continue
         try:
-            first = p.read_text(errors="replace").lstrip().split("\n", 1)[0]
-        except OSError:
+            text = read_regular(p, 1_000_000).decode("latin-1")
+        except (OSError, RecordError):
             continue
+        first = text.lstrip().split("\n", 1)[0]
         # A master header's record line reads "name/n_segments n_sig fs len".
         if "/" in first.split(" ", 1)[0]:
-            for line in p.read_text(errors="replace").splitlines()[1:]:
+            for line in text.splitlines()[1:]:
                 parts = line.split()
                 if len(parts) >= 2 and not line.startswith("#") and parts[0] != "~":
                     segments.add(p.with_name(parts[0] + ".hea"))

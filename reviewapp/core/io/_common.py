@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 import re
-from collections.abc import Iterator, Sequence
+from collections.abc import Iterable, Iterator, Sequence
 from contextlib import contextmanager
 from dataclasses import dataclass
 from datetime import date
@@ -164,6 +164,23 @@ def clean_lead_label(label: str) -> str:
     understands.
     """
     return _LABEL_PREFIX.sub("", label.strip()).strip() or label.strip()
+
+
+def listed(items: Iterable[object], limit: int = 12) -> str:
+    """``"a, b, c"``; beyond ``limit`` items ``"a, b, ... and 99,988 more"``, so a note about a
+    file of 10^5 columns stays one readable line.
+
+    >>> listed(["I", "II"]), listed(range(20), limit=3)
+    ('I, II', '0, 1, 2 and 17 more')
+    """
+    shown: list[str] = []
+    extra = 0
+    for item in items:
+        if len(shown) < limit:
+            shown.append(str(item))
+        else:
+            extra += 1
+    return ", ".join(shown) + (f" and {extra:,} more" if extra else "")
 
 
 def unique_names(names: Sequence[str]) -> list[str]:

@@ -21,6 +21,7 @@ external entities are refused.
 from __future__ import annotations
 
 import math
+import re
 import xml.etree.ElementTree as StdET
 from datetime import datetime
 from pathlib import Path
@@ -39,13 +40,17 @@ from reviewapp.core.io._common import (
     require_finite,
     unique_names,
 )
+from reviewapp.core.io.files import atomic_output, require_regular
+from reviewapp.core.io.numbers import DECIMAL_EXP, parse_number
 from reviewapp.core.record import (
+    READ_WHOLE,
     STANDARD_12,
     ArraySource,
     LeadInfo,
     Record,
     SubjectFacts,
     build_record,
+    check_signal_budget,
 )
 
 NS = "urn:hl7-org:v3"
@@ -91,7 +96,7 @@ def read_aecg(path: Path, *, series: Series = "rhythm") -> Record:
             is absent the derived one is read, with a note.
     """
     path = Path(path)
-    if path.stat().st_size > MAX_AECG_BYTES:
+    if require_regular(path).st_size > MAX_AECG_BYTES:
         raise RecordError("XML file is too large to be read", path)
     root = _parse(path)
     if root.tag != _N + "AnnotatedECG":
@@ -168,13 +173,8 @@ def _code(el: Element) -> str:
 def _float_attr(el: Element | None, attr: str, what: str, path: Path) -> float:
     if el is None or el.get(attr) is None:
         raise RecordError(f"{what} is missing", path)
-    try:
-        v = float(el.get(attr, ""))
-    except ValueError:
-        raise RecordError(f"{what} {el.get(attr)!r} is not a number", path) from None
-    if not math.isfinite(v):
-        raise RecordError(f"{what} {el.get(attr)!r} is not finite", path)
-    return v
+    # HL7 v3 REAL literal: decimal with an optional exponent.
+    return parse_number(el.get(attr, ""), what, DECIMAL_EXP, path)
 
 
 def _read_series(
@@ -204,6 +204,7 @@ def _read_series(
         fs_hz = float(round(fs_hz))
     raw_names: list[str] = []
     columns: list[np.ndarray] = []
+    held = 0
     for seq in lead_seqs:
         code = _code(seq) or f"lead {len(raw_names) + 1}"
         value = seq.find(_N + "value")
@@ -227,8 +228,13 @@ def _read_series(
             raise RecordError(
                 f"sequence {code}: units {unit_scale!r} / {unit_origin!r} are not uV, mV or V", path
             )
+        text = digits_el.text or ""
+        if _NOT_DIGITS.search(text):
+            raise RecordError(f"sequence {code}: digits are not all numbers", path)
+        held += _count_tokens(text)
+        check_signal_budget(held, 1, path, "the aECG lead sequences", READ_WHOLE)
         try:
-            digits = np.array((digits_el.text or "").split(), dtype=np.float64)
+            digits = np.array(text.split(), dtype=np.float64)
         except ValueError:
             raise RecordError(f"sequence {code}: digits are not all numbers", path) from None
         require_finite(digits, path, f"aECG sequence {code}")
@@ -248,6 +254,21 @@ def _read_series(
         [c[len(MDC_PREFIX) :] if c.startswith(MDC_PREFIX) else c for c in raw_names]
     )
     return fs_hz, list(zip(names, raw_names, strict=True)), columns, notes
+
+
+# Anything but a decimal digit list (HL7 aECG "digits": whitespace-separated numbers); Python's
+# float would also take "nan", "inf" and "1_000".
+_NOT_DIGITS = re.compile(r"[^0-9eE.+\-\s]")
+
+
+def _count_tokens(text: str) -> int:
+    """Whitespace-separated tokens of ``text`` without making a string for each (a long digit
+    list is held against the memory budget before it is split)."""
+    if not text:
+        return 0
+    raw = np.frombuffer(text.encode("ascii", errors="replace"), dtype=np.uint8)
+    blank = (raw == 32) | ((raw >= 9) & (raw <= 13))
+    return int((~blank[0]) + np.count_nonzero(blank[:-1] & ~blank[1:]))
 
 
 def _subject(root: Element) -> SubjectFacts:
@@ -344,7 +365,8 @@ def write_aecg(record: Record, path: str | Path, *, include_derived: bool = Fals
     tree = StdET.ElementTree(root)
     StdET.indent(tree, space=" ")
     try:
-        tree.write(path, encoding="UTF-8", xml_declaration=True)
+        with atomic_output(path) as tmp:
+            tree.write(tmp, encoding="UTF-8", xml_declaration=True)
     except OSError as err:
         raise RecordError(f"cannot write aECG file: {err.strerror or err}", path) from None
     return path

@@ -25,15 +25,25 @@ from pathlib import Path
 import numpy as np
 
 from reviewapp.core.errors import RecordError
-from reviewapp.core.io._common import clean_lead_label, frozen_mv, mv_factor, unique_names
+from reviewapp.core.io._common import (
+    clean_lead_label,
+    frozen_mv,
+    listed,
+    mv_factor,
+    unique_names,
+)
+from reviewapp.core.io.files import open_regular, require_regular
 from reviewapp.core.record import (
     STANDARD_12,
     ArraySource,
     LeadInfo,
     Record,
     build_record,
+    check_signal_budget,
     normalise_lead_name,
 )
+
+CONVERT_IT = "convert it to a binary format (WFDB or EDF), which is paged from disk"
 
 # Text records are read whole; beyond this size the user should convert to a binary format.
 MAX_CSV_BYTES = 500_000_000
@@ -74,9 +84,10 @@ def _split_units(column: str) -> tuple[str, str | None]:
     return column.strip(), None
 
 
-def _time_scale(column: str) -> float | None:
-    """Seconds per unit when ``column`` names a time column, else None."""
-    name, unit = _split_units(column)
+def _time_scale(column: str, split: tuple[str, str | None] | None = None) -> float | None:
+    """Seconds per unit when ``column`` names a time column, else None (``split``: the
+    column's ``_split_units``, when already known)."""
+    name, unit = split if split is not None else _split_units(column)
     key = name.lower().replace(" ", "_")
     if unit is not None and key in ("time", "t"):
         u = unit.lower()
@@ -93,9 +104,9 @@ def _delimiter(header_line: str) -> str:
 def looks_like_ecg_csv(path: Path) -> bool:
     """Cheap check of the header row: a time column or a recognisable lead name."""
     try:
-        with path.open("r", encoding="utf-8-sig", errors="replace") as fh:
-            first = fh.readline(10_000)
-    except OSError:
+        with open_regular(path) as fh:
+            first = fh.readline(10_000).decode("utf-8-sig", errors="replace")
+    except (OSError, RecordError):
         return False
     cols = [c.strip().strip('"') for c in first.rstrip("\r\n").split(_delimiter(first))]
     known = set(STANDARD_12) | {"X", "Y", "Z", "MLII", "MLI", "MLIII"}
@@ -116,19 +127,12 @@ def read_csv(path: Path, *, fs_hz: float | None = None, units: str | None = None
         units: units of every lead column ("uV", "mV", "V"), overriding header suffixes.
     """
     path = Path(path)
-    try:
-        size = path.stat().st_size
-        if size > MAX_CSV_BYTES:
-            raise RecordError(f"text file of {size / 1e6:.0f} MB is too large to read", path)
-        raw = path.read_bytes()
-    except OSError as err:
-        raise RecordError(f"cannot read file: {err.strerror or err}", path) from None
+    raw = _read_text_bytes(path)
     try:
         text = raw.decode("utf-8-sig")
     except UnicodeDecodeError:
         raise RecordError("not a text file (not UTF-8)", path) from None
-    if "\x00" in text:
-        raise RecordError("not a text file (contains NUL bytes)", path)
+    del raw
     lines = text.splitlines()
     first = 0
     while first < len(lines) and not lines[first].strip():
@@ -170,7 +174,8 @@ def read_csv(path: Path, *, fs_hz: float | None = None, units: str | None = None
         )
 
     notes: list[str] = []
-    time_cols = [i for i, c in enumerate(columns) if _time_scale(c) is not None]
+    split = [_split_units(c) for c in columns]
+    time_cols = [i for i, c in enumerate(columns) if _time_scale(c, split[i]) is not None]
     lead_cols = [i for i in range(len(columns)) if i not in time_cols[:1]]
     if not lead_cols:
         raise RecordError("no lead columns besides the time column", path)
@@ -191,14 +196,17 @@ def read_csv(path: Path, *, fs_hz: float | None = None, units: str | None = None
 
     names, factors, leads = [], [], []
     unstated = []
-    raw_names = [clean_lead_label(_split_units(columns[i])[0]) for i in lead_cols]
+    raw_names = [clean_lead_label(split[i][0]) for i in lead_cols]
+    factor_of: dict[str, float | None] = {}
     for i, name in zip(lead_cols, unique_names(raw_names), strict=True):
-        _, col_unit = _split_units(columns[i])
+        col_unit = split[i][1]
         unit = units if units is not None else col_unit
         if unit is None:
             unstated.append(name)
             unit = "mV"
-        f = mv_factor(unit)
+        if unit not in factor_of:
+            factor_of[unit] = mv_factor(unit)
+        f = factor_of[unit]
         if f is None:
             raise RecordError(f"column {columns[i]!r}: units {unit!r} are not mV, uV or V", path)
         names.append(name)
@@ -206,7 +214,7 @@ def read_csv(path: Path, *, fs_hz: float | None = None, units: str | None = None
         leads.append(LeadInfo(name=name, original_name=columns[i], units=unit))
     if unstated:
         _check_plausible_mv(values[:, lead_cols], names, unstated, rate, path)
-        notes.append(f"units not given in the file for leads {', '.join(unstated)}; assumed mV")
+        notes.append(f"units not given in the file for leads {listed(unstated)}; assumed mV")
     data = frozen_mv(
         values[:, lead_cols] * np.array(factors), path, "values overflow when converted to mV"
     )
@@ -221,6 +229,43 @@ def read_csv(path: Path, *, fs_hz: float | None = None, units: str | None = None
     )
 
 
+_CHUNK_BYTES = 1 << 20
+
+
+def _read_text_bytes(path: Path) -> bytes:
+    """The file's bytes, read in chunks and refused as soon as it cannot be a text record.
+
+    A NUL byte (binary data, a file of zeros) is refused in the chunk where it appears, and
+    the rows read so far times the header's columns are held against the memory budget, so a
+    hostile file costs at most one chunk or the budget, never its whole size twice over.
+    """
+    size = require_regular(path).st_size
+    if size > MAX_CSV_BYTES:
+        raise RecordError(f"text file of {size / 1e6:.0f} MB is too large to read", path)
+    chunks: list[bytes] = []
+    rows = 0
+    columns = 0
+    try:
+        with open_regular(path) as fh:
+            while chunk := fh.read(_CHUNK_BYTES):
+                nul = chunk.find(b"\x00")
+                if nul >= 0:
+                    at = sum(map(len, chunks)) + nul
+                    raise RecordError(f"not a text file (a NUL byte at byte {at:,})", path)
+                chunks.append(chunk)
+                rows += chunk.count(b"\n")
+                if not columns and rows:
+                    first = b"".join(chunks).lstrip(b"\r\n \t").split(b"\n", 1)[0]
+                    columns = max(first.count(d) for d in (b",", b";", b"\t")) + 1
+                if columns:
+                    check_signal_budget(rows, columns, path, "this text file", CONVERT_IT)
+    except FileNotFoundError:
+        raise RecordError("file not found", path) from None
+    except OSError as err:
+        raise RecordError(f"cannot read file: {err.strerror or err}", path) from None
+    return b"".join(chunks)
+
+
 def _first_bad_line(
     rows: list[str], line_numbers: list[int], delim: str, columns: list[str]
 ) -> str:
@@ -229,8 +274,7 @@ def _first_bad_line(
         cells = [c.strip().strip('"') for c in row.split(delim)]
         if len(cells) != len(columns):
             return (
-                f"line {line}: {len(cells)} values but {len(columns)} columns "
-                f"({', '.join(columns)})"
+                f"line {line}: {len(cells)} values but {len(columns)} columns ({listed(columns)})"
             )
         for name, cell in zip(columns, cells, strict=True):
             if not _is_number(cell):
@@ -260,7 +304,8 @@ def _check_plausible_mv(
     values: np.ndarray, names: list[str], unstated: list[str], fs_hz: float, path: Path
 ) -> None:
     """Refuse samples that cannot be mV (see module docstring); ``values`` per lead column."""
-    idx = [i for i, n in enumerate(names) if n in unstated]
+    wanted = set(unstated)
+    idx = [i for i, n in enumerate(names) if n in wanted]
     amp = robust_peak_to_peak(values[:, idx], fs_hz)
     big = int(np.argmax(amp))
     if amp[big] > MAX_PLAUSIBLE_MV:

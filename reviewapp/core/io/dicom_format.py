@@ -14,7 +14,6 @@ group usually holds median beats); the others are named in the notes.
 
 from __future__ import annotations
 
-import math
 import re
 from datetime import datetime
 from pathlib import Path
@@ -31,7 +30,17 @@ from reviewapp.core.io._common import (
     reading,
     unique_names,
 )
-from reviewapp.core.record import ArraySource, LeadInfo, Record, SubjectFacts, build_record
+from reviewapp.core.io.files import require_regular
+from reviewapp.core.io.numbers import DECIMAL_EXP, parse_number
+from reviewapp.core.record import (
+    READ_WHOLE,
+    ArraySource,
+    LeadInfo,
+    Record,
+    SubjectFacts,
+    build_record,
+    check_signal_budget,
+)
 
 # (WaveformBitsAllocated, WaveformSampleInterpretation) -> numpy dtype; PS3.3 C.10.9.1.5.
 _DTYPES = {
@@ -50,16 +59,21 @@ MAX_DICOM_BYTES = 2_000_000_000
 def read_dicom(path: Path) -> Record:
     """Open a DICOM ECG waveform file; see the module docstring for the conversion."""
     path = Path(path)
-    if path.stat().st_size > MAX_DICOM_BYTES:
+    size = require_regular(path).st_size
+    if size > MAX_DICOM_BYTES:
         raise RecordError("file is too large to be a DICOM ECG", path)
     with reading(path, "DICOM file"):
-        ds = pydicom.dcmread(str(path), force=path.suffix.lower() in (".dcm", ".dicom"))
+        # Large values (the waveform data) are read only once their declared size is checked
+        # against the file and the memory budget (_read_group).
+        ds = pydicom.dcmread(
+            str(path), force=path.suffix.lower() in (".dcm", ".dicom"), defer_size="256 KB"
+        )
         if "WaveformSequence" not in ds:
             modality = ds.get("Modality", "unknown")
             raise RecordError(f"DICOM file holds no waveform (modality {modality})", path)
         groups = list(ds.WaveformSequence)
         index, notes = _choose_group(groups, path)
-        return _read_group(ds, groups[index], index, notes, path)
+        return _read_group(ds, groups[index], index, notes, path, size)
 
 
 def _label(item: Dataset) -> str:
@@ -105,21 +119,20 @@ def _number(ch: Dataset, keyword: str, default: float, path: Path, k: int) -> fl
     value = ch.get(keyword, None)
     if value is None or value == "":
         return default
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        raise RecordError(f"channel {k + 1}: {keyword} {value!r} is not a number", path) from None
-    if not math.isfinite(v):
-        raise RecordError(f"channel {k + 1}: {keyword} is not finite", path)
-    return v
+    return parse_number(str(value), f"channel {k + 1}: {keyword}", DECIMAL_EXP, path)
 
 
-def _read_group(ds: Dataset, g: Dataset, index: int, notes: list[str], path: Path) -> Record:
+def _read_group(
+    ds: Dataset, g: Dataset, index: int, notes: list[str], path: Path, size: int
+) -> Record:
     n_ch = int(g.NumberOfWaveformChannels)
     n_s = int(g.NumberOfWaveformSamples)
-    fs = float(g.get("SamplingFrequency", 0) or 0)
-    if not math.isfinite(fs) or fs <= 0:
-        raise RecordError(f"multiplex group {index + 1}: sampling frequency {fs!r}", path)
+    fs_text = str(g.get("SamplingFrequency", "") or "")
+    fs = parse_number(
+        fs_text or "0", f"multiplex group {index + 1}: sampling frequency", DECIMAL_EXP, path
+    )
+    if fs <= 0:
+        raise RecordError(f"multiplex group {index + 1}: sampling frequency {fs_text!r}", path)
     bits = int(g.get("WaveformBitsAllocated", 0) or 0)
     interp = str(g.get("WaveformSampleInterpretation", "")).strip()
     dtype = _DTYPES.get((bits, interp))
@@ -129,8 +142,15 @@ def _read_group(ds: Dataset, g: Dataset, index: int, notes: list[str], path: Pat
             "(signed/unsigned integers only)",
             path,
         )
-    raw_bytes = bytes(g.WaveformData)
     need = n_s * n_ch * np.dtype(dtype).itemsize
+    if need > size:
+        raise RecordError(
+            f"{n_s:,} samples x {n_ch} channels need {need:,} bytes of waveform data but the "
+            f"file holds {size:,} bytes",
+            path,
+        )
+    check_signal_budget(n_s, n_ch, path, "this DICOM waveform", READ_WHOLE)
+    raw_bytes = bytes(g.WaveformData)
     if len(raw_bytes) < need:
         raise RecordError(
             f"waveform data holds {len(raw_bytes)} bytes but {n_s} samples x {n_ch} channels "

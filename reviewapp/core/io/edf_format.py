@@ -22,18 +22,112 @@ from reviewapp.core.io._common import (
     ChannelWindows,
     clean_lead_label,
     completed_years,
+    listed,
     mv_factor,
     reading,
     unique_names,
 )
+from reviewapp.core.io.files import read_regular, require_regular
+from reviewapp.core.io.numbers import DECIMAL, parse_int, parse_number
 from reviewapp.core.record import LeadInfo, Record, SubjectFacts, build_record
 
 _EDF_MIN_HEADER_BYTES = 256
 
 
 def _open(path: Path) -> pyedflib.EdfReader:
+    require_regular(path)  # pyedflib opens by name: never a FIFO or device
     with reading(path, "EDF file"):
         return pyedflib.EdfReader(str(path))
+
+
+@dataclass(frozen=True)
+class EdfHeader:
+    """The numbers of an EDF/BDF header, parsed strictly (``numbers``): what the file declares."""
+
+    n_records: int
+    record_duration_s: float
+    samples_per_record: tuple[int, ...]
+    header_bytes: int
+    bytes_per_sample: int
+    labels: tuple[str, ...] = ()
+
+    @property
+    def data_signals(self) -> tuple[int, ...]:
+        """Header indices of the signals that are not annotations, in the libraries' order
+        (EDF+ section 2.2.1: the "EDF Annotations" signal; BDF+ uses "BDF Annotations")."""
+        return tuple(
+            i
+            for i, label in enumerate(self.labels)
+            if label.strip() not in ("EDF Annotations", "BDF Annotations")
+        )
+
+    @property
+    def record_bytes(self) -> int:
+        return sum(self.samples_per_record) * self.bytes_per_sample
+
+    def rate_hz(self, signal: int) -> float:
+        return self.samples_per_record[signal] / self.record_duration_s
+
+
+def _field(raw: bytes, start: int, width: int) -> str:
+    return raw[start : start + width].decode("ascii", errors="replace")
+
+
+def read_edf_header(path: Path, size: int) -> EdfHeader:
+    """Parse the header's numbers and check the data records are really in the file.
+
+    EDF (Kemp et al. 1992) fixed-width ASCII header: 256 bytes, then 256 per signal. Numbers
+    are plain decimals (``numbers.DECIMAL``: an exponent such as ``1e9`` is refused, where
+    EDFlib would read a different number), counts are whole numbers. The file must hold every
+    data record it declares (header bytes + records x record size), so a 3 KB file claiming
+    14,000 records is refused before anything is read or allocated.
+    """
+    head = read_regular(path, 256)
+    if len(head) < 256:
+        raise RecordError("file is too short to be EDF (header is 256 bytes)", path)
+    bdf = head[:8] == b"\xffBIOSEMI"
+    n_records = parse_int(_field(head, 236, 8), "number of data records", path)
+    duration = parse_number(_field(head, 244, 8), "data record duration", DECIMAL, path)
+    ns = parse_int(_field(head, 252, 4), "number of signals", path)
+    header_bytes = parse_int(_field(head, 184, 8), "number of header bytes", path)
+    if ns <= 0:
+        raise RecordError(f"EDF header declares {ns} signals", path)
+    if header_bytes != 256 * (ns + 1):
+        raise RecordError(
+            f"EDF header declares {header_bytes} header bytes; {ns} signals need {256 * (ns + 1)}",
+            path,
+        )
+    if n_records == -1:
+        raise RecordError(
+            "EDF header gives the number of data records as -1 (recording not closed)", path
+        )
+    if n_records <= 0:
+        raise RecordError(f"EDF header declares {n_records} data records", path)
+    if not duration > 0:
+        raise RecordError(
+            f"EDF data record duration must be positive, file says {duration:g}", path
+        )
+    if size < header_bytes:
+        raise RecordError(f"EDF header is cut short ({size} of {header_bytes} bytes)", path)
+    full = read_regular(path, header_bytes)
+    base = 256 + ns * (16 + 80 + 8 + 8 + 8 + 8 + 8 + 80)
+    spr = tuple(
+        parse_int(_field(full, base + 8 * i, 8), f"signal {i + 1} samples per record", path)
+        for i in range(ns)
+    )
+    if any(n < 0 for n in spr):
+        raise RecordError("EDF header declares a negative number of samples per record", path)
+    labels = tuple(_field(full, 256 + 16 * i, 16) for i in range(ns))
+    header = EdfHeader(n_records, duration, spr, header_bytes, 3 if bdf else 2, labels)
+    need = header_bytes + n_records * header.record_bytes
+    if size < need:
+        held = (size - header_bytes) // header.record_bytes if header.record_bytes else 0
+        raise RecordError(
+            f"EDF file is truncated: the header declares {n_records:,} data records, the file "
+            f"holds {held:,} ({size:,} of {need:,} bytes)",
+            path,
+        )
+    return header
 
 
 @dataclass(frozen=True, eq=False)
@@ -72,8 +166,10 @@ class EdfSource(ChannelWindows):
 def read_edf(path: Path) -> Record:
     """Open an EDF/EDF+/BDF file; see the module docstring for which signals become leads."""
     path = Path(path)
-    if path.stat().st_size < _EDF_MIN_HEADER_BYTES:
+    size = require_regular(path).st_size
+    if size < _EDF_MIN_HEADER_BYTES:
         raise RecordError("file is too short to be EDF (header is 256 bytes)", path)
+    declared = read_edf_header(path, size)
     reader = _open(path)
     try:
         with reading(path, "EDF header"):
@@ -111,13 +207,26 @@ def read_edf(path: Path) -> Record:
     if other:
         notes.append(
             "non-voltage signals left out: "
-            + ", ".join(f"{labels[i]} ({dims[i] or 'no unit'})" for i in sorted(other))
+            + listed(f"{labels[i]} ({dims[i] or 'no unit'})" for i in sorted(other))
         )
     if not voltage:
         raise RecordError("no voltage (ECG) signals in the EDF file", path)
+    in_header = declared.data_signals
+    if n_sig != len(in_header):
+        raise RecordError(
+            f"the EDF library reads {n_sig} signals, the header declares {len(in_header)}", path
+        )
     for i in voltage:
         if not (math.isfinite(rates[i]) and rates[i] > 0):
             raise RecordError(f"signal {labels[i]!r} has sampling rate {rates[i]!r}", path)
+        h = in_header[i]
+        if not math.isclose(rates[i], declared.rate_hz(h), rel_tol=1e-9):
+            raise RecordError(
+                f"signal {labels[i]!r}: the EDF library reads {rates[i]:g} Hz but the header "
+                f"declares {declared.samples_per_record[h]} samples per "
+                f"{declared.record_duration_s:g} s record ({declared.rate_hz(h):g} Hz)",
+                path,
+            )
         if (
             not (math.isfinite(phys_max[i]) and math.isfinite(phys_min[i]))
             or phys_max[i] == phys_min[i]
@@ -129,7 +238,7 @@ def read_edf(path: Path) -> Record:
     if off_rate:
         notes.append(
             f"leads at other sampling rates than {common_rate:g} Hz left out: "
-            + ", ".join(f"{labels[i]} ({rates[i]:g} Hz)" for i in off_rate)
+            + listed(f"{labels[i]} ({rates[i]:g} Hz)" for i in off_rate)
         )
     channels = [i for i in voltage if rates[i] == common_rate]
     length = min(n_samples[i] for i in channels)

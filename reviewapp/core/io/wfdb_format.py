@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import math
 import re
+from collections.abc import Callable
 from dataclasses import dataclass, replace
 from datetime import date, datetime, time
 from pathlib import Path
@@ -21,14 +22,23 @@ from reviewapp.core.errors import RecordError
 from reviewapp.core.io._common import (
     ChannelWindows,
     ColumnStackSource,
+    listed,
     mv_factor,
     reading,
     unique_names,
 )
+from reviewapp.core.io.files import is_regular, read_regular, require_regular
+from reviewapp.core.io.wfdb_header import (
+    HeaderFields,
+    apply_fields,
+    body_lines,
+    misread_fields,
+    parse_header,
+)
 from reviewapp.core.record import (
     DigitalMemmapSource,
     LeadInfo,
-    LinearSource,
+    PickSource,
     Record,
     SignalSource,
     SubjectFacts,
@@ -79,19 +89,23 @@ _MAX_ABS_GAIN = 1e12
 
 def record_base(path: Path) -> Path:
     """The record path without extension (what wfdb wants) for a .hea, signal file or stem."""
+    if path.name in ("", ".", ".."):
+        raise RecordError("is a folder, not a record file", path)
     if path.suffix.lower() == HEADER_SUFFIX:
         return path.with_suffix("")
-    if path.with_name(path.name + HEADER_SUFFIX).is_file():
+    if is_regular(path.with_name(path.name + HEADER_SUFFIX)):
         return path  # a record name given without extension (LUDB records are named "1")
     return path.with_suffix("")
 
 
 def is_wfdb_record(path: Path) -> bool:
-    """True for a header file, or a file/stem that has a header beside it."""
+    """True for a header file, or a file/stem that has a regular header file beside it."""
     if path.suffix.lower() == HEADER_SUFFIX:
         return True
+    if path.name in ("", ".", ".."):
+        return False
     base = record_base(path)
-    return base.with_name(base.name + HEADER_SUFFIX).is_file()
+    return is_regular(base.with_name(base.name + HEADER_SUFFIX))
 
 
 @dataclass(frozen=True, eq=False)
@@ -167,11 +181,19 @@ class Format212Source:
         last = stop * self.n_signals
         pair0, pair1 = first // 2, (last + 1) // 2
         raw = np.asarray(self.packed[pair0 * 3 : pair1 * 3], dtype=np.int32)
+        n_pairs = raw.size // 3
+        # An odd number of samples ends the file with two bytes: the last pair's first sample
+        # (byte0 + low nibble of byte1) without its second one.
+        half = raw.size - n_pairs * 3 == 2
+        if half:
+            raw = np.concatenate([raw, np.zeros(1, dtype=np.int32)])
         raw = raw[: (raw.size // 3) * 3].reshape(-1, 3)
         flat = np.empty(raw.shape[0] * 2, dtype=np.int32)
         flat[0::2] = raw[:, 0] | ((raw[:, 1] & 0x0F) << 8)
         flat[1::2] = raw[:, 2] | ((raw[:, 1] & 0xF0) << 4)
         flat[flat > 2047] -= 4096
+        if half:
+            flat = flat[:-1]
         if flat.size < last - pair0 * 2:
             raise RecordError(
                 f"format 212 signal file ends before sample {stop} of {self.total_samples}",
@@ -197,73 +219,52 @@ def read_wfdb(path: Path, *, units: str | None = None) -> Record:
     """
     base = record_base(Path(path))
     hea = base.with_name(base.name + HEADER_SUFFIX)
-    if not hea.is_file():
-        raise RecordError("WFDB header file not found", hea)
-    if hea.stat().st_size > _MAX_HEADER_BYTES:
-        raise RecordError("file is too large to be a WFDB header", hea)
-    # wfdb.rdheader fails with an IndexError on a header without a record line.
-    content = hea.read_bytes().decode("latin-1")
-    if not content.strip():
-        raise RecordError("cannot read WFDB header: the header is empty", hea)
-    if not any(ln.strip() and not ln.lstrip().startswith("#") for ln in content.splitlines()):
-        raise RecordError("cannot read WFDB header: the header has no record line", hea)
+    content = _header_text(hea)
+    fields = parse_header(content, hea)
     import wfdb
 
     with reading(hea, "WFDB header"):
         header = wfdb.rdheader(str(base))
-        fs_note = _check_record_line(hea)
+    fs_note = None
+    if fields.fs_hz is None:
+        fs_note = "sampling rate not given in the header; WFDB's default 250 Hz used"
     if isinstance(header, wfdb.MultiRecord):
+        apply_fields(fields, header)
         record = _read_multi_segment(base, hea, header, units)
     else:
-        record = _read_single_segment(base, hea, header, units)
+        misread = misread_fields(fields, header)
+        if misread:
+            # The library's reading of the rest of such a line (names, units, and the samples
+            # wfdb.rdrecord reads itself) cannot be trusted either.
+            raise RecordError(
+                f"{', '.join(misread[:3])} written in a form the WFDB reading library "
+                "misreads (e.g. an exponent with a capital E); write the number plainly",
+                hea,
+            )
+        apply_fields(fields, header)
+        record = _read_single_segment(base, hea, header, units, fields)
     if fs_note:
         record = replace(record, notes=(fs_note, *record.notes))
     return record
 
 
-_FS_FIELD = re.compile(
-    r"^(\d*\.?\d+(?:[eE][-+]?\d+)?)(?:/\d*\.?\d+(?:[eE][-+]?\d+)?)?(?:\(-?\d*\.?\d+\))?$"
-)
+def _header_text(hea: Path) -> str:
+    """The header's text, read only from a regular file of a header's size."""
+    st = require_regular(hea, _header_error)
+    if st.st_size > _MAX_HEADER_BYTES:
+        raise RecordError("file is too large to be a WFDB header", hea)
+    content = read_regular(hea, _MAX_HEADER_BYTES + 1).decode("latin-1")
+    if not content.strip():
+        raise RecordError("cannot read WFDB header: the header is empty", hea)
+    if not body_lines(content):
+        raise RecordError("cannot read WFDB header: the header has no record line", hea)
+    return content
 
 
-def _check_record_line(hea: Path) -> str | None:
-    """Check what wfdb.rdheader passes over silently (header(5) record and signal lines).
-
-    wfdb-python falls back to 250 Hz when the frequency field does not parse (a negative
-    rate, say) and accepts fewer signal lines than the record line declares; both would give
-    a silently wrong record. Returns a note when the header relies on WFDB's default rate.
-    """
-    lines = [
-        ln.strip()
-        for ln in hea.read_text(encoding="latin-1").splitlines()
-        if ln.strip() and not ln.lstrip().startswith("#")
-    ]
-    if not lines:
-        raise RecordError("WFDB header is empty", hea)
-    fields = lines[0].split()
-    if len(fields) < 2 or not fields[1].isdigit():
-        raise RecordError(
-            f"record line {lines[0][:80]!r} must give the record name and number of signals", hea
-        )
-    declared = int(fields[1])
-    if "/" in fields[0]:
-        tail = fields[0].split("/", 1)[1]
-        declared = int(tail) if tail.isdigit() else -1
-        what = "segments"
-    else:
-        what = "signals"
-    if declared < 0 or len(lines) - 1 != declared:
-        raise RecordError(
-            f"header declares {fields[1] if what == 'signals' else declared} {what} but has "
-            f"{len(lines) - 1} {what[:-1]} lines",
-            hea,
-        )
-    if len(fields) < 3:
-        return "sampling rate not given in the header; WFDB's default 250 Hz used"
-    m = _FS_FIELD.match(fields[2])
-    if m is None or not float(m.group(1)) > 0:
-        raise RecordError(f"sampling frequency field {fields[2]!r} is not a positive number", hea)
-    return None
+def _header_error(problem: str, path: Path) -> RecordError:
+    if problem == "file not found":
+        problem = "WFDB header file not found"
+    return RecordError(problem, path)
 
 
 def _length_from_file_size(base: Path, hea: Path, header: wfdb.Record) -> int:
@@ -321,10 +322,10 @@ def _units_factors(
         kept.append(i)
         factors.append(f)
         unit_names.append(str(u))
-    notes = [f"non-voltage signals left out: {', '.join(dropped)}"] if dropped else []
+    notes = [f"non-voltage signals left out: {listed(dropped)}"] if dropped else []
     if not kept:
         raise RecordError(
-            f"no voltage (ECG) signals in the record; signals: {', '.join(dropped)}", hea
+            f"no voltage (ECG) signals in the record; signals: {listed(dropped)}", hea
         )
     return kept, factors, unit_names, notes
 
@@ -348,14 +349,12 @@ def _check_signal_files(base: Path, hea: Path, header: wfdb.Record, sig_len: int
         if "/" in name or "\\" in name or name in ("", ".", ".."):
             raise RecordError(f"signal file name {name!r} is not a plain file name", hea)
         fpath = base.with_name(name)
-        if not fpath.is_file():
-            raise RecordError(f"signal file {name} named in the header is missing", hea)
+        have = require_regular(fpath, _signal_file_error(name, hea)).st_size
         if fmt in _FLAC_FORMATS:
             continue
         offset = max(int(header.byte_offset[chans[0]] or 0), 0)
         spf = sum(int(header.samps_per_frame[c] or 1) for c in chans)
         need = offset + _expected_bytes(fmt, sig_len, spf)
-        have = fpath.stat().st_size
         # Formats 310/311 pack three samples in a 32-bit word; allow the last partial word.
         slack = 3 if fmt in ("310", "311") else 0
         if have + slack < need:
@@ -365,6 +364,17 @@ def _check_signal_files(base: Path, hea: Path, header: wfdb.Record, sig_len: int
                 f"holds about {held}",
                 hea,
             )
+
+
+def _signal_file_error(name: str, hea: Path) -> Callable[[str, Path], RecordError]:
+    """Errors about a signal file are reported on the header that names it."""
+
+    def error(problem: str, _path: Path) -> RecordError:
+        if problem == "file not found":
+            return RecordError(f"signal file {name} named in the header is missing", hea)
+        return RecordError(f"signal file {name} named in the header {problem}", hea)
+
+    return error
 
 
 def _memmap_source(
@@ -420,13 +430,10 @@ def _memmap_source(
             )
         )
     whole: SignalSource = parts[0] if len(parts) == 1 else ColumnStackSource(tuple(parts))
-    # Select voltage channels and convert units to mV in one matrix.
-    matrix = np.zeros((n_sig, len(kept)), dtype=np.float32)
-    for j, (c, f) in enumerate(zip(kept, factors, strict=True)):
-        matrix[c, j] = f
-    if len(kept) == n_sig and np.array_equal(matrix, np.eye(n_sig, dtype=np.float32)):
+    # Select voltage channels and convert units to mV (linear in the number of signals).
+    if kept == list(range(n_sig)) and all(f == 1.0 for f in factors):
         return whole
-    return LinearSource(whole, matrix)
+    return PickSource(whole, np.array(kept, dtype=np.int64), np.array(factors, dtype=np.float32))
 
 
 def _lead_infos(
@@ -451,7 +458,13 @@ def _lead_infos(
     return infos
 
 
-def _read_single_segment(base: Path, hea: Path, header: wfdb.Record, units: str | None) -> Record:
+def _read_single_segment(
+    base: Path,
+    hea: Path,
+    header: wfdb.Record,
+    units: str | None,
+    fields: HeaderFields,
+) -> Record:
     fs_hz = _check_fs(header.fs, hea)
     n_sig = int(header.n_sig or 0)
     if n_sig <= 0 or not header.sig_name:
@@ -490,11 +503,11 @@ def _read_single_segment(base: Path, hea: Path, header: wfdb.Record, units: str 
         if any(f in _FLAC_FORMATS for f in header.fmt):
             # Compressed data cannot be size-checked: prove the last sample is readable.
             source.read(sig_len - 1, sig_len)
-    uncalibrated = _uncalibrated_signals(hea, n_sig)
+    uncalibrated = [c for c, sig in enumerate(fields.signals) if sig.uncalibrated]
     if uncalibrated:
         notes.append(
             "ADC gain 0 (uncalibrated) in the header for "
-            + ", ".join(str(header.sig_name[c]) for c in uncalibrated if c in kept)
+            + listed(str(header.sig_name[c]) for c in uncalibrated if c in kept)
             + "; WFDB's default 200 adu per mV used, amplitudes may be off"
         )
     if units is not None:
@@ -534,12 +547,20 @@ def _read_multi_segment(
             raise RecordError(f"segment name {name!r} is not a plain record name", hea)
         seg_base = base.with_name(name)
         seg_hea = seg_base.with_name(name + HEADER_SUFFIX)
-        if not seg_hea.is_file():
+        if not is_regular(seg_hea):
             raise RecordError(f"segment header {seg_hea.name} is missing", hea)
+        seg_fields = parse_header(_header_text(seg_hea), seg_hea)
         with reading(seg_hea, "WFDB segment header"):
             seg = wfdb.rdheader(str(seg_base))
-        if isinstance(seg, wfdb.MultiRecord):
+        if isinstance(seg, wfdb.MultiRecord) or seg_fields.n_segments is not None:
             raise RecordError(f"segment {name} is itself multi-segment", hea)
+        misread = misread_fields(seg_fields, seg)
+        if misread:
+            raise RecordError(
+                f"segment {name}: {', '.join(misread[:3])} written in a form the WFDB reading "
+                "library misreads; write the number plainly",
+                hea,
+            )
         if n == 0:
             layout = seg  # variable-layout records: the layout segment names the signals
             continue
@@ -575,27 +596,6 @@ def _read_multi_segment(
         source_format="WFDB",
         notes=notes,
     )
-
-
-_ZERO_GAIN = re.compile(r"^0*(?:\.0*)?(?:[(/]|$)")
-
-
-def _uncalibrated_signals(hea: Path, n_sig: int) -> list[int]:
-    """Signals whose header gain field is 0: WFDB's "uncalibrated" marker (signal(5))."""
-    try:
-        lines = [
-            ln
-            for ln in hea.read_text(errors="replace").splitlines()
-            if ln.strip() and not ln.lstrip().startswith("#")
-        ]
-    except OSError:
-        return []
-    out = []
-    for c, line in enumerate(lines[1 : 1 + n_sig]):
-        parts = line.split()
-        if len(parts) > 2 and _ZERO_GAIN.match(parts[2]):
-            out.append(c)
-    return out
 
 
 # Header comment styles of the reference databases:

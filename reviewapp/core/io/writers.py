@@ -22,6 +22,7 @@ import wfdb
 from reviewapp.core.errors import RecordError
 from reviewapp.core.fiducials import Beat, BeatKind, WaveMarks
 from reviewapp.core.io._common import reading
+from reviewapp.core.io.files import atomic_output, atomic_outputs
 from reviewapp.core.record import Record
 
 NO_PEAK = "no peak"
@@ -74,7 +75,10 @@ def write_wfdb(
     except OSError as err:
         raise RecordError(f"cannot create folder: {err.strerror or err}", folder) from None
     hea = folder / f"{rec_name}.hea"
-    with reading(hea, "WFDB record for writing"):
+    with (
+        atomic_outputs(folder, [f"{rec_name}.dat", f"{rec_name}.hea"]) as tmp,
+        reading(hea, "WFDB record for writing"),
+    ):
         wfdb.wrsamp(
             rec_name,
             fs=float(record.fs_hz),
@@ -82,7 +86,7 @@ def write_wfdb(
             sig_name=names,
             p_signal=signal,
             fmt=[fmt] * len(names),
-            write_dir=str(folder),
+            write_dir=str(tmp),
             **kwargs,
         )
     return hea
@@ -100,7 +104,8 @@ def write_csv(record: Record, path: str | Path, *, include_derived: bool = True)
     header = ",".join(["time_s"] + [f"{record.leads[i].name} [mV]" for i in cols])
     table = np.column_stack([t, signal.astype(np.float64)])
     try:
-        np.savetxt(path, table, delimiter=",", header=header, comments="", fmt="%.9g")
+        with atomic_output(path) as tmp:
+            np.savetxt(tmp, table, delimiter=",", header=header, comments="", fmt="%.9g")
     except OSError as err:
         raise RecordError(f"cannot write CSV: {err.strerror or err}", path) from None
     return path
@@ -175,7 +180,10 @@ def write_wfdb_annotations(
         folder.mkdir(parents=True, exist_ok=True)
     except OSError as err:
         raise RecordError(f"cannot create folder: {err.strerror or err}", folder) from None
-    with reading(out, "WFDB annotations for writing"):
+    with (
+        atomic_outputs(folder, [out.name]) as tmp,
+        reading(out, "WFDB annotations for writing"),
+    ):
         wfdb.wrann(
             record_name,
             extension,
@@ -183,7 +191,7 @@ def write_wfdb_annotations(
             symbol=[symbols[i] for i in idx],
             aux_note=[notes[i] for i in idx],
             fs=float(fs_hz),
-            write_dir=str(folder),
+            write_dir=str(tmp),
         )
     return out
 

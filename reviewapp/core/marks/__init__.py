@@ -97,8 +97,14 @@ Never losing a mark
   ``store.resolve_reload()``, ``store.resolve_save_aside()`` (keeps this store's version as
   ``<name>.marks.<reviewer>.<utc>.json``) or ``store.resolve_merge()`` (three-way merge;
   ``MergeConflictError`` if both changed the same override, caliper, note or status).
-- ``<name>.marks.json.lock`` (pid, host, time, reviewer) detects a second window
-  (``LockedError`` naming the holder); a lock of a dead process on this host is taken over.
+- ``<name>.marks.json.lock`` (pid, host, boot id, process start time, reviewer) detects a
+  second window (``LockedError`` naming the holder, ``holder`` holding its fields); a lock
+  whose process is gone (dead, its pid reused by another process, or from before a reboot) is
+  taken over silently. Only the lock's holder saves: there is no unlocked writer
+  (``lock=False`` is for read-only stores), and each save is a compare-and-swap under an OS
+  lock. ``MarksStore.take_over(record, reviewer)`` displaces a live lock on purpose (a hung
+  window, another computer): ``store.took_over.warning`` is the text to show and a
+  ``take_over_lock`` audit event is saved; the displaced window's next save is refused.
 - A corrupt, hostile (wrong types, over-long strings, nesting deeper than 32, NaN/Infinity,
   files over 50 MB), future-version or foreign sidecar raises ``UnreadableSidecarError``
   naming the file and touches nothing. To start a fresh reading beside it, open with
@@ -175,6 +181,7 @@ from reviewapp.core.marks.model import (
     Sidecar,
 )
 from reviewapp.core.marks.store import (
+    LockTakeover,
     MarksStore,
     backup_path_for,
     blinded_view,
@@ -201,6 +208,7 @@ __all__ = [
     "FiducialTimes",
     "ForeignSidecarError",
     "FutureVersionError",
+    "LockTakeover",
     "LockedError",
     "MarksStore",
     "MergeConflictError",

@@ -142,26 +142,66 @@ def compile_check(node: Any) -> Check:
         if key in _ANNOTATIONS:
             continue
         checks.append(_keyword(key, arg, node, props))
-    return lambda v: all(c(v) for c in checks)
+    return _all_of(checks)
+
+
+def _all_of(checks: list[Check]) -> Check:
+    """One check passing when every one of ``checks`` passes (plain loops: a generator per
+    value made up most of the validation time of a worklist)."""
+    if not checks:
+        return lambda v: True
+    if len(checks) == 1:
+        return checks[0]
+    if len(checks) == 2:
+        first, second = checks
+        return lambda v: first(v) and second(v)
+    frozen = tuple(checks)
+
+    def check(v: Any) -> bool:
+        for c in frozen:
+            if not c(v):
+                return False
+        return True
+
+    return check
+
+
+# JSON values come from json.loads, so their exact Python types are known: type(v) in a set
+# answers "type" without a chain of isinstance calls. bool is not a number here.
+_EXACT: dict[str, tuple[type, ...]] = {
+    "null": (type(None),),
+    "boolean": (bool,),
+    "string": (str,),
+    "object": (dict,),
+    "array": (list,),
+    "number": (int, float),
+}
 
 
 def _keyword(key: str, arg: Any, node: dict[str, Any], props: dict[str, Any]) -> Check:
     import re
 
     if key == "type":
-        tests = [_TYPES[t] for t in ([arg] if isinstance(arg, str) else arg)]
+        names = [arg] if isinstance(arg, str) else list(arg)
+        if all(n in _EXACT for n in names):
+            exact = frozenset(t for n in names for t in _EXACT[n])
+            tests = [_TYPES[n] for n in names]
+            # Exact JSON types first; a subclass (never from json.loads) takes the full test.
+            return lambda v: type(v) in exact or any(t(v) for t in tests)
+        tests = [_TYPES[t] for t in names]
         return lambda v: any(t(v) for t in tests)
     if key == "const":
         return lambda v: _json_equal(v, arg)
     if key == "enum":
         return lambda v: any(_json_equal(v, x) for x in arg)
     if key in ("minimum", "maximum", "exclusiveMinimum"):
-        cmp = {
-            "minimum": lambda v: v >= arg,
-            "maximum": lambda v: v <= arg,
-            "exclusiveMinimum": lambda v: v > arg,
-        }[key]
-        return lambda v: not _is_number(v) or cmp(v)
+        # Written out per keyword: this check runs for every number of a sidecar.
+        num = (int, float)
+        if key == "minimum":
+            return lambda v: not isinstance(v, num) or v.__class__ is bool or v >= arg
+        if key == "maximum":
+            return lambda v: not isinstance(v, num) or v.__class__ is bool or v <= arg
+        return lambda v: not isinstance(v, num) or v.__class__ is bool or v > arg
     if key in ("minLength", "maxLength"):
         ok = (lambda n: n >= arg) if key == "minLength" else (lambda n: n <= arg)
         return lambda v: not isinstance(v, str) or ok(len(v))
@@ -176,24 +216,45 @@ def _keyword(key: str, arg: Any, node: dict[str, Any], props: dict[str, Any]) ->
         return lambda v: not isinstance(v, dict) or all(k in v for k in arg)
     if key == "items":
         item = compile_check(arg)
-        return lambda v: not isinstance(v, list) or all(item(x) for x in v)
+
+        def items(v: Any) -> bool:
+            if isinstance(v, list):
+                for x in v:
+                    if not item(x):
+                        return False
+            return True
+
+        return items
     if key == "properties":
-        subs = {k: compile_check(s) for k, s in arg.items()}
-        return lambda v: not isinstance(v, dict) or all(c(v[k]) for k, c in subs.items() if k in v)
+        subs = tuple((k, compile_check(s)) for k, s in arg.items())
+
+        def properties(v: Any) -> bool:
+            if isinstance(v, dict):
+                for k, c in subs:
+                    if k in v and not c(v[k]):
+                        return False
+            return True
+
+        return properties
     if key == "additionalProperties":
         if "patternProperties" in node:
             raise LookupError("patternProperties")
         extra = compile_check(arg)
         known = frozenset(props)
-        return lambda v: (
-            not isinstance(v, dict) or all(extra(x) for k, x in v.items() if k not in known)
-        )
+
+        def additional(v: Any) -> bool:
+            if isinstance(v, dict):
+                for k, x in v.items():
+                    if k not in known and not extra(x):
+                        return False
+            return True
+
+        return additional
     if key == "propertyNames":
         name = compile_check(arg)
         return lambda v: not isinstance(v, dict) or all(name(k) for k in v)
     if key == "allOf":
-        parts = [compile_check(s) for s in arg]
-        return lambda v: all(p(v) for p in parts)
+        return _all_of([compile_check(s) for s in arg])
     if key == "if":
         cond = compile_check(arg)
         then = compile_check(node.get("then", True))

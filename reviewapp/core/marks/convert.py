@@ -10,7 +10,7 @@ from __future__ import annotations
 from pathlib import Path
 from typing import TYPE_CHECKING
 
-from reviewapp.core.errors import MarksError
+from reviewapp.core.errors import MarksError, printable
 from reviewapp.core.fiducials import FIDUCIALS, MarkOverride, WaveMarks
 from reviewapp.core.marks.durable import utc_now
 from reviewapp.core.marks.fingerprint import record_fingerprint
@@ -46,8 +46,11 @@ def sidecar_path_for(record: Record, folder: Path | None = None) -> Path:
 
 
 def record_identity(record: Record, fingerprint: str | None = None) -> RecordIdentity:
+    """Which record a sidecar is for. The name is the record file's stem as printable text
+    (``errors.printable``): a file name that is not UTF-8 cannot be written in JSON as is."""
+    name = Path(record.source_path).stem if record.source_path is not None else record.name
     return RecordIdentity(
-        name=Path(record.source_path).stem if record.source_path is not None else record.name,
+        name=printable(name),
         fingerprint=fingerprint or record_fingerprint(record),
         fs_hz=float(record.fs_hz),
         n_samples=int(record.n_samples),

@@ -1,10 +1,13 @@
 """The marks store: one reviewer's session on one record's sidecar.
 
 Every change is saved at once (``durable.atomic_write``), the previous file kept as
-``<name>.marks.json.bak``. Before each save the file on disk is hashed and compared with the
-version this store loaded or last wrote; if another instance changed it, nothing is written
-and ``ConflictError`` is raised (resolve with ``resolve_reload``, ``resolve_save_aside`` or
-``resolve_merge``). A lock file detects a second window on the same record.
+``<name>.marks.json.bak``. Only a store holding the record's lock saves (``lock.SidecarLock``;
+there is no unlocked writer), and each save is a compare-and-swap under an OS lock: the file on
+disk is hashed and compared with the version this store loaded or last wrote, and written only
+if they match and the lock is still this store's; otherwise nothing is written and
+``ConflictError`` is raised (resolve with ``resolve_reload``, ``resolve_save_aside`` or
+``resolve_merge``). ``MarksStore.take_over`` displaces another window's lock on purpose, with a
+warning for the reader and an audit entry.
 """
 
 from __future__ import annotations
@@ -12,17 +15,19 @@ from __future__ import annotations
 import os
 import re
 from collections.abc import Callable, Mapping
-from dataclasses import replace
+from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Any, Literal
 
 from reviewapp.core.errors import MarksError
 from reviewapp.core.fiducials import MarkOverride
+from reviewapp.core.io.files import open_regular
 from reviewapp.core.marks import codec
 from reviewapp.core.marks.commands import Command
 from reviewapp.core.marks.convert import overrides_for, record_identity, sidecar_path_for
 from reviewapp.core.marks.durable import (
     atomic_write,
+    host_name,
     remove_stale_temps,
     set_aside,
     utc_now,
@@ -33,10 +38,11 @@ from reviewapp.core.marks.errors import (
     BlindedError,
     ConflictError,
     ForeignSidecarError,
+    LockedError,
     ReadOnlyError,
     UnreadableSidecarError,
 )
-from reviewapp.core.marks.lock import SidecarLock
+from reviewapp.core.marks.lock import SidecarLock, describe
 from reviewapp.core.marks.merge import merge_sidecars
 from reviewapp.core.marks.model import (
     AuditEvent,
@@ -64,7 +70,8 @@ def backup_path_for(path: Path) -> Path:
 def read_sidecar_bytes(path: Path) -> bytes | None:
     """The file's bytes (None if absent), refusing files above the size cap before reading."""
     try:
-        with open(path, "rb") as fh:
+        # Never a FIFO or device: one named like a sidecar would block the read forever.
+        with open_regular(path, UnreadableSidecarError) as fh:
             size = os.fstat(fh.fileno()).st_size
             if size > codec.MAX_SIDECAR_BYTES:
                 raise UnreadableSidecarError(
@@ -76,8 +83,6 @@ def read_sidecar_bytes(path: Path) -> bytes | None:
             return fh.read(codec.MAX_SIDECAR_BYTES + 1)
     except FileNotFoundError:
         return None
-    except IsADirectoryError:
-        raise UnreadableSidecarError("expected a marks file but found a folder", path) from None
     except OSError as exc:
         raise UnreadableSidecarError(
             f"cannot read the marks file: {exc.strerror or exc}", path
@@ -123,6 +128,22 @@ def blinded_view(sidecar: Sidecar, reviewer: str, *, show_automatic: bool) -> Si
     )
 
 
+@dataclass(frozen=True)
+class LockTakeover:
+    """What ``MarksStore.take_over`` displaced: the previous holder and the warning to show."""
+
+    previous: Mapping[str, Any]
+    warning: str
+
+
+def _takeover_warning(holder: Mapping[str, Any]) -> str:
+    return (
+        f"You took over this record from {describe(dict(holder))}. If that window is still "
+        "open, it can no longer save there: its next change is refused and can be kept as a "
+        "separate file. The take-over is recorded in the audit trail."
+    )
+
+
 class MarksStore:
     """One reviewer's session on one sidecar. Use ``MarksStore.open``; close when done.
 
@@ -155,6 +176,7 @@ class MarksStore:
         self.clock = clock
         self.revision = 0  # bumped whenever the reading is replaced from disk
         self.set_aside_paths: tuple[Path, ...] = ()
+        self.took_over: LockTakeover | None = None  # set by a take-over of a live lock
         self._lock = lock
         self._sidecar = Sidecar(record=identity)
         self._base = self._sidecar  # the version on disk as last loaded or written
@@ -189,8 +211,9 @@ class MarksStore:
         role: "first", "second" or "adjudicator". A second reader is blinded unless
             ``blinded=False`` is given; an adjudicator is never blinded.
         show_automatic: a blinded reader sees the automatic marks only if True.
-        lock: take the record's lock (LockedError if another live window holds it);
-            ``force_lock`` takes over a lock held by another host's process.
+        lock: take the record's lock (LockedError if another live window holds it). A store
+            that writes always holds it: ``lock=False`` is only allowed with ``read_only``.
+        force_lock: take the lock even from a live holder: the same as ``take_over``.
         fresh_if_unreadable: if the sidecar is corrupt, hostile, of a future version or made
             for another record, move it (and its backup) aside to ``*.set-aside-<utc>`` and
             start a fresh one; otherwise raise the UnreadableSidecarError and touch nothing.
@@ -209,10 +232,14 @@ class MarksStore:
             blinded = role == "second"
         if role == "adjudicator" and blinded:
             raise MarksError("an adjudicator sees both readings and cannot be blinded")
+        if not lock and not read_only:
+            raise MarksError(
+                "marks are saved only under the record's lock: open with lock=True, or read-only"
+            )
         path = Path(path) if path is not None else sidecar_path_for(record)
         identity = record_identity(record, fingerprint)
         held = None
-        if lock and not read_only:
+        if not read_only:
             if sweep_temps:
                 remove_stale_temps(path)
             held = SidecarLock.acquire(path, reviewer, force=force_lock)
@@ -225,10 +252,34 @@ class MarksStore:
                     raise
                 store._start_fresh()
             store._check_role()
+            if held is not None and held.displaced is not None:
+                store._record_takeover(held.displaced)
         except BaseException:
             store.close()
             raise
         return store
+
+    @classmethod
+    def take_over(cls, record: Record, reviewer: str, **open_kw: Any) -> MarksStore:
+        """Open ``record``'s marks for writing although another window holds the lock.
+
+        For a reader whose other window is closed but whose lock looks alive (a hung program,
+        a lock from another computer): the lock is taken, ``store.took_over`` holds the
+        previous holder and the warning to show, and an audit event ``take_over_lock`` (old:
+        the previous holder, new: this one) is saved at once. The displaced window, if still
+        running, can no longer save (its next save raises ConflictError). A stale lock (its
+        process gone) is simply taken, with no warning. Other arguments as ``open``.
+        """
+        open_kw.pop("force_lock", None)
+        return cls.open(record, reviewer, force_lock=True, **open_kw)
+
+    def _record_takeover(self, holder: Mapping[str, Any]) -> None:
+        previous = {k: holder.get(k) for k in ("reviewer", "pid", "host", "since") if k in holder}
+        self.took_over = LockTakeover(previous, _takeover_warning(holder))
+        mine = {"reviewer": self.reviewer, "pid": os.getpid(), "host": host_name()}
+        event = self._event("take_over_lock", "record lock", previous, mine)
+        self._stage(replace(self._sidecar, audit=(*self._sidecar.audit, event)))
+        self.save()
 
     def close(self) -> None:
         """Release the lock. Everything is already saved (or a save error was raised)."""
@@ -452,19 +503,36 @@ class MarksStore:
         """
         if not self._dirty:
             return
-        if self._lock is not None and not self._lock.still_ours():
-            if self._lock.holder() is None:
-                # The lock file vanished (removed by hand or by a cleanup): take it again.
-                self._lock = SidecarLock.acquire(self.path, self.reviewer)
-            else:
-                raise ConflictError(
-                    "another window took over this record's lock; nothing was saved. Close "
-                    "this window, or save this reading as a separate file",
-                    self.path,
-                )
+        if self._lock is None:
+            raise ReadOnlyError("this store does not hold the record's lock", self.path)
         data = (
             self._pending if self._pending is not None else codec.encode(self._sidecar, self.path)
         )
+        for _ in range(3):
+            with self._lock.guard() as state:
+                if state == "taken":
+                    raise ConflictError(
+                        "another window took over this record's lock; nothing was saved. "
+                        "Close this window, or save this reading as a separate file",
+                        self.path,
+                    )
+                if state == "ours":
+                    self._swap(data)
+                    return
+            # The lock file vanished (removed by hand or by a cleanup): take it again.
+            try:
+                self._lock = SidecarLock.acquire(self.path, self.reviewer)
+            except LockedError as exc:
+                raise ConflictError(
+                    f"another window has this record open ({exc.problem}); nothing was saved. "
+                    "Close this window, or save this reading as a separate file",
+                    self.path,
+                ) from None
+        raise MarksError("could not keep the record's lock to save; nothing was saved", self.path)
+
+    def _swap(self, data: bytes) -> None:
+        """Write ``data`` if the file on disk is the version this store last saw (called with
+        the OS lock held, so the check and the write are one step for every other store)."""
         current, current_hash = self._current_disk()
         if current_hash != self._disk_hash:
             what = "removed" if current is None else "changed by another window or program"
