@@ -129,14 +129,25 @@ class MainWindow(QtWidgets.QMainWindow):
         self.reading_panel.delete_note_requested.connect(self.delete_note)
         self.worklist = _make_worklist()
         if self.worklist is not None:
-            self.worklist.recordActivated.connect(self.open_path)
+            self.worklist.recordActivated.connect(self._open_from_list)
+            # A click (or arrow key) on a row opens that record: a row highlighted while the
+            # page shows another record is a wrong-patient risk.
+            self.worklist.table.selectionModel().currentRowChanged.connect(
+                lambda cur, _prev: (
+                    self._open_from_list(self.worklist.current_path()) if cur.isValid() else None
+                )
+            )
             self.worklist.scanFinished.connect(lambda _n: self._select_in_list(self._current_path))
             self.worklist.scanFinished.connect(self._records_listed)
             records_widget: QtWidgets.QWidget = self.worklist
         else:
             self.records_list = QtWidgets.QListWidget()
-            self.records_list.itemActivated.connect(
-                lambda it: self.open_path(Path(it.data(QtCore.Qt.ItemDataRole.UserRole)))
+            self.records_list.currentItemChanged.connect(
+                lambda it, _prev: (
+                    self._open_from_list(Path(it.data(QtCore.Qt.ItemDataRole.UserRole)))
+                    if it is not None
+                    else None
+                )
             )
             records_widget = self.records_list
         self._current_path: Path | None = None
@@ -245,7 +256,12 @@ class MainWindow(QtWidgets.QMainWindow):
         if tip:
             a.setToolTip(tip)
             a.setStatusTip(tip)
-        a.triggered.connect(slot)
+        if checkable:
+            a.triggered.connect(slot)
+        else:
+            # QAction.triggered carries the checked flag; a plain command takes no argument
+            # (File > Open once received False as its reading mode).
+            a.triggered.connect(lambda _checked=False, f=slot: f())
         self.addAction(a)
         return a
 
@@ -574,6 +590,8 @@ class MainWindow(QtWidgets.QMainWindow):
             record = open_record(path)
         except ReviewError as err:
             self.show_error(err)
+            # The list highlights the record on the page, never the one that failed.
+            self._select_in_list(self._current_path)
             return False
         self.settings.setValue("files/last_dir", str(path.parent))
         if self.folder != path.parent:
@@ -581,6 +599,10 @@ class MainWindow(QtWidgets.QMainWindow):
         self._select_in_list(path)
         self.load_record(record, analyse_now=analyse_now)
         return True
+
+    def _open_from_list(self, path: Path | None) -> None:
+        if path is not None and path != self._current_path:
+            self.open_path(path)
 
     def show_folder(self, folder: Path, records: list[Path]) -> None:
         """List the folder: the worklist (status, cached values, flags) when available."""
@@ -654,7 +676,7 @@ class MainWindow(QtWidgets.QMainWindow):
         self.overview.setVisible(long)
         if long:
             self.overview.set_record(record, self.paper.page_s)
-        self.setWindowTitle(f"{record.name} — reviewapp")
+        self.setWindowTitle(window_title(record, ""))
         self._update_status()
         self.record_loaded.emit(record)
         if analyse_now:
@@ -965,7 +987,7 @@ class MainWindow(QtWidgets.QMainWindow):
         self.act_add_note.setEnabled(st is not None)
         if self.record is not None:
             status = "" if st is None else STATUS_WORDS.get(st.reading.status, "").lower()
-            self.setWindowTitle(f"{self.record.name}{f' — {status}' if status else ''} — reviewapp")
+            self.setWindowTitle(window_title(self.record, status))
         self.act_compare.setEnabled(st is not None and not st.blinded)
 
     def open_compare(self) -> None:
@@ -1549,6 +1571,14 @@ class MainWindow(QtWidgets.QMainWindow):
         self.settings.setValue("window/state", self.saveState())
         self.settings.sync()
         super().closeEvent(ev)
+
+
+def window_title(record: Record, status: str) -> str:
+    """The record, its subject and the reading status: the reader always sees whose ECG is
+    on the page."""
+    sid = record.subject.subject_id
+    subject = f"subject {sid}" if sid else "subject not stated"
+    return " — ".join(x for x in (record.name, subject, status, "reviewapp") if x)
 
 
 def _make_worklist():

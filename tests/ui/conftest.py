@@ -103,3 +103,19 @@ def loaded(window, ptb_12lead, ptb_analysis, monkeypatch):
     window.load_record(ptb_12lead, analyse_now=True)
     assert window.session is not None
     return window
+
+
+@pytest.fixture
+def worklist_copy(sample_records_dir, tmp_path) -> Path:
+    """The demo worklist copied to a temporary folder (records only, no sidecars), so readings
+    made in a test land beside the copy."""
+    import shutil
+
+    if not sample_records_dir.is_dir():
+        pytest.skip("no sample_records folder in this checkout")
+    dst = tmp_path / "worklist"
+    dst.mkdir()
+    for f in sample_records_dir.iterdir():
+        if f.is_file() and ".marks." not in f.name:
+            shutil.copy(f, dst / f.name)
+    return dst
