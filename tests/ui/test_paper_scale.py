@@ -46,8 +46,8 @@ def _grid_px_steps(w, axis: str) -> np.ndarray:
 @pytest.mark.parametrize("gain", GAINS_MM_PER_MV)
 def test_grid_is_one_mm_and_signal_is_true_scale_at_every_speed_and_gain(loaded, speed, gain):
     w = loaded
-    w.set_speed(speed)
-    w.set_gain(gain)
+    w.view.set_speed(speed)
+    w.view.set_gain(gain)
     w.paper.true_size()
     ppm = PX_PER_MM
     for axis in ("x", "y"):
@@ -72,8 +72,8 @@ def test_grid_is_one_mm_and_signal_is_true_scale_at_every_speed_and_gain(loaded,
 
 def test_one_second_is_25_mm_at_standard_paper(loaded):
     w = loaded
-    w.set_speed(25.0)
-    w.set_gain(10.0)
+    w.view.set_speed(25.0)
+    w.view.set_gain(10.0)
     w.paper.true_size()
     g = w.paper.geom
     px = (
@@ -122,5 +122,5 @@ def test_window_uses_stored_calibration(settings, qtbot):
     store_px_per_mm(QtGui.QGuiApplication.primaryScreen(), 5.5, settings)
     w = MainWindow(settings)
     qtbot.addWidget(w)
-    assert w.scale.px_per_mm == pytest.approx(5.5)
+    assert w.view.scale.px_per_mm == pytest.approx(5.5)
     assert isinstance(w.paper.vb.viewRect(), QtCore.QRectF)

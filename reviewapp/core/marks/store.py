@@ -364,6 +364,8 @@ class MarksStore:
         if self.read_only:
             raise ReadOnlyError("this marks file was opened read-only", self.path)
         before = self.reading
+        if mode == "do" and cmd.changes_nothing:
+            return before  # a new value equal to the old one: nothing to record or audit
         after = cmd.revert(before) if mode == "undo" else cmd.apply(before)
         events: list[AuditEvent] = []
         if before.status == "signed_off" and after.status != "signed_off":
