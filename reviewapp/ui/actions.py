@@ -68,7 +68,7 @@ ACTIONS: tuple[ActionSpec, ...] = (
     A("export_csv", "Measurements as CSV…", "exports.run", arg="export_csv"),
     A("export_wfdb", "Marks as WFDB annotations", "exports.run", arg="export_wfdb"),
     A("print", "Print report…", "exports.run", K.Print, arg="print_report"),
-    A("quit", "&Quit", "close", K.Quit),
+    A("quit", "&Quit", "close", "Ctrl+Q"),  # StandardKey.Quit is empty on Windows
     # Edit
     A("undo", "Undo", "adapter.undo", K.Undo),
     A("redo", "Redo", "adapter.redo", "Ctrl+Shift+Z"),

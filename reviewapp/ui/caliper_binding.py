@@ -164,7 +164,7 @@ class CaliperBinding(QtCore.QObject):
         self.flush(keep=c)
         cid = new_id()
         c.store_id, self._known[cid] = cid, c  # before the step, so its sync finds the pair
-        out = w.calipers.add_saved(as_saved(c, self.fs_hz, cid))
+        out = w.calipers.add(as_saved(c, self.fs_hz, cid))
         if not out.recorded:
             c.store_id = None
             del self._known[cid]

@@ -46,8 +46,13 @@ BLINDED_COMPARE_TIP = (
 def window_title(record: Record, status: str) -> str:
     """The record, its subject and the reading status: the reader always sees whose ECG is
     on the page."""
-    sid = record.subject.subject_id
-    subject = f"subject {sid}" if sid else "subject not stated"
+    subj = record.subject
+    subject = f"subject {subj.subject_id}" if subj.subject_id else "subject not stated"
+    facts = [
+        x for x in (subj.sex, None if subj.age_years is None else f"{subj.age_years:g} y") if x
+    ]
+    if facts:
+        subject += f" ({', '.join(facts)})"
     return " — ".join(x for x in (record.name, subject, status, "reviewapp") if x)
 
 
@@ -239,6 +244,7 @@ class WorkflowAdapter(QtCore.QObject):
         if w is None:
             return None
         self.before_step()
+        w.release_marks()  # the record's lock goes before it is taken again
         opening = self._open(w.record)
         out = w.use_marks(opening, self.mode, self.reader_id(), carry_window_calipers=carry)
         if out.problem is not None:
@@ -383,9 +389,17 @@ class WorkflowAdapter(QtCore.QObject):
             return
         if self.compare_dialog is not None:
             self.compare_dialog.close()
-            self.compare_dialog.deleteLater()
-        self.compare_dialog = CompareDialog(w, self.window, self.tell)
-        self.compare_dialog.show()
+        dlg = CompareDialog(w, self.window, self.tell)
+        # Gone once closed: the window never holds on to a closed comparison.
+        dlg.setAttribute(QtCore.Qt.WidgetAttribute.WA_DeleteOnClose)
+        dlg.destroyed.connect(lambda _o=None, d=dlg: self._compare_closed(d))
+        dlg.finished.connect(lambda _r, d=dlg: self._compare_closed(d))
+        self.compare_dialog = dlg
+        dlg.show()
+
+    def _compare_closed(self, dlg: CompareDialog) -> None:
+        if self.compare_dialog is dlg:
+            self.compare_dialog = None
 
     # --- what the window shows of the reading -------------------------------------------------
     def refresh(self) -> None:

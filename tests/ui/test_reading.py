@@ -442,3 +442,37 @@ def test_hidden_automatic_marks_are_not_drawn_until_the_reader_places_them(
     # The strip shows the beats' marks that follow the reader's median corrections only if
     # the reader set them beat by beat: carried marks would reveal the automatic positions.
     assert not w.paper.marks
+
+
+def test_status_says_what_happened_and_a_repeated_final_value_is_no_change(
+    window, qtbot, sample_copy, settings
+):
+    # Opening writes nothing, so the status bar must not say the marks were saved.
+    from reviewapp.ui.reader import ADJUDICATOR
+
+    _first_reader_moves_t_end(sample_copy, 0.040)
+    _first_reader_moves_t_end(sample_copy, -0.036, "reader2", "second")
+    before = sample_copy.with_name(sample_copy.stem + ".marks.json").read_bytes()
+    settings.setValue("reader/id", "adj1")
+    w = window
+    w.act_roles[ADJUDICATOR].trigger()
+    assert w.open_path(sample_copy, analyse_now=True)
+    status = w.statusBar().currentMessage()
+    assert "saved" not in status and f"marks file {sample_copy.stem}.marks.json" in status
+    assert sample_copy.with_name(sample_copy.stem + ".marks.json").read_bytes() == before
+    w.act_compare.trigger()
+    dlg = w.adapter.compare_dialog
+    dlg.select_item("t_off")
+    qtbot.mouseClick(dlg.use_b, L)
+    audit = _sidecar(sample_copy)["audit"]
+    assert audit[-1]["action"] == "adjudicate"
+    b_ms = dlg.comparison.row("t_off").b_ms
+    assert dlg.result_label.text().startswith(f"Adjudicate T end: {b_ms:.0f} ms from reader2")
+    # Reader B's value again: it is the final value already; nothing recorded, nothing audited.
+    dlg.select_item("t_off")
+    qtbot.mouseClick(dlg.use_b, L)
+    assert len(_sidecar(sample_copy)["audit"]) == len(audit)
+    text = f"No change: the final T end is {b_ms:.0f} ms already."
+    assert dlg.result_label.text() == text == w.statusBar().currentMessage()
+    assert w.act_undo.text() == f"Undo Adjudicate T end: {b_ms:.0f} ms from reader2"
+    dlg.close()

@@ -4,9 +4,6 @@ in either theme. Real key presses where the window has a shortcut for the step."
 
 from __future__ import annotations
 
-import shutil
-from pathlib import Path
-
 import pytest
 from PySide6 import QtCore, QtWidgets
 
@@ -79,20 +76,9 @@ def test_caliper_list_after_restore_from_sidecar(window, qtbot, sample_copy, set
     assert "C2" in paper_names(w) and sorted(paper_names(w)) == sorted(listed_names(w))
 
 
-@pytest.fixture
-def folder_copy(sample_records_dir, tmp_path) -> Path:
-    """The bundled sample folder copied (no sidecars), so no marks land beside the repo's."""
-    if not sample_records_dir.is_dir():
-        pytest.skip("no sample_records folder in this checkout")
-    dst = tmp_path / "worklist"
-    dst.mkdir()
-    for f in sample_records_dir.iterdir():
-        if f.is_file() and ".marks." not in f.name:
-            shutil.copy(f, dst / f.name)
-    return dst
-
-
-def test_opening_a_folder_shows_the_worklist_beside_a_true_size_page(qtbot, settings, folder_copy):
+def test_opening_a_folder_shows_the_worklist_beside_a_true_size_page(
+    qtbot, settings, worklist_copy
+):
     from reviewapp.ui.main_window import MainWindow
     from reviewapp.ui.records_dock import list_records
     from reviewapp.ui.worklist import COLUMNS, COMPACT_COLUMNS
@@ -104,8 +90,8 @@ def test_opening_a_folder_shows_the_worklist_beside_a_true_size_page(qtbot, sett
     w.show()
     qtbot.waitExposed(w)
     with qtbot.waitSignal(w.worklist.scanFinished, timeout=20_000):
-        assert w.open_path(folder_copy, analyse_now=True)
-    records = list_records(folder_copy)
+        assert w.open_path(worklist_copy, analyse_now=True)
+    records = list_records(worklist_copy)
     assert len(records) > 1
     assert w.records_dock.isVisible()
     assert w.worklist.visible_paths() == sorted(records, key=lambda p: p.stem)

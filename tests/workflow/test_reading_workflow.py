@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import pytest
 
+from reviewapp.core.marks.model import Caliper
 from reviewapp.core.workflow import FIRST, MarkEdit, MarkTarget, ReadingWorkflow
 from tests.workflow.conftest import sidecar_json
 
@@ -120,7 +121,7 @@ def test_an_unidentified_reader_is_asked_and_window_calipers_follow(open_workflo
     # Nobody answers: a correction is dropped, a caliper stays in the window (undoable).
     w.edit_guard = lambda: False
     assert w.move_mark(T_END, w.shown_sample(T_END) + 5).message.startswith("Not changed")
-    out = w.calipers.add("time", 1.0, 1.4, lead="II", label="C1", caliper_id="c1")
+    out = w.calipers.add(Caliper("c1", "time", 1.0, 1.4, lead="II", label="C1"))
     assert out.recorded and "kept in this window only: no reader id given" in out.message
     assert sidecar_json(analysis) is None
 
@@ -134,7 +135,7 @@ def test_an_unidentified_reader_is_asked_and_window_calipers_follow(open_workflo
         return True
 
     w.edit_guard = answer
-    out = w.calipers.add("amplitude", 2.0, 2.0, v1_mv=0.0, v2_mv=1.2, lead="V5", label="C2")
+    out = w.calipers.add(Caliper("", "amplitude", 2.0, 2.0, 0.0, 1.2, lead="V5", label="C2"))
     assert out.saved_to is not None
     side = sidecar_json(analysis)["readings"]["reader7"]
     assert sorted(c["label"] for c in side["calipers"]) == ["C1", "C2"]
@@ -145,7 +146,7 @@ def test_an_unidentified_reader_is_asked_and_window_calipers_follow(open_workflo
 
 def test_calipers_notes_and_march_out_are_steps(open_workflow):
     w = open_workflow()
-    assert w.calipers.add("time", 1.0, 1.4, lead="II", label="C1", caliper_id="a").done
+    assert w.calipers.add(Caliper("a", "time", 1.0, 1.4, lead="II", label="C1")).done
     assert w.calipers.move("a", t2_s=1.5).message.startswith("Move caliper C1")
     assert w.calipers.move("a", label="RR").message.startswith("Rename caliper C1 to RR")
     assert not w.calipers.move("a", label="RR").done  # same label: no change

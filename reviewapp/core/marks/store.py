@@ -412,10 +412,15 @@ class MarksStore:
         return after
 
     def set_automatic(
-        self, automatic: AutomaticMarks, listing_cache: Mapping[str, Any] | None = None
+        self,
+        automatic: AutomaticMarks,
+        listing_cache: Mapping[str, Any] | None = None,
+        *,
+        save: bool = True,
     ) -> None:
         """Replace the engine's marks (e.g. a newer engine version); readings are untouched.
-        Saved at once; recorded in the audit trail with old and new engine versions.
+        Saved at once (``save=False``: with the next save, e.g. together with the first
+        correction); recorded in the audit trail with old and new engine versions.
         ``listing_cache`` (batch step): the worklist cache made from these marks, stored with
         them."""
         if self.read_only:
@@ -431,7 +436,8 @@ class MarksStore:
             new = replace(new, automatic=automatic, audit=(*new.audit, event))
         if new != self._sidecar:
             self._stage(new)
-            self.save()
+            if save:
+                self.save()
 
     # --- saving and conflicts ---------------------------------------------------------------
 

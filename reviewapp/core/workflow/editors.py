@@ -9,7 +9,7 @@ from __future__ import annotations
 
 from collections.abc import Callable, Sequence
 from dataclasses import replace
-from typing import Literal, Protocol
+from typing import Protocol
 
 from reviewapp.core.errors import MarksError, ReviewError
 from reviewapp.core.fiducials import FIDUCIAL_LABELS
@@ -88,51 +88,27 @@ class CaliperEditor:
                 return h
         return None
 
-    def add(
-        self,
-        kind: Literal["time", "amplitude"],
-        t1_s: float,
-        t2_s: float,
-        *,
-        v1_mv: float = 0.0,
-        v2_mv: float = 0.0,
-        lead: str | None = None,
-        label: str = "",
-        caliper_id: str | None = None,
-    ) -> Outcome:
-        """A new caliper as one undo step (``caliper_id``: the id to give it)."""
+    def add(self, c: Caliper) -> Outcome:
+        """A new caliper (its id given: ``c.id``, or a new one when empty) as one undo step."""
         h = self._target()
 
         def build(h: Holder) -> Command:
             return h.edits.add_caliper(
-                kind,
-                t1_s,
-                t2_s,
-                v1_mv=v1_mv,
-                v2_mv=v2_mv,
-                lead=lead,
-                label=label,
-                caliper_id=caliper_id,
+                c.kind,
+                c.t1_s,
+                c.t2_s,
+                v1_mv=c.v1_mv,
+                v2_mv=c.v2_mv,
+                lead=c.lead,
+                label=c.label,
+                caliper_id=c.id or None,
             )
 
-        out = self._w.record_step(f"Add caliper {label}".rstrip(), [(h, build)])
+        out = self._w.record_step(f"Add caliper {c.label}".rstrip(), [(h, build)])
         if h is self._w.memory and self._w.store is not None and out.recorded:
             why = "no reader id given" if not self._w.identified else "the reading is read-only"
-            return replace(out, message=f"Caliper {label} kept in this window only: {why}.")
+            return replace(out, message=f"Caliper {c.label} kept in this window only: {why}.")
         return out
-
-    def add_saved(self, c: Caliper) -> Outcome:
-        """Add a caliper kept elsewhere (e.g. in the window) under its own id."""
-        return self.add(
-            c.kind,
-            c.t1_s,
-            c.t2_s,
-            v1_mv=c.v1_mv,
-            v2_mv=c.v2_mv,
-            lead=c.lead,
-            label=c.label,
-            caliper_id=c.id,
-        )
 
     def move(self, caliper_id: str, **changes: object) -> Outcome:
         """Change any of t1_s, t2_s, v1_mv, v2_mv, lead, label: one undo step."""

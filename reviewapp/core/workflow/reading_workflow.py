@@ -295,8 +295,8 @@ class ReadingWorkflow:
         return self.record_step(text, [(holder, b) for b in builds])
 
     def store_automatic_first(self) -> Outcome | None:
-        """Keep the engine's marks in the file before the first correction, so each override
-        keeps the automatic value it replaced (``old_s``)."""
+        """Put the engine's marks in the file with the first correction (saved with it), so
+        each override keeps the automatic value it replaced (``old_s``)."""
         st = self.store
         if st is None or st.read_only or st.blinded:
             return None
@@ -304,9 +304,7 @@ class ReadingWorkflow:
         if auto is not None and auto.engine_version == self.analysis.engine_version:
             return None
         try:
-            st.set_automatic(automatic_from_analysis(self.analysis))
-        except ConflictError as err:
-            return self._conflict_outcome(err, recorded=False)
+            st.set_automatic(automatic_from_analysis(self.analysis), save=False)
         except ReviewError as err:
             return Outcome.failed(err)
         return None
@@ -468,10 +466,16 @@ class ReadingWorkflow:
         if carry_window_calipers and st is not None and not st.read_only:
             self.memory = self._new_memory()
             for c in old_memory.calipers:
-                carried.append(self.calipers.add_saved(c))
+                carried.append(self.calipers.add(c))
         self._notify(EVERYTHING)
         problem = next((o for o in carried if o.problem is not None), None)
         return problem or Outcome(True, self.note)
+
+    def release_marks(self) -> None:
+        """Let go of the marks file's lock (before it is opened again, e.g. under another
+        reader id); ``use_marks`` follows."""
+        if self.store is not None:
+            self.store.close()
 
     def _new_memory(self) -> MemoryMarks:
         auto = None if self.mode.hide_automatic else automatic_from_analysis(self.analysis)

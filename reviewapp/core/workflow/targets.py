@@ -11,7 +11,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Literal
 
-from reviewapp.core.fiducials import FIDUCIAL_LABELS, FIDUCIALS, MarkOverride, Scope
+from reviewapp.core.fiducials import FIDUCIAL_LABELS, MarkOverride, Scope
 from reviewapp.core.marks.edits import snap_s
 from reviewapp.core.marks.model import OverrideKey
 
@@ -29,12 +29,9 @@ class MarkTarget:
     lead: str | None = None
 
     def __post_init__(self) -> None:
-        if self.fiducial not in FIDUCIALS:
-            raise ValueError(f"unknown fiducial {self.fiducial!r}; expected one of {FIDUCIALS}")
-        if self.scope not in ("representative", "beat"):
-            raise ValueError(f"unknown scope {self.scope!r}")
-        if (self.scope == "beat") != (self.beat_r is not None):
-            raise ValueError("a beat mark needs its beat's R sample, a median-beat mark none")
+        self.override(None)  # the engine's own checks of fiducial, scope and beat
+        if self.scope == "representative" and self.beat_r is not None:
+            raise ValueError("a median-beat mark has no beat R")
 
     def key(self, fs_hz: float) -> OverrideKey:
         """The marks model's key of this mark's correction.
