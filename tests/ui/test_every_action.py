@@ -551,8 +551,9 @@ def c_widget_toolbar_view_group(c: Ctx) -> None:
     assert v.scale.gain_mm_per_mv == 5.0
     _choose(c, v.layout_box, v.layout_box.itemText(v.layout_box.findData("3x4+1")))
     assert c.w.paper.layout_key == "3x4+1"
-    _choose(c, v.rhythm_box, "V1")
-    assert c.w.paper.rhythm_leads[0] == "V1"
+    other = v.rhythm_box.itemText(1)
+    _choose(c, v.rhythm_box, other)
+    assert c.w.paper.rhythm_leads[0] == other
 
 
 def c_widget_toolbar_filters(c: Ctx) -> None:
@@ -767,27 +768,27 @@ def test_edit_menu_actions_on_a_ludb_record(ctx, shared_data):
     assert ctx.w.last_error_box is None
 
 
-def test_view_and_filter_actions_on_a_15_lead_record(ctx, shared_data):
-    # PTB s0010_re: 15 leads (12 + Frank X, Y, Z), 38.4 s at 1000 Hz, so paging has pages.
-    _copy_shared(ctx, shared_data, "ptbdb", "s0010_re", (".hea", ".dat", ".xyz"))
-    _open(ctx, "s0010_re")
-    assert ctx.w.record.n_leads == 15
+def test_view_and_filter_actions_on_a_2_lead_record(ctx, shared_data):
+    # QTDB sel100: 2 leads (MLII, V5), 250 Hz, 15 minutes, so paging has pages.
+    _copy_shared(ctx, shared_data, "qtdb", "sel100", (".hea", ".dat"))
+    _open(ctx, "sel100")
+    assert ctx.w.record.lead_names == ("MLII", "V5")
     _run(ctx, VIEW_GROUP)
     assert ctx.w.last_error_box is None
 
 
-def test_tools_help_and_paper_keys_on_a_2_lead_record(ctx, shared_data):
-    # QTDB sel100: 2 leads (MLII, V5), 250 Hz, 15 minutes; two readings to compare.
+def test_tools_help_and_paper_keys_on_a_15_lead_record(ctx, shared_data):
+    # PTB s0010_re: 15 leads (12 + Frank X, Y, Z), 38.4 s at 1000 Hz; two readings to compare.
     from tests.ui.test_reading import _first_reader_moves_t_end
 
-    _copy_shared(ctx, shared_data, "qtdb", "sel100", (".hea", ".dat"))
-    hea = ctx.folder / "sel100.hea"
+    _copy_shared(ctx, shared_data, "ptbdb", "s0010_re", (".hea", ".dat", ".xyz"))
+    hea = ctx.folder / "s0010_re.hea"
     _first_reader_moves_t_end(hea, 0.040)
     _first_reader_moves_t_end(hea, -0.010, "reader2", "second")
     ctx.w.settings.setValue("reader/id", "adj1")
     ctx.w.acts["role_3"].trigger()
-    _open(ctx, "sel100")
-    assert ctx.w.record.lead_names == ("MLII", "V5")
+    _open(ctx, "s0010_re")
+    assert ctx.w.record.n_leads == 15
     _run(ctx, TOOLS_GROUP)
     assert ctx.w.last_error_box is None
 

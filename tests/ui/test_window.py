@@ -102,21 +102,6 @@ def test_window_state_and_view_settings_are_restored(settings, qtbot):
     w2.view.set_theme("light")
 
 
-def test_keyboard_speed_gain_layout(loaded, qtbot):
-    w = loaded
-    qtbot.keyClick(w, QtCore.Qt.Key.Key_BracketRight)
-    assert w.view.scale.speed_mm_per_s == 50.0
-    qtbot.keyClick(w, QtCore.Qt.Key.Key_BracketLeft)
-    qtbot.keyClick(w, QtCore.Qt.Key.Key_BracketLeft)
-    assert w.view.scale.speed_mm_per_s == 12.5
-    qtbot.keyClick(w, QtCore.Qt.Key.Key_Equal)
-    assert w.view.scale.gain_mm_per_mv == 20.0
-    qtbot.keyClick(w, QtCore.Qt.Key.Key_2)
-    assert w.paper.layout_key == "6x2"
-    qtbot.keyClick(w, QtCore.Qt.Key.Key_B)
-    assert w.median.isVisible() and w.paper.isVisible()
-
-
 def test_help_lists_every_shortcut_and_about_shows_caution(window):
     from reviewapp.ui.help_panel import SHORTCUTS, about_text
 

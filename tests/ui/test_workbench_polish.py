@@ -152,15 +152,6 @@ def test_frequent_tools_fit_the_toolbar_at_1600_px(window, qtbot):
         assert a in menu_actions, a.text()
 
 
-def test_filter_button_says_how_many_display_filters_are_on(window):
-    w = window
-    assert w.view.filters_button.text() == "Filters"
-    w.act_f_base.trigger()
-    w.act_f_low.trigger()
-    assert w.view.filters_button.text() == "Filters (2 on)"
-    assert w.view.filters.baseline and w.view.filters.lowpass
-
-
 @pytest.mark.parametrize("theme", ["light", "dark"])
 def test_median_beats_fill_the_room_below_the_page_in_both_themes(loaded, qtbot, theme):
     w = loaded
