@@ -12,6 +12,7 @@ from collections.abc import Callable
 from typing import TYPE_CHECKING
 
 from PySide6 import QtCore, QtGui, QtWidgets
+from shiboken6 import isValid
 
 from reviewapp.core.errors import MarksError, ReviewError
 from reviewapp.core.record import Record
@@ -124,9 +125,9 @@ class WorkflowAdapter(QtCore.QObject):
         self.refresh()
 
     def close(self) -> None:
-        if self.compare_dialog is not None:
-            self.compare_dialog.close()
-            self.compare_dialog = None
+        dlg, self.compare_dialog = self.compare_dialog, None
+        if dlg is not None and isValid(dlg):
+            dlg.close()
         w, self.workflow = self.workflow, None
         if w is not None:
             self.before_step()
@@ -276,7 +277,7 @@ class WorkflowAdapter(QtCore.QObject):
                 self.set_read_mode(old)
                 self.status(f"Still reading as {old.text}.")
                 return
-        if self.compare_dialog is not None and mode.blinded:
+        if self.compare_dialog is not None and mode.blinded and isValid(self.compare_dialog):
             self.compare_dialog.close()
         self.records.set_blinded(self.mode.blinded, self.reader_id())
         self.refresh()
@@ -387,12 +388,11 @@ class WorkflowAdapter(QtCore.QObject):
                 self.window, ReviewError("a blinded reader cannot see other readings", w.store.path)
             )
             return
-        if self.compare_dialog is not None:
+        if self.compare_dialog is not None and isValid(self.compare_dialog):
             self.compare_dialog.close()
         dlg = CompareDialog(w, self.window, self.tell)
         # Gone once closed: the window never holds on to a closed comparison.
         dlg.setAttribute(QtCore.Qt.WidgetAttribute.WA_DeleteOnClose)
-        dlg.destroyed.connect(lambda _o=None, d=dlg: self._compare_closed(d))
         dlg.finished.connect(lambda _r, d=dlg: self._compare_closed(d))
         self.compare_dialog = dlg
         dlg.show()
