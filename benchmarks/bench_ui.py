@@ -51,6 +51,7 @@ def _pct(xs: list[float], q: float) -> float:
 def bench_drag() -> None:
     from PySide6 import QtCore, QtWidgets
 
+    from reviewapp.core.workflow import MarkTarget
     from reviewapp.ui.app import create_app
     from reviewapp.ui.main_window import MainWindow
 
@@ -65,9 +66,9 @@ def bench_drag() -> None:
     w.show()
     app.processEvents()
     w.load_record(rec, analyse_now=True)
-    w.set_layout("12x1")
+    w.view.set_layout("12x1")
     app.processEvents()
-    c = w.add_caliper("time", row=1, center_sample=3000)
+    c = w.paper.add_caliper("time", row=1, center_sample=3000)
 
     caliper_ms: list[float] = []
     for i in range(N):
@@ -77,29 +78,30 @@ def bench_drag() -> None:
         caliper_ms.append(1000 * (time.perf_counter() - t))
 
     mark_ms: list[float] = []
-    s = w.session
+    s = w.workflow
     marks = [m for m in w.paper.marks if m.fiducial == "t_off"]
     m = marks[len(marks) // 2]
     for i in range(N):
         t = time.perf_counter()
         m.set_sample(m.sample + (1 if i % 2 == 0 else -1))
-        s.preview(s.beat_override(m.beat_index, m.fiducial, m.sample))  # measurements + summary
+        s.preview(m.target, m.sample)  # measurements + summary
         app.processEvents()
         mark_ms.append(1000 * (time.perf_counter() - t))
 
     rep_ms: list[float] = []
     rep = s.reading.marked.representative
-    w.show_median(True)
+    w.view.show_median(True)
     app.processEvents()
     k = rep.marks.t_off
+    t_end = MarkTarget("representative", "t_off")
     for i in range(N // 2):
         t = time.perf_counter()
         k2 = k + (1 if i % 2 == 0 else 0)
         w.median._snap("t_off", k2)
-        s.preview(s.representative_override("t_off", k2))
+        s.preview(t_end, k2)
         app.processEvents()
         rep_ms.append(1000 * (time.perf_counter() - t))
-    w.show_median(False)
+    w.view.show_median(False)
 
     # Peer: a bare PlotWidget with the same 12 curves, one InfiniteLine moved per step.
     import numpy as np
@@ -187,7 +189,7 @@ def bench_launch() -> None:
     target = SHARED / "ptbdb" / "s0010_re.hea"
     if not target.is_file():
         from reviewapp.ui.app import sample_records_dir
-        from reviewapp.ui.main_window import list_records
+        from reviewapp.ui.records_dock import list_records
 
         recs = list_records(sample_records_dir())
         target = recs[0]

@@ -81,11 +81,11 @@ def run_app(
     )
     install_excepthook(lambda: window)
     if second_reader:
-        window.set_read_mode(ReadMode("second", True, not hide_automatic), reopen=False)
+        window.adapter.set_read_mode(ReadMode("second", True, not hide_automatic), reopen=False)
     window.show()
     target = path if path is not None else sample_records_dir()
     if path is not None or target.is_dir():
         QtCore.QTimer.singleShot(0, lambda: window.open_path(target))
     if median:
-        QtCore.QTimer.singleShot(0, lambda: window.show_median(True))
+        QtCore.QTimer.singleShot(0, lambda: window.view.show_median(True))
     return int(app.exec())

@@ -22,7 +22,8 @@ AMP_LEG_HALF_MM = 4.0
 
 
 class CaliperGeometry(Protocol):
-    fs_hz: float
+    @property
+    def fs_hz(self) -> float: ...
 
     def x_of_sample(self, sample: float) -> float: ...
     def sample_of_x(self, x_mm: float) -> int: ...
@@ -218,7 +219,8 @@ class CaliperPair(pg.GraphicsObject):
             return []
         lo, hi = sorted((self.a, self.b))
         step = abs(step)
-        out, s = [], hi + step
+        out: list[int] = []
+        s = hi + step
         while s <= last_sample and len(out) < 200:
             out.append(s)
             s += step

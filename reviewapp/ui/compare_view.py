@@ -9,17 +9,17 @@ the marks store's adjudication commands (audited, undoable in the window).
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from typing import TYPE_CHECKING
 
 from PySide6 import QtCore, QtGui, QtWidgets
 
-from reviewapp.core.errors import ReviewError
 from reviewapp.core.fiducials import FIDUCIAL_LABELS
+from reviewapp.core.workflow import Outcome, ReadingWorkflow, WorkflowChange
 
 if TYPE_CHECKING:
     from reviewapp.core.marks import Comparison, ComparisonRow
     from reviewapp.core.marks.model import ReviewerReading
-    from reviewapp.ui.main_window import MainWindow
 
 ITEM_LABELS = {
     "pr_ms": "PR",
@@ -58,13 +58,20 @@ def _ms(v: float | None, signed: bool = False) -> str:
 
 
 class CompareDialog(QtWidgets.QDialog):
-    """Non-modal comparison window bound to the main window's current session."""
+    """Non-modal comparison window on one reading workflow. ``tell`` hears the outcome of each
+    final value recorded (the window shows it, and offers to reconcile a changed file)."""
 
-    def __init__(self, window: MainWindow) -> None:
-        super().__init__(window)
+    def __init__(
+        self,
+        workflow: ReadingWorkflow,
+        parent: QtWidgets.QWidget | None = None,
+        tell: Callable[[Outcome], None] | None = None,
+    ) -> None:
+        super().__init__(parent)
         self.setObjectName("compare_dialog")
         self.setWindowTitle("Compare readings")
-        self.window_ = window
+        self.workflow = workflow
+        self._tell = tell
         self.comparison: Comparison | None = None
         self.a_box = QtWidgets.QComboBox()
         self.b_box = QtWidgets.QComboBox()
@@ -113,6 +120,10 @@ class CompareDialog(QtWidgets.QDialog):
         self.set_value.clicked.connect(self._set_dialog)
         self.adj_note = QtWidgets.QLabel("")
         self.adj_note.setWordWrap(True)
+        # What the last final value did ("No change: ..." when it was the value already).
+        self.result_label = QtWidgets.QLabel("")
+        self.result_label.setObjectName("compare_result")
+        self.result_label.setWordWrap(True)
         buttons = QtWidgets.QHBoxLayout()
         for b in (self.use_a, self.use_b, self.set_value):
             buttons.addWidget(b)
@@ -124,19 +135,27 @@ class CompareDialog(QtWidgets.QDialog):
         lay.addWidget(self.table, 1)
         lay.addWidget(self.summary)
         lay.addLayout(buttons)
+        lay.addWidget(self.result_label)
         lay.addWidget(close)
         self.a_box.activated.connect(lambda _i: self.refresh())
         self.b_box.activated.connect(lambda _i: self.refresh())
         self.table.itemSelectionChanged.connect(self._update_buttons)
         self.resize(900, 560)
+        self._unsubscribe = workflow.subscribe(self._workflow_changed)
         self.fill_readers()
+
+    def _workflow_changed(self, change: WorkflowChange) -> None:
+        if change.stored:
+            self.fill_readers()
+
+    def closeEvent(self, ev: QtGui.QCloseEvent) -> None:
+        self._unsubscribe()
+        super().closeEvent(ev)
 
     # --- data --------------------------------------------------------------------------
     def _readings(self) -> dict[str, ReviewerReading]:
-        s = self.window_.session
-        if s is None or s.store is None or s.store.blinded:
-            return {}
-        return s.store.readings()
+        w = self.workflow
+        return w.readings() if w.can_compare else {}
 
     def fill_readers(self) -> None:
         """List the readers (adjudicators excluded); A = the first reader, B = the second."""
@@ -164,22 +183,21 @@ class CompareDialog(QtWidgets.QDialog):
         }
 
     def _final_reading(self) -> ReviewerReading | None:
-        s = self.window_.session
-        if s is None or s.store is None:
+        st = self.workflow.store
+        if st is None:
             return None
-        if s.store.role == "adjudicator":
-            return s.store.reading
+        if st.role == "adjudicator":
+            return st.reading
         return next((r for r in self._readings().values() if r.role == "adjudicator"), None)
 
     def refresh(self) -> None:
         from reviewapp.core.marks import compare_readings
 
-        s = self.window_.session
         readings = self._readings()
         a, b = self.a_box.currentData(), self.b_box.currentData()
         self.comparison = None
         self.table.setRowCount(0)
-        if s is None or a not in readings or b not in readings or a == b:
+        if a not in readings or b not in readings or a == b:
             self.summary.setText(
                 "Needs two readings of this record (a first and a second reader)."
                 if len(readings) < 2
@@ -188,11 +206,12 @@ class CompareDialog(QtWidgets.QDialog):
             self._update_buttons()
             return
         tol = self.tolerances_ms()
-        comp = compare_readings(s.analysis, readings[a], readings[b], tol)
+        analysis = self.workflow.analysis
+        comp = compare_readings(analysis, readings[a], readings[b], tol)
         final = self._final_reading()
         finals: dict[str, str] = {}
         if final is not None:
-            adj = compare_readings(s.analysis, readings[a], final, tol)
+            adj = compare_readings(analysis, readings[a], final, tol)
             finals = {
                 r.item: _ms(r.b_ms) + (" (auto)" if r.source_b == "automatic" else "")
                 for r in adj.rows
@@ -246,18 +265,14 @@ class CompareDialog(QtWidgets.QDialog):
 
     def select_item(self, item: str) -> None:
         for r in range(self.table.rowCount()):
-            if self.table.item(r, 0).data(QtCore.Qt.ItemDataRole.UserRole) == item:
+            cell = self.table.item(r, 0)
+            if cell is not None and cell.data(QtCore.Qt.ItemDataRole.UserRole) == item:
                 self.table.selectRow(r)
                 return
 
     def _can_adjudicate(self) -> bool:
-        s = self.window_.session
-        return (
-            s is not None
-            and s.store is not None
-            and s.store.role == "adjudicator"
-            and not s.store.read_only
-        )
+        st = self.workflow.store
+        return st is not None and st.role == "adjudicator" and not st.read_only
 
     def _update_buttons(self) -> None:
         row = self.selected_row()
@@ -280,37 +295,28 @@ class CompareDialog(QtWidgets.QDialog):
     def adjudicate(self, which: str, value_ms: float | None = None) -> bool:
         """Record the final value of the selected item: reader A's ("a"), B's ("b"), or
         ("set") ``value_ms`` (fiducials only, ms from R)."""
-        s = self.window_.session
         row = self.selected_row()
-        if s is None or s.store is None or row is None or self.comparison is None:
+        if row is None or self.comparison is None:
             return False
-        if not s.may_edit():
-            return False
-        readings = self._readings()
         who = self.comparison.reviewer_a if which == "a" else self.comparison.reviewer_b
-        try:
-            if row.kind == "fiducial":
-                if which == "set":
-                    v_ms, source = value_ms, "set"
-                else:
-                    v_ms, source = (row.a_ms if which == "a" else row.b_ms), who
-                cmd = s.store.edits.adjudicate_fiducial(
-                    row.item, None if v_ms is None else v_ms / 1000.0, chosen_from=source
-                )
-                text = f"Adjudicate {item_label(row)}: " + (
-                    f"{_ms(v_ms)} set" if source == "set" else f"{_ms(v_ms)} from {who}"
-                )
+        decisions = self.workflow.decisions
+        if row.kind == "fiducial":
+            if which == "set":
+                v_ms, source = value_ms, "set"
             else:
-                interval = ADOPTS.get(row.item, row.item)
-                cmd = s.store.edits.adopt_interval(interval, readings[who])
-                text = f"Adjudicate {ITEM_LABELS.get(interval, interval)}: marks from {who}"
-        except ReviewError as err:
-            self.window_.show_error(err)
-            return False
-        ok = s.push_store_command(cmd, text)
+                v_ms, source = (row.a_ms if which == "a" else row.b_ms), who
+            out = decisions.adjudicate_fiducial(
+                row.item, None if v_ms is None else v_ms / 1000.0, source
+            )
+        else:
+            interval = ADOPTS.get(row.item, row.item)
+            out = decisions.adopt_interval(interval, ITEM_LABELS.get(interval, interval), who)
+        self.result_label.setText(out.message)
+        if self._tell is not None:
+            self._tell(out)
         self.refresh()
         self.select_item(row.item)
-        return ok
+        return out.done
 
     def _set_dialog(self) -> None:
         row = self.selected_row()

@@ -1,8 +1,9 @@
 """File-menu exports and printing of the current reading (the same page as `reviewapp export`).
 
 The page is drawn by ``reviewapp.report`` at true scale; this module only asks for a file name
-(or a printer), gathers the current reading from the window's ``ReadingSession`` and reports
-success or the clear error in the status bar or a dialog.
+(or a printer), gathers the reading on screen from the ``ReadingWorkflow`` and reports what was
+written in the status bar, or the clear error in a dialog. The menu entries are declared with
+the window's other actions (reviewapp/ui/actions.py).
 """
 
 from __future__ import annotations
@@ -11,10 +12,11 @@ from collections.abc import Callable
 from pathlib import Path
 
 from PySide6.QtCore import QMarginsF, QObject
-from PySide6.QtGui import QAction, QKeySequence, QPageLayout, QPageSize, QPainter
-from PySide6.QtWidgets import QFileDialog, QMainWindow, QMenu
+from PySide6.QtGui import QPageLayout, QPageSize, QPainter
+from PySide6.QtWidgets import QFileDialog, QMainWindow
 
 from reviewapp.core.errors import ReviewError
+from reviewapp.core.workflow import ReadingWorkflow
 from reviewapp.report.content import ReportContent, build_report_content
 from reviewapp.report.export import (
     MM_PER_INCH,
@@ -25,71 +27,55 @@ from reviewapp.report.export import (
 )
 from reviewapp.report.layout import page_layout
 
-# The window's ReadingSession, or None when no record is open.
-SessionGetter = Callable[[], object | None]
+WorkflowGetter = Callable[[], ReadingWorkflow | None]
 
 
-def report_content_from_session(session: object) -> ReportContent:
-    """The report page's content for the reading on screen (overrides, status, reviewer)."""
-    analysis = session.analysis  # type: ignore[attr-defined]
+def report_content(workflow: ReadingWorkflow) -> ReportContent:
+    """The report page's content for the reading on screen (corrections, status, reviewer)."""
+    store = workflow.store
     status, reviewer, signed_at = "unread", None, None
-    store = getattr(session, "store", None)
     if store is not None:
         reading = store.reading
-        status = getattr(reading, "status", status)
-        reviewer = getattr(reading, "reviewer", None)
-        signed_at = getattr(reading, "signed_off_at", None)
-    overrides = tuple(session.overrides())  # type: ignore[attr-defined]
+        status, reviewer, signed_at = reading.status, reading.reviewer, reading.signed_off_at
+    overrides = workflow.engine_overrides
     if overrides and status == "unread":
         status = "in_progress"
     return build_report_content(
-        analysis, overrides, status=status, reviewer=reviewer, signed_off_at=signed_at
+        workflow.analysis, overrides, status=status, reviewer=reviewer, signed_off_at=signed_at
     )
 
 
 class ExportActions(QObject):
-    """Adds Export and Print entries to a File menu; one job: turn the reading into files."""
+    """One job: turn the reading on screen into files (or a printed page)."""
 
     def __init__(
         self,
         window: QMainWindow,
-        menu: QMenu,
-        session: SessionGetter,
+        workflow: WorkflowGetter,
         show_error: Callable[[str], None],
         paper: Callable[[], str] = lambda: "a4",
     ) -> None:
         super().__init__(window)
         self._window = window
-        self._session = session
+        self._workflow = workflow
         self._show_error = show_error
         self._paper = paper
-        sub = menu.addMenu("Export reading")
-        self.pdf = self._add(sub, "Report page as PDF…", self.export_pdf, "Ctrl+E")
-        self.image = self._add(sub, "Report page as image…", self.export_image)
-        self.csv = self._add(sub, "Measurements as CSV…", self.export_csv)
-        self.wfdb = self._add(sub, "Marks as WFDB annotations", self.export_wfdb)
-        self.print_ = self._add(menu, "Print report…", self.print_report, QKeySequence.Print)
 
-    def _add(self, menu: QMenu, text: str, slot: Callable[[], object], key=None) -> QAction:
-        act = QAction(text, self._window)
-        if key is not None:
-            act.setShortcut(QKeySequence(key))
-        act.triggered.connect(lambda _checked=False: self._guarded(slot))
-        menu.addAction(act)
-        return act
-
-    def _guarded(self, slot: Callable[[], object]) -> None:
+    def run(self, name: str) -> object:
+        """The menu's entry point: ``export_pdf``, ``export_image``, ``export_csv``,
+        ``export_wfdb`` or ``print_report``, with any problem shown in words."""
         try:
-            slot()
+            return getattr(self, name)()
         except ReviewError as err:
             self._show_error(str(err))
+            return None
 
     def _content(self) -> ReportContent | None:
-        session = self._session()
-        if session is None:
+        workflow = self._workflow()
+        if workflow is None:
             self._show_error("Open a record first.")
             return None
-        if getattr(session, "hide_automatic", False):
+        if workflow.hide_automatic:
             # Every export draws and lists the automatic marks and values the blinded reader
             # has not set; they would see them in the file.
             self._show_error(
@@ -97,11 +83,11 @@ class ExportActions(QObject):
                 "hidden: the page would show the automatic marks and values."
             )
             return None
-        return report_content_from_session(session)
+        return report_content(workflow)
 
     def _ask(self, title: str, suffix: str, filters: str) -> Path | None:
-        session = self._session()
-        rec = session.analysis.record if session is not None else None  # type: ignore[attr-defined]
+        workflow = self._workflow()
+        rec = workflow.record if workflow is not None else None
         start = ""
         if rec is not None and rec.source_path is not None:
             start = str(rec.source_path.with_name(f"{rec.name}-reading{suffix}"))

@@ -121,11 +121,11 @@ def build_layout(
         want = 1 if key == "3x4+1" else 3
         names = [lead for lead, _ in leads]
         chosen = [r for r in rhythm_leads if r in names][:want]
-        for extra in names:
+        for name in names:
             if len(chosen) >= min(want, n):
                 break
-            if extra not in chosen:
-                chosen.append(extra)
+            if name not in chosen:
+                chosen.append(name)
         for j, lead in enumerate(chosen):
             cells.append(Cell(lead, n_rows + j, 0, 0.0, page_s, False, rhythm=True))
         rows_total += len(chosen)

@@ -13,6 +13,7 @@ import pyqtgraph as pg
 from PySide6 import QtCore, QtGui
 
 from reviewapp.core.fiducials import FIDUCIAL_LABELS
+from reviewapp.core.workflow import MarkTarget
 from reviewapp.ui.theme import Theme, mark_colour
 
 GRAB_PX = 5.0
@@ -55,6 +56,7 @@ class FiducialMark(pg.GraphicsObject):
         self.fiducial = fiducial
         self.sample = int(sample)
         self.beat_index = beat_index
+        self.target: MarkTarget | None = None  # the mark it shows (set by the paper)
         self.corrected = corrected
         self._x_of_sample = x_of_sample
         self._sample_of_x = sample_of_x

@@ -7,15 +7,17 @@ of paper at the current speed and gain, magnified so the beat fills its panel.
 
 from __future__ import annotations
 
+from collections.abc import Callable
+
 import numpy as np
 import pyqtgraph as pg
 from PySide6 import QtCore, QtGui, QtWidgets
 
 from reviewapp.core.fiducials import FIDUCIALS
+from reviewapp.core.workflow import MarkAction, MarkEdit, MarkTarget, ReadingWorkflow
 from reviewapp.ui.layouts import ordered_leads
 from reviewapp.ui.mark_items import SHORT_LABELS
 from reviewapp.ui.paper import PaperGrid, PaperScale
-from reviewapp.ui.session import ReadingSession
 from reviewapp.ui.theme import LIGHT, Theme, mark_colour
 
 MAX_SUPERIMPOSED = 300
@@ -49,19 +51,14 @@ LABEL_ANCHORS = {
 class MedianBeatView(pg.GraphicsLayoutWidget):
     """Grid of median beats (4 columns) sharing one set of draggable global fiducial lines."""
 
-    mark_dragging = QtCore.Signal(str, int)  # fiducial, window sample
-    mark_dropped = QtCore.Signal(str, int)
-    mark_reset = QtCore.Signal(str)
-    # A lead's own mark (its J point): fiducial, lead name, window sample.
-    lead_mark_dragging = QtCore.Signal(str, str, int)
-    lead_mark_dropped = QtCore.Signal(str, str, int)
-    lead_mark_reset = QtCore.Signal(str, str)
+    # Every edit of a global line or of a lead's J point: a MarkEdit in window samples.
+    mark_edit = QtCore.Signal(object)
 
     def __init__(self, scale: PaperScale, theme: Theme = LIGHT, parent=None) -> None:
         super().__init__(parent)
         self.scale = scale
         self.theme = theme
-        self.session: ReadingSession | None = None
+        self.workflow: ReadingWorkflow | None = None
         self.superimpose = False
         self.lead_order = "standard"
         self.plots: list[pg.ViewBox] = []
@@ -72,9 +69,14 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
         self.setBackground(theme.window)
 
     # --- configuration -------------------------------------------------------------------
-    def set_session(self, session: ReadingSession | None) -> None:
-        self.session = session
+    def set_workflow(self, workflow: ReadingWorkflow | None) -> None:
+        self.workflow = workflow
         self.invalidate()
+
+    def _emit(
+        self, action: MarkAction, fid: str, sample: int | None, lead: str | None = None
+    ) -> None:
+        self.mark_edit.emit(MarkEdit(MarkTarget("representative", fid, lead=lead), action, sample))
 
     def set_scale(self, scale: PaperScale) -> None:
         self.scale = scale
@@ -111,7 +113,7 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
         self.plots.clear()
         self.lines.clear()
         self.j_marks.clear()
-        s = self.session
+        s = self.workflow
         if s is None or s.reading.marked.representative is None:
             label = self.addLabel("No representative beat for this record.", color=self.theme.text)
             label.setAttr("size", "12pt")
@@ -207,7 +209,7 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
             self._place_labels()
 
     def _superimposed(
-        self, s: ReadingSession, r_index: int, n: int
+        self, s: ReadingWorkflow, r_index: int, n: int
     ) -> tuple[np.ndarray, np.ndarray]:
         """Every dominant beat's window, aligned at R, joined with NaN breaks for one curve."""
         x = s.analysis.conditioned_mv
@@ -224,7 +226,7 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
 
     def refresh_marks(self) -> None:
         """Move and restyle the existing lines after an edit (no rebuild)."""
-        s = self.session
+        s = self.workflow
         if self._dirty or s is None or s.reading.marked.representative is None or not self.plots:
             self.invalidate()
             return
@@ -234,8 +236,11 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
             self.rebuild()
             return
         for fid, lines in self.lines.items():
-            pos = self.window_ms(self._shown_sample(fid))
-            corrected = s.is_corrected("representative", fid)
+            k = self._shown_sample(fid)
+            if k is None:
+                continue
+            pos = self.window_ms(k)
+            corrected = s.is_corrected(MarkTarget("representative", fid))
             pen, hover, colour = self._pens(fid, corrected)
             self._syncing = True
             try:
@@ -253,14 +258,18 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
 
     def _unplaced(self, fid: str) -> bool:
         """The mark is shown at its fixed start position (automatic marks hidden)."""
-        s = self.session
-        return s is not None and s.hide_automatic and not s.is_corrected("representative", fid)
+        s = self.workflow
+        return (
+            s is not None
+            and s.hide_automatic
+            and not s.is_corrected(MarkTarget("representative", fid))
+        )
 
     def _shown_sample(self, fid: str) -> int | None:
         """Window sample where ``fid``'s line is drawn (None: no line)."""
-        s = self.session
+        s = self.workflow
         rep = None if s is None else s.reading.marked.representative
-        if rep is None:
+        if s is None or rep is None:
             return None
         if self._unplaced(fid):
             k = rep.r_index + round(UNPLACED_MS[fid] * s.fs_hz / 1000.0)
@@ -335,13 +344,13 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
                     label.setVisible(show)
 
     def _add_lines(self, p: pg.ViewBox, first_row: bool) -> None:
-        s = self.session
+        s = self.workflow
         assert s is not None
         for fid in FIDUCIALS:
             v = self._shown_sample(fid)
             if v is None:
                 continue
-            corrected = s.is_corrected("representative", fid)
+            corrected = s.is_corrected(MarkTarget("representative", fid))
             pen, hover, colour = self._pens(fid, corrected)
             text = self._label_text(fid, corrected) if first_row else None
             line = pg.InfiniteLine(
@@ -362,7 +371,7 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
             line.setToolTip(self._line_tip(fid, corrected))
             line.sigDragged.connect(self._on_drag)
             line.sigPositionChangeFinished.connect(self._on_drop)
-            line.mouseDoubleClickEvent = lambda ev, f=fid: (ev.accept(), self.mark_reset.emit(f))
+            line.mouseDoubleClickEvent = self._resetter(fid)
             p.addItem(line)
             self.lines.setdefault(fid, []).append(line)
 
@@ -377,21 +386,28 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
         item.setZValue(40)
         item.sigPositionChanged.connect(self._on_j_drag)
         item.sigPositionChangeFinished.connect(self._on_j_drop)
-        item.mouseDoubleClickEvent = lambda ev, ld=lead: (
-            ev.accept(),
-            self.lead_mark_reset.emit("qrs_off", ld),
-        )
+        item.mouseDoubleClickEvent = self._resetter("qrs_off", lead)
         p.addItem(item)
         self.j_marks.append(item)
         self._place_j_mark(item)
 
+    def _resetter(self, fid: str, lead: str | None = None) -> Callable[[QtGui.QMouseEvent], None]:
+        """A double-click handler that resets the mark to automatic."""
+
+        def reset(ev: QtGui.QMouseEvent) -> None:
+            ev.accept()
+            self._emit("reset", fid, None, lead)
+
+        return reset
+
     def _j_corrected(self, lead: str) -> bool:
-        s = self.session
-        return s is not None and s.is_corrected("representative", "qrs_off", lead=lead)
+        s = self.workflow
+        return s is not None and s.is_corrected(MarkTarget("representative", "qrs_off", lead=lead))
 
     def _put_on_curve(self, item: pg.TargetItem, k: int) -> None:
         """Place a J dot at window sample ``k`` on its lead's median beat."""
-        rep = self.session.reading.marked.representative
+        rep = None if self.workflow is None else self.workflow.reading.marked.representative
+        assert rep is not None
         self._syncing = True
         try:
             item.setPos(self.window_ms(k), item.sign * float(rep.waveform_mv[k, item.lead_index]))
@@ -399,7 +415,7 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
             self._syncing = False
 
     def _place_j_mark(self, item: pg.TargetItem) -> None:
-        s = self.session
+        s = self.workflow
         rep = None if s is None else s.reading.marked.representative
         idx = item.lead_index
         j = None if rep is None or idx >= len(rep.lead_marks) else rep.lead_marks[idx].qrs_off
@@ -424,7 +440,7 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
             self._place_j_mark(item)
 
     def _j_tip(self, lead: str, corrected: bool) -> str:
-        s = self.session
+        s = self.workflow
         st = ""
         if s is not None:
             lm = next((m for m in s.reading.measurements.leads if m.lead == lead), None)
@@ -441,27 +457,27 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
         if self._syncing:
             return
         k = self.window_sample(item.pos().x())
-        s = self.session
+        s = self.workflow
         rep = None if s is None else s.reading.marked.representative
         if rep is not None:
             k = min(max(k, 0), rep.waveform_mv.shape[0] - 1)
             self._put_on_curve(item, k)  # only time is the reader's to choose
-        self.lead_mark_dragging.emit("qrs_off", item.lead, k)
+        self._emit("preview", "qrs_off", k, item.lead)
 
     def _on_j_drop(self, item: pg.TargetItem) -> None:
         if self._syncing:
             return
-        self.lead_mark_dropped.emit("qrs_off", item.lead, self.window_sample(item.pos().x()))
+        self._emit("move", "qrs_off", self.window_sample(item.pos().x()), item.lead)
 
     # --- dragging ------------------------------------------------------------------------
     def window_sample(self, t_ms: float) -> int:
-        s = self.session
+        s = self.workflow
         assert s is not None and s.reading.marked.representative is not None
         return s.reading.marked.representative.r_index + round(t_ms / 1000.0 * s.fs_hz)
 
     def window_ms(self, sample: int) -> float:
         """Time (ms from R) of a window sample of the median beat: ``window_sample``'s inverse."""
-        s = self.session
+        s = self.workflow
         assert s is not None and s.reading.marked.representative is not None
         return (sample - s.reading.marked.representative.r_index) / s.fs_hz * 1000.0
 
@@ -479,13 +495,12 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
             return
         k = self.window_sample(line.value())
         self._snap(line.fiducial, k)
-        self.mark_dragging.emit(line.fiducial, k)
+        self._emit("preview", line.fiducial, k)
 
     def _on_drop(self, line: pg.InfiniteLine) -> None:
         if self._syncing:
             return
-        k = self.window_sample(line.value())
-        self.mark_dropped.emit(line.fiducial, k)
+        self._emit("move", line.fiducial, self.window_sample(line.value()))
 
     def line_point(self, fid: str, plot_index: int = 0, frac_y: float = 0.5) -> QtCore.QPoint:
         """Viewport pixel on a fiducial line (tests and keyboard focus use it)."""

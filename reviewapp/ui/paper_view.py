@@ -9,7 +9,7 @@ samples and millivolts; this view only places them.
 
 from __future__ import annotations
 
-from typing import Literal
+from typing import Any, Literal
 
 import numpy as np
 import pyqtgraph as pg
@@ -17,6 +17,7 @@ from PySide6 import QtCore, QtGui, QtWidgets
 
 from reviewapp.core.fiducials import FIDUCIALS
 from reviewapp.core.record import Record
+from reviewapp.core.workflow import MarkAction, MarkEdit, MarkTarget, ReadingWorkflow
 from reviewapp.ui.beat_tags import beat_tag_items
 from reviewapp.ui.calipers import CaliperPair
 from reviewapp.ui.display_filters import DisplayFilters, apply_display_filters
@@ -24,7 +25,6 @@ from reviewapp.ui.geometry import LEFT_MARGIN_MM, TOP_MARGIN_MM, PageGeometry
 from reviewapp.ui.layouts import DEFAULT_RHYTHM_LEADS, build_layout
 from reviewapp.ui.mark_items import FiducialMark
 from reviewapp.ui.paper import PaperGrid, PaperScale
-from reviewapp.ui.session import ReadingSession
 from reviewapp.ui.theme import LIGHT, Theme
 from reviewapp.ui.traces import CalibrationPulse, LeadTrace, lead_label
 
@@ -33,9 +33,7 @@ FILTER_PAD_S = 1.0  # extra signal each side so display filters settle before th
 
 
 class PaperView(pg.GraphicsView):
-    mark_dragging = QtCore.Signal(object, int)
-    mark_dropped = QtCore.Signal(object, int)
-    mark_reset = QtCore.Signal(object)
+    mark_edit = QtCore.Signal(object)  # a MarkEdit of one beat's mark (record samples)
     caliper_changed = QtCore.Signal(object)
     caliper_added = QtCore.Signal(object)
     caliper_removed = QtCore.Signal(object)
@@ -48,7 +46,7 @@ class PaperView(pg.GraphicsView):
         self.theme = theme
         self.scale = scale
         self.record: Record | None = None
-        self.session: ReadingSession | None = None
+        self.workflow: ReadingWorkflow | None = None
         self.filters = DisplayFilters()
         self.layout_key = "12x1"
         self.lead_order = "standard"
@@ -104,7 +102,7 @@ class PaperView(pg.GraphicsView):
     # --- configuration ---------------------------------------------------------------------
     def set_record(self, record: Record, page_s: float = DEFAULT_PAGE_S) -> None:
         self.record = record
-        self.session = None
+        self.workflow = None
         self.page_s = min(page_s, record.duration_s)
         self.page_start = 0
         had_calipers = bool(self.calipers)
@@ -118,8 +116,8 @@ class PaperView(pg.GraphicsView):
             # Another record: the window's caliper list must not keep the old record's ones.
             self.caliper_changed.emit(None)
 
-    def set_session(self, session: ReadingSession | None) -> None:
-        self.session = session
+    def set_workflow(self, workflow: ReadingWorkflow | None) -> None:
+        self.workflow = workflow
         self.rebuild_marks()
 
     def set_scale(self, scale: PaperScale) -> None:
@@ -139,7 +137,7 @@ class PaperView(pg.GraphicsView):
         # Calipers belong to a lead, not to a place on the page: move them to that lead's row.
         for c in list(self.calipers):
             row = self.row_for_lead(c.lead)
-            if row is None:
+            if row is None or self.geom is None:
                 self.remove_caliper(c)
             else:
                 c.row = row
@@ -274,16 +272,16 @@ class PaperView(pg.GraphicsView):
         self.beat_tags.clear()
         if isinstance(self.selected, FiducialMark):
             self.selected = None
-        geom, session = self.geom, self.session
-        if geom is None or session is None:
+        geom, workflow = self.geom, self.workflow
+        if geom is None or workflow is None:
             return
-        for tag in beat_tag_items(session.analysis.beats, geom, geom.fs_hz, self.theme):
+        for tag in beat_tag_items(workflow.analysis.beats, geom, geom.fs_hz, self.theme):
             self.vb.addItem(tag)
             self.beat_tags.append(tag)
         if not self.show_beat_marks:
             return
-        beats = session.analysis.beats
-        marks = session.beat_marks()
+        beats = workflow.analysis.beats
+        marks = workflow.beat_marks()
         end = self.page_start + geom.page_samples
         for i, (beat, wm) in enumerate(zip(beats, marks, strict=False)):
             if not (self.page_start <= beat.r < end):
@@ -292,28 +290,35 @@ class PaperView(pg.GraphicsView):
                 s = wm.get(fid)
                 if s is None or not (self.page_start <= s < end):
                     continue
-                if session.hide_automatic and not session.is_corrected("beat", fid, beat.r):
+                target = MarkTarget("beat", fid, beat_r=beat.r)
+                corrected = workflow.is_corrected(target)
+                if workflow.hide_automatic and not corrected:
                     continue  # automatic (or carried from automatic) positions stay hidden
                 item = FiducialMark(
                     fid,
                     s,
                     i,
-                    corrected=session.is_corrected("beat", fid, beat.r),
+                    corrected=corrected,
                     theme=self.theme,
-                    x_of_sample=lambda v, g=geom: g.x_of_sample(v),
-                    sample_of_x=lambda x, g=geom: g.sample_of_x(x),
+                    x_of_sample=geom.x_of_sample,
+                    sample_of_x=geom.sample_of_x,
                     bands=geom.bands_at_sample(s),
                     fs_hz=geom.fs_hz,
                 )
+                item.target = target
                 item.dragging.connect(self._on_mark_dragging)
-                item.dropped.connect(self.mark_dropped)
-                item.reset_requested.connect(self.mark_reset)
+                item.dropped.connect(lambda m, k: self._emit_mark(m, "move", k))
+                item.reset_requested.connect(lambda m: self._emit_mark(m, "reset", None))
                 self.vb.addItem(item)
                 self.marks.append(item)
 
     def _on_mark_dragging(self, mark: FiducialMark, sample: int) -> None:
         self._select(mark)
-        self.mark_dragging.emit(mark, sample)
+        self._emit_mark(mark, "preview", sample)
+
+    def _emit_mark(self, mark: FiducialMark, action: MarkAction, sample: int | None) -> None:
+        if mark.target is not None:
+            self.mark_edit.emit(MarkEdit(mark.target, action, sample))
 
     def call_after_paint(self, fn) -> None:
         """Run ``fn`` once, right after the next paint (e.g. the analysis after the first
@@ -377,7 +382,7 @@ class PaperView(pg.GraphicsView):
                 min(max(vr.center().x(), geom.x_of_time(cell.t0_s)), geom.x_of_time(cell.t1_s))
             )
         half = round(0.2 * rec.fs_hz)
-        values = {
+        values: dict[str, Any] = {
             "a": center_sample - half,
             "b": center_sample + half,
             "at": center_sample,

@@ -10,43 +10,35 @@ from __future__ import annotations
 
 import getpass
 import re
-from dataclasses import dataclass
-from typing import Literal
 
 from PySide6 import QtCore, QtGui, QtWidgets
 
+from reviewapp.core.workflow.roles import (
+    ADJUDICATOR,
+    FIRST,
+    READ_MODES,
+    READER_ID,
+    SECOND_BLINDED,
+    SECOND_HIDDEN,
+    UNIDENTIFIED,
+    ReadMode,
+)
+
+__all__ = [
+    "ADJUDICATOR",
+    "FIRST",
+    "READER_ID",
+    "READ_MODES",
+    "SECOND_BLINDED",
+    "SECOND_HIDDEN",
+    "UNIDENTIFIED",
+    "ReadMode",
+    "ReaderDialog",
+    "ask_reader",
+    "stored_reader",
+]
+
 SETTING_KEY = "reader/id"
-# Same rule as the marks store (reviewapp.core.marks.store.REVIEWER_ID).
-READER_ID = re.compile(r"^[A-Za-z0-9][A-Za-z0-9_.@-]{0,63}$")
-# Opens the sidecar before the reader has said who they are; never written (read-only store).
-UNIDENTIFIED = "unidentified-reader"
-
-Role = Literal["first", "second", "adjudicator"]
-
-
-@dataclass(frozen=True)
-class ReadMode:
-    """How the record is read: role, blinding, and (blinded only) whether the automatic marks
-    are offered."""
-
-    role: Role = "first"
-    blinded: bool = False
-    show_automatic: bool = True
-
-    @property
-    def text(self) -> str:
-        if self.role == "second":
-            if not self.blinded:
-                return "second reader"
-            return "second reader (blinded" + (
-                ")" if self.show_automatic else ", automatic marks hidden)"
-            )
-        return {"first": "first reader", "adjudicator": "adjudicator"}[self.role]
-
-
-FIRST = ReadMode()
-SECOND_BLINDED = ReadMode("second", True, True)
-ADJUDICATOR = ReadMode("adjudicator", False, True)
 
 
 def stored_reader(settings: QtCore.QSettings) -> str | None:

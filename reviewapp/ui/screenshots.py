@@ -18,7 +18,7 @@ PX_PER_MM = 96.0 / 25.4
 
 def _default_record() -> Path | None:
     from reviewapp.ui.app import sample_records_dir
-    from reviewapp.ui.main_window import list_records
+    from reviewapp.ui.records_dock import list_records
 
     folder = sample_records_dir()
     if folder.is_dir():
@@ -75,49 +75,49 @@ def write_screenshots(outdir: Path, record_path: Path | None = None) -> list[Pat
     def fit_if_needed() -> None:
         g = w.paper.geom
         if g is not None and g.height_mm * PX_PER_MM > w.paper.vb.height():
-            w.fit_page()
+            w.view.fit_page()
         else:
             w.paper.true_size()
 
-    w.set_layout("3x4+1")
+    w.view.set_layout("3x4+1")
     app.processEvents()
     w.paper.true_size()
     shot("worklist")
-    w.set_layout("12x1")
+    w.view.set_layout("12x1")
     app.processEvents()
     fit_if_needed()
     shot("layout_12x1")
-    w.set_layout("6x2")
+    w.view.set_layout("6x2")
     app.processEvents()
     w.paper.true_size()
     shot("layout_6x2")
-    w.set_layout("3x4+1")
+    w.view.set_layout("3x4+1")
     app.processEvents()
     w.paper.true_size()
     _demo_calipers_and_correction(w)
     shot("layout_3x4_rhythm1")
-    w.set_layout("3x4+3")
+    w.view.set_layout("3x4+3")
     app.processEvents()
     w.paper.true_size()
     shot("layout_3x4_rhythm3")
-    w.show_median(True)
+    w.view.show_median(True)
     w.median.set_superimpose(True)
     shot("median_beat")
     w.median.set_superimpose(False)
     # Back to automatic placement: the median beats fill the room below the page, whatever
     # the theme.
-    w.set_median_automatic()
-    w.set_theme("dark")
-    w.set_layout("3x4+1")
+    w.view.set_median_automatic()
+    w.view.set_theme("dark")
+    w.view.set_layout("3x4+1")
     app.processEvents()
     w.paper.true_size()
     _demo_calipers_and_correction(w)
     shot("dark_3x4_rhythm1")
-    w.show_median(True)
+    w.view.show_median(True)
     w.median.set_superimpose(True)
     shot("dark_median_beat")
     w.median.set_superimpose(False)
-    w.set_theme("light")
+    w.view.set_theme("light")
     _sign_off_and_compare(w, app, outdir, shot, written)
     w.settings.clear()
     w.close()
@@ -137,14 +137,16 @@ def _wait_for_worklist(w, app) -> None:
         time.sleep(0.02)
     app.processEvents()
     if w.record is not None and w.record.source_path is not None:
-        w._select_in_list(w.record.source_path)
+        w.records.show_page(w.record.source_path)
 
 
 def _demo_calipers_and_correction(w) -> None:
+    from reviewapp.core.workflow import MarkTarget
+
     """One time caliper over an RR interval, one amplitude caliper on an R wave, one corrected
     T end, so the images show what a reading looks like mid-review (once: a second call leaves
     the calipers already on the paper)."""
-    s = w.session
+    s = w.workflow
     if s is None or len(s.analysis.beats) < 3:
         return
     if w.paper.calipers:
@@ -153,28 +155,26 @@ def _demo_calipers_and_correction(w) -> None:
     page_end = w.paper.page_start + w.paper.geom.page_samples
     on_page = [b for b in beats if w.paper.page_start <= b.r < page_end]
     if len(on_page) >= 3:
-        c = w.add_caliper("time", center_sample=on_page[1].r)
+        c = w.paper.add_caliper("time", center_sample=on_page[1].r)
         if c is not None:
             c.set_legs(a=on_page[1].r, b=on_page[2].r)
-        amp = w.add_caliper("amplitude", center_sample=on_page[-2].r)
+        amp = w.paper.add_caliper("amplitude", center_sample=on_page[-2].r)
         if amp is not None:
             rec = w.record
             rhythm = next(cell for cell in w.paper.geom.layout.cells if cell.row == amp.row)
             v = float(rec.window(on_page[-2].r, on_page[-2].r + 1)[0, rec.lead_index(rhythm.lead)])
             amp.set_levels(a_mv=0.0, b_mv=round(v, 2))
     rep = s.reading.marked.representative
-    if (
-        rep is not None
-        and rep.marks.t_off is not None
-        and not s.is_corrected("representative", "t_off")
-    ):
-        s.commit(s.representative_override("t_off", rep.marks.t_off + round(0.02 * s.fs_hz)))
+    t_end = MarkTarget("representative", "t_off")
+    if rep is not None and rep.marks.t_off is not None and not s.is_corrected(t_end):
+        s.move_mark(t_end, rep.marks.t_off + round(0.02 * s.fs_hz))
     mid = on_page[len(on_page) // 2] if on_page else None
     if mid is not None:
         i = beats.index(mid)
         wm = s.beat_marks()[i]
-        if wm.t_off is not None and not s.is_corrected("beat", "t_off", mid.r):
-            s.commit(s.beat_override(i, "t_off", wm.t_off + round(0.03 * s.fs_hz)))
+        beat_t_end = MarkTarget("beat", "t_off", beat_r=mid.r)
+        if wm.t_off is not None and not s.is_corrected(beat_t_end):
+            s.move_mark(beat_t_end, wm.t_off + round(0.03 * s.fs_hz))
     w._refresh_marks()
 
 
@@ -183,10 +183,11 @@ def _sign_off_and_compare(w, app, outdir: Path, shot, written: list[Path]) -> No
     second reader corrects T end; an adjudicator compares both readings."""
     from PySide6 import QtCore, QtWidgets
 
+    from reviewapp.core.workflow import MarkTarget
     from reviewapp.ui.reader import ADJUDICATOR, SECOND_BLINDED
 
     def confirm() -> None:
-        dlg = w.sign_off_dialog
+        dlg = w.adapter.sign_off_dialog
         if dlg is None:
             QtCore.QTimer.singleShot(20, confirm)
             return
@@ -196,26 +197,26 @@ def _sign_off_and_compare(w, app, outdir: Path, shot, written: list[Path]) -> No
         written.append(p)
         dlg.accept()
 
-    w.set_median_automatic()
+    w.view.set_median_automatic()
     QtCore.QTimer.singleShot(0, confirm)
-    w.sign_off()
+    w.adapter.sign_off()
     shot("signed_off")
-    s = w.session
+    s = w.workflow
     if s is None or s.store is None:
         return
     w.settings.setValue("reader/id", "reader2")
-    w.set_read_mode(SECOND_BLINDED)
+    w.adapter.set_read_mode(SECOND_BLINDED)
     rep = s.reading.marked.representative
-    if rep is not None and rep.marks.t_off is not None:
-        s.commit(s.representative_override("t_off", rep.marks.t_off - round(0.012 * s.fs_hz)))
-    if rep is not None and rep.marks.qrs_on is not None:
-        s.commit(s.representative_override("qrs_on", rep.marks.qrs_on - round(0.004 * s.fs_hz)))
+    for fid, shift_s in (("t_off", -0.012), ("qrs_on", -0.004)):
+        k = None if rep is None else rep.marks.get(fid)
+        if k is not None:
+            s.move_mark(MarkTarget("representative", fid), k + round(shift_s * s.fs_hz))
     w._refresh_marks()
     shot("second_reader_blinded")
     w.settings.setValue("reader/id", "adj1")
-    w.set_read_mode(ADJUDICATOR)
-    w.open_compare()
-    dlg = w.compare_dialog
+    w.adapter.set_read_mode(ADJUDICATOR)
+    w.adapter.open_compare()
+    dlg = w.adapter.compare_dialog
     if dlg is None:
         return
     dlg.resize(980, 600)

@@ -101,5 +101,39 @@ def loaded(window, ptb_12lead, ptb_analysis, monkeypatch):
 
     monkeypatch.setattr(engine, "analyse", lambda rec, **kw: ptb_analysis)
     window.load_record(ptb_12lead, analyse_now=True)
-    assert window.session is not None
+    assert window.workflow is not None
     return window
+
+
+@pytest.fixture
+def worklist_copy(sample_records_dir, tmp_path) -> Path:
+    """The demo worklist copied to a temporary folder (records only, no sidecars), so readings
+    made in a test land beside the copy."""
+    import shutil
+
+    if not sample_records_dir.is_dir():
+        pytest.skip("no sample_records folder in this checkout")
+    dst = tmp_path / "worklist"
+    dst.mkdir()
+    for f in sample_records_dir.iterdir():
+        if f.is_file() and ".marks." not in f.name:
+            shutil.copy(f, dst / f.name)
+    return dst
+
+
+def set_mark(w, fid: str, sample: int, lead: str | None = None) -> None:
+    """Drop a median-beat line (or a lead's J point) at ``sample``: the view's own edit
+    signal, as a mouse release sends it."""
+    from reviewapp.core.workflow import MarkEdit, MarkTarget
+
+    w.median.mark_edit.emit(MarkEdit(MarkTarget("representative", fid, lead=lead), "move", sample))
+
+
+def keep_marks_in_window(monkeypatch) -> None:
+    """Open records without a marks file, so nothing is locked or written beside shared data."""
+    import reviewapp.ui.workflow_adapter as adapter
+    from reviewapp.core.workflow import MarksOpening
+
+    monkeypatch.setattr(
+        adapter, "open_marks", lambda rec, reader, mode: MarksOpening(None, "marks kept here")
+    )

@@ -27,7 +27,7 @@ def test_paced_beats_of_a_ludb_pacemaker_record_are_named_under_the_strip(
     # the engine labels its paced beats (tests/dsp/test_pacing.py); every one on the page gets
     # the word, and no other beat does.
     _open_copy(window, shared_data / "ludb" / "104.hea", tmp_path)
-    beats = window.session.analysis.beats
+    beats = window.workflow.analysis.beats
     page = window.paper.geom
     on_page = [b for b in beats if page.page_start <= b.r < page.page_start + page.page_samples]
     paced = {b.r for b in on_page if b.kind is BeatKind.PACED}
@@ -41,7 +41,7 @@ def test_paced_beats_of_a_ludb_pacemaker_record_are_named_under_the_strip(
     from reviewapp.ui.summary import GLOBAL_ROWS
 
     row = [k for k, *_ in GLOBAL_ROWS].index("qrs_ms")
-    assert window.session.reading.measurements.intervals.qrs_ms > 110.0
+    assert window.workflow.reading.measurements.intervals.qrs_ms > 110.0
     assert window.summary.table.item(row, 3).text() == ""
     assert "paced rhythm" in window.summary.table.item(row, 1).toolTip()
 
@@ -52,7 +52,7 @@ def test_a_premature_beat_is_named_and_a_sinus_record_has_no_words(
     # The demo worklist is invented (sample_records/README.md): here it only drives the
     # window; the expected words come from the engine's own beat kinds.
     _open_copy(window, sample_records_dir / "s009_post4h.hea", tmp_path / "a")
-    kinds = {b.r: b.kind for b in window.session.analysis.beats}
+    kinds = {b.r: b.kind for b in window.workflow.analysis.beats}
     tags = _tags(window)
     assert tags and all(kinds[r] is BeatKind.PREMATURE for r in tags)
     assert set(tags.values()) == {"premature"}

@@ -88,7 +88,7 @@ def _caliper_events(hea) -> list[str]:
 
 def test_add_with_c_undo_removes_redo_restores_same_place(loaded, qtbot):
     w = loaded
-    w.set_layout("12x1")
+    w.view.set_layout("12x1")
     w.activateWindow()
     qtbot.keyClick(w, Key.Key_C)
     assert paper_names(w) == ["C1"] == listed_names(w)
@@ -103,30 +103,30 @@ def test_add_with_c_undo_removes_redo_restores_same_place(loaded, qtbot):
 
 def test_leg_drag_is_one_step_and_undo_restores_exact_sample(loaded, qtbot):
     w = loaded
-    w.set_layout("12x1")
+    w.view.set_layout("12x1")
     w.activateWindow()
-    c = w.add_caliper("time", row=1, center_sample=2000)
-    steps0 = w.session.undo_stack.count()
+    c = w.paper.add_caliper("time", row=1, center_sample=2000)
+    steps0 = len(w.workflow.history)
     a0, b0 = c.a, c.b
     drag_leg_b(w, qtbot, c, b0 + 300)
     dropped = c.b
     assert dropped != b0 and c.a == a0
     # Many mouse moves, one undo step.
-    assert w.session.undo_stack.count() == steps0 + 1
+    assert len(w.workflow.history) == steps0 + 1
     undo(w, qtbot)
     assert (c.a, c.b) == (a0, b0)
-    assert listed_names(w) == ["C1"] and "  400 ms  " in w.caliper_lines()[0]
+    assert listed_names(w) == ["C1"] and "  400 ms  " in w.calipers.lines()[0]
     redo(w, qtbot)
     assert (c.a, c.b) == (a0, dropped)
 
 
 def test_delete_then_undo_restores_it(loaded, qtbot):
     w = loaded
-    w.set_layout("12x1")
+    w.view.set_layout("12x1")
     w.activateWindow()
-    c = w.add_caliper("amplitude", row=3, center_sample=2500)
+    c = w.paper.add_caliper("amplitude", row=3, center_sample=2500)
     c.set_levels(a_mv=-0.2, b_mv=1.35)
-    w.save_calipers()
+    w.calipers.flush()
     before = legs(c)
     w.paper._select(c)
     qtbot.keyClick(w, Key.Key_Delete)
@@ -140,13 +140,13 @@ def test_delete_then_undo_restores_it(loaded, qtbot):
 
 def test_nudges_merge_into_one_step_and_shift_draw_is_one_add(loaded, qtbot):
     w = loaded
-    w.set_layout("12x1")
+    w.view.set_layout("12x1")
     w.activateWindow()
     g, vp = w.paper.geom, w.paper.viewport()
     y = g.baseline_y(2) + 3.0
     a = w.paper.map_to_viewport(g.x_of_sample(1200), y).toPoint()
     b = w.paper.map_to_viewport(g.x_of_sample(2000), y).toPoint()
-    n0 = w.session.undo_stack.count()
+    n0 = len(w.workflow.history)
     qtbot.mousePress(vp, QtCore.Qt.MouseButton.LeftButton, SHIFT, pos=a)
     for k in range(1, 5):
         qtbot.wait(20)
@@ -154,7 +154,7 @@ def test_nudges_merge_into_one_step_and_shift_draw_is_one_add(loaded, qtbot):
     qtbot.mouseRelease(vp, QtCore.Qt.MouseButton.LeftButton, SHIFT, pos=b)
     c = w.paper.calipers[0]
     drawn = legs(c)
-    assert w.session.undo_stack.count() == n0 + 1
+    assert len(w.workflow.history) == n0 + 1
     c.part = "b"
     for _ in range(3):
         qtbot.keyClick(w, Key.Key_Right)
@@ -169,7 +169,7 @@ def test_nudges_merge_into_one_step_and_shift_draw_is_one_add(loaded, qtbot):
 
 def test_march_out_is_undoable(loaded, qtbot):
     w = loaded
-    w.set_layout("12x1")
+    w.view.set_layout("12x1")
     w.activateWindow()
     qtbot.keyClick(w, Key.Key_C)
     c = w.paper.calipers[0]
@@ -185,7 +185,7 @@ def test_sidecar_follows_every_step_once(window, qtbot, sample_copy, settings):
     w = window
     settings.setValue("reader/id", "reader1")
     assert w.open_path(sample_copy, analyse_now=True)
-    w.set_layout("12x1")
+    w.view.set_layout("12x1")
     w.activateWindow()
     n_events = 0
 
@@ -227,14 +227,14 @@ def test_without_reader_id_caliper_waits_and_is_not_lost(window, qtbot, sample_c
 
     w = window
     assert w.open_path(sample_copy, analyse_now=True)
-    w.set_layout("12x1")
+    w.view.set_layout("12x1")
     w.activateWindow()
     # Cancel the "who is reading?" question: the caliper stays (window only) and undoes.
     answer_modal(lambda dlg: dlg.reject())
     qtbot.keyClick(w, Key.Key_C)
     assert paper_names(w) == ["C1"]
     assert not sample_copy.with_name(sample_copy.stem + ".marks.json").exists()
-    assert w.session.undo_stack.count() == 1, w.session.undo_stack.count()
+    assert len(w.workflow.history) == 1, len(w.workflow.history)
     _back_to(w, qtbot)
     undo(w, qtbot)
     assert paper_names(w) == []
@@ -254,8 +254,8 @@ def test_without_reader_id_caliper_waits_and_is_not_lost(window, qtbot, sample_c
 @pytest.mark.parametrize("kind", ["time", "amplitude"])
 def test_rename_is_one_step(loaded, qtbot, kind):
     w = loaded
-    c = w.add_caliper(kind, center_sample=3000)
-    w.rename_caliper(c, "QT")
+    c = w.paper.add_caliper(kind, center_sample=3000)
+    w.calipers.rename(c, "QT")
     assert c.name == "QT"
     undo(w, qtbot)
     assert c.name == "C1" and listed_names(w) == ["C1"]

@@ -40,12 +40,12 @@ def test_time_readout_is_samples_over_rate():
 @pytest.mark.parametrize("speed", [25.0, 50.0])
 def test_dragged_caliper_leg_reads_exact_interval(loaded, qtbot, speed):
     w = loaded
-    w.set_speed(speed)
-    w.set_layout("3x4+1")
+    w.view.set_speed(speed)
+    w.view.set_layout("3x4+1")
     qtbot.wait(10)
     fs = w.record.fs_hz  # 1000 Hz in the PTB header (wfdb)
     rhythm_row = next(c.row for c in w.paper.geom.layout.cells if c.rhythm)
-    c = w.add_caliper("time", row=rhythm_row, center_sample=1500)
+    c = w.paper.add_caliper("time", row=rhythm_row, center_sample=1500)
     c.set_legs(a=1300, b=1700)
     vp = w.paper.viewport()
     top, bottom = w.paper.geom.row_band(rhythm_row)
@@ -65,15 +65,15 @@ def test_dragged_caliper_leg_reads_exact_interval(loaded, qtbot, speed):
     # Readout is independent of zoom, speed and gain: change all three.
     before = c.label_text()
     w.paper.zoom_by(1.7)
-    w.set_gain(20.0)
-    w.set_speed(50.0 if speed == 25.0 else 25.0)
+    w.view.set_gain(20.0)
+    w.view.set_speed(50.0 if speed == 25.0 else 25.0)
     assert c.label_text() == before
 
 
 def test_drag_whole_pair_and_keyboard_nudge_and_delete(loaded, qtbot):
     w = loaded
-    w.set_layout("12x1")
-    c = w.add_caliper("time", row=1, center_sample=2000)
+    w.view.set_layout("12x1")
+    c = w.paper.add_caliper("time", row=1, center_sample=2000)
     c.set_legs(a=1800, b=2200)
     vp = w.paper.viewport()
     bar_y = c._bar_y()
@@ -98,9 +98,9 @@ def test_drag_whole_pair_and_keyboard_nudge_and_delete(loaded, qtbot):
 
 def test_amplitude_caliper_reads_mv_and_mm_at_gain(loaded, qtbot):
     w = loaded
-    w.set_layout("12x1")
-    w.set_gain(20.0)
-    c = w.add_caliper("amplitude", row=1, center_sample=3000)
+    w.view.set_layout("12x1")
+    w.view.set_gain(20.0)
+    c = w.paper.add_caliper("amplitude", row=1, center_sample=3000)
     c.set_levels(a_mv=0.0, b_mv=0.5)
     vp = w.paper.viewport()
     g = w.paper.geom
@@ -117,8 +117,8 @@ def test_amplitude_caliper_reads_mv_and_mm_at_gain(loaded, qtbot):
 
 def test_any_number_of_pairs_and_march_out(loaded, qtbot):
     w = loaded
-    w.set_layout("12x1")
-    pairs = [w.add_caliper("time", row=k, center_sample=1000 + 500 * k) for k in range(5)]
+    w.view.set_layout("12x1")
+    pairs = [w.paper.add_caliper("time", row=k, center_sample=1000 + 500 * k) for k in range(5)]
     assert len(w.paper.calipers) == 5
     c = pairs[0]
     c.set_legs(a=1000, b=1800)
@@ -132,7 +132,7 @@ def test_any_number_of_pairs_and_march_out(loaded, qtbot):
 
 def test_shift_drag_draws_a_new_time_caliper(loaded, qtbot):
     w = loaded
-    w.set_layout("12x1")
+    w.view.set_layout("12x1")
     g = w.paper.geom
     vp = w.paper.viewport()
     row = 2

@@ -10,23 +10,13 @@ import pytest
 from PySide6.QtWidgets import QMainWindow
 
 from reviewapp.core.engine import analyse
-from reviewapp.core.fiducials import MarkOverride
 from reviewapp.core.io import open_record
+from reviewapp.core.workflow import MarkTarget, ReadingWorkflow
 from reviewapp.ui.export_actions import ExportActions
 
 # ISO 216 A4 is 297 x 210 mm; PDF user space is 1/72 inch (ISO 32000-1, 8.3.2.3), so the
 # landscape MediaBox is 841.89 x 595.28 pt.
 A4_LANDSCAPE_PT = (297 / 25.4 * 72, 210 / 25.4 * 72)
-
-
-class _Session:
-    def __init__(self, analysis, overrides):
-        self.analysis = analysis
-        self.store = None
-        self._ov = tuple(overrides)
-
-    def overrides(self):
-        return self._ov
 
 
 @pytest.fixture
@@ -45,12 +35,14 @@ def _media_box(pdf: Path) -> tuple[float, float]:
 def test_menu_exports_and_print_write_true_scale_pages(qtbot, record_copy: Path, tmp_path) -> None:
     analysis = analyse(open_record(record_copy))
     rep = analysis.representative
-    ov = MarkOverride("representative", "t_off", rep.marks.t_off + 10)
-    session = _Session(analysis, [ov])
+    workflow = ReadingWorkflow(analysis)  # no marks file: the correction stays in memory
+    t_end = MarkTarget("representative", "t_off")
+    assert workflow.move_mark(t_end, rep.marks.t_off + 10).done
+    (ov,) = workflow.engine_overrides
     win = QMainWindow()
     qtbot.addWidget(win)
     errors: list[str] = []
-    actions = ExportActions(win, win.menuBar().addMenu("&File"), lambda: session, errors.append)
+    actions = ExportActions(win, lambda: workflow, errors.append)
 
     pdf = actions.export_pdf(tmp_path / "page.pdf")
     w, h = _media_box(pdf)
@@ -77,6 +69,6 @@ def test_export_without_a_record_says_so(qtbot) -> None:
     win = QMainWindow()
     qtbot.addWidget(win)
     errors: list[str] = []
-    actions = ExportActions(win, win.menuBar().addMenu("&File"), lambda: None, errors.append)
+    actions = ExportActions(win, lambda: None, errors.append)
     assert actions.export_pdf(Path("/nonexistent/x.pdf")) is None
     assert errors == ["Open a record first."]

@@ -34,20 +34,20 @@ def test_baseline_filter_removes_drift():
 
 def test_filters_leave_measurements_unchanged_and_legend_says_so(loaded):
     w = loaded
-    before = w.session.reading.measurements
+    before = w.workflow.reading.measurements
     trace_before = w.paper.traces[0].getData()[1].copy()
     w.act_f_base.trigger()
     w.act_f_mains.trigger()
     w.act_f_low.trigger()
-    assert w.filters == DisplayFilters(baseline=True, mains=True, lowpass=True)
+    assert w.view.filters == DisplayFilters(baseline=True, mains=True, lowpass=True)
     trace_after = w.paper.traces[0].getData()[1]
     assert not np.allclose(trace_before, trace_after)  # the drawing did change
-    assert w.session.reading.measurements == before  # measurements did not
-    assert w.session.reading.measurements is before or True
+    assert w.workflow.reading.measurements == before  # measurements did not
+    assert w.workflow.reading.measurements is before or True
     legend = w.paper.footer.textItem.toPlainText()
     assert "baseline 0.5 Hz" in legend and "mains notch" in legend and "low-pass 40 Hz" in legend
     # Caliper readouts do not depend on filters either.
-    c = w.add_caliper("time", center_sample=2000)
+    c = w.paper.add_caliper("time", center_sample=2000)
     text = c.label_text()
     w.act_f_low.trigger()
     assert c.label_text() == text if c in w.paper.calipers else True

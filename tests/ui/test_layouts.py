@@ -11,7 +11,7 @@ from reviewapp.ui.layouts import LAYOUTS, build_layout
 @pytest.mark.parametrize("key", list(LAYOUTS))
 def test_each_layout_shows_all_leads_on_the_paper(loaded, key):
     w = loaded
-    w.set_layout(key)
+    w.view.set_layout(key)
     shown = {t.cell.lead for t in w.paper.traces}
     assert shown == set(w.record.lead_names) == set(STANDARD_12)
     labels = {
@@ -24,7 +24,7 @@ def test_each_layout_shows_all_leads_on_the_paper(loaded, key):
     pulses = [i for i in w.paper._furniture if isinstance(i, CalibrationPulse)]
     assert len(pulses) == w.paper.geom.layout.n_rows
     h = pulses[0].boundingRect().height() - 2  # minus the 1 mm pad each side
-    assert h == pytest.approx(w.scale.gain_mm_per_mv)
+    assert h == pytest.approx(w.view.scale.gain_mm_per_mv)
 
 
 def test_3x4_grid_and_rhythm_strips():
@@ -55,7 +55,7 @@ def test_cabrera_in_window_inverts_avr(loaded):
     import numpy as np
 
     w = loaded
-    w.set_layout("12x1")
+    w.view.set_layout("12x1")
     w.act_cabrera.trigger()
     avr = next(t for t in w.paper.traces if t.cell.lead == "aVR")
     assert avr.cell.inverted and avr.cell.row == 2
@@ -64,7 +64,7 @@ def test_cabrera_in_window_inverts_avr(loaded):
     raw = w.record.window(0, g.page_samples)[:, w.record.lead_index("aVR")]
     # Drawn y (mm, down) = baseline + mV * gain when inverted.
     assert np.nanmax(y) == pytest.approx(
-        g.baseline_y(2) + np.nanmax(raw) * w.scale.gain_mm_per_mv, abs=0.05
+        g.baseline_y(2) + np.nanmax(raw) * w.view.scale.gain_mm_per_mv, abs=0.05
     )
 
 

@@ -3,6 +3,9 @@
 from __future__ import annotations
 
 import pytest
+from PySide6 import QtCore
+
+from tests.ui.conftest import keep_marks_in_window
 
 
 @pytest.fixture
@@ -11,7 +14,7 @@ def no_analysis_no_sidecar(monkeypatch):
 
     # Paging and drawing only: the 30-minute analysis and the marks file are not under test.
     monkeypatch.setattr(MainWindow, "analyse", lambda self: None)
-    monkeypatch.setattr(MainWindow, "_open_store", lambda self, rec: None)
+    keep_marks_in_window(monkeypatch)
 
 
 def test_overview_moves_page_through_30_minutes(window, shared_data, qtbot, no_analysis_no_sidecar):
@@ -19,7 +22,7 @@ def test_overview_moves_page_through_30_minutes(window, shared_data, qtbot, no_a
 
     hea = shared_data / "mitdb" / "100.hea"
     ref = wfdb.rdheader(str(hea.with_suffix("")))  # MIT-BIH 100: 650000 samples at 360 Hz
-    window.set_layout("12x1")
+    window.view.set_layout("12x1")
     assert window.open_path(hea)
     rec = window.record
     assert rec.n_samples == ref.sig_len and rec.fs_hz == ref.fs
@@ -34,9 +37,9 @@ def test_overview_moves_page_through_30_minutes(window, shared_data, qtbot, no_a
     assert len(x) == round(10.0 * ref.fs)
     assert "20:00.0" in window.paper.header.textItem.toPlainText()
     # Last page, then keyboard paging back by one page (10 s).
-    window._go_page(10**12)
+    qtbot.keyClick(window, QtCore.Qt.Key.Key_End)
     assert window.paper.page_start == rec.n_samples - round(10.0 * ref.fs)
-    window._step_page(-1)
+    qtbot.keyClick(window, QtCore.Qt.Key.Key_PageUp)
     assert window.paper.page_start == rec.n_samples - round(20.0 * ref.fs)
     t_lo, _ = window.overview.region.getRegion()
     assert t_lo == pytest.approx(window.paper.page_start / ref.fs)

@@ -7,6 +7,8 @@ import numpy as np
 import pytest
 from PySide6 import QtCore, QtWidgets
 
+from tests.ui.conftest import keep_marks_in_window
+
 
 def _visible_scene_rect(paper) -> QtCore.QRectF:
     """The part of the scene the viewport shows (scene coordinates)."""
@@ -50,7 +52,7 @@ def wide_page(qtbot, settings, ptb_12lead, ptb_analysis, monkeypatch):
     w.show()
     qtbot.waitExposed(w)
     w.load_record(ptb_12lead, analyse_now=True)
-    w.set_layout("6x2")
+    w.view.set_layout("6x2")
     w.paper.true_size()
     qtbot.wait(30)
     return w
@@ -105,7 +107,7 @@ def test_scroll_bar_follows_drag_pan_and_zoom_and_fit_hides_it(wide_page, qtbot)
     p.zoom_by(2.0)
     assert sb.maximum() > before
     # Fit page: the whole page in sight, no bars, zoom below true size.
-    wide_page.fit_page()
+    wide_page.view.fit_page()
     qtbot.wait(10)
     assert not p.h_scroll.isVisible() and not p.v_scroll.isVisible()
     assert p.zoom < 1.0
@@ -130,10 +132,10 @@ def test_page_keys_still_move_in_time_with_scroll_bars(window, shared_data, qtbo
 
     # Paging only: the 30-minute analysis and the marks file are not under test.
     monkeypatch.setattr(MainWindow, "analyse", lambda self: None)
-    monkeypatch.setattr(MainWindow, "_open_store", lambda self, rec: None)
+    keep_marks_in_window(monkeypatch)
     w = window
     w.resize(1500, 980)
-    w.set_speed(50.0)
+    w.view.set_speed(50.0)
     assert w.open_path(shared_data / "mitdb" / "100.hea")  # MIT-BIH 100: 360 Hz, 30 min
     w.paper.true_size()
     qtbot.wait(20)

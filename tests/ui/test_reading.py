@@ -12,7 +12,8 @@ import json
 import pytest
 from PySide6 import QtCore, QtWidgets
 
-from tests.ui.conftest import answer_modal
+from reviewapp.core.workflow import MarkTarget
+from tests.ui.conftest import answer_modal, set_mark
 from tests.ui.test_marks import _median_drag
 
 L = QtCore.Qt.MouseButton.LeftButton
@@ -69,14 +70,14 @@ def _first_reader_moves_t_end(path, delta_s: float, reviewer="reader1", role="fi
 def test_reader_is_asked_at_first_edit_not_taken_from_login(window, qtbot, sample_copy, settings):
     w = window
     assert w.open_path(sample_copy, analyse_now=True)
-    st = w.session.store
+    st = w.workflow.store
     assert st is not None and st.read_only  # nobody identified: nothing can be written yet
     assert "Reader not set" in w.reader_label.text()
-    k0 = w.session.reading.marked.representative.marks.t_off
+    k0 = w.workflow.reading.marked.representative.marks.t_off
     # Cancel: the correction is dropped and nothing is written.
     answer_modal(lambda dlg: dlg.reject())
     _median_drag(w, qtbot, "t_off", 40)
-    assert w.session.reading.marked.representative.marks.t_off == k0
+    assert w.workflow.reading.marked.representative.marks.t_off == k0
     assert _sidecar(sample_copy) is None
     # Give an id: the dialog starts empty (the login name is only offered on a button).
     seen: dict = {}
@@ -96,7 +97,7 @@ def test_sign_off_shows_values_reopen_is_recorded_and_undo_restores(
     settings.setValue("reader/id", "reader1")
     assert w.open_path(sample_copy, analyse_now=True)
     assert w.reading_panel.banner.text() == "○ Unread"
-    iv = w.session.reading.measurements.intervals
+    iv = w.workflow.reading.measurements.intervals
     seen: dict = {}
 
     def confirm(dlg) -> None:
@@ -143,12 +144,12 @@ def test_notes_add_edit_delete_are_undoable(window, qtbot, sample_copy, settings
     answer_modal(_type_and_ok(qtbot, "T end taken from II", {}), QtWidgets.QInputDialog)
     qtbot.mouseClick(panel.edit_button, L)
     assert panel.note_texts() == ["T end taken from II"]
-    w.session.undo_stack.undo()
+    w.act_undo.trigger()
     assert panel.note_texts() == ["T end taken from V5"]
     panel.notes.setCurrentRow(0)
     qtbot.mouseClick(panel.delete_button, L)
     assert panel.note_texts() == [] and _sidecar(sample_copy)["readings"]["reader1"]["notes"] == []
-    w.session.undo_stack.undo()
+    w.act_undo.trigger()
     assert panel.note_texts() == ["T end taken from V5"]
     actions = [e["action"] for e in _sidecar(sample_copy)["audit"]]
     assert {"add_note", "edit_note", "undo:edit_note", "delete_note"} <= set(actions)
@@ -171,14 +172,14 @@ def test_blinded_second_reader_never_sees_the_first_reading(
     )
     w = window
     w.act_open_second.trigger()  # File ▸ Open as second reader (blinded)…
-    qtbot.waitUntil(lambda: w.session is not None, timeout=5000)  # analysed after first paint
-    st = w.session.store
+    qtbot.waitUntil(lambda: w.workflow is not None, timeout=5000)  # analysed after first paint
+    st = w.workflow.store
     assert st.role == "second" and st.blinded and st.reviewer == "reader2"
-    rep = w.session.reading.marked.representative
+    rep = w.workflow.reading.marked.representative
     assert rep.marks.t_off == an.representative.marks.t_off  # the automatic T end
-    assert not w.session.is_corrected("representative", "t_off")
+    assert not w.workflow.is_corrected(MarkTarget("representative", "t_off"))
     assert w.summary.value_text("qt_ms") == f"{auto_qt:.0f} ms"
-    assert w.session.reading.measurements.intervals.qt_ms == pytest.approx(auto_qt)
+    assert w.workflow.reading.measurements.intervals.qt_ms == pytest.approx(auto_qt)
     assert w.reading_panel.note_texts() == []
     assert w.reading_panel.banner.text() == "○ Unread"
     assert "second reader (blinded)" in w.reader_label.text()
@@ -186,10 +187,10 @@ def test_blinded_second_reader_never_sees_the_first_reading(
         [w.reading_panel.banner.text(), w.reader_label.text(), *w.summary.finding_texts()]
     )
     assert "reader1" not in shown and "private" not in shown
-    assert not w.act_compare.isEnabled()
-    w.open_compare()
-    assert "blinded" in w.last_error_box.text() and w.compare_dialog is None
-    w.last_error_box.close()
+    # Compare readings is disabled, and says why (not a silent no-op).
+    assert not w.act_compare.isEnabled() and "blinded" in w.act_compare.toolTip()
+    w.act_compare.trigger()
+    assert w.adapter.compare_dialog is None
 
 
 def test_compare_flags_beyond_tolerance_and_adjudicator_picks_a_value(
@@ -205,7 +206,7 @@ def test_compare_flags_beyond_tolerance_and_adjudicator_picks_a_value(
     assert w.open_path(sample_copy, analyse_now=True)
     assert w.act_compare.isEnabled()
     w.act_compare.trigger()  # Tools ▸ Compare readings…
-    dlg = w.compare_dialog
+    dlg = w.adapter.compare_dialog
     assert dlg is not None and dlg.isVisible()
     assert dlg.a_box.currentData() == "reader1" and dlg.b_box.currentData() == "reader2"
     t = dlg.table
@@ -239,11 +240,11 @@ def test_compare_flags_beyond_tolerance_and_adjudicator_picks_a_value(
             first, an.fs_hz, an.representative.r_index
         )
     ).measurements.intervals.qt_ms
-    assert w.session.reading.measurements.intervals.qt_ms == pytest.approx(first_qt)
+    assert w.workflow.reading.measurements.intervals.qt_ms == pytest.approx(first_qt)
     rows = {t.item(r, 0).data(QtCore.Qt.ItemDataRole.UserRole): r for r in range(t.rowCount())}
     assert t.item(rows["t_off"], 6).text() == f"{want * 1000:.0f} ms"
     # Undo in the window takes the final value back (audited as undo:adjudicate).
-    w.session.undo_stack.undo()
+    w.act_undo.trigger()
     assert _sidecar(sample_copy)["readings"]["adj1"]["overrides"] == []
     dlg.close()
 
@@ -254,8 +255,8 @@ def test_compare_buttons_need_the_adjudicator_role(window, qtbot, sample_copy, s
     settings.setValue("reader/id", "reader1")
     w = window
     assert w.open_path(sample_copy, analyse_now=True)
-    w.open_compare()
-    dlg = w.compare_dialog
+    w.act_compare.trigger()
+    dlg = w.adapter.compare_dialog
     dlg.select_item("t_off")
     assert not dlg.use_a.isEnabled() and not dlg.set_value.isEnabled()
     assert "adjudicator" in dlg.adj_note.text()
@@ -264,7 +265,7 @@ def test_compare_buttons_need_the_adjudicator_role(window, qtbot, sample_copy, s
 
 def test_summary_lists_findings_in_words_with_source(loaded):
     w = loaded
-    findings = w.session.reading.findings
+    findings = w.workflow.reading.findings
     texts = w.summary.finding_texts()
     if not findings:
         assert texts == ["No value outside its limits."]
@@ -280,23 +281,23 @@ def test_median_beats_fill_a_tall_window_below_the_true_size_page(window, qtbot,
     w = window
     w.resize(1500, 1150)
     qtbot.wait(20)
-    w.set_layout("3x4+1")
+    w.view.set_layout("3x4+1")
     assert w.open_path(sample_copy, analyse_now=True)
     w.paper.true_size()
-    w._auto_median()
-    room = w.median_room_px()
+    w.view.auto_median()
+    room = w.view.median_room_px()
     if room + (w.median.height() if w.median.isVisible() else 0) < 240:
         pytest.skip("the offscreen screen is too small for this window")
     assert w.median.isVisible()
     assert w.paper.zoom == pytest.approx(1.0)  # true scale kept
     # The page takes what it needs; the rest of the height is the median beats, not blank.
     g = w.paper.geom
-    page_px = g.height_mm * w.scale.px_per_mm
+    page_px = g.height_mm * w.view.scale.px_per_mm
     assert w.paper.height() - page_px < 60
     # The reader's own choice (B) wins from then on.
     qtbot.keyClick(w, QtCore.Qt.Key.Key_B)
-    assert not w.median.isVisible() and not w.median_auto
-    w.set_layout("3x4+3")
+    assert not w.median.isVisible() and not w.view.median_auto
+    w.view.set_layout("3x4+3")
     assert not w.median.isVisible()
 
 
@@ -328,15 +329,15 @@ def test_hidden_automatic_values_appear_only_once_the_reader_set_the_marks(
     w = window
     w.act_roles[ReadMode("second", True, False)].trigger()
     assert w.open_path(sample_copy, analyse_now=True)
-    st = w.session.store
+    st = w.workflow.store
     assert st.blinded and not st.show_automatic and st.automatic is None
     assert w.summary.value_text("qt_ms") == "set marks"
     assert w.summary.value_text("hr_bpm").endswith("bpm")  # from R peaks, not from marks
-    s = w.session
+    s = w.workflow
     rep = s.reading.marked.representative.marks
-    s.commit(s.representative_override("qrs_on", rep.qrs_on - 2))
+    set_mark(w, "qrs_on", rep.qrs_on - 2)
     assert w.summary.value_text("qt_ms") == "set marks"  # T end still the automatic one
-    s.commit(s.representative_override("t_off", rep.t_off + 10))
+    set_mark(w, "t_off", rep.t_off + 10)
     qt = s.reading.measurements.intervals.qt_ms
     # QT = T end - QRS onset: both moved by the reader, 12 samples longer than automatic.
     assert qt == pytest.approx((rep.t_off + 10 - (rep.qrs_on - 2)) * 1000.0 / s.fs_hz)
@@ -349,13 +350,13 @@ def test_a_refused_role_change_keeps_the_reading_saved(window, qtbot, sample_cop
     settings.setValue("reader/id", "reader1")
     w = window
     assert w.open_path(sample_copy, analyse_now=True)
-    w.add_note("first read note")
+    w.adapter.add_note("first read note")
     # reader1 is this record's first reader: the store refuses them as adjudicator.
     w.act_roles[ADJUDICATOR].trigger()
     assert "first" in w.last_error_box.text() and "adjudicator" in w.last_error_box.text()
     w.last_error_box.close()
-    assert w.read_mode == FIRST and w.act_roles[FIRST].isChecked()
-    st = w.session.store
+    assert w.adapter.mode == FIRST and w.act_roles[FIRST].isChecked()
+    st = w.workflow.store
     assert st is not None and not st.read_only and st.role == "first"
     assert w.reading_panel.note_texts() == ["first read note"]
 
@@ -365,7 +366,8 @@ def test_a_caliper_after_sign_off_reopens_with_notice(window, qtbot, sample_copy
     w = window
     assert w.open_path(sample_copy, analyse_now=True)
     answer_modal(lambda dlg: qtbot.mouseClick(dlg.ok, L))
-    assert w.sign_off()
+    w.act_sign_off.trigger()
+    assert w.workflow.marks.status == "signed_off"
     assert "signed off" in w.windowTitle()
     w.activateWindow()
     qtbot.waitUntil(w.isActiveWindow, timeout=2000)
@@ -398,9 +400,9 @@ def test_hidden_automatic_marks_are_not_drawn_until_the_reader_places_them(
     w = window
     w.act_roles[ReadMode("second", True, False)].trigger()
     assert w.open_path(tmp_path / "s003_post6h.hea", analyse_now=True)
-    w.show_median(True)
+    w.view.show_median(True)
     qtbot.wait(50)
-    s = w.session
+    s = w.workflow
     rep = s.reading.marked.representative
     fs = s.fs_hz
     assert any(f.quantity not in MARK_FREE for f in s.reading.findings)
@@ -424,15 +426,15 @@ def test_hidden_automatic_marks_are_not_drawn_until_the_reader_places_them(
         return w.summary.leads_table.item(0, col[name]).text()
 
     assert cell("ST J") == "set marks" and cell("R") == "set marks"
-    s.commit(s.representative_override("t_off", rep.marks.t_off + 5))
+    set_mark(w, "t_off", rep.marks.t_off + 5)
     qtbot.wait(50)
     line = w.median.lines["t_off"][0]
     assert line.value() == pytest.approx((rep.marks.t_off + 5 - rep.r_index) * 1000.0 / fs)
     assert line.pen.style() == QtCore.Qt.PenStyle.DashLine  # placed by the reader
     assert w.median.lines["p_on"][0].pen.style() == QtCore.Qt.PenStyle.DotLine
     assert not any(j.isVisible() for j in w.median.j_marks)  # QRS end still not set
-    s.commit(s.representative_override("qrs_off", rep.marks.qrs_off + 3))
-    s.commit(s.representative_override("qrs_on", rep.marks.qrs_on - 1))
+    set_mark(w, "qrs_off", rep.marks.qrs_off + 3)
+    set_mark(w, "qrs_on", rep.marks.qrs_on - 1)
     qtbot.wait(50)
     assert all(j.isVisible() for j in w.median.j_marks)
     assert cell("ST J") != "set marks" and cell("T") != "set marks"
@@ -440,3 +442,37 @@ def test_hidden_automatic_marks_are_not_drawn_until_the_reader_places_them(
     # The strip shows the beats' marks that follow the reader's median corrections only if
     # the reader set them beat by beat: carried marks would reveal the automatic positions.
     assert not w.paper.marks
+
+
+def test_status_says_what_happened_and_a_repeated_final_value_is_no_change(
+    window, qtbot, sample_copy, settings
+):
+    # Opening writes nothing, so the status bar must not say the marks were saved.
+    from reviewapp.ui.reader import ADJUDICATOR
+
+    _first_reader_moves_t_end(sample_copy, 0.040)
+    _first_reader_moves_t_end(sample_copy, -0.036, "reader2", "second")
+    before = sample_copy.with_name(sample_copy.stem + ".marks.json").read_bytes()
+    settings.setValue("reader/id", "adj1")
+    w = window
+    w.act_roles[ADJUDICATOR].trigger()
+    assert w.open_path(sample_copy, analyse_now=True)
+    status = w.statusBar().currentMessage()
+    assert "saved" not in status and f"marks file {sample_copy.stem}.marks.json" in status
+    assert sample_copy.with_name(sample_copy.stem + ".marks.json").read_bytes() == before
+    w.act_compare.trigger()
+    dlg = w.adapter.compare_dialog
+    dlg.select_item("t_off")
+    qtbot.mouseClick(dlg.use_b, L)
+    audit = _sidecar(sample_copy)["audit"]
+    assert audit[-1]["action"] == "adjudicate"
+    b_ms = dlg.comparison.row("t_off").b_ms
+    assert dlg.result_label.text().startswith(f"Adjudicate T end: {b_ms:.0f} ms from reader2")
+    # Reader B's value again: it is the final value already; nothing recorded, nothing audited.
+    dlg.select_item("t_off")
+    qtbot.mouseClick(dlg.use_b, L)
+    assert len(_sidecar(sample_copy)["audit"]) == len(audit)
+    text = f"No change: the final T end is {b_ms:.0f} ms already."
+    assert dlg.result_label.text() == text == w.statusBar().currentMessage()
+    assert w.act_undo.text() == f"Undo Adjudicate T end: {b_ms:.0f} ms from reader2"
+    dlg.close()

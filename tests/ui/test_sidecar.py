@@ -7,6 +7,7 @@ import json
 
 import pytest
 
+from reviewapp.core.workflow import MarkTarget
 from tests.ui.test_marks import _median_drag
 
 
@@ -18,7 +19,7 @@ def test_drag_saves_undo_reverts_and_reopen_restores(window, qtbot, sample_copy,
     w = window
     settings.setValue("reader/id", "reader1")
     assert w.open_path(sample_copy, analyse_now=True)
-    s = w.session
+    s = w.workflow
     assert s.store is not None and s.store.reviewer == "reader1"
     fs = w.record.fs_hz
     k0 = s.reading.marked.representative.marks.t_off
@@ -37,15 +38,15 @@ def test_drag_saves_undo_reverts_and_reopen_restores(window, qtbot, sample_copy,
     qt1 = s.reading.measurements.intervals.qt_ms
     assert qt1 - qt0 == pytest.approx((k1 - k0) / fs * 1000.0)
     # Undo in the window undoes in the sidecar, with an audit event.
-    s.undo_stack.undo()
+    w.act_undo.trigger()
     side = _sidecar(sample_copy)
     assert side["readings"]["reader1"]["overrides"] == []
     assert any(e["action"].startswith("undo:") for e in side["audit"])
-    s.undo_stack.redo()
+    w.act_redo.trigger()
     # Close and open again: the correction is back, drawn as corrected, QT as corrected.
     w.open_path(sample_copy, analyse_now=True)
-    s2 = w.session
-    assert s2 is not s and s2.is_corrected("representative", "t_off")
+    s2 = w.workflow
+    assert s2 is not s and s2.is_corrected(MarkTarget("representative", "t_off"))
     assert s2.reading.marked.representative.marks.t_off == k1
     assert s2.reading.measurements.intervals.qt_ms == pytest.approx(qt1)
 
@@ -58,9 +59,9 @@ def test_second_window_on_same_record_is_read_only(window, qtbot, sample_copy, s
     other = MainWindow(settings, px_per_mm=4.0)
     qtbot.addWidget(other)
     other.open_path(sample_copy, analyse_now=True)
-    assert other.session is not None and other.session.store is not None
-    assert other.session.store.read_only
-    assert "read-only" in other.marks_note
+    assert other.workflow is not None and other.workflow.store is not None
+    assert other.workflow.store.read_only
+    assert "read-only" in other.workflow.note
     box = other.last_error_box
     assert "lock" in box.text().lower() or "open" in box.text().lower()
     box.close()
@@ -72,17 +73,17 @@ def test_calipers_are_saved_and_restored(window, qtbot, sample_copy, settings):
     settings.setValue("reader/id", "reader1")
     assert w.open_path(sample_copy, analyse_now=True)
     fs = w.record.fs_hz
-    c = w.add_caliper("time", center_sample=1000)
+    c = w.paper.add_caliper("time", center_sample=1000)
     assert c.store_id is not None
     c.set_legs(a=900, b=1342)
-    w.rename_caliper(c, "RR")
-    w.save_calipers()
+    w.calipers.rename(c, "RR")
+    w.calipers.flush()
     saved = _sidecar(sample_copy)["readings"]["reader1"]["calipers"]
     assert len(saved) == 1 and saved[0]["label"] == "RR" and saved[0]["kind"] == "time"
     assert (saved[0]["t1_s"], saved[0]["t2_s"]) == pytest.approx((900 / fs, 1342 / fs))
-    amp = w.add_caliper("amplitude", center_sample=1500)
+    amp = w.paper.add_caliper("amplitude", center_sample=1500)
     amp.set_levels(a_mv=0.0, b_mv=1.25)
-    w.save_calipers()
+    w.calipers.flush()
     text = c.label_text()
     # Reopen: both calipers come back on their lead with the same readouts.
     w.open_path(sample_copy, analyse_now=True)

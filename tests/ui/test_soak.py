@@ -19,7 +19,7 @@ def test_soak_repaints_and_drags(loaded, qtbot):
     w = loaded
     w.resize(1400, 900)
     # Twelve median-beat plots, each with five InfiniteLine marks.
-    w.show_median(True)
+    w.view.show_median(True)
     qtbot.wait(10)
     assert len(w.median.plots) == 12 and all(len(v) == 12 for v in w.median.lines.values())
     mv = w.median
@@ -38,17 +38,17 @@ def test_soak_repaints_and_drags(loaded, qtbot):
             qtbot.mouseRelease(vp, L, pos=b)
         img = w.grab()
         assert not img.isNull()
-    assert w.session.overrides()  # the drags did correct marks
+    assert w.workflow.engine_overrides  # the drags did correct marks
     # The paper: twelve stacked leads with per-beat marks and calipers, dragged and repainted.
-    w.show_median(False)
-    w.set_layout("12x1")
-    c = w.add_caliper("time", row=0, center_sample=3000)
+    w.view.show_median(False)
+    w.view.set_layout("12x1")
+    c = w.paper.add_caliper("time", row=0, center_sample=3000)
     for i in range(REPAINTS // 2):
         c.nudge(1 if i % 2 == 0 else -1)
         if i % 25 == 0 and w.paper.marks:
             m = w.paper.marks[i % len(w.paper.marks)]
             m.set_sample(m.sample + 1)
-            w.session.preview(w.session.beat_override(m.beat_index, m.fiducial, m.sample))
+            w.workflow.preview(m.target, m.sample)
         w.paper.viewport().repaint()
         img = w.paper.grab()
         assert not img.isNull()

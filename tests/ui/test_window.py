@@ -8,25 +8,24 @@ import pytest
 from PySide6 import QtCore, QtGui, QtWidgets
 
 from reviewapp import CLINICAL_CAUTION
+from tests.ui.conftest import keep_marks_in_window
 
 
 @pytest.fixture(autouse=True)
 def _no_sidecar_in_shared_folders(monkeypatch):
     """Opening records here must not lock or write marks beside the shared data or the
     repository's samples (tests/ui/test_sidecar.py covers the sidecar on a copy)."""
-    from reviewapp.ui.main_window import MainWindow
-
-    monkeypatch.setattr(MainWindow, "_open_store", lambda self, rec: None)
+    keep_marks_in_window(monkeypatch)
 
 
 def test_open_sample_folder_lists_it_and_opens_first_record(window, sample_records_dir, qtbot):
     if not sample_records_dir.is_dir():
         pytest.skip("no sample_records folder in this checkout")
-    from reviewapp.ui.main_window import list_records
+    from reviewapp.ui.records_dock import list_records
 
     with qtbot.waitSignal(window.worklist.scanFinished, timeout=20_000):
         assert window.open_path(sample_records_dir, analyse_now=True)
-    assert window.record is not None and window.session is not None
+    assert window.record is not None and window.workflow is not None
     listed = window.worklist.visible_paths()
     assert len(listed) == len(list_records(sample_records_dir))
     assert window.record.name == list_records(sample_records_dir)[0].stem
@@ -34,7 +33,7 @@ def test_open_sample_folder_lists_it_and_opens_first_record(window, sample_recor
     assert window.worklist.current_path().stem == window.record.name
 
 
-def test_open_ptb_by_path_matches_wfdb(window, shared_data):
+def test_open_ptb_by_path_matches_wfdb(window, shared_data, qtbot):
     import wfdb
 
     hea = shared_data / "ptbdb" / "s0010_re.hea"
@@ -43,7 +42,7 @@ def test_open_ptb_by_path_matches_wfdb(window, shared_data):
     assert window.record.fs_hz == ref.fs and window.record.n_samples == ref.sig_len
     # 38.4 s record, 10 s page: the overview strip appears to move through it.
     assert not window.overview.isHidden()
-    window._step_page(+1)
+    qtbot.keyClick(window, QtCore.Qt.Key.Key_PageDown)
     assert window.paper.page_start == round(10.0 * ref.fs)
 
 
@@ -70,12 +69,12 @@ def test_drop_a_file_opens_it(window, shared_data, qtbot):
         QtCore.Qt.MouseButton.LeftButton,
         QtCore.Qt.KeyboardModifier.NoModifier,
     )
-    window.dragEnterEvent(enter)
+    QtWidgets.QApplication.sendEvent(window, enter)
     assert enter.isAccepted()
     drop = QtGui.QDropEvent(
         pos, actions, mime, QtCore.Qt.MouseButton.LeftButton, QtCore.Qt.KeyboardModifier.NoModifier
     )
-    window.dropEvent(drop)
+    QtWidgets.QApplication.sendEvent(window, drop)
     assert window.record is not None and window.record.name == "s0010_re"
 
 
@@ -88,34 +87,19 @@ def test_window_state_and_view_settings_are_restored(settings, qtbot):
     qtbot.waitExposed(w)
     w.resize(700, 520)  # fits the offscreen 800 x 600 screen, so restore is not clamped
     qtbot.wait(10)
-    w.set_speed(50.0)
-    w.set_gain(20.0)
-    w.set_layout("6x2")
-    w.set_theme("dark")
+    w.view.set_speed(50.0)
+    w.view.set_gain(20.0)
+    w.view.set_layout("6x2")
+    w.view.set_theme("dark")
     w.close()
     w2 = MainWindow(settings, px_per_mm=4.0)
     qtbot.addWidget(w2)
     w2.show()
     qtbot.waitExposed(w2)
-    assert w2.scale.speed_mm_per_s == 50.0 and w2.scale.gain_mm_per_mv == 20.0
-    assert w2.paper.layout_key == "6x2" and w2.theme.name == "dark"
+    assert w2.view.scale.speed_mm_per_s == 50.0 and w2.view.scale.gain_mm_per_mv == 20.0
+    assert w2.paper.layout_key == "6x2" and w2.view.theme.name == "dark"
     assert w2.size() == QtCore.QSize(700, 520)
-    w2.set_theme("light")
-
-
-def test_keyboard_speed_gain_layout(loaded, qtbot):
-    w = loaded
-    qtbot.keyClick(w, QtCore.Qt.Key.Key_BracketRight)
-    assert w.scale.speed_mm_per_s == 50.0
-    qtbot.keyClick(w, QtCore.Qt.Key.Key_BracketLeft)
-    qtbot.keyClick(w, QtCore.Qt.Key.Key_BracketLeft)
-    assert w.scale.speed_mm_per_s == 12.5
-    qtbot.keyClick(w, QtCore.Qt.Key.Key_Equal)
-    assert w.scale.gain_mm_per_mv == 20.0
-    qtbot.keyClick(w, QtCore.Qt.Key.Key_2)
-    assert w.paper.layout_key == "6x2"
-    qtbot.keyClick(w, QtCore.Qt.Key.Key_B)
-    assert w.median.isVisible() and w.paper.isVisible()
+    w2.view.set_theme("light")
 
 
 def test_help_lists_every_shortcut_and_about_shows_caution(window):
@@ -148,9 +132,9 @@ def test_summary_flags_in_words_and_glyph_with_source_tooltip(loaded):
 
     w = loaded
     t = w.summary.table
-    iv = w.session.reading.measurements.intervals
+    iv = w.workflow.reading.measurements.intervals
     rows = {t.item(r, 0).text().rstrip(" ✎"): r for r in range(t.rowCount())}
-    for f in w.session.reading.findings:
+    for f in w.workflow.reading.findings:
         if f.lead is not None or f.quantity not in ("qrs_ms", "qtc_bazett_ms", "pr_ms", "hr_bpm"):
             continue
         label = {

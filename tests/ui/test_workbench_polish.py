@@ -4,11 +4,11 @@ in either theme. Real key presses where the window has a shortcut for the step."
 
 from __future__ import annotations
 
-import shutil
-from pathlib import Path
-
 import pytest
 from PySide6 import QtCore, QtWidgets
+
+from reviewapp.core.workflow import MarkTarget
+from tests.ui.conftest import set_mark
 
 Key = QtCore.Qt.Key
 
@@ -26,13 +26,13 @@ def paper_names(w) -> list[str]:
 
 def test_caliper_list_follows_add_delete_undo_and_record_switch(loaded, qtbot, ptb_12lead):
     w = loaded
-    w.set_layout("3x4+1")
+    w.view.set_layout("3x4+1")
     w.activateWindow()
     # No wait after any step: the list must already match when the key press returns.
     qtbot.keyClick(w, Key.Key_C)
     qtbot.keyClick(w, Key.Key_A)
     assert paper_names(w) == ["C1", "C2"] == listed_names(w)
-    assert w.summary.caliper_label.text().splitlines()[1:] == w.caliper_lines()
+    assert w.summary.caliper_label.text().splitlines()[1:] == w.calipers.lines()
     # Delete the selected one (the newest, C2), then select C1 and delete it with the key too.
     qtbot.keyClick(w, Key.Key_Delete)
     assert paper_names(w) == ["C1"] == listed_names(w)
@@ -45,11 +45,11 @@ def test_caliper_list_follows_add_delete_undo_and_record_switch(loaded, qtbot, p
     qtbot.keyClick(w, Key.Key_C)
     assert sorted(paper_names(w)) == ["C1", "C2"] == sorted(listed_names(w))
     # Undo of a mark edit leaves the calipers (and their list) alone.
-    s = w.session
+    s = w.workflow
     rep = s.reading.marked.representative
-    s.commit(s.representative_override("t_off", rep.marks.t_off + 20))
+    set_mark(w, "t_off", rep.marks.t_off + 20)
     qtbot.keyClick(w, Key.Key_Z, QtCore.Qt.KeyboardModifier.ControlModifier)
-    assert not s.is_corrected("representative", "t_off")
+    assert not s.is_corrected(MarkTarget("representative", "t_off"))
     assert paper_names(w) == listed_names(w) and len(paper_names(w)) == 2
     # Another record: the old record's calipers leave the paper and the list together.
     w.load_record(ptb_12lead, analyse_now=True)
@@ -61,14 +61,14 @@ def test_caliper_list_after_restore_from_sidecar(window, qtbot, sample_copy, set
     w = window
     settings.setValue("reader/id", "reader1")
     assert w.open_path(sample_copy, analyse_now=True)
-    w.set_layout("3x4+1")
+    w.view.set_layout("3x4+1")
     w.activateWindow()
     for k in (Key.Key_C, Key.Key_A, Key.Key_C):
         qtbot.keyClick(w, k)
     w.paper._select(w.paper.calipers[1])
     qtbot.keyClick(w, Key.Key_Delete)
     assert paper_names(w) == ["C1", "C3"] == listed_names(w)
-    w.save_calipers()
+    w.calipers.flush()
     assert w.open_path(sample_copy, analyse_now=True)  # reopen: restored from the sidecar
     assert sorted(paper_names(w)) == ["C1", "C3"] == sorted(listed_names(w))
     # A new one takes the free number 2, not 4.
@@ -76,21 +76,11 @@ def test_caliper_list_after_restore_from_sidecar(window, qtbot, sample_copy, set
     assert "C2" in paper_names(w) and sorted(paper_names(w)) == sorted(listed_names(w))
 
 
-@pytest.fixture
-def folder_copy(sample_records_dir, tmp_path) -> Path:
-    """The bundled sample folder copied (no sidecars), so no marks land beside the repo's."""
-    if not sample_records_dir.is_dir():
-        pytest.skip("no sample_records folder in this checkout")
-    dst = tmp_path / "worklist"
-    dst.mkdir()
-    for f in sample_records_dir.iterdir():
-        if f.is_file() and ".marks." not in f.name:
-            shutil.copy(f, dst / f.name)
-    return dst
-
-
-def test_opening_a_folder_shows_the_worklist_beside_a_true_size_page(qtbot, settings, folder_copy):
-    from reviewapp.ui.main_window import MainWindow, list_records
+def test_opening_a_folder_shows_the_worklist_beside_a_true_size_page(
+    qtbot, settings, worklist_copy
+):
+    from reviewapp.ui.main_window import MainWindow
+    from reviewapp.ui.records_dock import list_records
     from reviewapp.ui.worklist import COLUMNS, COMPACT_COLUMNS
 
     ppm = 96.0 / 25.4  # the screenshots' 96 dpi scale
@@ -100,8 +90,8 @@ def test_opening_a_folder_shows_the_worklist_beside_a_true_size_page(qtbot, sett
     w.show()
     qtbot.waitExposed(w)
     with qtbot.waitSignal(w.worklist.scanFinished, timeout=20_000):
-        assert w.open_path(folder_copy, analyse_now=True)
-    records = list_records(folder_copy)
+        assert w.open_path(worklist_copy, analyse_now=True)
+    records = list_records(worklist_copy)
     assert len(records) > 1
     assert w.records_dock.isVisible()
     assert w.worklist.visible_paths() == sorted(records, key=lambda p: p.stem)
@@ -124,7 +114,7 @@ def test_opening_a_folder_shows_the_worklist_beside_a_true_size_page(qtbot, sett
     assert len(w.worklist.visible_columns()) == len(COLUMNS)
     w.worklist.set_compact(True)
     # The 3 x 4 page at true size still fits beside the worklist and the reading panels.
-    w.set_layout("3x4+1")
+    w.view.set_layout("3x4+1")
     w.paper.true_size()
     qtbot.wait(20)
     page_px = w.paper.geom.width_mm * ppm
@@ -150,7 +140,7 @@ def test_frequent_tools_fit_the_toolbar_at_1600_px(window, qtbot):
     frequent = [w.act_median, w.act_time_cal, w.act_amp_cal, w.act_sign_off, w.act_true]
     for a in frequent:
         assert _on_toolbar(w, tb.widgetForAction(a)), a.text()
-    for box in (w.speed_box, w.gain_box, w.layout_box, w.rhythm_box):
+    for box in (w.view.speed_box, w.view.gain_box, w.view.layout_box, w.view.rhythm_box):
         assert _on_toolbar(w, box), box.toolTip()
     # The check can fail: at 700 px the sign-off button is in the overflow menu.
     w.resize(700, 600)
@@ -162,32 +152,23 @@ def test_frequent_tools_fit_the_toolbar_at_1600_px(window, qtbot):
         assert a in menu_actions, a.text()
 
 
-def test_filter_button_says_how_many_display_filters_are_on(window):
-    w = window
-    assert w.filters_button.text() == "Filters"
-    w.act_f_base.trigger()
-    w.act_f_low.trigger()
-    assert w.filters_button.text() == "Filters (2 on)"
-    assert w.filters.baseline and w.filters.lowpass
-
-
 @pytest.mark.parametrize("theme", ["light", "dark"])
 def test_median_beats_fill_the_room_below_the_page_in_both_themes(loaded, qtbot, theme):
     w = loaded
-    w.set_theme(theme)
-    w.set_layout("3x4+1")
+    w.view.set_theme(theme)
+    w.view.set_layout("3x4+1")
     qtbot.wait(20)
-    assert w.median_room_px() >= 240  # 1000 px window at 4 px/mm: room for the median beats
+    assert w.view.median_room_px() >= 240  # 1000 px window at 4 px/mm: room for the median beats
     assert w.median.isVisible()
     # The reader hides them (B), switches theme (Ctrl+T), then goes back to automatic.
     w.activateWindow()
     qtbot.keyClick(w, Key.Key_B)
     assert not w.median.isVisible()
     qtbot.keyClick(w, Key.Key_T, QtCore.Qt.KeyboardModifier.ControlModifier)
-    assert w.theme.name != theme
+    assert w.view.theme.name != theme
     w.act_median_auto.trigger()  # View ▸ Median beat where there is room
-    assert w.median.isVisible() and w.median_auto
-    w.set_theme("light")
+    assert w.median.isVisible() and w.view.median_auto
+    w.view.set_theme("light")
 
 
 def _contrast(a, b) -> float:
@@ -222,8 +203,8 @@ def test_worklist_alert_text_is_readable_in_both_themes(qtbot, theme):
 
 def test_amplitude_caliper_label_sits_above_the_higher_leg(loaded):
     w = loaded
-    w.set_layout("3x4+1")
-    c = w.add_caliper("amplitude", center_sample=2000)
+    w.view.set_layout("3x4+1")
+    c = w.paper.add_caliper("amplitude", center_sample=2000)
     for a_mv, b_mv in ((0.0, 1.2), (1.2, 0.0), (-0.5, 0.3)):
         c.set_levels(a_mv=a_mv, b_mv=b_mv)
         anchor = c._label_anchor()
@@ -258,7 +239,7 @@ def test_blinded_second_reader_sees_no_values_in_the_worklist(window, qtbot, tmp
         return wl.model.index(0, col[key]).data()
 
     assert shown("qtc") == "505" and shown("reviewer") == "reader1" and shown("flags")
-    window.set_read_mode(SECOND_BLINDED, reopen=False)
+    window.adapter.set_read_mode(SECOND_BLINDED, reopen=False)
     for key in ("qtc", "qt_ms", "flags", "reviewer"):
         assert shown(key) == "", key
     tip = wl.model.index(0, col["name"]).data(QtCore.Qt.ItemDataRole.ToolTipRole)
@@ -267,7 +248,7 @@ def test_blinded_second_reader_sees_no_values_in_the_worklist(window, qtbot, tmp
     # Value filters would reveal the values: they are off while blinded.
     wl.set_filters(flagged_only=True)
     assert wl.proxy.rowCount() == 1 and not wl.flagged_box.isEnabled()
-    window.set_read_mode(FIRST, reopen=False)
+    window.adapter.set_read_mode(FIRST, reopen=False)
     assert shown("qtc") == "505" and wl.flagged_box.isEnabled()
 
 
@@ -275,7 +256,7 @@ def test_median_mark_labels_leave_the_lead_names_readable(loaded, qtbot):
     import pyqtgraph as pg
 
     w = loaded
-    w.show_median(True)
+    w.view.show_median(True)
 
     def rects():
         labels = [

@@ -13,7 +13,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass, replace
-from typing import TYPE_CHECKING, Any
+from typing import Any, Literal, Protocol
 
 from reviewapp.core.errors import MarksError
 from reviewapp.core.marks.model import (
@@ -22,16 +22,14 @@ from reviewapp.core.marks.model import (
     Override,
     OverrideKey,
     ReviewerReading,
+    Status,
     caliper_to_json,
     key_text,
     note_to_json,
     override_to_json,
 )
 
-if TYPE_CHECKING:
-    from reviewapp.core.marks.store import MarksStore
-
-StatusTriple = tuple[str, str | None, str | None]  # status, signed_off_by, signed_off_at
+StatusTriple = tuple[Status, str | None, str | None]  # status, signed_off_by, signed_off_at
 
 
 def status_of(r: ReviewerReading) -> StatusTriple:
@@ -65,6 +63,12 @@ class Command:
     @property
     def target(self) -> str:
         raise NotImplementedError
+
+    @property
+    def changes_nothing(self) -> bool:
+        """True when applying it would leave the reading as it is (a new value equal to the
+        old one): such an edit is neither recorded nor audited."""
+        return self.old_value() == self.new_value()
 
     def old_value(self) -> Any:
         raise NotImplementedError
@@ -100,6 +104,13 @@ class SetOverride(Command):
     def target(self) -> str:
         where = key_text(self.key)
         return f"{where} (chosen from {self.source})" if self.source else where
+
+    @property
+    def changes_nothing(self) -> bool:
+        # The value in effect is what counts: old_s (the automatic value replaced) is kept
+        # from the first correction and is not a change of its own.
+        b, a = self.before, self.after
+        return b is not None and a is not None and b.new_s == a.new_s
 
     def old_value(self) -> Any:
         return None if self.before is None else override_to_json(self.before)
@@ -222,6 +233,10 @@ class Composite(Command):
     def target(self) -> str:
         return self.name
 
+    @property
+    def changes_nothing(self) -> bool:
+        return all(p.changes_nothing for p in self.parts)
+
     def old_value(self) -> Any:
         return {p.target[:64]: p.old_value() for p in self.parts}
 
@@ -257,10 +272,25 @@ def _swap(items: tuple, item_id: str, expect: Any, put: Any, index: int) -> tupl
     return tuple(out)
 
 
+class CommandStore(Protocol):
+    """What ``UndoStack`` runs commands on (``MarksStore``)."""
+
+    revision: int
+
+    @property
+    def reading(self) -> ReviewerReading: ...
+
+    def apply(
+        self, cmd: Command, mode: Literal["do", "undo", "redo"] = "do"
+    ) -> ReviewerReading: ...
+
+    def save(self) -> None: ...
+
+
 class UndoStack:
     """A plain linear undo/redo history over a store (the window uses QUndoStack instead)."""
 
-    def __init__(self, store: MarksStore) -> None:
+    def __init__(self, store: CommandStore) -> None:
         self.store = store
         self._done: list[Command] = []
         self._undone: list[Command] = []
@@ -277,6 +307,8 @@ class UndoStack:
         """Apply and save ``cmd``. On a save error (e.g. ConflictError) the edit stays applied
         in memory and on the stack; the error propagates for the caller to resolve."""
         self._sync()
+        if cmd.changes_nothing:
+            return self.store.reading  # not a step: nothing changed
         result = self.store.apply(cmd)
         self._done.append(cmd)
         self._undone.clear()

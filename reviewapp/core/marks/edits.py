@@ -8,8 +8,9 @@ stack's ``push``).
 from __future__ import annotations
 
 import uuid
+from collections.abc import Callable
 from dataclasses import replace
-from typing import TYPE_CHECKING, Literal
+from typing import Literal, Protocol
 
 from reviewapp.core.errors import MarksError
 from reviewapp.core.fiducials import FIDUCIALS, MarkOverride
@@ -23,10 +24,7 @@ from reviewapp.core.marks.commands import (
     status_of,
 )
 from reviewapp.core.marks.convert import override_from_mark
-from reviewapp.core.marks.model import Caliper, Note, Override, ReviewerReading
-
-if TYPE_CHECKING:
-    from reviewapp.core.marks.store import MarksStore
+from reviewapp.core.marks.model import AutomaticMarks, Caliper, Note, Override, ReviewerReading
 
 # Which fiducials bound each interval (adopted together when adjudicating an interval).
 INTERVAL_ENDS: dict[str, tuple[str, str]] = {
@@ -48,10 +46,29 @@ def new_id() -> str:
     return uuid.uuid4().hex[:16]
 
 
-class Edits:
-    """Command factory bound to a store."""
+class ReadingHolder(Protocol):
+    """What ``Edits`` reads from the holder of a reading: ``MarksStore`` (a marks file) or
+    ``reviewapp.core.workflow.memory.MemoryMarks`` (a reading kept in a window only)."""
 
-    def __init__(self, store: MarksStore) -> None:
+    reviewer: str
+    clock: Callable[[], str]
+
+    @property
+    def reading(self) -> ReviewerReading: ...
+
+    @property
+    def fs_hz(self) -> float: ...
+
+    @property
+    def automatic(self) -> AutomaticMarks | None: ...
+
+    def require_adjudicator(self) -> None: ...
+
+
+class Edits:
+    """Command factory bound to a store (or any ``ReadingHolder``)."""
+
+    def __init__(self, store: ReadingHolder) -> None:
         self._store = store
 
     @property
@@ -137,9 +154,12 @@ class Edits:
         v2_mv: float = 0.0,
         lead: str | None = None,
         label: str = "",
+        caliper_id: str | None = None,
     ) -> SetCaliper:
+        """A new caliper; ``caliper_id`` keeps the id it had in another reading (a caliper
+        drawn before the reader was known, saved once they are)."""
         c = Caliper(
-            id=new_id(),
+            id=caliper_id or new_id(),
             kind=kind,
             t1_s=float(snap_s(t1_s, self._fs)),  # type: ignore[arg-type]
             t2_s=float(snap_s(t2_s, self._fs)),  # type: ignore[arg-type]

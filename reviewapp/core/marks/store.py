@@ -415,6 +415,8 @@ class MarksStore:
         if self.read_only:
             raise ReadOnlyError("this marks file was opened read-only", self.path)
         before = self.reading
+        if mode == "do" and cmd.changes_nothing:
+            return before  # a new value equal to the old one: nothing to record or audit
         after = cmd.revert(before) if mode == "undo" else cmd.apply(before)
         events: list[AuditEvent] = []
         if before.status == "signed_off" and after.status != "signed_off":
@@ -461,10 +463,15 @@ class MarksStore:
         return after
 
     def set_automatic(
-        self, automatic: AutomaticMarks, listing_cache: Mapping[str, Any] | None = None
+        self,
+        automatic: AutomaticMarks,
+        listing_cache: Mapping[str, Any] | None = None,
+        *,
+        save: bool = True,
     ) -> None:
         """Replace the engine's marks (e.g. a newer engine version); readings are untouched.
-        Saved at once; recorded in the audit trail with old and new engine versions.
+        Saved at once (``save=False``: with the next save, e.g. together with the first
+        correction); recorded in the audit trail with old and new engine versions.
         ``listing_cache`` (batch step): the worklist cache made from these marks, stored with
         them."""
         if self.read_only:
@@ -480,7 +487,8 @@ class MarksStore:
             new = replace(new, automatic=automatic, audit=(*new.audit, event))
         if new != self._sidecar:
             self._stage(new)
-            self.save()
+            if save:
+                self.save()
 
     # --- saving and conflicts ---------------------------------------------------------------
 
