@@ -1,8 +1,8 @@
 """A marks file changed on disk by another window: the reader's next change is not written
 over it; a dialog offers reload, keep mine aside, or merge, and each button does what it says.
 
-"Another window" is a second marks store on the same file without the lock (a window on
-another machine, or one that took the lock over). The marks file is read back as plain JSON.
+"Another window" is a second marks store on the same file that took the record's lock over,
+saved and closed. The marks file is read back as plain JSON.
 """
 
 from __future__ import annotations
@@ -32,7 +32,8 @@ def _other_window(hea, change) -> None:
     from reviewapp.core.io import open_record
     from reviewapp.core.marks import MarksStore
 
-    with MarksStore.open(open_record(hea), "reader1", lock=False) as other:
+    # Only a lock holder saves: the other window takes the lock over, writes and closes.
+    with MarksStore.take_over(open_record(hea), "reader1") as other:
         other.do(change(other))
 
 

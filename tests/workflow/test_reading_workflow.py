@@ -214,8 +214,9 @@ def test_a_file_changed_by_another_window_offers_three_resolutions(open_workflow
 
     w = open_workflow()
     assert w.notes.add("mine, saved").done
-    # Another window (a second host, no lock) adds its own note to the same reading.
-    with MarksStore.open(analysis.record, "reader1", lock=False) as other:
+    # Another window takes the record's lock over, adds its own note to the same reading and
+    # closes (only a lock holder saves; the file still changes under this window).
+    with MarksStore.take_over(analysis.record, "reader1") as other:
         other.do(other.edits.add_note("theirs"))
     out = w.notes.add("mine, not yet saved")
     assert out.conflict and not out.done and out.recorded and out.message.startswith("Not saved")
