@@ -14,7 +14,7 @@ multi-lead feature for QRS and from multi-lead rules over the lead marks for P a
 
 from __future__ import annotations
 
-from dataclasses import replace
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -59,6 +59,25 @@ def _rep_rr_samples(n: int, r_index: int, fs_hz: float) -> int:
 def delineate_representative(
     waveform_mv: np.ndarray, fs_hz: float, r_index: int, usable: np.ndarray
 ) -> tuple[WaveMarks, tuple[WaveMarks, ...]]:
+    """(global marks, per-lead marks) of the median beat: ``delineate_median_beat`` without
+    the alignment marks."""
+    m = delineate_median_beat(waveform_mv, fs_hz, r_index, usable)
+    return m.marks, m.lead_marks
+
+
+@dataclass(frozen=True)
+class MedianBeatMarks:
+    """The median beat's marks: global (the standard's earliest onset / latest end over the
+    leads), each lead's own, and the multi-lead marks beats are aligned on (window indices)."""
+
+    marks: WaveMarks
+    lead_marks: tuple[WaveMarks, ...]
+    align_marks: WaveMarks
+
+
+def delineate_median_beat(
+    waveform_mv: np.ndarray, fs_hz: float, r_index: int, usable: np.ndarray
+) -> MedianBeatMarks:
     """Global and per-lead wave boundaries of the representative (median) beat.
 
     Args:
@@ -68,7 +87,7 @@ def delineate_representative(
         usable: (n_leads,) bool; unusable leads get all-None marks and do not vote.
 
     Returns:
-        (global marks, per-lead marks), indices into the window; absent waves are None.
+        ``MedianBeatMarks``, indices into the window; absent waves are None.
 
     Example:
         >>> import numpy as np
@@ -77,8 +96,8 @@ def delineate_representative(
         >>> qrs = np.exp(-0.5 * ((t - 0.4) / 0.012) ** 2)
         >>> tw = 0.3 * np.exp(-0.5 * ((t - 0.7) / 0.04) ** 2)
         >>> w = np.stack([qrs + tw, 0.5 * (qrs + tw)], axis=1).astype(np.float32)
-        >>> marks, leads = delineate_representative(w, fs, 200, np.array([True, True]))
-        >>> 160 < marks.qrs_on < 200 < marks.qrs_off < 240, marks.t_off > 350
+        >>> m = delineate_median_beat(w, fs, 200, np.array([True, True]))
+        >>> 160 < m.marks.qrs_on < 200 < m.marks.qrs_off < 240, m.marks.t_off > 350
         (True, True)
     """
     wave = np.asarray(waveform_mv, dtype=np.float32)
@@ -86,7 +105,7 @@ def delineate_representative(
     usable = np.asarray(usable, dtype=bool)
     if n == 0 or not usable.any() or not 0 <= r_index < n:
         empty = WaveMarks()
-        return empty, tuple(empty for _ in range(n_leads))
+        return MedianBeatMarks(empty, tuple(empty for _ in range(n_leads)), empty)
     params = DelineationParams.for_fs(fs_hz)
     filt = prefilter(wave, fs_hz)
     block = {k: v[None] for k, v in filt.items()}
@@ -98,8 +117,17 @@ def delineate_representative(
         t_hi=np.array([n - 1]),
         rr=np.array([_rep_rr_samples(n, r_index, fs_hz)]),
     )
-    glob, lead = delineate_block(block, bounds, usable, params)
-    return _marks_from_row(glob[0]), tuple(_marks_from_row(lead[0, j]) for j in range(n_leads))
+    glob, lead, core = delineate_block(block, bounds, usable, params)
+    return MedianBeatMarks(
+        _marks_from_row(glob[0]),
+        tuple(_marks_from_row(lead[0, j]) for j in range(n_leads)),
+        _marks_from_row(core[0]),
+    )
+
+
+def _anchor(rep: RepresentativeBeat) -> WaveMarks:
+    """The marks beats are aligned on and P windows are cut around (see ``align_marks``)."""
+    return rep.align_marks if rep.align_marks is not None else rep.marks
 
 
 # Below this correlation with the median beat, a beat is delineated on its own.
@@ -133,6 +161,7 @@ def _marks_from_rep(
     ui = np.flatnonzero(usable)
     rep_f = prefilter(np.asarray(rep.waveform_mv)[:, ui], fs_hz)
     rep_g = np.array([-1 if v is None else v for v in _mark_values(rep.marks)], dtype=np.int64)
+    anchor = np.array([-1 if v is None else v for v in _mark_values(_anchor(rep))])
     rep_l = np.array(
         [[-1 if v is None else v for v in _mark_values(m)] for m in rep.lead_marks], dtype=np.int64
     ).reshape(-1, N_MARKS)
@@ -143,9 +172,11 @@ def _marks_from_rep(
 
     lag_of = np.zeros((dom.size, N_MARKS), dtype=np.int64)
     for col, (before_ms, after_ms, lag_ms, key) in enumerate(ALIGN_SPEC):
-        m = int(rep_g[col])
-        if m < 0:
+        if rep_g[col] < 0:
             continue
+        # Matched around the multi-lead mark (where the wave is in most leads), not around
+        # the widened global one (the earliest / latest lead, often on a flat stretch).
+        m = int(anchor[col]) if anchor[col] >= 0 else int(rep_g[col])
         expected = r[dom] + (m - rep.r_index)
         lags, corr = align_lags(
             filt[key][:, ui],
@@ -218,7 +249,7 @@ def _zsegments(slow: np.ndarray, start: np.ndarray, length: int) -> tuple[np.nda
 
 def _rep_p_window(fs_hz: float, rep: RepresentativeBeat) -> tuple[int, int] | None:
     """P window (start, length) relative to R on the median beat, or None."""
-    m = rep.marks
+    m = _anchor(rep)
     if m.p_on is None or m.p_off is None:
         return None
     a = m.p_on - round(_P_PRE_MS * fs_hz / 1000.0) - rep.r_index
@@ -258,7 +289,7 @@ def _p_repeats(
     if corr < P_MIN_BEAT_CORR_CLEAR:
         return False, tmpl
     rep_slow = prefilter(np.asarray(rep.waveform_mv)[:, ui], fs_hz)["slow"]
-    seg = rep_slow[rep.marks.p_on : rep.marks.p_off + 1]
+    seg = rep_slow[_anchor(rep).p_on : _anchor(rep).p_off + 1]
     amp = float(np.abs(seg - np.linspace(seg[0], seg[-1], len(seg))).max()) if len(seg) else 0.0
     return amp >= P_CLEAR_MV, tmpl
 
@@ -330,7 +361,7 @@ def _odd_beats_without_p(
     if tmpl is None:  # too few dominant beats to judge: trust the beat's own P
         return out
     ui = np.flatnonzero(usable)
-    pre = rep.marks.p_on - rep.r_index - win[0]  # samples from window start to P onset
+    pre = _anchor(rep).p_on - rep.r_index - win[0]  # samples from window start to P onset
     z, ok = _zsegments(slow[:, ui], glob[odd, P_ON] - pre, win[1])
     out[np.flatnonzero(odd)] = ~ok | (z @ tmpl < P_ODD_MIN_CORR)
     return out
@@ -361,6 +392,7 @@ def representative_p_from_beats(
         rep,
         marks=replace(rep.marks, **no_p),
         lead_marks=tuple(replace(m, **no_p) for m in rep.lead_marks),
+        align_marks=None if rep.align_marks is None else replace(rep.align_marks, **no_p),
     )
 
 
@@ -484,7 +516,7 @@ def _delineate_own(
     # P of this beat starts after the previous beat's T: search at most 45 % of the RR back.
     p_lo = np.maximum(lo, pre - (0.45 * rr_prev).astype(int))
     bounds = BlockBounds(r=np.full(len(r), pre), lo=lo, hi=hi, p_lo=p_lo, t_hi=t_hi, rr=rr_next)
-    glob, lead = delineate_block(block, bounds, usable, params)
+    glob, lead, _ = delineate_block(block, bounds, usable, params)
     shift = (r - pre)[:, None]
     glob = np.where(glob >= 0, glob + shift, -1)
     lead = np.where(lead >= 0, lead + shift[:, :, None], -1)

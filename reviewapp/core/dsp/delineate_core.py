@@ -60,13 +60,15 @@ result against those readers' marks.
 
 from __future__ import annotations
 
+from dataclasses import replace
 from functools import lru_cache
 
 import numpy as np
 from scipy import signal
 
+from reviewapp.core.dsp.delineate_global import confirmed_extreme, widen
 from reviewapp.core.dsp.delineate_ops import masked_argmax, order_stat, range_mask
-from reviewapp.core.dsp.delineate_p import global_p, lead_p_waves
+from reviewapp.core.dsp.delineate_p import LeadP, global_p, lead_p_waves
 from reviewapp.core.dsp.delineate_params import (
     DURATIONS_MS,
     N_MARKS,
@@ -87,7 +89,7 @@ from reviewapp.core.dsp.delineate_qrs import (
     qrs_bounds_thresholds,
     refine_qrs_bounds,
 )
-from reviewapp.core.dsp.delineate_t import global_t, lead_t_waves_before_next_p
+from reviewapp.core.dsp.delineate_t import LeadT, global_t, lead_t_waves_before_next_p
 
 __all__ = [
     "DURATIONS_MS",
@@ -155,8 +157,12 @@ def delineate_block(
         p: parameters for this sampling rate.
 
     Returns:
-        (global (B, 8), per-lead (B, L, 8)) int64 window indices, -1 = absent; columns
-        P_ON, P_OFF, QRS_ON, QRS_OFF, T_OFF, P_PEAK, R_PEAK, T_PEAK.
+        (global (B, 8), per-lead (B, L, 8), multi-lead (B, 8)) int64 window indices, -1 =
+        absent; columns P_ON, P_OFF, QRS_ON, QRS_OFF, T_OFF, P_PEAK, R_PEAK, T_PEAK. The
+        global marks follow the standard's definition (earliest onset, latest end over the
+        leads: ``_standard_global``); the multi-lead marks are those found before that
+        widening (spatial QRS, order statistics of the lead P and T marks), on which beats
+        are aligned to the median beat.
     """
     fast = block["fast"]
     slow = block["slow"]
@@ -166,7 +172,7 @@ def delineate_block(
     glob = np.full((nb, N_MARKS), -1, dtype=np.int64)
     lead = np.full((nb, nl, N_MARKS), -1, dtype=np.int64)
     if nb == 0 or not use.any():
-        return glob, lead
+        return glob, lead, glob.copy()
     ui = np.flatnonzero(use)
     nu = ui.size
 
@@ -260,7 +266,84 @@ def delineate_block(
     global_t(glob, lu, lt, p)
     global_p(glob, lu, lp, p)
     lead[:, ui, :] = lu
-    # P must end before QRS onset and T must end after QRS end.
+    _p_before_qrs(glob)
+    core = glob.copy()
+    if p.standard_global:
+        raw = block["raw"][:, :, ui] if "raw" in block else None
+        _standard_global(glob, d, raw, r, bounds, lp, lt, spk, p)
+        _p_before_qrs(glob)
+    return glob, lead, core
+
+
+def _p_before_qrs(glob: np.ndarray) -> None:
+    """P must end before QRS onset (in place)."""
     bad_p = (glob[:, P_OFF] >= 0) & (glob[:, QRS_ON] >= 0) & (glob[:, P_OFF] > glob[:, QRS_ON])
     glob[bad_p, P_OFF] = glob[bad_p, QRS_ON]
-    return glob, lead
+
+
+def _standard_global(
+    glob: np.ndarray,
+    d: np.ndarray,
+    raw: np.ndarray | None,
+    r: np.ndarray,
+    bounds: BlockBounds,
+    lp: LeadP,
+    lt: LeadT,
+    spk: np.ndarray,
+    p: DelineationParams,
+) -> None:
+    """Global marks widened to the earliest onset / latest end over the leads (in place on
+    ``glob``), by the confirmed-extreme rule of ``delineate_global``.
+
+    Candidates: each lead's own QRS onset and end found on that lead's 40 Hz slope |dx/dt|
+    (the thresholds of the spatial rule, relative to the lead's own first and last lobes,
+    within ``glob_qrs_slack`` outside the spatial marks; moved to the corner of the
+    less-filtered lead ``raw`` where there is one, ``refine_qrs_bounds``), voting where the lead's steepest
+    QRS slope is at least ``glob_qrs_vote_frac`` of the largest lead's; each lead's own P
+    onset/end and T end (before the lead marks took the global ones), voting where the wave
+    is at least ``p_strong_frac`` / ``t_strong_frac`` of the largest lead's.
+    """
+    nb, w, nu = d.shape
+    rep = lambda a: np.repeat(a, nu)  # noqa: E731
+    g_on, g_off = glob[:, QRS_ON], glob[:, QRS_OFF]
+    ok = (g_on >= 0) & (g_off > g_on)
+    fl = np.abs(d).transpose(0, 2, 1).reshape(nb * nu, w)
+    pl = replace(p, qrs_on_frac=p.glob_qrs_on_frac, qrs_off_frac=p.glob_qrs_off_frac)
+    l_on, l_off, thr_on, thr_off = qrs_bounds_thresholds(
+        fl,
+        rep(r),
+        rep(bounds.lo),
+        rep(bounds.hi),
+        pl,
+        on_min=rep(np.where(ok, g_on - p.glob_qrs_slack, 0)),
+        off_max=rep(np.where(ok, g_off + p.glob_qrs_slack, w - 1)),
+    )
+    if raw is not None:
+        # As for the spatial marks: the corner of the less-filtered lead where there is one.
+        raw_l = raw.transpose(0, 2, 1).reshape(nb * nu, w, 1)
+        l_on, l_off = refine_qrs_bounds(raw_l, l_on, l_off, rep(r), thr_on, thr_off, p.fs_hz)
+    slope = np.max(
+        np.where(range_mask(w, rep(np.where(ok, g_on, r)), rep(np.where(ok, g_off, r))), fl, 0.0),
+        axis=1,
+    ).reshape(nb, nu)
+    q_vote = slope >= p.glob_qrs_vote_frac * slope.max(axis=1, keepdims=True)
+    k = p.glob_min_votes
+    on = confirmed_extreme(l_on.reshape(nb, nu), q_vote, p.glob_qrs_agree, True, k)
+    off = confirmed_extreme(l_off.reshape(nb, nu), q_vote, p.glob_qrs_agree, False, k)
+    # A paced QRS starts at its stimulus (see delineate_block): never before it.
+    on = np.where((spk >= 0) & (on >= 0), np.maximum(on, spk + p.spike_delay), on)
+    glob[:, QRS_ON] = np.where(ok, widen(g_on, on, earliest=True), g_on)
+    glob[:, QRS_OFF] = np.where(ok, widen(g_off, off, earliest=False), g_off)
+
+    p_amp = np.where(lp.ok, lp.amp_mv, -1.0).reshape(nb, nu)
+    p_vote = lp.ok.reshape(nb, nu) & (p_amp >= p.glob_p_vote_frac * p_amp.max(axis=1, keepdims=True))
+    has_p = glob[:, P_ON] >= 0
+    p_on = confirmed_extreme(lp.on.reshape(nb, nu), p_vote, p.glob_p_agree, True, k)
+    p_off = confirmed_extreme(lp.off.reshape(nb, nu), p_vote, p.glob_p_agree, False, k)
+    glob[:, P_ON] = np.where(has_p, widen(glob[:, P_ON], p_on, earliest=True), -1)
+    glob[:, P_OFF] = np.where(has_p, widen(glob[:, P_OFF], p_off, earliest=False), -1)
+
+    t_amp = np.where(lt.ok, lt.amp_mv, -1.0).reshape(nb, nu)
+    t_vote = lt.ok.reshape(nb, nu) & (t_amp >= p.glob_t_vote_frac * t_amp.max(axis=1, keepdims=True))
+    t_off = confirmed_extreme(lt.end.reshape(nb, nu), t_vote, p.glob_t_agree, False, k)
+    glob[:, T_OFF] = widen(glob[:, T_OFF], t_off, earliest=False)

@@ -62,6 +62,19 @@ class DelineationParams:
     spike_width: int = 0  # a pacing spike's slope stays above half its peak at most this long
     spike_ratio: float = 2.5  # ... and peaks above this multiple of the QRS's steepest slope
     spike_delay: int = 0  # QRS onset this many samples after a pacing spike
+    # Global marks by the standard's definition (``delineate_global``): earliest onset /
+    # latest end over the leads, confirmed by a second lead within these spans (samples).
+    standard_global: bool = True
+    glob_min_votes: int = 3  # fewer voting leads: the multi-lead marks stay
+    glob_qrs_agree: int = 0
+    glob_p_agree: int = 0
+    glob_t_agree: int = 0
+    glob_qrs_slack: int = 0  # a lead's own QRS boundary is sought this far beyond the global one
+    glob_qrs_vote_frac: float = 0.3  # leads whose steepest QRS slope is >= this x the largest
+    glob_qrs_on_frac: float = 0.04  # a lead's QRS onset: slope below this x its first lobe
+    glob_qrs_off_frac: float = 0.05  # a lead's QRS end: slope below this x its last lobe
+    glob_p_vote_frac: float = 0.15  # leads whose P is >= this x the largest lead's P vote
+    glob_t_vote_frac: float = 0.15  # leads whose T is >= this x the largest lead's T vote
 
     @classmethod
     def for_fs(cls, fs_hz: float, **overrides: float) -> DelineationParams:
@@ -99,6 +112,10 @@ DURATIONS_MS: dict[str, float] = {
     "spike_after": 40,
     "spike_width": 8,
     "spike_delay": 10,
+    "glob_qrs_agree": 8,
+    "glob_p_agree": 10,
+    "glob_t_agree": 20,
+    "glob_qrs_slack": 40,
 }
 
 
