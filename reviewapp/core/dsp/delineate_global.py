@@ -42,7 +42,12 @@ from reviewapp.core.dsp.delineate_ops import first_true
 
 
 def confirmed_extreme(
-    marks: np.ndarray, votes: np.ndarray, agree: int, earliest: bool, min_votes: int = 2
+    marks: np.ndarray,
+    votes: np.ndarray,
+    agree: int,
+    earliest: bool,
+    min_votes: int = 2,
+    confirm: int = 1,
 ) -> np.ndarray:
     """Per row, the earliest (or latest) voting mark with another voting mark within ``agree``.
 
@@ -52,6 +57,7 @@ def confirmed_extreme(
         agree: samples; two marks at most this far apart confirm each other.
         earliest: True for an onset (earliest), False for an end (latest).
         min_votes: rows with fewer voting marks get -1 (no decision).
+        confirm: how many other voting marks must lie within ``agree`` (on the inner side).
 
     Returns:
         (B,) the confirmed extreme, -1 where fewer than two voting marks agree or fewer than
@@ -65,9 +71,10 @@ def confirmed_extreme(
     n = ok.sum(axis=1)
     if s.shape[1] < 2:
         return np.full(s.shape[0], -1, dtype=np.int64)
-    gaps = np.abs(np.diff(s, axis=1))  # sorted from the extreme inward
-    k = np.arange(s.shape[1] - 1)[None, :]
-    good = (gaps <= agree) & (k + 1 < n[:, None])
+    c = max(1, min(confirm, s.shape[1] - 1))
+    gaps = np.abs(s[:, c:] - s[:, :-c])  # sorted from the extreme inward
+    k = np.arange(s.shape[1] - c)[None, :]
+    good = (gaps <= agree) & (k + c < n[:, None])
     i = first_true(good)
     out = np.take_along_axis(s, np.clip(i, 0, s.shape[1] - 1)[:, None], axis=1)[:, 0]
     return np.where((i >= 0) & (n >= min_votes), out, -1).astype(np.int64)
