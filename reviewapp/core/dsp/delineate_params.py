@@ -119,7 +119,7 @@ DURATIONS_MS: dict[str, float] = {
     "spike_width": 8,
     "spike_delay": 10,
     "glob_qrs_agree": 8,
-    "glob_p_agree": 10,
+    "glob_p_agree": 6,
     "glob_t_agree": 20,
     "glob_qrs_slack": 80,
 }
