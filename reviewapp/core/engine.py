@@ -232,7 +232,7 @@ def analyse(record: Record, *, mains_hz: float | None = None) -> Analysis:
     beats = classify_beats(conditioned, fs, r, usable_mask)
     rep = representative_beat(conditioned, fs, beats, usable_mask)
     if rep is not None:
-        m = delineate_median_beat(rep.waveform_mv, fs, rep.r_index, usable_mask)
+        m = delineate_median_beat(rep.waveform_mv, fs, rep.r_index, usable_mask, rep.rr_samples)
         rep = replace(rep, marks=m.marks, lead_marks=m.lead_marks, align_marks=m.align_marks)
     else:
         notes.append("no representative beat: too few dominant beats")

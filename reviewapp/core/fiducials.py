@@ -185,6 +185,8 @@ class RepresentativeBeat:
     # earliest onset / latest end (``dsp.delineate_global``): each beat is aligned to the
     # median beat around these (None: around ``marks``). Automatic, never overridden.
     align_marks: WaveMarks | None = None
+    # The median RR the window was cut for (samples), None with a single beat.
+    rr_samples: int | None = None
 
 
 Scope = Literal["representative", "beat"]

@@ -18,13 +18,13 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from reviewapp.core.dsp.beats import REP_POST_RR, REP_POST_S
 from reviewapp.core.dsp.delineate_align import ALIGN_SPEC, align_lags
 from reviewapp.core.dsp.delineate_core import (
     N_MARKS,
     P_OFF,
     P_ON,
     P_PEAK,
+    QRS_OFF,
     QRS_ON,
     R_PEAK,
     T_OFF,
@@ -44,24 +44,16 @@ def _marks_from_row(row: np.ndarray | list[int], offset: int = 0) -> WaveMarks:
     return WaveMarks(*[None if v < 0 else v + offset for v in vals])
 
 
-def _rep_rr_samples(n: int, r_index: int, fs_hz: float) -> int:
-    """The RR the representative window was cut for, where its length tells (else -1).
-
-    beats.representative_beat ends the window at R + min(REP_POST_S, REP_POST_RR x RR); a
-    window shorter than REP_POST_S therefore gives RR = post / REP_POST_RR.
-    """
-    post = n - 1 - r_index
-    if post < round(REP_POST_S * fs_hz) - 1:
-        return round(post / REP_POST_RR)
-    return -1
-
-
 def delineate_representative(
-    waveform_mv: np.ndarray, fs_hz: float, r_index: int, usable: np.ndarray
+    waveform_mv: np.ndarray,
+    fs_hz: float,
+    r_index: int,
+    usable: np.ndarray,
+    rr_samples: int | None = None,
 ) -> tuple[WaveMarks, tuple[WaveMarks, ...]]:
     """(global marks, per-lead marks) of the median beat: ``delineate_median_beat`` without
     the alignment marks."""
-    m = delineate_median_beat(waveform_mv, fs_hz, r_index, usable)
+    m = delineate_median_beat(waveform_mv, fs_hz, r_index, usable, rr_samples)
     return m.marks, m.lead_marks
 
 
@@ -76,7 +68,11 @@ class MedianBeatMarks:
 
 
 def delineate_median_beat(
-    waveform_mv: np.ndarray, fs_hz: float, r_index: int, usable: np.ndarray
+    waveform_mv: np.ndarray,
+    fs_hz: float,
+    r_index: int,
+    usable: np.ndarray,
+    rr_samples: int | None = None,
 ) -> MedianBeatMarks:
     """Global and per-lead wave boundaries of the representative (median) beat.
 
@@ -85,6 +81,10 @@ def delineate_median_beat(
         fs_hz: sampling rate in Hz.
         r_index: index of the R fiducial point in the window.
         usable: (n_leads,) bool; unusable leads get all-None marks and do not vote.
+        rr_samples: the RR the window was cut for (``RepresentativeBeat.rr_samples``); with
+            it the T end is kept before the next beat's P (this beat's PR one RR on) and the
+            P is sought only after the previous beat's T (this beat's T end one RR back), so
+            a long QT's T is never taken for the next beat's P. None: neither limit.
 
     Returns:
         ``MedianBeatMarks``, indices into the window; absent waves are None.
@@ -109,15 +109,26 @@ def delineate_median_beat(
     params = DelineationParams.for_fs(fs_hz)
     filt = prefilter(wave, fs_hz)
     block = {k: v[None] for k, v in filt.items()}
+    rr = -1 if rr_samples is None else int(rr_samples)
     bounds = BlockBounds(
         r=np.array([r_index]),
         lo=np.array([0]),
         hi=np.array([n - 1]),
         p_lo=np.array([0]),
         t_hi=np.array([n - 1]),
-        rr=np.array([_rep_rr_samples(n, r_index, fs_hz)]),
+        rr=np.array([rr]),
     )
     glob, lead, core = delineate_block(block, bounds, usable, params)
+    if rr > 0 and core[0, QRS_ON] >= 0 and core[0, T_OFF] >= 0:
+        # The previous beat's T lies one RR before this one's: a "P" found inside it is the
+        # tail of a long QT, and the next-P limit carried from that "P" would cut this
+        # beat's T. Once more with the P search starting after the previous T's main lobe.
+        q_on, q_off, t_end = (int(v) for v in core[0, [QRS_ON, QRS_OFF, T_OFF]])
+        lobe = _t_lobe_end(filt["slow"][:, usable], q_on, q_off, t_end, fs_hz)
+        p_lo = lobe - rr if lobe >= 0 else -1
+        if p_lo > 0 and (glob[0, P_ON] < 0 or glob[0, P_ON] < p_lo):
+            bounds = replace(bounds, p_lo=np.array([p_lo]), p_after_t=True)
+            glob, lead, core = delineate_block(block, bounds, usable, params)
     return MedianBeatMarks(
         _marks_from_row(glob[0]),
         tuple(_marks_from_row(lead[0, j]) for j in range(n_leads)),
@@ -125,11 +136,51 @@ def delineate_median_beat(
     )
 
 
+def _t_lobe_end(slow: np.ndarray, qrs_on: int, qrs_off: int, t_end: int, fs_hz: float) -> int:
+    """Where the T wave's main lobe has fallen back near the baseline, window index (-1: none).
+
+    Found without the P wave, so it can bound the P search of a long QT whose previous T runs
+    into this beat's P window (a first T end ``t_end``, found under a next-P limit set by
+    such a false P, stops short of the true end): per lead, the largest deflection from the
+    PR level between QRS end + ``_T_LOBE_START_MS`` and ``t_end`` + ``_T_LOBE_AFTER_MS``;
+    the lobe ends at the first sample after it below ``_T_LOBE_FRAC`` of that deflection or
+    where the deflection grows again (a P or U wave fused with the T). The median over the
+    leads whose deflection is at least a third of the largest (this module's own rule;
+    common practice to read the T where it is clear).
+    """
+    n = slow.shape[0]
+    k = max(1, round(0.010 * fs_hz))
+    a = qrs_off + round(_T_LOBE_START_MS * fs_hz / 1000.0)
+    b = min(n - 2, t_end + round(_T_LOBE_AFTER_MS * fs_hz / 1000.0))
+    if qrs_on < 1 or not 0 <= a < b:
+        return -1
+    level = slow[max(0, qrs_on - k) : qrs_on].mean(axis=0)
+    y = np.abs(slow - level[None, :])
+    pk = a + np.argmax(y[a : b + 1], axis=0)
+    amp = y[pk, np.arange(y.shape[1])]
+    if not (amp > 0).any():
+        return -1
+    ends = []
+    for j in np.flatnonzero(amp >= amp.max() / 3.0):
+        seg = y[pk[j] :, j]
+        stop = (seg[:-1] < _T_LOBE_FRAC * amp[j]) | (np.diff(seg) > 0)
+        hit = np.flatnonzero(stop)
+        if hit.size:
+            ends.append(int(pk[j]) + int(hit[0]))
+    return int(np.median(ends)) if ends else -1
+
+
 def _anchor(rep: RepresentativeBeat) -> WaveMarks:
     """The marks beats are aligned on and P windows are cut around (see ``align_marks``)."""
     return rep.align_marks if rep.align_marks is not None else rep.marks
 
 
+# The T wave's main lobe (``_t_lobe_end``): its peak sought from this long after QRS end to
+# this long after a first T end (ms); the lobe ends where the deflection falls below this
+# fraction of its peak.
+_T_LOBE_START_MS = 80.0
+_T_LOBE_AFTER_MS = 60.0
+_T_LOBE_FRAC = 0.05
 # Below this correlation with the median beat, a beat is delineated on its own.
 ALIGN_MIN_CORR = 0.5
 # Peaks follow the lag of a boundary of the same wave.

@@ -89,7 +89,12 @@ from reviewapp.core.dsp.delineate_qrs import (
     qrs_bounds_thresholds,
     refine_qrs_bounds,
 )
-from reviewapp.core.dsp.delineate_t import LeadT, global_t, lead_t_waves_before_next_p
+from reviewapp.core.dsp.delineate_t import (
+    LeadT,
+    global_t,
+    lead_t_waves,
+    lead_t_waves_before_next_p,
+)
 from reviewapp.core.dsp.filters import filter_plan
 
 __all__ = [
@@ -239,7 +244,10 @@ def delineate_block(
     p_on_b = order_stat(np.where(lp.ok, lp.on, -1).reshape(nb, nu), p.p_on_q)
     t_hi_b = bounds.t_hi.copy()
     if bounds.rr is not None:
-        next_p = r + bounds.rr - np.where(p_on_b >= 0, r - p_on_b, 0) - p.p_gap
+        # Where the P search started after the previous beat's T (``p_after_t``) the P is
+        # trusted: the T may end right at the next P (a long QT fuses with it).
+        gap = 1 if bounds.p_after_t else p.p_gap
+        next_p = r + bounds.rr - np.where(p_on_b >= 0, r - p_on_b, 0) - gap
         t_hi_b = np.where(bounds.rr > 0, np.minimum(t_hi_b, next_p), t_hi_b)
 
     # --- T wave ------------------------------------------------------------------------------
@@ -249,9 +257,12 @@ def delineate_block(
     if "raw" in block:
         t_fine = block["raw"][:, :, ui].transpose(0, 2, 1).reshape(nb * nu, w)
     # T ends before the next P where that limit does not cut the T itself (delineate_t).
-    lt = lead_t_waves_before_next_p(
-        y, off_c, rep(bounds.t_hi), rep(t_hi_b), rep(r), p, y_fine=t_fine
-    )
+    if bounds.p_after_t:
+        lt = lead_t_waves(y, off_c, rep(t_hi_b), rep(r), p, y_fine=t_fine)
+    else:
+        lt = lead_t_waves_before_next_p(
+            y, off_c, rep(bounds.t_hi), rep(t_hi_b), rep(r), p, y_fine=t_fine
+        )
 
     # --- assemble per-lead ---------------------------------------------------------------------
     cols = np.full((nb * nu, N_MARKS), -1, dtype=np.int64)
@@ -272,6 +283,8 @@ def delineate_block(
     if p.standard_global:
         raw = block["raw"][:, :, ui] if "raw" in block else None
         _standard_global(glob, d, raw, r, bounds, lp, lt, spk, p)
+        # The latest lead's T end stays before the next P, like every lead's own.
+        glob[:, T_OFF] = np.where(glob[:, T_OFF] > t_hi_b, core[:, T_OFF], glob[:, T_OFF])
         _p_before_qrs(glob)
     return glob, lead, core
 
@@ -331,7 +344,10 @@ def _standard_global(
         rep(bounds.lo),
         rep(bounds.hi),
         pl,
-        on_min=rep(np.where(ok, g_on - p.glob_qrs_slack, 0)),
+        # Never into this beat's P wave: a lead's onset stays after its own P end.
+        on_min=np.maximum(
+            rep(np.where(ok, g_on - p.glob_qrs_slack, 0)), np.where(lp.ok, lp.off + 1, 0)
+        ),
         off_max=rep(np.where(ok, g_off + p.glob_qrs_slack, w - 1)),
     )
     if raw is not None:

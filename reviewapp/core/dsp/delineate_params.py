@@ -135,3 +135,6 @@ class BlockBounds:
     p_lo: np.ndarray  # earliest P onset allowed
     t_hi: np.ndarray  # latest T end allowed
     rr: np.ndarray | None = None  # RR to the next beat, samples (<= 0 unknown)
+    # p_lo lies after the previous beat's T (found from its T, not guessed): the P found is
+    # trusted and the T end may reach the next P (this beat's PR carried one RR on).
+    p_after_t: bool = False
