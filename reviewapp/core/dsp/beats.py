@@ -45,6 +45,7 @@ REP_PRE_S = 0.45
 REP_POST_S = 0.90
 REP_PRE_RR = 0.45
 REP_NEXT_QRS_S = 0.08
+REP_FIT_RR = 0.65
 ALIGN_MAX_S = 0.010  # cross-correlation refinement of R, +-10 ms (at least +-2 samples)
 ALIGN_PRE_S = 0.06
 ALIGN_POST_S = 0.06
@@ -314,9 +315,13 @@ def representative_beat(
     # The shortest RRs set where the window ends (10th percentile): in an irregular rhythm
     # the next QRS of the short cycles would otherwise enter the median beat's tail.
     rr_short = float(np.percentile(rr, 10)) / fs_hz if rr.size else np.inf
-    post = round(min(REP_POST_S, rr_short - REP_NEXT_QRS_S) * fs_hz)
+    classic = round(min(REP_POST_S, REP_FIT_RR * rr_med) * fs_hz)
+    post = max(classic, round(min(REP_POST_S, rr_short - REP_NEXT_QRS_S) * fs_hz))
     max_lag = max(2, round(ALIGN_MAX_S * fs_hz))
-    fits = (dom - pre - max_lag >= 0) & (dom + post + max_lag < n)
+    # Which beats fit is judged on the classic window (R + min(900 ms, 0.65 RR)), so the
+    # median is taken over the same beats; past a record's last samples the longer tail of
+    # the last beat repeats its final value (a minority the median ignores).
+    fits = (dom - pre - max_lag >= 0) & (dom + classic + max_lag < n)
     dom = dom[fits]
     if dom.size == 0:
         return None

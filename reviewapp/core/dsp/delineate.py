@@ -107,33 +107,57 @@ def delineate_median_beat(
         empty = WaveMarks()
         return MedianBeatMarks(empty, tuple(empty for _ in range(n_leads)), empty)
     params = DelineationParams.for_fs(fs_hz)
-    filt = prefilter(wave, fs_hz)
-    block = {k: v[None] for k, v in filt.items()}
     rr = -1 if rr_samples is None else int(rr_samples)
-    bounds = BlockBounds(
-        r=np.array([r_index]),
-        lo=np.array([0]),
-        hi=np.array([n - 1]),
-        p_lo=np.array([0]),
-        t_hi=np.array([n - 1]),
-        rr=np.array([rr]),
-    )
-    glob, lead, core = delineate_block(block, bounds, usable, params)
+    # First on the classic window, R + min(900 ms, 0.65 RR): a T usually ends within it and
+    # the previous T mostly lies before the P search.
+    post = round(min(_CLASSIC_POST_S * fs_hz, _T_SOFT_RR * rr)) if rr > 0 else n - 1 - r_index
+    n1 = min(n, r_index + post + 1)
+    rr1 = rr if rr > 0 and post < round(_CLASSIC_POST_S * fs_hz) else -1
+    glob, lead, core = _delineate_one(wave[:n1], fs_hz, r_index, usable, params, rr1, 0)
     if rr > 0 and core[0, QRS_ON] >= 0 and core[0, T_OFF] >= 0:
-        # The previous beat's T lies one RR before this one's: a "P" found inside it is the
-        # tail of a long QT, and the next-P limit carried from that "P" would cut this
-        # beat's T. Once more with the P search starting after the previous T's main lobe.
+        filt = prefilter(wave, fs_hz)
         q_on, q_off, t_end = (int(v) for v in core[0, [QRS_ON, QRS_OFF, T_OFF]])
+        k = round(_T_PINNED_S * fs_hz)
+        # A long QT: the T has not ended by the classic window's end, or the P found lies
+        # inside the previous beat's T (this beat's T end one RR back). Then once more on
+        # the whole window (to the next beat's P), the P sought after the previous T's main
+        # lobe and the T end allowed up to the next P.
+        unfinished = n1 < n and t_end >= n1 - 1 - k
         lobe = _t_lobe_end(filt["slow"][:, usable], q_on, q_off, t_end, fs_hz)
-        p_lo = lobe - rr if lobe >= 0 else -1
-        if p_lo > 0 and (glob[0, P_ON] < 0 or glob[0, P_ON] < p_lo):
-            bounds = replace(bounds, p_lo=np.array([p_lo]), p_after_t=True)
-            glob, lead, core = delineate_block(block, bounds, usable, params)
+        p_lo = max(0, lobe - rr) if lobe >= 0 else 0
+        p_in_t = 0 <= int(glob[0, P_ON]) < p_lo - round(_P_IN_T_S * fs_hz)
+        if unfinished or p_in_t:
+            glob, lead, core = _delineate_one(wave, fs_hz, r_index, usable, params, rr, p_lo)
     return MedianBeatMarks(
         _marks_from_row(glob[0]),
         tuple(_marks_from_row(lead[0, j]) for j in range(n_leads)),
         _marks_from_row(core[0]),
     )
+
+
+def _delineate_one(
+    wave: np.ndarray,
+    fs_hz: float,
+    r_index: int,
+    usable: np.ndarray,
+    params: DelineationParams,
+    rr: int,
+    p_lo: int,
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """``delineate_block`` on one median-beat window; ``p_lo`` > 0: the P search starts there,
+    after the previous beat's T (``BlockBounds.p_after_t``)."""
+    n = wave.shape[0]
+    filt = prefilter(wave, fs_hz)
+    bounds = BlockBounds(
+        r=np.array([r_index]),
+        lo=np.array([0]),
+        hi=np.array([n - 1]),
+        p_lo=np.array([p_lo]),
+        t_hi=np.array([n - 1]),
+        rr=np.array([rr]),
+        p_after_t=p_lo > 0,
+    )
+    return delineate_block({k: v[None] for k, v in filt.items()}, bounds, usable, params)
 
 
 def _t_lobe_end(slow: np.ndarray, qrs_on: int, qrs_off: int, t_end: int, fs_hz: float) -> int:
@@ -175,6 +199,13 @@ def _anchor(rep: RepresentativeBeat) -> WaveMarks:
     return rep.align_marks if rep.align_marks is not None else rep.marks
 
 
+# The classic median-beat window, R + min(_CLASSIC_POST_S, _T_SOFT_RR x RR): a T usually ends
+# within it (first delineation); a T end within _T_PINNED_S of its end is not over.
+_CLASSIC_POST_S = 0.90
+_T_SOFT_RR = 0.65
+_T_PINNED_S = 0.006
+# A P counts as inside the previous beat's T when it starts this long before that T's end.
+_P_IN_T_S = 0.010
 # The T wave's main lobe (``_t_lobe_end``): its peak sought from this long after QRS end to
 # this long after a first T end (ms); the lobe ends where the deflection falls below this
 # fraction of its peak.
