@@ -32,6 +32,8 @@ from reviewapp.core.fiducials import (
     match_beat,
 )
 from reviewapp.core.measure import Finding, Measurements, compute_measurements, evaluate_findings
+from reviewapp.core.measure.findings import gated_reasons
+from reviewapp.core.measure.types import ValueReason
 from reviewapp.core.record import Record
 from reviewapp.core.versions import ENGINE_VERSION
 
@@ -45,6 +47,9 @@ class Reading:
     findings: tuple[Finding, ...]
     overrides: tuple[MarkOverride, ...]
     unmatched_overrides: tuple[MarkOverride, ...]  # beat overrides whose beat was not found
+    # Why each value left out is left out: not measured, not comparable with its limits, or a
+    # criterion not applied (``value_reasons``), for window, report and CLI alike.
+    reasons: tuple[ValueReason, ...] = ()
 
 
 @dataclass(frozen=True, eq=False)
@@ -144,7 +149,19 @@ class Analysis:
         marked, unmatched = self.marked(overrides)
         measurements = compute_measurements(marked)
         findings = evaluate_findings(measurements, self.record.subject)
-        return Reading(marked, measurements, findings, overrides, unmatched)
+        return Reading(
+            marked, measurements, findings, overrides, unmatched, value_reasons(measurements)
+        )
+
+
+def value_reasons(measurements: Measurements) -> tuple[ValueReason, ...]:
+    """Every reason a value is left out, in one list: not measured (``unmeasured``), not
+    comparable with its limits (``Measurements.reasons``) and criteria not applied
+    (``findings.gated_reasons``)."""
+    out = [ValueReason(q, "not_measured", r) for q, r in measurements.unmeasured]
+    out += list(measurements.reasons)
+    out += list(gated_reasons(measurements))
+    return tuple(out)
 
 
 def _follow_global(

@@ -24,7 +24,6 @@ from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
-
 from reference_marks import LUDB_LEADS, MATCH_S, load_ludb_lead
 
 GLOBAL_INTERVALS = ("p_ms", "pr_ms", "qrs_ms", "qt_ms")

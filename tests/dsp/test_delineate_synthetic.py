@@ -58,7 +58,10 @@ NOISY_BIAS_MS = {**BIAS_MS, "qrs_on": -8.0, "qrs_off": 9.0, "p_off": 2.0, "t_off
 
 
 def _errors_ms(**kw: object) -> dict[str, np.ndarray]:
-    syn = synth.generate(params_mod.SynthParams(**kw))
+    # The guards below were measured on the Dower-projected limb leads (SynthParams.limb_leads
+    # "dower", the projection these checks were set on); the Einthoven-projected ECG is used
+    # by the axis and long-QT checks (tests/measure/test_axes.py, tests/dsp/test_long_qt.py).
+    syn = synth.generate(params_mod.SynthParams(**{"limb_leads": "dower", **kw}))
     an = analyse(syn.record)
     fs = syn.record.fs_hz
     det_r = np.array([b.r for b in an.beats])

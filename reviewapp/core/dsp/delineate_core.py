@@ -400,7 +400,14 @@ def _moves_enough(x: np.ndarray, p: DelineationParams):
     movement is then measured that far from the multi-lead mark.
     """
     noise = 1.4826 * np.median(np.abs(np.diff(x, axis=1)), axis=1) / np.sqrt(2.0)
-    need = np.maximum(p.glob_lead_min_mv, p.glob_lead_noise_mult * noise)
+    size = x.max(axis=1) - x.min(axis=1)
+    need = np.maximum.reduce(
+        [
+            np.full(x.shape[0], p.glob_lead_min_mv),
+            p.glob_lead_noise_mult * noise,
+            p.glob_lead_size_frac * size,
+        ]
+    )
     lp_hz = filter_plan(p.fs_hz, None).lowpass_hz
     full_hz = filter_plan(1000.0, None).lowpass_hz
     spread = round(p.fs_hz / lp_hz) if lp_hz and full_hz and lp_hz < full_hz else 0

@@ -79,6 +79,7 @@ class DelineationParams:
     glob_qrs_off_frac: float = 0.05  # a lead's QRS end: slope below this x its last lobe
     glob_lead_min_mv: float = 0.005  # a lead widens the QRS only if it moves this much there
     glob_lead_noise_mult: float = 3.0  # ... and this many times its noise SD
+    glob_lead_size_frac: float = 0.0  # ... and this fraction of its peak-to-peak size
     glob_p_vote_frac: float = 0.15  # leads whose P is >= this x the largest lead's P vote
     glob_t_vote_frac: float = 0.15  # leads whose T is >= this x the largest lead's T vote
 
