@@ -323,13 +323,15 @@ def _standard_global(
       ``glob_t_vote_frac`` of the largest lead's.
 
     QRS: only candidates outside the multi-lead mark vote, and only where the lead's own
-    signal moves between the two marks by at least max(``glob_lead_min_mv``,
-    ``glob_lead_noise_mult`` x the lead's noise SD) (``_moves_enough``): a low-pass spreads
-    a corner outward and noise crosses a low slope threshold, but neither changes the lead's
-    level there (noise-free synthetic QRS: exact; at 20 dB noise the same -8 / +9 ms as the
-    spatial marks; without the test -18 / +18 ms). P and T: every voting lead's mark counts,
-    and the P extreme needs ``glob_p_confirm`` (two) other leads within ``glob_p_agree``
-    (with one, 20 dB noise moved the synthetic P onset 16 ms early).
+    signal moves between its mark and the sample before the multi-lead one (after it, for
+    an end: that mark's own sample already holds the QRS) by at least
+    max(``glob_lead_min_mv``, ``glob_lead_noise_mult`` x the lead's noise SD)
+    (``_moves_enough``): a low-pass spreads a corner outward and noise crosses a low slope
+    threshold, but neither changes the lead's level there (noise-free synthetic QRS: exact;
+    at 20 dB noise the same -8 / +9 ms as the spatial marks; without the test -18 / +18 ms).
+    P and T: every voting lead's mark counts, and the P extreme needs ``glob_p_confirm``
+    (two) other leads within ``glob_p_agree`` (with one, 20 dB noise moved the synthetic P
+    onset 16 ms early).
     """
     nb, w, nu = d.shape
     rep = lambda a: np.repeat(a, nu)  # noqa: E731
@@ -414,8 +416,8 @@ def _moves_enough(x: np.ndarray, p: DelineationParams):
     w = x.shape[1]
 
     def moves(cand: np.ndarray, mark: np.ndarray, onset: bool) -> np.ndarray:
-        outside = (cand >= 0) & (mark >= 0) & ((cand < mark) if onset else (cand > mark))
-        b = mark - spread if onset else mark + spread
+        b = mark - 1 - spread if onset else mark + 1 + spread
+        outside = (cand >= 0) & (mark >= 0) & ((cand <= b) if onset else (cand >= b))
         lo, hi = np.minimum(cand, b), np.maximum(cand, b)
         ref = take(x, cand)[:, None]
         dev = np.where(range_mask(w, lo, hi), np.abs(x - ref), 0.0).max(axis=1)

@@ -75,7 +75,7 @@ class DelineationParams:
     glob_t_confirm: int = 1  # ... the latest T end (the QRS: one)
     glob_qrs_slack: int = 0  # a lead's own QRS boundary is sought this far outside the spatial
     glob_qrs_vote_frac: float = 0.3  # leads whose steepest QRS slope is >= this x the largest
-    glob_qrs_on_frac: float = 0.03  # a lead's QRS onset: slope below this x its first lobe
+    glob_qrs_on_frac: float = 0.02  # a lead's QRS onset: slope below this x its first lobe
     glob_qrs_off_frac: float = 0.045  # a lead's QRS end: slope below this x its last lobe
     glob_lead_min_mv: float = 0.005  # a lead widens the QRS only if it moves this much there
     glob_lead_noise_mult: float = 3.0  # ... and this many times its noise SD
