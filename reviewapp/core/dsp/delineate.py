@@ -113,9 +113,8 @@ def delineate_median_beat(
     post = round(min(_CLASSIC_POST_S * fs_hz, _T_SOFT_RR * rr)) if rr > 0 else n - 1 - r_index
     n1 = min(n, r_index + post + 1)
     rr1 = rr if rr > 0 and post < round(_CLASSIC_POST_S * fs_hz) else -1
-    glob, lead, core = _delineate_one(wave[:n1], fs_hz, r_index, usable, params, rr1, 0)
+    glob, lead, core, slow = _delineate_one(wave[:n1], fs_hz, r_index, usable, params, rr1, 0)
     if rr > 0 and core[0, QRS_ON] >= 0 and core[0, T_OFF] >= 0:
-        filt = prefilter(wave, fs_hz)
         q_on, q_off, t_end = (int(v) for v in core[0, [QRS_ON, QRS_OFF, T_OFF]])
         k = round(_T_PINNED_S * fs_hz)
         # A long QT: the T has not ended by the classic window's end, or the P found lies
@@ -123,11 +122,15 @@ def delineate_median_beat(
         # the whole window (to the next beat's P), the P sought after the previous T's main
         # lobe and the T end allowed up to the next P.
         unfinished = n1 < n and t_end >= n1 - 1 - k
-        lobe = _t_lobe_end(filt["slow"][:, usable], q_on, q_off, t_end, fs_hz)
+        lobe = _t_lobe_end(slow[:, usable], q_on, q_off, t_end, fs_hz)
+        if n1 < n and (unfinished or lobe < 0 or lobe >= n1 - 2):
+            # The lobe runs past the classic window: follow it on the whole window.
+            whole = prefilter(wave, fs_hz)["slow"]
+            lobe = _t_lobe_end(whole[:, usable], q_on, q_off, t_end, fs_hz)
         p_lo = max(0, lobe - rr) if lobe >= 0 else 0
         p_in_t = 0 <= int(glob[0, P_ON]) < p_lo - round(_P_IN_T_S * fs_hz)
         if unfinished or p_in_t:
-            glob, lead, core = _delineate_one(wave, fs_hz, r_index, usable, params, rr, p_lo)
+            glob, lead, core, _ = _delineate_one(wave, fs_hz, r_index, usable, params, rr, p_lo)
     return MedianBeatMarks(
         _marks_from_row(glob[0]),
         tuple(_marks_from_row(lead[0, j]) for j in range(n_leads)),
@@ -143,9 +146,10 @@ def _delineate_one(
     params: DelineationParams,
     rr: int,
     p_lo: int,
-) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     """``delineate_block`` on one median-beat window; ``p_lo`` > 0: the P search starts there,
-    after the previous beat's T (``BlockBounds.p_after_t``)."""
+    after the previous beat's T (``BlockBounds.p_after_t``). Also returns the window's 20 Hz
+    copy (``prefilter``'s "slow")."""
     n = wave.shape[0]
     filt = prefilter(wave, fs_hz)
     bounds = BlockBounds(
@@ -157,7 +161,10 @@ def _delineate_one(
         rr=np.array([rr]),
         p_after_t=p_lo > 0,
     )
-    return delineate_block({k: v[None] for k, v in filt.items()}, bounds, usable, params)
+    glob, lead, core = delineate_block(
+        {k: v[None] for k, v in filt.items()}, bounds, usable, params
+    )
+    return glob, lead, core, filt["slow"]
 
 
 def _t_lobe_end(slow: np.ndarray, qrs_on: int, qrs_off: int, t_end: int, fs_hz: float) -> int:
