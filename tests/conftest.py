@@ -50,3 +50,42 @@ def _shared_data_stays_untouched():
     yield
     added = sorted(listing() - before)
     assert not added, f"tests wrote into {_SHARED}: {added[:10]}"
+
+
+LUDB_LEAD_NAMES = ("I", "II", "III", "aVR", "aVL", "aVF", "V1", "V2", "V3", "V4", "V5", "V6")
+
+
+class LudbAnalyses:
+    """One engine analysis per LUDB record, made on first use and kept for the whole run, so
+    the accuracy checks of several test modules share it (``ludb_analyses`` fixture)."""
+
+    def __init__(self, root: Path) -> None:
+        self.root = root
+        self._cache: dict[str, object] = {}
+
+    def names(self) -> list[str]:
+        return sorted((p.stem for p in self.root.glob("*.hea")), key=lambda s: (len(s), s))
+
+    def __getitem__(self, name: str):
+        if name not in self._cache:
+            import warnings
+
+            import numpy as np
+            import wfdb
+
+            from reviewapp.core.engine import analyse
+            from reviewapp.core.record import record_from_array
+
+            with warnings.catch_warnings():
+                warnings.simplefilter("ignore")
+                sig = wfdb.rdrecord(str(self.root / name))
+                x = np.asarray(sig.p_signal, dtype=np.float32)
+                rec = record_from_array(x, float(sig.fs), LUDB_LEAD_NAMES, name=name)
+                self._cache[name] = analyse(rec)
+        return self._cache[name]
+
+
+@pytest.fixture(scope="session")
+def ludb_analyses(shared_data: Path) -> LudbAnalyses:
+    """LUDB records (Kalyakulina et al., IEEE Access 2020) analysed once per test run."""
+    return LudbAnalyses(shared_data / "ludb")

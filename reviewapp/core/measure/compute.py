@@ -18,7 +18,12 @@ from reviewapp.core.measure.amplitudes import (
     sokolow_lyon_mv,
 )
 from reviewapp.core.measure.axes import LIMB_LEADS, frontal_axis
-from reviewapp.core.measure.findings import infarct_criteria_skipped, paced_criteria_skipped
+from reviewapp.core.measure.findings import (
+    WIDE_QRS_MS,
+    displayed,
+    infarct_criteria_skipped,
+    paced_criteria_skipped,
+)
 from reviewapp.core.measure.intervals import (
     INTERVAL_MARKS,
     beat_intervals,
@@ -26,8 +31,15 @@ from reviewapp.core.measure.intervals import (
     rr_statistics,
     span_ms,
 )
+from reviewapp.core.measure.limits import QTC_QUANTITIES
+from reviewapp.core.measure.qt_wide_qrs import jt_ms, jtc_bazett, qt_bogossian
 from reviewapp.core.measure.qtc import QTC_FORMULAS
-from reviewapp.core.measure.types import GlobalIntervals, LeadMeasurements, Measurements
+from reviewapp.core.measure.types import (
+    GlobalIntervals,
+    LeadMeasurements,
+    Measurements,
+    ValueReason,
+)
 
 # Common practice, no source: with RR varying beat to beat, no single RR makes the QT
 # correction right for the QT it is applied to.
@@ -98,6 +110,9 @@ def compute_measurements(marked: MarkedECG) -> Measurements:
         else:
             g[key] = None
             unmeasured.append((key, "no QT" if qt is None else "no RR"))
+    g.update(_wide_qrs_measures(qt, g["qrs_ms"], rr_ms, unmeasured))
+    paced = _mostly_paced(marked)
+    reasons = _qtc_comparability(g["qrs_ms"], paced, g)
 
     leads: list[LeadMeasurements] = []
     if rep is None:
@@ -123,6 +138,8 @@ def compute_measurements(marked: MarkedECG) -> Measurements:
             leads.append(m)
             unmeasured += why
         g.update(_axes(marked, wave, marks, bases, unmeasured))
+        if marks.p_on is None and marks.qrs_on is not None:
+            leads = _st_without_baseline(leads, marked, unmeasured)
 
     by_name = {m.lead: m for m in leads}
     sokolow = sokolow_lyon_mv(by_name.get("V1"), by_name.get("V5"), by_name.get("V6"))
@@ -140,12 +157,78 @@ def compute_measurements(marked: MarkedECG) -> Measurements:
         cornell_mv=cornell,
         unmeasured=tuple(unmeasured),
         rhythm_irregular=rr.irregular,
-        paced=_mostly_paced(marked),
+        paced=paced,
+        reasons=tuple(reasons),
     )
     for skipped in (paced_criteria_skipped(out), infarct_criteria_skipped(out)):
         if skipped is not None:
             notes.append(skipped)
     return replace(out, notes=tuple(notes))
+
+
+# Reason texts (shown to the reader, so each names its source).
+QTC_NOT_COMPARABLE_WIDE = (
+    "QTc not comparable with the QTc limits: QRS >= 120 ms (the QT holds the prolonged "
+    "depolarisation); see JT, JTc and the QRS-adjusted QT (Bogossian et al., Heart Rhythm "
+    "2014). Rautaharju et al., Circulation 2009 (AHA/ACCF/HRS Part IV)"
+)
+QTC_NOT_COMPARABLE_PACED = (
+    "QTc not comparable with the QTc limits: paced rhythm (ventricular activation by the "
+    "pacemaker widens the QRS); see JT, JTc and the QRS-adjusted QT. Rautaharju et al., "
+    "Circulation 2009 (AHA/ACCF/HRS Part IV)"
+)
+ST_NO_BASELINE = (
+    "ST not assessed: no P wave (atrial fibrillation or flutter suspected), so the segment "
+    "before the QRS holds f or F waves and is no isoelectric baseline for ST (Kligfield et "
+    "al., Circulation 2007, AHA/ACCF/HRS Part I: ST is measured from the PR segment)"
+)
+
+
+def _wide_qrs_measures(
+    qt: float | None, qrs: float | None, rr_ms: float | None, unmeasured: list[tuple[str, str]]
+) -> dict[str, float | None]:
+    """JT, JTc (Bazett) and the Bogossian QRS-adjusted QT (``qt_wide_qrs``), None with a
+    reason where QT, QRS or RR is missing."""
+    out: dict[str, float | None] = dict.fromkeys(("jt_ms", "jtc_bazett_ms", "qt_bogossian_ms"))
+    if qt is None or qrs is None:
+        why = "no QT" if qt is None else "no QRS duration"
+        unmeasured += [(k, why) for k in out]
+        return out
+    out["jt_ms"] = jt_ms(qt, qrs)
+    out["qt_bogossian_ms"] = qt_bogossian(qt, qrs)
+    if rr_ms is not None and rr_ms > 0:
+        out["jtc_bazett_ms"] = jtc_bazett(qt, qrs, rr_ms)
+    else:
+        unmeasured.append(("jtc_bazett_ms", "no RR"))
+    return out
+
+
+def _qtc_comparability(
+    qrs: float | None, paced: bool, g: dict[str, float | None]
+) -> list[ValueReason]:
+    """QTc values marked not comparable with their limits for a wide or paced QRS (the QTc
+    is still shown). QRS judged as displayed (whole ms), like the findings."""
+    if paced:
+        text = QTC_NOT_COMPARABLE_PACED
+    elif qrs is not None and displayed(qrs, "ms") >= WIDE_QRS_MS:
+        text = QTC_NOT_COMPARABLE_WIDE
+    else:
+        return []
+    return [ValueReason(k, "not_comparable", text) for k in QTC_QUANTITIES if g.get(k) is not None]
+
+
+def _st_without_baseline(
+    leads: list[LeadMeasurements], marked: MarkedECG, unmeasured: list[tuple[str, str]]
+) -> list[LeadMeasurements]:
+    """ST levels removed where the rhythm has no P wave (``ST_NO_BASELINE``)."""
+    out = []
+    for m in leads:
+        if m.st_j_mv is None and m.st_j60_mv is None and m.st_j80_mv is None:
+            out.append(m)
+            continue
+        out.append(replace(m, st_j_mv=None, st_j60_mv=None, st_j80_mv=None))
+        unmeasured.append((f"{m.lead}.st", ST_NO_BASELINE))
+    return out
 
 
 def _mostly_paced(marked: MarkedECG) -> bool:

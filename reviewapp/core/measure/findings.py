@@ -11,7 +11,13 @@ aVF, lateral/apical I and aVL — from memory), is implemented as:
   "contiguous" chest leads are commonly read (common practice, no source).
 
 aVR belongs to no group. ST depression is flagged on level alone; the ST slope the 4th UDMI
-asks for (horizontal or downsloping) is not assessed, and the text says so.
+asks for (horizontal or downsloping) is not assessed, and the text says so. An ST deviation
+at J counts only where J+60 ms (else J+80 ms) deviates the same way past the same limit: a J
+point inside a slurred QRS end must not make an ST finding on its own.
+
+QTc with a QRS >= 120 ms or a paced rhythm is shown but not compared with the QTc limits
+(``Measurements.reasons``, kind "not_comparable"; JT, JTc and a QRS-adjusted QT are reported
+beside it, ``qt_wide_qrs``).
 
 Neither the ST nor the Q-wave criteria are applied when the QRS is 120 ms or longer or the
 rhythm is paced: the 4th UDMI notes that left bundle branch block and ventricular pacing
@@ -40,7 +46,13 @@ from collections.abc import Callable, Iterable
 
 from reviewapp.core.measure.limit_text import finding_text, merged_text, shown
 from reviewapp.core.measure.limits import normal_range
-from reviewapp.core.measure.types import Finding, LeadMeasurements, Measurements, NormalRange
+from reviewapp.core.measure.types import (
+    Finding,
+    LeadMeasurements,
+    Measurements,
+    NormalRange,
+    ValueReason,
+)
 from reviewapp.core.record import SubjectFacts
 
 LABELS: dict[str, str] = {
@@ -141,7 +153,27 @@ def judged(measurements: Measurements, quantity: str) -> bool:
     >>> judged(m, "qrs_ms"), judged(m, "qtc_bazett_ms")
     (False, True)
     """
-    return not (measurements.paced and quantity in PACED_NOT_ASSESSED)
+    if measurements.paced and quantity in PACED_NOT_ASSESSED:
+        return False
+    # A value shown but not comparable with its limits (QTc with a wide or paced QRS).
+    return not any(
+        r.quantity == quantity and r.kind == "not_comparable" for r in measurements.reasons
+    )
+
+
+def gated_reasons(measurements: Measurements) -> tuple[ValueReason, ...]:
+    """Why criteria are not applied to this reading, one entry per quantity concerned (kind
+    "gated"): a paced rhythm's conduction values, and the ST and Q-wave infarct criteria with
+    a paced rhythm or a QRS >= 120 ms (the texts of ``paced_criteria_skipped`` and
+    ``infarct_criteria_skipped``, which name the reason)."""
+    out: list[ValueReason] = []
+    paced = paced_criteria_skipped(measurements)
+    if paced is not None:
+        out += [ValueReason(q, "gated", paced) for q in sorted(PACED_NOT_ASSESSED)]
+    infarct = infarct_criteria_skipped(measurements)
+    if infarct is not None:
+        out += [ValueReason(q, "gated", infarct) for q in ("st_j_mv", "q_ms")]
+    return tuple(out)
 
 
 def paced_criteria_skipped(measurements: Measurements) -> str | None:
@@ -253,8 +285,16 @@ def evaluate_findings(measurements: Measurements, subject: SubjectFacts) -> tupl
             out.append(f)
 
     def st_flag(m: LeadMeasurements) -> Finding | None:
-        f = _check("st_j_mv", m.st_j_mv, normal_range("st_j_mv", subject, m.lead), m.lead)
+        nr = normal_range("st_j_mv", subject, m.lead)
+        f = _check("st_j_mv", m.st_j_mv, nr, m.lead)
         if f is None:
+            return None
+        # Backed by the ST segment itself: a J point inside a slurred QRS end is not ST
+        # deviation, so J+60 (else J+80) ms must deviate the same way past the same limit
+        # (common practice to confirm at J+60/J+80, no single source).
+        later = m.st_j60_mv if m.st_j60_mv is not None else m.st_j80_mv
+        g = _check("st_j_mv", later, nr, m.lead)
+        if g is None or g.direction != f.direction:
             return None
         word = "ST elevation" if f.direction == "above" else "ST depression (slope not assessed)"
         return Finding(

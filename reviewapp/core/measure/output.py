@@ -31,7 +31,15 @@ seconds; absent or unmeasurable values are ``null``, never a guess.
   source, text}``: values outside normal limits, flags for the reader, not diagnoses.
   ``value`` is the value as displayed (1 ms, 0.01 mV); several QTc formulas flagging the same
   way give one ``qtc_ms`` finding.
+  Beside the QTc: ``jt_ms`` (QT - QRS), ``jtc_bazett_ms`` (JT / sqrt(RR_s)) and
+  ``qt_bogossian_ms`` (QT - 0.485 x QRS; Bogossian et al., Heart Rhythm 2014), for a QRS of
+  120 ms or more or a paced rhythm, when the QTc is not comparable with its limits.
 - ``unmeasured`` (list): ``{quantity, reason}`` for every value left null.
+- ``reasons`` (list): ``{quantity, kind, text}`` for every value left out, in one list: kind
+  "not_measured" (null; the same as ``unmeasured``), "not_comparable" (shown, but not to be
+  compared with its normal limits, e.g. QTc with QRS >= 120 ms) or "gated" (a criterion not
+  applied, e.g. the ST and Q infarct criteria with a wide QRS). ``quantity`` as in
+  ``unmeasured`` (a field name, ``<lead>.<field>``, ``<lead>.st``, ...).
 - ``notes`` (list of str): remarks from reading and analysis ("no beats found", ...).
 - ``engine_version`` (str); ``caution`` (str): the clinical caution, always present.
 - A record that cannot be read gives ``{"record", "path", "error", "caution"}`` instead.
@@ -61,6 +69,8 @@ from reviewapp.core.record import SubjectFacts
 
 SCHEMA_VERSION = 1
 QTC_NAMES = ("bazett", "fridericia", "framingham", "hodges")
+WIDE_QRS_KEYS = ("jt_ms", "jtc_bazett_ms", "qt_bogossian_ms")
+REASON_KINDS = ("not_measured", "not_comparable", "gated")
 LEAD_FIELDS = (
     "p_mv",
     "q_mv",
@@ -154,6 +164,7 @@ MEASURE_JSON_SCHEMA: dict[str, Any] = {
                     "required": list(QTC_NAMES),
                     "properties": {k: _num for k in QTC_NAMES},
                 },
+                **{k: _num for k in WIDE_QRS_KEYS},
                 "rhythm_irregular": {"type": "boolean"},
                 "axis_deg": {
                     "type": "object",
@@ -206,6 +217,18 @@ MEASURE_JSON_SCHEMA: dict[str, Any] = {
                 "properties": {"quantity": {"type": "string"}, "reason": {"type": "string"}},
             },
         },
+        "reasons": {
+            "type": "array",
+            "items": {
+                "type": "object",
+                "required": ["quantity", "kind", "text"],
+                "properties": {
+                    "quantity": {"type": "string"},
+                    "kind": {"enum": list(REASON_KINDS)},
+                    "text": {"type": "string"},
+                },
+            },
+        },
         "notes": {"type": "array", "items": {"type": "string"}},
         "engine_version": {"type": "string"},
         "caution": {"type": "string"},
@@ -232,6 +255,8 @@ CSV_COLUMNS: tuple[str, ...] = (
     "sokolow_lyon_mv",
     "cornell_mv",
     "n_findings",
+    *WIDE_QRS_KEYS,
+    "not_comparable",
     "engine_version",
     "error",
     "caution",
@@ -308,6 +333,7 @@ def reading_to_dict(analysis: Any, reading: Any, *, path: str = "", per_lead: bo
             "qrs_ms": _f(iv.qrs_ms),
             "qt_ms": _f(iv.qt_ms),
             "qtc_ms": {n: _f(getattr(iv, f"qtc_{n}_ms")) for n in QTC_NAMES},
+            **{k: _f(getattr(iv, k)) for k in WIDE_QRS_KEYS},
             "rhythm_irregular": bool(ms.rhythm_irregular),
             "axis_deg": {
                 "p": _f(iv.p_axis_deg, 2),
@@ -332,6 +358,10 @@ def reading_to_dict(analysis: Any, reading: Any, *, path: str = "", per_lead: bo
             for f in reading.findings
         ],
         "unmeasured": [{"quantity": q, "reason": r} for q, r in ms.unmeasured],
+        "reasons": [
+            {"quantity": r.quantity, "kind": r.kind, "text": r.text}
+            for r in getattr(reading, "reasons", ())
+        ],
         "notes": notes,
         "engine_version": analysis.engine_version,
         "caution": CLINICAL_CAUTION,
@@ -379,6 +409,13 @@ def csv_row(d: Mapping[str, Any]) -> dict[str, Any]:
         row[f"{n}_axis_deg"] = g["axis_deg"][n]
     row.update(d.get("voltages", {}))
     row["n_findings"] = len(d["findings"])
+    for k in WIDE_QRS_KEYS:
+        row[k] = g.get(k)
+    # The quantities shown but not to be compared with their limits (e.g. QTc with a wide
+    # QRS), with the first reason: the full texts are in the JSON ``reasons``.
+    nc = [r for r in d.get("reasons", ()) if r.get("kind") == "not_comparable"]
+    if nc:
+        row["not_comparable"] = " ".join(r["quantity"] for r in nc) + ": " + nc[0]["text"]
     row["engine_version"] = d["engine_version"]
     return row
 
@@ -392,6 +429,11 @@ def format_range(nr: NormalRange | None) -> str:
     return range_text(nr)
 
 
+_WIDE_QRS_LABELS = {
+    "jt_ms": "JT (QT - QRS)",
+    "jtc_bazett_ms": "JTc (Bazett)",
+    "qt_bogossian_ms": "QT adj. (Bogossian)",
+}
 _TABLE_ROWS: tuple[tuple[str, str, str], ...] = (
     # (quantity, where in the dict, unit)
     ("hr_bpm", "global.hr_bpm", "bpm"),
@@ -402,6 +444,7 @@ _TABLE_ROWS: tuple[tuple[str, str, str], ...] = (
     ("qrs_ms", "global.qrs_ms", "ms"),
     ("qt_ms", "global.qt_ms", "ms"),
     *((f"qtc_{n}_ms", f"global.qtc_ms.{n}", "ms") for n in QTC_NAMES),
+    *((k, f"global.{k}", "ms") for k in WIDE_QRS_KEYS),
     ("p_axis_deg", "global.axis_deg.p", "deg"),
     ("qrs_axis_deg", "global.axis_deg.qrs", "deg"),
     ("t_axis_deg", "global.axis_deg.t", "deg"),
@@ -467,6 +510,11 @@ def table_text(d: Mapping[str, Any], *, per_lead: bool = False) -> str:
     ]
     flagged = {(f["quantity"], f["lead"]): f["direction"] for f in d["findings"]}
     reasons = _reasons(d)
+    not_comparable = {
+        str(r["quantity"]): str(r["text"]).split(":", 1)[-1].split(";", 1)[0].strip()
+        for r in d.get("reasons") or ()
+        if r.get("kind") == "not_comparable"
+    }
     for q, where, unit in _TABLE_ROWS:
         v = _dig(d, where)
         nr = normal_range(q, subject)
@@ -475,9 +523,11 @@ def table_text(d: Mapping[str, Any], *, per_lead: bool = False) -> str:
             # Merged QTc finding: each formula's own flag from its limit, on the shown value.
             direction = direction_of(nr, v)
         flag = flag_text(direction)
+        if q in not_comparable and v is not None:
+            flag = "not comparable: " + not_comparable[q]
         if v is None:
             flag = reasons.get(q, "not measured")
-        label = LABELS.get(q, q)
+        label = LABELS.get(q) or _WIDE_QRS_LABELS.get(q, q)
         if q == "rr_ms" and d["global"].get("rr_sd_ms") is not None:
             label = f"RR (SD {displayed(d['global']['rr_sd_ms'], 'ms'):.0f} ms)"
         lines.append(f"{label:<22}{_val(v, unit):>12}  {format_range(nr):<22}{flag}".rstrip())

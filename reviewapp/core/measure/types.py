@@ -25,6 +25,27 @@ class GlobalIntervals:
     p_axis_deg: float | None = None
     qrs_axis_deg: float | None = None
     t_axis_deg: float | None = None
+    # Beside the QTc for a wide, paced or pre-excited QRS (``qt_wide_qrs``); always computed
+    # where QT, QRS (and RR) are measured.
+    jt_ms: float | None = None
+    jtc_bazett_ms: float | None = None
+    qt_bogossian_ms: float | None = None
+
+
+# Why a value is left out: "not_measured" (no value), "not_comparable" (shown, but not to be
+# compared with its normal limits), "gated" (a criterion not applied to this reading).
+ReasonKind = Literal["not_measured", "not_comparable", "gated"]
+
+
+@dataclass(frozen=True)
+class ValueReason:
+    """The reason one quantity (or group of quantities) is not measured, not comparable or
+    not judged. ``quantity`` uses the names of ``Measurements.unmeasured``; ``text`` is for
+    the reader and names its source where it rests on one."""
+
+    quantity: str
+    kind: ReasonKind
+    text: str
 
 
 @dataclass(frozen=True)
@@ -78,6 +99,9 @@ class Measurements:
     paced: bool = False
     # Remarks on how values were obtained ("irregular rhythm: ...", "ST/Q criteria not ...").
     notes: tuple[str, ...] = ()
+    # Values shown but not comparable with their limits (e.g. QTc with a QRS >= 120 ms), and
+    # values set aside (ST without an isoelectric baseline): structured reasons.
+    reasons: tuple[ValueReason, ...] = ()
 
     def lead(self, name: str) -> LeadMeasurements | None:
         return next((m for m in self.leads if m.lead == name), None)
