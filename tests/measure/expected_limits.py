@@ -144,7 +144,9 @@ def measurements_for(e: Expected, value: float) -> Measurements:
     if e.quantity in VOLTAGES:
         return Measurements(GlobalIntervals(), **{e.quantity: value})
     if e.quantity == "st_j_mv":
-        leads = tuple(LeadMeasurements(n, st_j_mv=value) for n in e.leads)
+        # A flat ST segment: J+60 at the J level, as a finding needs the ST segment itself to
+        # deviate (a J point inside a slurred QRS end is not ST deviation).
+        leads = tuple(LeadMeasurements(n, st_j_mv=value, st_j60_mv=value) for n in e.leads)
         return Measurements(GlobalIntervals(), leads=leads)
     if e.quantity == "q_ms":
         leads = tuple(LeadMeasurements(n, q_ms=value, q_mv=Q_DEPTH_MV) for n in e.leads)

@@ -34,12 +34,12 @@ def test_qtc_455_flagged_for_men_not_women():
 
 
 def test_short_qtc_and_text():
-    # Same source: short QTc <= 340 ms.
+    # Short QTc <= 340 ms (Priori et al., Eur Heart J 2015, short QT syndrome; from memory).
     (f,) = _qtc_findings(340.0, WOMAN)
     assert f.direction == "below" and f.limit == 340.0
     (f,) = _qtc_findings(478.0, WOMAN)
     assert f.text == (
-        "QTc (Fridericia) 478 ms, above normal (normal > 390 and < 460 ms; female adult)"
+        "QTc (Fridericia) 478 ms, above normal (normal > 340 and < 460 ms; female adult)"
     )
 
 
