@@ -40,7 +40,7 @@ def _global_quantities() -> tuple[tuple[str, str, str], ...]:
     out = []
     for col in CSV_COLUMNS:
         if col in interval_fields or col in VOLTAGE_QUANTITIES:
-            out.append((col, LABELS.get(col, "RR SD" if col == "rr_sd_ms" else col), _unit(col)))
+            out.append((col, LABELS.get(col, col), _unit(col)))
     return tuple(out)
 
 

@@ -74,6 +74,10 @@ LABELS: dict[str, str] = {
     "cornell_mv": "Cornell voltage",
     "st_j_mv": "ST at J",
     "q_ms": "Q duration",
+    "rr_sd_ms": "RR SD",
+    "jt_ms": "JT (QT - QRS)",
+    "jtc_bazett_ms": "JTc (Bazett)",
+    "qt_bogossian_ms": "QT adj. (Bogossian)",
 }
 
 GLOBAL_CHECKS: tuple[str, ...] = (
@@ -169,11 +173,24 @@ def gated_reasons(measurements: Measurements) -> tuple[ValueReason, ...]:
     out: list[ValueReason] = []
     paced = paced_criteria_skipped(measurements)
     if paced is not None:
-        out += [ValueReason(q, "gated", paced) for q in sorted(PACED_NOT_ASSESSED)]
+        text = f"{paced}, {PACED_WHY}"
+        out += [ValueReason(q, "gated", text) for q in sorted(PACED_NOT_ASSESSED)]
     infarct = infarct_criteria_skipped(measurements)
     if infarct is not None:
-        out += [ValueReason(q, "gated", infarct) for q in ("st_j_mv", "q_ms")]
+        text = f"{infarct}; {INFARCT_GATE_WHY}"
+        out += [ValueReason(q, "gated", text) for q in ("st_j_mv", "q_ms")]
     return tuple(out)
+
+
+# What the reader reads after the gate's note (``gated_reasons``). The 4th UDMI states that
+# left bundle branch block and ventricular pacing confound the ECG diagnosis of infarction
+# (Thygesen K et al., Circulation 2018;138:e618-e651). The paced-rhythm limits: no published
+# statement is cited for them, so the text says why in words only (common practice, no source).
+INFARCT_GATE_WHY = (
+    "bundle branch block and ventricular pacing confound the ST and Q-wave criteria of "
+    "infarction (Thygesen et al., Circulation 2018)"
+)
+PACED_WHY = "the QRS is the pacemaker's activation and the PR its programmed AV delay"
 
 
 def paced_criteria_skipped(measurements: Measurements) -> str | None:
