@@ -18,6 +18,7 @@ from PySide6 import QtCore, QtGui, QtWidgets
 from reviewapp.core.fiducials import FIDUCIAL_LABELS, FIDUCIALS
 from reviewapp.core.measure import Finding, NormalRange, ValueReason, limit_text, normal_range
 from reviewapp.core.measure import reason_text as rt
+from reviewapp.core.measure.findings import finding_for_value
 
 if TYPE_CHECKING:
     from reviewapp.core.engine import Reading
@@ -184,19 +185,10 @@ def finding_of(
     findings: tuple[Finding, ...],
     lead: str | None = None,
 ) -> Finding | None:
-    """The finding that flags this value, if any: its own, or for one QTc formula the merged
-    QTc finding, which merges exactly the formulas whose value is past their own limit on its
-    side (``findings._merge_qtc``). Never a rule of the panel's own."""
-    if value is None:
-        return None
+    """The finding that flags this value (``findings.finding_for_value``; a per-lead Q
+    column carries its lead's Q-wave finding)."""
     own = LEAD_FINDING.get(quantity, quantity) if lead is not None else quantity
-    for f in findings:
-        if f.quantity == own and f.lead == lead:
-            return f
-    if lead is None and quantity.startswith("qtc_"):
-        side = limit_text.direction_of(rng, value)
-        return next((f for f in findings if f.quantity == "qtc_ms" and f.direction == side), None)
-    return None
+    return finding_for_value(own, value, rng, findings, lead)
 
 
 def flag_for(

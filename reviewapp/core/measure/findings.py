@@ -339,6 +339,38 @@ def evaluate_findings(measurements: Measurements, subject: SubjectFacts) -> tupl
     return tuple(out)
 
 
+def finding_for_value(
+    quantity: str,
+    value: float | None,
+    nr: NormalRange | None,
+    findings: Iterable[Finding],
+    lead: str | None = None,
+) -> Finding | None:
+    """The finding that flags this value, if any: its own (``quantity`` and ``lead``), or for
+    one QTc formula the merged ``qtc_ms`` finding, which merges exactly the formulas whose
+    value as displayed is past their own limit on its side (``_merge_qtc``). Every table that
+    flags a value (summary dock, per-lead grid, report) asks this, so a cell is never flagged
+    by a rule of its own.
+
+    >>> nr = normal_range("qtc_fridericia_ms", SubjectFacts(sex="male", age_years=50))
+    >>> merged = Finding("qtc_ms", 470.0, "ms", 450.0, "above", "", "QTc above normal by ...")
+    >>> finding_for_value("qtc_fridericia_ms", 455.2, nr, [merged]) is merged
+    True
+    >>> finding_for_value("qtc_fridericia_ms", 440.0, nr, [merged]) is None
+    True
+    """
+    if value is None:
+        return None
+    for f in findings:
+        if f.quantity == quantity and f.lead == lead:
+            return f
+    if lead is None and quantity in QTC_ORDER and nr is not None:
+        v = displayed(value, nr.unit)
+        side = "above" if nr.is_above(v) else "below" if nr.is_below(v) else ""
+        return next((f for f in findings if f.quantity == "qtc_ms" and f.direction == side), None)
+    return None
+
+
 def _merge_qtc(findings: list[Finding], subject: SubjectFacts) -> list[Finding]:
     """One ``qtc_ms`` finding for the QTc formulas that flag in the same direction.
 

@@ -12,6 +12,8 @@ two ways:
 - ``statements``: each reason's full text once (with its source), naming the values it
   concerns when the text does not; most important first: not comparable, caution, not
   applied, not measured.
+- ``brief``: a statement's what, cause and source without the explanation between them,
+  where room is scarce (the report page).
 
 The cause is the part of a text after "<what>: " up to the first " (", ";" or "," (the
 convention of ``ValueReason.text``).
@@ -50,8 +52,16 @@ FIELD_LABELS: dict[str, str] = {
 }
 
 
-def _rank(kind: str) -> int:
-    return KIND_ORDER.index(kind) if kind in KIND_ORDER else len(KIND_ORDER)
+# In a cell a missing value's cause comes first (there is no value to compare or doubt).
+CELL_ORDER: tuple[str, ...] = ("not_measured", "not_comparable", "gated", "caution")
+
+
+def _rank(kind: str, order: tuple[str, ...] = KIND_ORDER) -> int:
+    return order.index(kind) if kind in order else len(order)
+
+
+def _cell_rank(reason: ValueReason) -> int:
+    return _rank(reason.kind, CELL_ORDER)
 
 
 def cause(text: str) -> str:
@@ -88,18 +98,38 @@ def short_text(reason: ValueReason) -> str:
 
 def cell_text(reasons: Iterable[ValueReason], *, every: bool = False) -> str:
     """The words in the cell beside one value: its most important reason (``every``: each
-    distinct one, joined by " · "); "" when there is none.
+    distinct one, joined by " · "); "" when there is none. A missing value's cause comes
+    first, then not comparable, not applied, caution (``CELL_ORDER``).
 
     >>> nc = ValueReason("qtc_bazett_ms", "not_comparable", "QTc not comparable: QRS >= 120 ms")
     >>> ca = ValueReason("qtc_bazett_ms", "caution", "QTc less reliable: irregular rhythm, ...")
     >>> cell_text([ca, nc]), cell_text([ca, nc], every=True)
     ('not comparable: QRS >= 120 ms', 'not comparable: QRS >= 120 ms · caution: irregular rhythm')
     """
-    ordered = sorted(reasons, key=lambda r: _rank(r.kind))
+    ordered = sorted(reasons, key=_cell_rank)
     texts = list(dict.fromkeys(short_text(r) for r in ordered))
     if not texts:
         return ""
     return " · ".join(texts) if every else texts[0]
+
+
+def brief(text: str) -> str:
+    """A reason in its shortest full form: what, the cause and the source, without the
+    explanation between them (the report page, where room is scarce).
+
+    >>> brief("ST not assessed: no P wave, so no PR segment to serve as the baseline "
+    ...       "(Kligfield et al., Circulation 2007)")
+    'ST not assessed: no P wave (Kligfield et al., Circulation 2007)'
+    >>> brief("no P wave marked")
+    'no P wave marked'
+    """
+    head, sep, _ = text.partition(": ")
+    if not sep:
+        return text
+    source = re.search(r"\(([^()]*)\)\s*$", text)
+    why = cause(text)
+    out = f"{head}: {why}" if why else head
+    return f"{out} ({source.group(1)})" if source else out
 
 
 def cell_parts(reasons: Iterable[ValueReason]) -> tuple[str, str]:
@@ -114,7 +144,7 @@ def cell_parts(reasons: Iterable[ValueReason]) -> tuple[str, str]:
     >>> cell_parts([ca])
     ('', 'caution: irregular rhythm')
     """
-    ordered = sorted(reasons, key=lambda r: _rank(r.kind))
+    ordered = sorted(reasons, key=_cell_rank)
     if not ordered:
         return "", ""
     first = ordered[0]
@@ -139,8 +169,11 @@ def for_lead_value(
     field in every lead (``gated`` on the field itself, e.g. the ST criteria)."""
     group = "st" if field.startswith("st_") else "qrs" if field in ("q_mv", "r_mv", "s_mv") else ""
     names = {f"{lead}.{field}", lead, "leads"} | ({f"{lead}.{group}"} if group else set())
+    # The criterion a lead's value is judged by: every ST level by the ST criteria (on
+    # "st_j_mv"), the Q wave by the Q-wave criteria (on "q_ms").
+    criterion = "st_j_mv" if group == "st" else "q_ms" if field == "q_mv" else field
     out = [r for r in reasons if r.quantity in names]
-    out += [r for r in reasons if r.quantity == field and r.kind == "gated"]
+    out += [r for r in reasons if r.quantity == criterion and r.kind == "gated"]
     return tuple(sorted(dict.fromkeys(out), key=lambda r: _rank(r.kind)))
 
 
