@@ -220,7 +220,7 @@ def _bold_label(text: str) -> QtWidgets.QLabel:
     return label
 
 
-MIN_WIDTH_PX = 540
+MIN_WIDTH_PX = 470  # the dock's own minimum width (main_window)
 
 
 class SummaryPanel(QtWidgets.QWidget):
@@ -231,7 +231,7 @@ class SummaryPanel(QtWidgets.QWidget):
     def __init__(self, parent=None) -> None:
         super().__init__(parent)
         self.table = QtWidgets.QTableWidget(len(GLOBAL_ROWS), 4)
-        self.table.setHorizontalHeaderLabels(["", "Value", "Normal", "Flag or reason"])
+        self.table.setHorizontalHeaderLabels(["", "Value", "Normal", "Flag / reason"])
         self.table.verticalHeader().hide()
         self.table.setEditTriggers(QtWidgets.QAbstractItemView.EditTrigger.NoEditTriggers)
         self.table.setSelectionMode(QtWidgets.QAbstractItemView.SelectionMode.NoSelection)
@@ -334,11 +334,6 @@ class SummaryPanel(QtWidgets.QWidget):
         inner = self.scroll.widget().sizeHint()
         return QtCore.QSize(max(inner.width(), MIN_WIDTH_PX), inner.height())
 
-    def minimumSizeHint(self) -> QtCore.QSize:
-        """At least the status line and the whole global table stay in view."""
-        height = self.status.sizeHint().height() + self.table.sizeHint().height() + 16
-        return QtCore.QSize(MIN_WIDTH_PX, height)
-
     def value_text(self, quantity: str) -> str:
         """The text shown for ``quantity`` (tests read what the reader reads)."""
         return self._values.get(quantity, "")
@@ -377,8 +372,11 @@ class SummaryPanel(QtWidgets.QWidget):
         )
         n_flags = 0
         in_cells: set[str] = set()  # quantities whose reason a visible cell states
-        bold = QtGui.QFont(self.table.font())
+        normal = QtGui.QFont(self.table.font())
+        bold = QtGui.QFont(normal)
         bold.setBold(True)
+        small = QtGui.QFont(normal)  # a reason is read after its value: a size smaller
+        small.setPointSizeF(normal.pointSizeF() - 1.0)
         for row, (key, label, unit, _dec, how) in enumerate(GLOBAL_ROWS):
             hide_row = key in WIDE_QRS_ROWS and not beside_qtc
             if self.table.isRowHidden(row) != hide_row:
@@ -395,7 +393,10 @@ class SummaryPanel(QtWidgets.QWidget):
             flag, why = (
                 ("", "") if hidden or not judged else flag_for(key, v, rng, reading.findings)
             )
-            instead_of_range, note = ("", "") if hidden else rt.cell_parts(mine)
+            # Each reason on its own line (the column is narrow; rows grow to fit).
+            instead_of_range, note = (
+                ("", "") if hidden else rt.cell_parts(mine, sep="\n", caution_word_only=True)
+            )
             if v is None and not hidden and not note:
                 note = "not measured"
             text = "set marks" if hidden else limit_text.value_text(v, unit)
@@ -429,7 +430,7 @@ class SummaryPanel(QtWidgets.QWidget):
                 label + (" ✎" if moved else ""),
                 text,
                 shown_range,
-                " · ".join(t for t in (flag, note) if t),
+                "\n".join(t for t in (flag, note) if t),
             ]
             for col, t in enumerate(cells):
                 # Update items in place: this runs on every step of a mark drag.
@@ -443,8 +444,15 @@ class SummaryPanel(QtWidgets.QWidget):
                     item.setText(t)
                 if item.toolTip() != tip_text:
                     item.setToolTip(tip_text)
-                if item.font().bold() != bool(flag):
-                    item.setFont(bold if flag else self.table.font())
+                # Bold: the flagged value and its flag; a reason a size smaller.
+                if col == 2:
+                    want = normal if judged else small
+                elif col == 3:
+                    want = bold if flag else small
+                else:
+                    want = bold if flag else normal
+                if item.font() != want:
+                    item.setFont(want)
             n_flags += bool(flag)
         if self._row_texts != (
             texts := [

@@ -96,7 +96,7 @@ def short_text(reason: ValueReason) -> str:
     return f"{word}: {why}" if why else word
 
 
-def cell_text(reasons: Iterable[ValueReason], *, every: bool = False) -> str:
+def cell_text(reasons: Iterable[ValueReason], *, every: bool = False, sep: str = " · ") -> str:
     """The words in the cell beside one value: its most important reason (``every``: each
     distinct one, joined by " · "); "" when there is none. A missing value's cause comes
     first, then not comparable, not applied, caution (``CELL_ORDER``).
@@ -110,7 +110,7 @@ def cell_text(reasons: Iterable[ValueReason], *, every: bool = False) -> str:
     texts = list(dict.fromkeys(short_text(r) for r in ordered))
     if not texts:
         return ""
-    return " · ".join(texts) if every else texts[0]
+    return sep.join(texts) if every else texts[0]
 
 
 def brief(text: str) -> str:
@@ -132,10 +132,13 @@ def brief(text: str) -> str:
     return f"{out} ({source.group(1)})" if source else out
 
 
-def cell_parts(reasons: Iterable[ValueReason]) -> tuple[str, str]:
+def cell_parts(
+    reasons: Iterable[ValueReason], *, sep: str = " · ", caution_word_only: bool = False
+) -> tuple[str, str]:
     """The cell words split for a table with a normal-range column and a flag column: (what
     stands in place of the range: "not comparable" or "not applied", else ""; the rest: the
-    cause and every other reason in a few words).
+    cause and every other reason in a few words). ``caution_word_only``: a caution says only
+    "caution" (a narrow column; its cause is in the statement beside the table).
 
     >>> nc = ValueReason("qtc_bazett_ms", "not_comparable", "QTc not comparable: QRS >= 120 ms")
     >>> ca = ValueReason("qtc_bazett_ms", "caution", "QTc less reliable: irregular rhythm, ...")
@@ -143,15 +146,21 @@ def cell_parts(reasons: Iterable[ValueReason]) -> tuple[str, str]:
     ('not comparable', 'QRS >= 120 ms · caution: irregular rhythm')
     >>> cell_parts([ca])
     ('', 'caution: irregular rhythm')
+    >>> cell_parts([ca, nc], sep="/", caution_word_only=True)
+    ('not comparable', 'QRS >= 120 ms/caution')
     """
     ordered = sorted(reasons, key=_cell_rank)
     if not ordered:
         return "", ""
+
+    def words(r: ValueReason) -> str:
+        return KIND_WORDS["caution"] if caution_word_only and r.kind == "caution" else short_text(r)
+
     first = ordered[0]
     if first.kind not in ("not_comparable", "gated"):
-        return "", cell_text(ordered, every=True)
-    rest = [cause(first.text)] + [short_text(r) for r in ordered[1:]]
-    return KIND_WORDS[first.kind], " · ".join(dict.fromkeys(t for t in rest if t))
+        return "", sep.join(dict.fromkeys(words(r) for r in ordered))
+    rest = [cause(first.text)] + [words(r) for r in ordered[1:]]
+    return KIND_WORDS[first.kind], sep.join(dict.fromkeys(t for t in rest if t))
 
 
 def for_quantity(reasons: Iterable[ValueReason], quantity: str) -> tuple[ValueReason, ...]:
