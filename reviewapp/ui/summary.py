@@ -312,14 +312,15 @@ class SummaryPanel(QtWidgets.QWidget):
         lay.addWidget(self.leads_table)
         lay.addWidget(self.caliper_label)
         lay.addStretch(1)
-        self.scroll = QtWidgets.QScrollArea()
-        self.scroll.setWidgetResizable(True)
-        self.scroll.setFrameShape(QtWidgets.QFrame.Shape.NoFrame)
-        self.scroll.setHorizontalScrollBarPolicy(QtCore.Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
-        self.scroll.setWidget(inner)
+        self.column_scroll = QtWidgets.QScrollArea()
+        self.column_scroll.setWidgetResizable(True)
+        self.column_scroll.setFrameShape(QtWidgets.QFrame.Shape.NoFrame)
+        self.column_scroll.setHorizontalScrollBarPolicy(QtCore.Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        self.column_scroll.setWidget(inner)
+        self._column = inner
         outer = QtWidgets.QVBoxLayout(self)
         outer.setContentsMargins(0, 0, 0, 0)
-        outer.addWidget(self.scroll)
+        outer.addWidget(self.column_scroll)
         # Wide enough for a value, its range and a reason of a few words side by side.
         self.setMinimumWidth(MIN_WIDTH_PX)
         f = self.table.font()
@@ -331,7 +332,7 @@ class SummaryPanel(QtWidgets.QWidget):
 
     def sizeHint(self) -> QtCore.QSize:
         """The whole column: the dock asks for room to show it without scrolling."""
-        inner = self.scroll.widget().sizeHint()
+        inner = self._column.sizeHint()
         return QtCore.QSize(max(inner.width(), MIN_WIDTH_PX), inner.height())
 
     def value_text(self, quantity: str) -> str:
@@ -454,13 +455,9 @@ class SummaryPanel(QtWidgets.QWidget):
                 if item.font() != want:
                     item.setFont(want)
             n_flags += bool(flag)
-        if self._row_texts != (
-            texts := [
-                self.table.item(r, 3).text()
-                for r in range(len(GLOBAL_ROWS))
-                if self.table.item(r, 3)
-            ]
-        ):
+        items = (self.table.item(r, 3) for r in range(len(GLOBAL_ROWS)))
+        texts = [item.text() for item in items if item is not None]
+        if self._row_texts != texts:
             self._row_texts = texts
             self.table.resizeRowsToContents()  # a long reason wraps onto a second line
             self.updateGeometry()  # rows shown or hidden, taller or shorter: a new size

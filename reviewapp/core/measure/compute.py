@@ -146,7 +146,7 @@ def compute_measurements(marked: MarkedECG) -> Measurements:
         g.update(_axes(marked, wave, marks, bases, unmeasured))
         if marks.p_on is None and marks.qrs_on is not None:
             leads = _st_without_baseline(leads, marked, unmeasured)
-            if any(q.endswith(".st") and why == ST_NO_BASELINE for q, why in unmeasured):
+            if any(q.endswith(".st") and t == ST_NO_BASELINE for q, t in unmeasured):
                 # The ST criteria as a whole are not applied either (one statement for the
                 # reader besides each lead's missing values).
                 reasons.append(ValueReason("st_j_mv", "gated", ST_NO_BASELINE))
