@@ -473,6 +473,7 @@ class SummaryPanel(QtWidgets.QWidget):
         extra = len([f for f in shown if f.lead is not None])
         self.status.setText(
             f"{n_flags} value{'s' if n_flags != 1 else ''} outside limits"
+            + (" among those shown (the others wait for your marks)" if waiting else "")
             + (
                 f"; {extra} per-lead finding{'s' if extra != 1 else ''} (see per-lead table)"
                 if extra
