@@ -10,7 +10,7 @@ from dataclasses import replace
 
 import numpy as np
 
-from reviewapp.core.fiducials import Beat, BeatKind, MarkedECG, WaveMarks
+from reviewapp.core.fiducials import FIDUCIAL_LABELS, Beat, BeatKind, MarkedECG, WaveMarks
 from reviewapp.core.measure.amplitudes import (
     cornell_mv,
     isoelectric_levels,
@@ -113,6 +113,12 @@ def compute_measurements(marked: MarkedECG) -> Measurements:
     g.update(_wide_qrs_measures(qt, g["qrs_ms"], rr_ms, unmeasured))
     paced = _mostly_paced(marked)
     reasons = _qtc_comparability(g["qrs_ms"], paced, g)
+    if rr.irregular and rr.cv is not None:
+        caution = QTC_IRREGULAR_CAUTION.format(cv=100.0 * rr.cv)
+        rate_corrected = (*QTC_QUANTITIES, "jtc_bazett_ms")
+        reasons += [
+            ValueReason(k, "caution", caution) for k in rate_corrected if g.get(k) is not None
+        ]
 
     leads: list[LeadMeasurements] = []
     if rep is None:
@@ -140,6 +146,10 @@ def compute_measurements(marked: MarkedECG) -> Measurements:
         g.update(_axes(marked, wave, marks, bases, unmeasured))
         if marks.p_on is None and marks.qrs_on is not None:
             leads = _st_without_baseline(leads, marked, unmeasured)
+            if any(q.endswith(".st") and t == ST_NO_BASELINE for q, t in unmeasured):
+                # The ST criteria as a whole are not applied either (one statement for the
+                # reader besides each lead's missing values).
+                reasons.append(ValueReason("st_j_mv", "gated", ST_NO_BASELINE))
 
     by_name = {m.lead: m for m in leads}
     sokolow = sokolow_lyon_mv(by_name.get("V1"), by_name.get("V5"), by_name.get("V6"))
@@ -166,21 +176,31 @@ def compute_measurements(marked: MarkedECG) -> Measurements:
     return replace(out, notes=tuple(notes))
 
 
-# Reason texts (shown to the reader, so each names its source).
+# Reason texts (shown to the reader beside the values on screen, page and CSV, so each is
+# short and names its source): "<what>: <cause>; <what to read instead> (<source>)".
 QTC_NOT_COMPARABLE_WIDE = (
-    "QTc not comparable with the QTc limits: QRS >= 120 ms (the QT holds the prolonged "
-    "depolarisation); see JT, JTc and the QRS-adjusted QT (Bogossian et al., Heart Rhythm "
-    "2014). Rautaharju et al., Circulation 2009 (AHA/ACCF/HRS Part IV)"
+    "QTc not comparable with the QTc limits: QRS >= 120 ms, the QT holds the prolonged "
+    "depolarisation; read JT, JTc and the QRS-adjusted QT (Rautaharju et al., Circulation "
+    "2009; Bogossian et al., Heart Rhythm 2014)"
 )
 QTC_NOT_COMPARABLE_PACED = (
-    "QTc not comparable with the QTc limits: paced rhythm (ventricular activation by the "
-    "pacemaker widens the QRS); see JT, JTc and the QRS-adjusted QT. Rautaharju et al., "
-    "Circulation 2009 (AHA/ACCF/HRS Part IV)"
+    "QTc not comparable with the QTc limits: paced rhythm, the paced QRS is wide; read JT, "
+    "JTc and the QRS-adjusted QT (Rautaharju et al., Circulation 2009; Bogossian et al., "
+    "Heart Rhythm 2014)"
 )
 ST_NO_BASELINE = (
-    "ST not assessed: no P wave (atrial fibrillation or flutter suspected), so the segment "
-    "before the QRS holds f or F waves and is no isoelectric baseline for ST (Kligfield et "
-    "al., Circulation 2007, AHA/ACCF/HRS Part I: ST is measured from the PR segment)"
+    "ST not assessed: no P wave, so no PR segment to serve as the isoelectric baseline of ST "
+    "(Kligfield et al., Circulation 2007)"
+)
+# With RR varying beat to beat no single RR corrects the QT it is applied to. Sources, read
+# as abstracts: Darbar D et al., J Cardiovasc Electrophysiol 2007;18:636-641 ("cycle length
+# variability during AF makes rate-corrected QT impossible to calculate"); Musat DL et al.,
+# Am J Cardiol 2013;112:1379-1383 (Bazett overestimates QTc during AF). The threshold that
+# calls a rhythm irregular (``IRREGULAR_RR_CV``) is ours and is not stated as a criterion.
+QTC_IRREGULAR_CAUTION = (
+    "QTc less reliable: irregular rhythm, RR varies {cv:.0f} % beat to beat, so no single RR "
+    "corrects the QT (Darbar et al., J Cardiovasc Electrophysiol 2007; Musat et al., Am J "
+    "Cardiol 2013)"
 )
 
 
@@ -262,7 +282,7 @@ def _axes(
         if base is None or a is None or b is None or b <= a or b >= wave.shape[0] or a < 0:
             out[key] = None
             unmeasured.append(
-                (key, f"no {first.replace('_', ' ')} / {second.replace('_', ' ')} marks")
+                (key, f"no {FIDUCIAL_LABELS[first]} / {FIDUCIAL_LABELS[second]} marks")
             )
             continue
         seg = wave[a : b + 1, idx].astype(np.float64) - base[None, :]

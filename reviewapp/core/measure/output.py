@@ -37,8 +37,9 @@ seconds; absent or unmeasurable values are ``null``, never a guess.
 - ``unmeasured`` (list): ``{quantity, reason}`` for every value left null.
 - ``reasons`` (list): ``{quantity, kind, text}`` for every value left out, in one list: kind
   "not_measured" (null; the same as ``unmeasured``), "not_comparable" (shown, but not to be
-  compared with its normal limits, e.g. QTc with QRS >= 120 ms) or "gated" (a criterion not
-  applied, e.g. the ST and Q infarct criteria with a wide QRS). ``quantity`` as in
+  compared with its normal limits, e.g. QTc with QRS >= 120 ms), "gated" (a criterion not
+  applied, e.g. the ST and Q infarct criteria with a wide QRS) or "caution" (shown and
+  compared, but less reliable, e.g. QTc in an irregular rhythm). ``quantity`` as in
   ``unmeasured`` (a field name, ``<lead>.<field>``, ``<lead>.st``, ...).
 - ``notes`` (list of str): remarks from reading and analysis ("no beats found", ...).
 - ``engine_version`` (str); ``caution`` (str): the clinical caution, always present.
@@ -70,7 +71,7 @@ from reviewapp.core.record import SubjectFacts
 SCHEMA_VERSION = 1
 QTC_NAMES = ("bazett", "fridericia", "framingham", "hodges")
 WIDE_QRS_KEYS = ("jt_ms", "jtc_bazett_ms", "qt_bogossian_ms")
-REASON_KINDS = ("not_measured", "not_comparable", "gated")
+REASON_KINDS = ("not_measured", "not_comparable", "gated", "caution")
 LEAD_FIELDS = (
     "p_mv",
     "q_mv",
@@ -429,11 +430,6 @@ def format_range(nr: NormalRange | None) -> str:
     return range_text(nr)
 
 
-_WIDE_QRS_LABELS = {
-    "jt_ms": "JT (QT - QRS)",
-    "jtc_bazett_ms": "JTc (Bazett)",
-    "qt_bogossian_ms": "QT adj. (Bogossian)",
-}
 _TABLE_ROWS: tuple[tuple[str, str, str], ...] = (
     # (quantity, where in the dict, unit)
     ("hr_bpm", "global.hr_bpm", "bpm"),
@@ -527,7 +523,7 @@ def table_text(d: Mapping[str, Any], *, per_lead: bool = False) -> str:
             flag = "not comparable: " + not_comparable[q]
         if v is None:
             flag = reasons.get(q, "not measured")
-        label = LABELS.get(q) or _WIDE_QRS_LABELS.get(q, q)
+        label = LABELS.get(q, q)
         if q == "rr_ms" and d["global"].get("rr_sd_ms") is not None:
             label = f"RR (SD {displayed(d['global']['rr_sd_ms'], 'ms'):.0f} ms)"
         lines.append(f"{label:<22}{_val(v, unit):>12}  {format_range(nr):<22}{flag}".rstrip())

@@ -33,15 +33,20 @@ class GlobalIntervals:
 
 
 # Why a value is left out: "not_measured" (no value), "not_comparable" (shown, but not to be
-# compared with its normal limits), "gated" (a criterion not applied to this reading).
-ReasonKind = Literal["not_measured", "not_comparable", "gated"]
+# compared with its normal limits), "gated" (a criterion not applied to this reading),
+# "caution" (shown and compared, but less reliable, e.g. QTc in an irregular rhythm).
+ReasonKind = Literal["not_measured", "not_comparable", "gated", "caution"]
 
 
 @dataclass(frozen=True)
 class ValueReason:
-    """The reason one quantity (or group of quantities) is not measured, not comparable or
-    not judged. ``quantity`` uses the names of ``Measurements.unmeasured``; ``text`` is for
-    the reader and names its source where it rests on one."""
+    """The reason one quantity (or group of quantities) is not measured, not comparable, not
+    judged or less reliable. ``quantity`` uses the names of ``Measurements.unmeasured``;
+    ``text`` is for the reader and names its source where it rests on one.
+
+    A text other than a plain not-measured cause reads "<what>: <cause>[; or , more] (<source>)"
+    ("QTc not comparable with the QTc limits: QRS >= 120 ms; ... (Rautaharju et al., ...)"),
+    so a table cell can say the cause in a few words (``reason_text.cell_text``)."""
 
     quantity: str
     kind: ReasonKind
