@@ -19,6 +19,7 @@ from dataclasses import dataclass
 
 from reviewapp.core.interpret import sources as S
 from reviewapp.core.interpret.sources import Source
+from reviewapp.core.marks.model import FREE_TEXT_CODE
 
 CATEGORIES: tuple[tuple[str, str], ...] = (
     ("lead_check", "Lead check"),
@@ -32,7 +33,7 @@ CATEGORIES: tuple[tuple[str, str], ...] = (
 )
 CATEGORY_NAMES: dict[str, str] = dict(CATEGORIES)
 CATEGORY_ORDER: dict[str, int] = {c: i for i, (c, _) in enumerate(CATEGORIES)}
-FREE_TEXT = "other.free_text"
+FREE_TEXT = FREE_TEXT_CODE
 
 
 @dataclass(frozen=True)
