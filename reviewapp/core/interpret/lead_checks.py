@@ -66,8 +66,10 @@ def limb_reversal(ctx: Context) -> list[Statement]:
 def sequence_gain(ctx: Context) -> tuple[float, tuple[str, str]] | None:
     """The best gain of the chest-lead chain by exchanging one pair, and that pair."""
     rep = ctx.marked.representative
+    if rep is None:
+        return None
     names = list(ctx.marked.lead_names)
-    if rep is None or any(v not in names for v in PRECORDIAL):
+    if any(v not in names for v in PRECORDIAL):
         return None
     cols = [names.index(v) for v in PRECORDIAL]
     if not all(ctx.marked.usable[c] for c in cols):
