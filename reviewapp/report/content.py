@@ -119,6 +119,12 @@ class ReportContent:
     engine_version: str
     n_overrides: int
     notes: tuple[str, ...] = ()
+    # The interpretation (report/interpretation_block.py): the engine's statements with their
+    # criteria, why statements were not made, and the reader's own statements (the reading
+    # printed; ``core.marks.model.ReaderStatement``).
+    statements: tuple[Any, ...] = ()
+    statement_reasons: tuple[Any, ...] = ()
+    reader_statements: tuple[Any, ...] = ()
 
     @property
     def fs_hz(self) -> float:
@@ -195,10 +201,14 @@ def build_report_content(
     status: str = "unread",
     reviewer: str | None = None,
     signed_off_at: str | None = None,
+    reader_statements: Iterable[Any] = (),
 ) -> ReportContent:
     """Recompute the reading under ``overrides`` and collect what the page shows."""
+    from reviewapp.core.interpret import interpret
+
     overrides = tuple(overrides)
     reading = analysis.reading(overrides)
+    interpretation = interpret(reading, analysis.record.subject)
     marked = reading.marked
     rows, others = measurement_rows(reading, analysis.record.subject)
     rep_auto = analysis.representative
@@ -230,6 +240,9 @@ def build_report_content(
         engine_version=analysis.engine_version,
         n_overrides=len(overrides),
         notes=notes,
+        statements=interpretation.statements,
+        statement_reasons=interpretation.reasons,
+        reader_statements=tuple(reader_statements),
     )
 
 
@@ -249,4 +262,5 @@ def load_report_content(path: Path, reviewer: str | None = None) -> ReportConten
         status=chosen.status,
         reviewer=chosen.reviewer,
         signed_off_at=chosen.signed_off_at,
+        reader_statements=chosen.statements,
     )

@@ -226,6 +226,9 @@ def paint_page(
     _draw_calibration(c, layout, sorted({s.row for s in strips}))
     _draw_leads(c, layout, content, strips)
     _draw_header(c, layout, content)
+    from reviewapp.report.interpretation_block import draw_statement_line
+
+    draw_statement_line(c, layout.statements, content)
     _draw_beat_panel(c, layout, content)
     _draw_footer(c, layout, content, generated_at or datetime.now(UTC), strips)
     return c.drawing
