@@ -535,6 +535,11 @@ def test_limb_lead_reversal():
         "aVR": dict(q_mv=0.0, r_mv=0.8, s_mv=-0.2, p_mv=0.1, t_mv=0.2),
     }
     assert "lead_check.limb_reversal" in codes(leads=swapped)
-    swapped["I"]["p_mv"] = -0.04
+    # P (and T) in I must be negative beyond the smallest wave, 0.02 mV (engine rule).
+    swapped["I"]["p_mv"] = -0.01
     swapped["I"]["t_mv"] = 0.1
     assert "lead_check.limb_reversal" not in codes(leads=swapped)
+    swapped["I"]["p_mv"] = -0.02
+    assert "lead_check.limb_reversal" in codes(leads=swapped)
+    # A normal lead I (net QRS positive) never warns.
+    assert "lead_check.limb_reversal" not in codes()

@@ -73,8 +73,8 @@ ENTRIES: tuple[StatementDef, ...] = (
     _d(
         "lead_check.limb_reversal",
         "limb lead reversal suspected (left and right arm)",
-        "net QRS negative in I with P or T negative in I, and net QRS positive in aVR with "
-        "P or T positive in aVR (or dextrocardia)",
+        "net QRS negative in I with its P or T negative, and aVR's net QRS, P or T positive "
+        "(waves beyond 0.02 mV); dextrocardia looks the same",
         S.BATCHVAROV_2007,
         "electrode cable swap arm LA RA dextrocardia technical",
     ),
