@@ -520,11 +520,11 @@ def test_brugada_type1():
     # Priori SG et al., Heart Rhythm 2013 (from memory): coved ST elevation >= 0.2 mV in V1
     # or V2 followed by a negative T.
     coved = dict(st_j_mv=0.20, st_j60_mv=0.15, st_j80_mv=0.10, t_min_mv=-0.05)
-    assert "repolarization.brugada_type1" in codes(leads={"V1": coved})
-    assert "repolarization.brugada_type1" not in codes(leads={"V1": {**coved, "st_j_mv": 0.19}})
-    assert "repolarization.brugada_type1" not in codes(leads={"V1": {**coved, "t_min_mv": -0.04}})
+    assert "repolarization.brugada_coved" in codes(leads={"V1": coved})
+    assert "repolarization.brugada_coved" not in codes(leads={"V1": {**coved, "st_j_mv": 0.19}})
+    assert "repolarization.brugada_coved" not in codes(leads={"V1": {**coved, "t_min_mv": -0.04}})
     # Saddle-back (ST rising after J) is not type 1.
-    assert "repolarization.brugada_type1" not in codes(leads={"V1": {**coved, "st_j60_mv": 0.25}})
+    assert "repolarization.brugada_coved" not in codes(leads={"V1": {**coved, "st_j60_mv": 0.25}})
 
 
 # --- lead checks ----------------------------------------------------------------------------------

@@ -235,7 +235,7 @@ ENTRIES: tuple[StatementDef, ...] = (
         automatic=False,
     ),
     _d(
-        "rhythm.av_block_2_wenckebach",
+        "rhythm.av_block_second_degree_wenckebach",
         "second-degree AV block, Mobitz type I (Wenckebach)",
         "reader's statement",
         S.MASON_2007,
@@ -243,7 +243,7 @@ ENTRIES: tuple[StatementDef, ...] = (
         automatic=False,
     ),
     _d(
-        "rhythm.av_block_2_mobitz2",
+        "rhythm.av_block_second_degree_mobitz_ii",
         "second-degree AV block, Mobitz type II",
         "reader's statement",
         S.MASON_2007,
@@ -251,7 +251,7 @@ ENTRIES: tuple[StatementDef, ...] = (
         automatic=False,
     ),
     _d(
-        "rhythm.av_block_3",
+        "rhythm.av_block_complete",
         "complete (third-degree) AV block",
         "reader's statement",
         S.MASON_2007,
@@ -486,7 +486,7 @@ ENTRIES: tuple[StatementDef, ...] = (
         "ERP J wave notch slur",
     ),
     _d(
-        "repolarization.brugada_type1",
+        "repolarization.brugada_coved",
         "Brugada type 1 pattern",
         "coved ST elevation >= 0.2 mV at J in V1 or V2, falling through J+60 and J+80 ms, "
         "followed by a negative T wave (<= -0.05 mV)",

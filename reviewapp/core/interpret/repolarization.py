@@ -199,5 +199,5 @@ def _brugada(ctx: Context) -> list[Statement]:
                 MetValue("ST at J+80", j80, "mV", x),
                 MetValue("T (lowest)", t, "mV", x),
             ]
-            return [make("repolarization.brugada_type1", vals, f"coved ST elevation in {x}")]
+            return [make("repolarization.brugada_coved", vals, f"coved ST elevation in {x}")]
     return []
