@@ -175,12 +175,13 @@ class InterpretationPanel(QtWidgets.QWidget):
         self.detail = QtWidgets.QPlainTextEdit()
         self.detail.setObjectName("automatic_detail")
         self.detail.setReadOnly(True)
-        self.detail.setMaximumHeight(96)
+        self.detail.setMaximumHeight(140)
         top = QtWidgets.QHBoxLayout()
         top.addWidget(self.mine_label, 1)
-        for b in (self.add_button, self.free_button, self.auto_button):
+        for b in (self.add_button, self.free_button):
             top.addWidget(b)
         edits = QtWidgets.QHBoxLayout()
+        edits.addWidget(self.auto_button)
         edits.addStretch(1)
         for b in (self.edit_button, self.remove_button, self.up_button, self.down_button):
             edits.addWidget(b)
@@ -199,9 +200,16 @@ class InterpretationPanel(QtWidgets.QWidget):
         self.split = QtWidgets.QSplitter(QtCore.Qt.Orientation.Vertical)
         self.split.addWidget(upper)
         self.split.addWidget(lower)
+        # Scrolls rather than asking for height: the dock shares the window with the others
+        # and a small window must still open.
+        self.scroll = QtWidgets.QScrollArea()
+        self.scroll.setWidgetResizable(True)
+        self.scroll.setFrameShape(QtWidgets.QFrame.Shape.NoFrame)
+        self.scroll.setWidget(self.split)
+        self.split.setMinimumHeight(300)
         lay = QtWidgets.QVBoxLayout(self)
         lay.setContentsMargins(6, 4, 6, 4)
-        lay.addWidget(self.split)
+        lay.addWidget(self.scroll)
         self.automatic.currentItemChanged.connect(lambda *_: self._show_detail())
         self.mine.currentItemChanged.connect(lambda *_: self.update_buttons())
         self._statements: tuple[Statement, ...] = ()

@@ -88,9 +88,11 @@ class MainWindow(QtWidgets.QMainWindow):
         self.interpretation_dock = self._dock(
             "Interpretation", self.interpretation_panel, Area.RightDockWidgetArea
         )
-        self.splitDockWidget(
-            self.reading_dock, self.interpretation_dock, QtCore.Qt.Orientation.Vertical
-        )
+        # A tab beside the reading's, the tabs on the side: a third dock stacked under it, or
+        # a tab bar above it, would not fit a small window (the minimum heights add up).
+        self.tabifyDockWidget(self.reading_dock, self.interpretation_dock)
+        self.setTabPosition(Area.RightDockWidgetArea, QtWidgets.QTabWidget.TabPosition.West)
+        self.reading_dock.raise_()
         self.records = RecordsDock(self, self._page_short_px)
         self.addDockWidget(Area.LeftDockWidgetArea, self.records)
         self.records.setVisible(False)
@@ -162,11 +164,6 @@ class MainWindow(QtWidgets.QMainWindow):
             self.restoreState(state)
         else:
             self.resizeDocks([self.summary_dock], [480], QtCore.Qt.Orientation.Horizontal)
-            self.resizeDocks(
-                [self.reading_dock, self.interpretation_dock],
-                [150, 330],
-                QtCore.Qt.Orientation.Vertical,
-            )
             self.resizeDocks([self.records], [190], QtCore.Qt.Orientation.Horizontal)
         self.summary_dock.setMinimumWidth(470)
 

@@ -205,6 +205,9 @@ def _sign_off_and_compare(w, app, outdir: Path, shot, written: list[Path]) -> No
     QtCore.QTimer.singleShot(0, confirm)
     w.adapter.sign_off()
     shot("signed_off")
+    w.interpretation_dock.raise_()
+    shot("interpretation")
+    w.reading_dock.raise_()
     s = w.workflow
     if s is None or s.store is None:
         return

@@ -350,8 +350,26 @@ def _statements(c: Ctx) -> list[dict]:
     return c.sidecar()["readings"]["reader1"]["statements"]
 
 
+def show_tab(c: Ctx, title: str) -> None:
+    """Click a dock's tab (the Interpretation dock is a tab beside the Reading dock)."""
+    bar = next(
+        b
+        for b in c.w.findChildren(QtWidgets.QTabBar)
+        if title in [b.tabText(i) for i in range(b.count())] and b.isVisible()
+    )
+    i = [bar.tabText(k) for k in range(bar.count())].index(title)
+    c.qtbot.mouseClick(bar, L, pos=bar.tabRect(i).center())
+    c.qtbot.waitUntil(
+        c.w.interpretation_panel.isVisible
+        if title == "Interpretation"
+        else c.w.reading_panel.isVisible,
+        timeout=3000,
+    )
+
+
 def _select_mine(c: Ctx, row: int) -> None:
     """Click one of the reader's statements in the Interpretation dock."""
+    show_tab(c, "Interpretation")
     lst = c.w.interpretation_panel.mine
     item = lst.item(row)
     lst.scrollToItem(item)
@@ -436,6 +454,7 @@ def c_stmt_remove(c: Ctx) -> None:
     assert gone not in [x["id"] for x in _statements(c)] and len(_statements(c)) == n - 1
     assert c.w.interpretation_panel.mine.count() == n - 1
     assert c.sidecar()["audit"][-1]["action"] == "delete_statement"
+    show_tab(c, "Reading")
 
 
 def c_sign_off(c: Ctx) -> None:
@@ -615,7 +634,9 @@ def c_dock_reading(c: Ctx) -> None:
 
 
 def c_dock_interpretation(c: Ctx) -> None:
+    show_tab(c, "Interpretation")  # a tab beside the Reading dock
     _dock(c, "Interpretation", c.w.interpretation_dock)
+    show_tab(c, "Reading")
 
 
 def c_dock_measurements(c: Ctx) -> None:

@@ -51,6 +51,9 @@ def test_compare_and_adjudicate_statements(window, qtbot, settings, shared_data,
     w.acts["role_3"].trigger()  # File > Reading role > Adjudicator
     assert w.open_path(hea, analyse_now=True)
     # The automatic statements, each with its criteria and source in the tooltip and box.
+    from tests.ui.test_every_action import Ctx, show_tab
+
+    show_tab(Ctx(w, qtbot, None, tmp_path, tmp_path), "Interpretation")  # type: ignore[arg-type]
     panel = w.interpretation_panel
     codes = [
         panel.automatic.item(i).data(QtCore.Qt.ItemDataRole.UserRole)

@@ -30,7 +30,6 @@ programmed AV delay. A beat with such a spike counts once.
 from __future__ import annotations
 
 import numpy as np
-from scipy import signal
 
 from reviewapp.core.fiducials import Beat, MarkedECG
 from reviewapp.core.measure.types import AtrialActivity
@@ -84,6 +83,8 @@ def atrial_activity(marked: MarkedECG) -> AtrialActivity | None:
 def _spectrum(
     marked: MarkedECG, cols: list[int], fs: float
 ) -> tuple[float | None, float | None, float | None]:
+    from scipy import signal  # loaded when first needed (the window starts without it)
+
     rep = marked.representative
     assert rep is not None
     x = np.asarray(marked.conditioned_mv[:, cols], dtype=np.float64)
