@@ -17,13 +17,21 @@ from __future__ import annotations
 from dataclasses import dataclass
 from datetime import UTC, datetime
 
-from PySide6.QtGui import QPainter
+from PySide6.QtGui import QColor, QPainter
 
 from reviewapp import CLINICAL_CAUTION
 from reviewapp.core.interpret import CATEGORY_NAMES
 from reviewapp.report.content import ReportContent
 from reviewapp.report.layout import PageLayout, Rect
-from reviewapp.report.page import FLAG, MARK_AUTO, PageDrawing, _Canvas, _utc_text, _wrap
+from reviewapp.report.page import (
+    FLAG,
+    MARK_AUTO,
+    TEXT,
+    PageDrawing,
+    _Canvas,
+    _utc_text,
+    _wrap,
+)
 
 ORIGINS = {
     "automatic": "automatic statement, kept",
@@ -68,7 +76,7 @@ class _Flow:
     dropped: int = 0
 
     def line(self, text: str, size: float, *, bold: bool = False, indent: float = 0.0,
-             colour: object = None) -> bool:  # fmt: skip
+             colour: QColor | None = None) -> bool:  # fmt: skip
         w = self.box.w - indent
         rows = _wrap(self.c, text, w, size, max_lines=6)
         step = size * 0.3528 * 1.3  # pt to mm, with leading
@@ -77,8 +85,8 @@ class _Flow:
                 self.dropped += 1
                 return False
             self.y += step
-            kw = {} if colour is None else {"colour": colour}
-            self.c.text(self.box.x + indent, self.y, row, size, bold=bold, max_w=w, **kw)
+            ink = TEXT if colour is None else colour
+            self.c.text(self.box.x + indent, self.y, row, size, bold=bold, colour=ink, max_w=w)
         return True
 
     def gap(self, mm: float) -> None:

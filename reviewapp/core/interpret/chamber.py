@@ -206,11 +206,12 @@ def _low_voltage(ctx: Context) -> list[Statement]:
         (LIMB, LOW_LIMB_MV, "chamber.low_voltage_limb"),
         (PRECORDIAL, LOW_PRECORDIAL_MV, "chamber.low_voltage_precordial"),
     ):
-        amps = [ctx.qrs_amplitude(x) for x in leads]
-        if not amps or any(a is None for a in amps):
+        found = [ctx.qrs_amplitude(x) for x in leads]
+        amps = [a for a in found if a is not None]
+        if not amps or len(amps) < len(found):
             continue
-        if all(a < limit for a in amps):  # type: ignore[operator]
-            top = max(amps)  # type: ignore[type-var]
+        if all(a < limit for a in amps):
+            top = max(amps)
             out.append(
                 make(code, [MetValue("largest QRS amplitude", top, "mV")], f"largest {top:.2f} mV")
             )

@@ -155,7 +155,13 @@ from reviewapp.core.marks.commands import (
     SetStatus,
     UndoStack,
 )
-from reviewapp.core.marks.compare import Comparison, ComparisonRow, compare_readings
+from reviewapp.core.marks.compare import (
+    Comparison,
+    ComparisonRow,
+    StatementRow,
+    compare_readings,
+    compare_statements,
+)
 from reviewapp.core.marks.convert import (
     automatic_from_analysis,
     override_from_mark,
@@ -185,6 +191,7 @@ from reviewapp.core.marks.model import (
     FiducialTimes,
     Note,
     Override,
+    ReaderStatement,
     RecordIdentity,
     RepresentativeTimes,
     ReviewerReading,
@@ -225,6 +232,7 @@ __all__ = [
     "Note",
     "Override",
     "ReadOnlyError",
+    "ReaderStatement",
     "RecordIdentity",
     "RepresentativeTimes",
     "ReviewerReading",
@@ -233,12 +241,14 @@ __all__ = [
     "SetOverride",
     "SetStatus",
     "Sidecar",
+    "StatementRow",
     "UndoStack",
     "UnreadableSidecarError",
     "automatic_from_analysis",
     "backup_path_for",
     "blinded_view",
     "compare_readings",
+    "compare_statements",
     "load_sidecar",
     "merge_sidecars",
     "override_from_mark",

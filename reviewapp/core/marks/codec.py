@@ -389,16 +389,16 @@ def validate_document(doc: Any, path: Path | None) -> dict[str, Any]:
         raise UnreadableSidecarError(
             f"not a reviewapp marks file (format field is {_short(doc.get('format'))})", path
         )
-    version = doc.get("schema_version")
-    is_int = isinstance(version, int) and not isinstance(version, bool)
-    if is_int and version > SCHEMA_VERSION:
+    raw = doc.get("schema_version")
+    version = raw if isinstance(raw, int) and not isinstance(raw, bool) else None
+    if version is not None and version > SCHEMA_VERSION:
         raise FutureVersionError(
             f"marks file has schema version {version}, written by a newer reviewapp; this one "
             f"reads up to version {SCHEMA_VERSION}. Open it with the newer version",
             path,
         )
     # Any other value is checked against the current schema, which refuses it by name.
-    checked = version if is_int and version in READABLE_VERSIONS else SCHEMA_VERSION
+    checked = version if version in READABLE_VERSIONS else SCHEMA_VERSION
     fast = _fast_check(checked)
     try:
         if fast is not None and fast(doc):

@@ -14,6 +14,7 @@ from __future__ import annotations
 
 from collections.abc import Iterable
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
@@ -207,7 +208,7 @@ def lead_measurements(
         missing.append((f"{name}", "QRS onset at the window start: no isoelectric level"))
         return LeadMeasurements(lead=name), missing
     y = x - base
-    values: dict[str, float | None] = {}
+    values: dict[str, Any] = {}
 
     p_on, p_off = _pick(own, glob, "p_on"), _pick(own, glob, "p_off")
     if p_on is None or p_off is None or p_off < p_on:

@@ -6,6 +6,7 @@ Runs on every mark drag, so it touches only the representative-beat window (a se
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import replace
 
 import numpy as np
@@ -34,7 +35,7 @@ from reviewapp.core.measure.intervals import (
     span_ms,
 )
 from reviewapp.core.measure.limits import QTC_QUANTITIES
-from reviewapp.core.measure.morphology import lead_shapes
+from reviewapp.core.measure.morphology import p_part, qrs_part, t_part
 from reviewapp.core.measure.preexcitation import is_preexcited
 from reviewapp.core.measure.qt_wide_qrs import jt_ms, jtc_bazett, qt_bogossian
 from reviewapp.core.measure.qtc import QTC_FORMULAS
@@ -139,7 +140,7 @@ def compute_measurements(marked: MarkedECG) -> Measurements:
             base = None if bases is None else float(bases[i])
             m, why = lead_measurements(name, wave[:, i], marks, own, fs, base)
             if base is not None:
-                m = replace(m, **_shapes(wave[:, i] - base, marks, own, rep, fs))  # type: ignore[arg-type]
+                m = replace(m, **_shapes(wave, i, base, marks, own, rep, fs))  # type: ignore[arg-type]
             leads.append(m)
             unmeasured += why
         g.update(_axes(marked, wave, marks, bases, unmeasured))
@@ -283,22 +284,59 @@ def _next_beat_start(rep: object, marks: WaveMarks) -> int | None:
     return None if rr is None or first is None else first + int(rr)
 
 
+# Wave shapes of the last readings, by part: a mark drag changes one part of one or a few
+# leads (a T end moves the T part only), so the others are reused, keeping a drag's
+# recomputation near what it was before the shapes were measured. Keyed on the window's
+# array (kept with the result, so a reused id never matches) and every index a part reads.
+Shape = dict[str, float | bool | str | None]
+_SHAPES: dict[tuple[object, ...], tuple[np.ndarray, Shape]] = {}
+
+
+def _cached_part(wave: np.ndarray, key: tuple[object, ...], make: Callable[[], Shape]) -> Shape:
+    k = (id(wave), *key)
+    hit = _SHAPES.get(k)
+    if hit is not None and hit[0] is wave:
+        return hit[1]
+    out = make()
+    if len(_SHAPES) > 4000:
+        _SHAPES.clear()
+    _SHAPES[k] = (wave, out)
+    return out
+
+
 def _shapes(
-    y: np.ndarray, marks: WaveMarks, own: WaveMarks | None, rep: object, fs: float
-) -> dict[str, object]:
+    wave: np.ndarray,
+    i: int,
+    base: float,
+    marks: WaveMarks,
+    own: WaveMarks | None,
+    rep: object,
+    fs: float,
+) -> Shape:
     def pick(name: str) -> int | None:
         v = own.get(name) if own is not None else None
         return marks.get(name) if v is None else v
 
-    return lead_shapes(
-        np.asarray(y, dtype=np.float64),
-        (marks.qrs_on, marks.qrs_off),
-        (pick("qrs_on"), pick("qrs_off")),
-        (pick("p_on"), pick("p_off")),
-        pick("t_off"),
-        _next_beat_start(rep, marks),
-        fs,
-    )
+    y: list[np.ndarray] = []
+
+    def lead() -> np.ndarray:
+        if not y:
+            y.append(np.asarray(wave[:, i], dtype=np.float64) - base)
+        return y[0]
+
+    g = (marks.qrs_on, marks.qrs_off)
+    q = (pick("qrs_on"), pick("qrs_off"))
+    p = (pick("p_on"), pick("p_off"))
+    t_off, stop = pick("t_off"), _next_beat_start(rep, marks)
+    return {
+        **_cached_part(wave, ("qrs", i, base, fs, g, q), lambda: qrs_part(lead(), g, q, fs)),
+        **_cached_part(wave, ("p", i, base, fs, p), lambda: p_part(lead(), p, fs)),
+        **_cached_part(
+            wave,
+            ("t", i, base, fs, q[1], t_off, stop),
+            lambda: t_part(lead(), q[1], t_off, stop, fs),
+        ),
+    }
 
 
 def _mostly_paced(marked: MarkedECG) -> bool:

@@ -67,16 +67,22 @@ def _peak_index(y: np.ndarray, lobe: Lobe) -> int:
 
 
 def _notched(y: np.ndarray, lobe: Lobe) -> bool:
-    """Two local maxima inside the lobe with a dip of ``NOTCH_MIN_MV`` between them."""
+    """Two local maxima inside the lobe with a dip of ``NOTCH_MIN_MV`` between them: at
+    some sample, the highest values before and after it both stand that much above it.
+
+    >>> lb = Lobe(1, 1.0, 0, 6)
+    >>> _notched(np.array([0.2, 1.0, 0.8, 0.6, 0.9, 0.5, 0.1]), lb)
+    True
+    >>> _notched(np.array([0.2, 1.0, 0.98, 0.96, 0.9, 0.5, 0.1]), lb)
+    False
+    """
     seg = y[lobe.first : lobe.last + 1] * lobe.sign
     if seg.size < 5:
         return False
-    best = -np.inf
-    for k in range(1, seg.size - 1):
-        # the deepest dip below the highest peak on each side of k
-        left, right = float(seg[: k + 1].max()), float(seg[k:].max())
-        best = max(best, min(left, right) - float(seg[k]))
-    return best >= NOTCH_MIN_MV
+    before = np.maximum.accumulate(seg)
+    after = np.maximum.accumulate(seg[::-1])[::-1]
+    dip = np.minimum(before, after) - seg
+    return float(dip[1:-1].max()) >= NOTCH_MIN_MV
 
 
 def qrs_shape(y: np.ndarray, fs_hz: float, last_start: int | None = None) -> QRSShape:
@@ -304,6 +310,59 @@ def initial_slur(y: np.ndarray, fs_hz: float) -> InitialSlur:
     return InitialSlur(_ms(int(slow.sum()), fs_hz), float(y[fast]), same)
 
 
+def qrs_part(
+    y: np.ndarray,
+    glob_qrs: tuple[int | None, int | None],
+    qrs: tuple[int | None, int | None],
+    fs_hz: float,
+) -> dict[str, float | bool | str | None]:
+    """The QRS fields of ``lead_shapes``: R-peak time, R and S durations, notched R and the
+    initial slur over the global QRS; the terminal notch or slur over the lead's own."""
+    n = y.shape[0]
+    out: dict[str, float | bool | str | None] = {}
+    on, off = qrs
+    g_on, g_off = glob_qrs
+    if g_on is not None and g_off is not None and 0 <= g_on < g_off < n:
+        # The wave durations and the R-peak time over the global QRS: a lead's own QRS end
+        # may leave out a slurred terminal S (right bundle branch block) that the criteria
+        # count, and the R-peak time runs from the (earliest) QRS onset.
+        own_end = None if off is None else max(0, off - g_on)
+        s = qrs_shape(y[g_on : g_off + 1], fs_hz, own_end)
+        out.update(r_peak_time_ms=s.r_peak_time_ms, r_ms=s.r_ms, s_ms=s.s_ms, r_notched=s.r_notched)
+        d = initial_slur(y[g_on : g_off + 1], fs_hz)
+        out.update(delta_ms=d.ms, delta_mv=d.mv, delta_same_way=d.same_way)
+    if on is not None and off is not None and 0 <= on < off < n:
+        e = end_qrs_notch_slur(y, on, off, fs_hz)
+        out.update(jp_mv=e.jp_mv, end_qrs=e.kind)
+    return out
+
+
+def p_part(
+    y: np.ndarray, p: tuple[int | None, int | None], fs_hz: float
+) -> dict[str, float | bool | str | None]:
+    """The P terminal force fields of ``lead_shapes``."""
+    p_on, p_off = p
+    if p_on is None or p_off is None or not 0 <= p_on < p_off < y.shape[0]:
+        return {}
+    pt = p_terminal(y[p_on : p_off + 1], fs_hz)
+    return {"p_terminal_mv": pt.mv, "p_terminal_ms": pt.ms}
+
+
+def t_part(
+    y: np.ndarray, off: int | None, t_off: int | None, stop: int | None, fs_hz: float
+) -> dict[str, float | bool | str | None]:
+    """The T and U fields of ``lead_shapes``: lowest ST-T level from J+80 ms, U wave."""
+    out: dict[str, float | bool | str | None] = {}
+    if off is None or t_off is None or not off < t_off < y.shape[0]:
+        return out
+    j80 = off + round(80.0 * fs_hz / 1000.0)
+    if j80 < t_off:
+        out["t_min_mv"] = float(y[j80 : t_off + 1].min())
+    if stop is not None:
+        out["u_mv"] = u_wave_mv(y, t_off, stop, fs_hz)
+    return out
+
+
 def lead_shapes(
     y: np.ndarray,
     glob_qrs: tuple[int | None, int | None],
@@ -321,30 +380,8 @@ def lead_shapes(
     ``stop``: the first sample of the next beat (its P, else its QRS), None when unknown.
     Fields that cannot be measured are None.
     """
-    n = y.shape[0]
-    out: dict[str, float | bool | str | None] = {}
-    on, off = qrs
-    g_on, g_off = glob_qrs
-    if g_on is not None and g_off is not None and 0 <= g_on < g_off < n:
-        # The wave durations and the R-peak time over the global QRS: a lead's own QRS end
-        # may leave out a slurred terminal S (right bundle branch block) that the criteria
-        # count, and the R-peak time runs from the (earliest) QRS onset.
-        own_end = None if off is None else max(0, off - g_on)
-        s = qrs_shape(y[g_on : g_off + 1], fs_hz, own_end)
-        out.update(r_peak_time_ms=s.r_peak_time_ms, r_ms=s.r_ms, s_ms=s.s_ms, r_notched=s.r_notched)
-        d = initial_slur(y[g_on : g_off + 1], fs_hz)
-        out.update(delta_ms=d.ms, delta_mv=d.mv, delta_same_way=d.same_way)
-    if on is not None and off is not None and 0 <= on < off < n:
-        e = end_qrs_notch_slur(y, on, off, fs_hz)
-        out.update(jp_mv=e.jp_mv, end_qrs=e.kind)
-    p_on, p_off = p
-    if p_on is not None and p_off is not None and 0 <= p_on < p_off < n:
-        pt = p_terminal(y[p_on : p_off + 1], fs_hz)
-        out.update(p_terminal_mv=pt.mv, p_terminal_ms=pt.ms)
-    if off is not None and t_off is not None and off < t_off < n:
-        j80 = off + round(80.0 * fs_hz / 1000.0)
-        if j80 < t_off:
-            out["t_min_mv"] = float(y[j80 : t_off + 1].min())
-        if stop is not None:
-            out["u_mv"] = u_wave_mv(y, t_off, stop, fs_hz)
-    return out
+    return {
+        **qrs_part(y, glob_qrs, qrs, fs_hz),
+        **p_part(y, p, fs_hz),
+        **t_part(y, qrs[1], t_off, stop, fs_hz),
+    }
