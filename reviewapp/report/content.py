@@ -135,10 +135,17 @@ class ReportContent:
     n_overrides: int
     notes: tuple[str, ...] = ()
     # Every reason of the reading (value not measured, not comparable, criterion not applied,
-    # caution), for the CSV; and the statements the page prints with their sources (each
-    # once; per-lead values are not on the page, so neither are their not-measured causes).
+    # caution), for the CSV; and the numbered reason notes the page prints with their sources
+    # (each once; per-lead values are not on the page, so neither are their not-measured
+    # causes).
     reasons: tuple[ValueReason, ...] = ()
-    statements: tuple[rt.Statement, ...] = ()
+    reason_statements: tuple[rt.Statement, ...] = ()
+    # The interpretation (report/interpretation_block.py): the engine's statements with their
+    # criteria, why statements were not made, and the reader's own statements (the reading
+    # printed; ``core.marks.model.ReaderStatement``).
+    statements: tuple[Any, ...] = ()
+    statement_reasons: tuple[Any, ...] = ()
+    reader_statements: tuple[Any, ...] = ()
 
     @property
     def fs_hz(self) -> float:
@@ -216,10 +223,14 @@ def build_report_content(
     status: str = "unread",
     reviewer: str | None = None,
     signed_off_at: str | None = None,
+    reader_statements: Iterable[Any] = (),
 ) -> ReportContent:
     """Recompute the reading under ``overrides`` and collect what the page shows."""
+    from reviewapp.core.interpret import interpret
+
     overrides = tuple(overrides)
     reading = analysis.reading(overrides)
+    interpretation = interpret(reading, analysis.record.subject)
     marked = reading.marked
     rows, others = measurement_rows(reading, analysis.record.subject)
     rep_auto = analysis.representative
@@ -253,7 +264,10 @@ def build_report_content(
         n_overrides=len(overrides),
         notes=notes,
         reasons=reasons,
-        statements=rt.statements(reasons, measured_too=False),
+        reason_statements=rt.statements(reasons, measured_too=False),
+        statements=interpretation.statements,
+        statement_reasons=interpretation.reasons,
+        reader_statements=tuple(reader_statements),
     )
 
 
@@ -273,4 +287,5 @@ def load_report_content(path: Path, reviewer: str | None = None) -> ReportConten
         status=chosen.status,
         reviewer=chosen.reviewer,
         signed_off_at=chosen.signed_off_at,
+        reader_statements=chosen.statements,
     )

@@ -66,10 +66,12 @@ def _ensure_gui() -> None:
 
 
 def write_pdf(path: Path, content: ReportContent, layout: PageLayout | None = None) -> PageLayout:
-    """One landscape page at true scale; returns the layout used."""
+    """The landscape ECG page at true scale, then the interpretation page (statements with
+    their criteria and sources); returns the layout used."""
     from PySide6.QtCore import QMarginsF
     from PySide6.QtGui import QPageLayout, QPageSize, QPainter, QPdfWriter
 
+    from reviewapp.report.interpretation_block import paint_interpretation_page
     from reviewapp.report.page import paint_page
 
     path = check_output_path(path, "PDF", (".pdf",))
@@ -95,6 +97,8 @@ def write_pdf(path: Path, content: ReportContent, layout: PageLayout | None = No
         raise ReviewError("cannot write the PDF (folder missing or not writable?)", path)
     try:
         paint_page(painter, PDF_DPI / MM_PER_INCH, lo, content)
+        writer.newPage()
+        paint_interpretation_page(painter, PDF_DPI / MM_PER_INCH, lo, content)
     finally:
         painter.end()
     if not path.is_file() or path.stat().st_size == 0:

@@ -232,6 +232,9 @@ def paint_page(
     _draw_calibration(c, layout, sorted({s.row for s in strips}))
     _draw_leads(c, layout, content, strips)
     _draw_header(c, layout, content)
+    from reviewapp.report.interpretation_block import draw_statement_line
+
+    draw_statement_line(c, layout.statements, content)
     _draw_beat_panel(c, layout, content)
     _draw_footer(c, layout, content, generated_at or datetime.now(UTC), strips)
     return c.drawing
@@ -555,9 +558,9 @@ def _draw_table(c: _Canvas, box: Rect, content: ReportContent) -> None:
     and carries the number of its statement. Under the groups, the statements (each reason
     once, brief, with its source) and then the other flags (per-lead values, voltages)."""
     by_q = {r.quantity: r for r in content.rows}
-    statements = [rt.brief(st.text) for st in content.statements]
+    statements = [rt.brief(st.text) for st in content.reason_statements]
     numbers: dict[str, list[int]] = {}
-    for k, st in enumerate(content.statements, start=1):
+    for k, st in enumerate(content.reason_statements, start=1):
         for q in st.quantities:
             numbers.setdefault(q, []).append(k)
     qtc_not_comparable = any(

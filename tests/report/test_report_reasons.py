@@ -67,7 +67,7 @@ def test_measurement_block_holds_every_reason_whole(kind, shared_data, ludb_anal
         for b, rb in inside[i + 1 :]:
             assert not ra.intersects(rb), (a, b)  # nothing drawn over anything else
     drawn = re.sub(r"\s+", "", "".join(t for t, _ in inside))
-    for st in content.statements:
+    for st in content.reason_statements:
         assert re.sub(r"\s+", "", rt.brief(st.text)) in drawn, st.text
     for row in content.rows:
         if row.quantity in {q for g in _page_groups() for q in g} and (

@@ -207,6 +207,8 @@ def infarct_criteria_skipped(measurements: Measurements) -> str | None:
     qrs = measurements.intervals.qrs_ms
     if measurements.paced:
         return "ST/Q criteria not applied: paced rhythm"
+    if measurements.pre_excitation:
+        return "ST/Q criteria not applied: ventricular pre-excitation"
     if qrs is not None and displayed(qrs, "ms") >= WIDE_QRS_MS:
         return f"ST/Q criteria not applied: QRS >= {WIDE_QRS_MS:.0f} ms"
     return None
@@ -303,6 +305,17 @@ def evaluate_findings(measurements: Measurements, subject: SubjectFacts) -> tupl
         if f is not None:
             out.append(f)
 
+    if infarct_criteria_skipped(measurements) is not None:
+        return tuple(out)
+    return tuple(out) + infarct_findings(measurements, subject)
+
+
+def infarct_findings(measurements: Measurements, subject: SubjectFacts) -> tuple[Finding, ...]:
+    """The ST and Q-wave criteria of the 4th UDMI on every lead, without the gating of
+    ``infarct_criteria_skipped`` (``evaluate_findings`` applies it; the interpretation
+    statements apply their own, e.g. Q waves stay readable in right bundle branch block).
+    Order: ST levels (two contiguous leads), then Q waves."""
+
     def st_flag(m: LeadMeasurements) -> Finding | None:
         nr = normal_range("st_j_mv", subject, m.lead)
         f = _check("st_j_mv", m.st_j_mv, nr, m.lead)
@@ -320,9 +333,7 @@ def evaluate_findings(measurements: Measurements, subject: SubjectFacts) -> tupl
             f.quantity, f.value, f.unit, f.limit, f.direction, f.source, f"{word}: {f.text}", f.lead
         )
 
-    if infarct_criteria_skipped(measurements) is not None:
-        return tuple(out)
-    out += _contiguous_flags(measurements.leads, st_flag)
+    out = _contiguous_flags(measurements.leads, st_flag)
 
     def q_flag(m: LeadMeasurements) -> Finding | None:
         nr = normal_range("q_ms", subject, m.lead)
