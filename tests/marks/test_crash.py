@@ -20,8 +20,8 @@ import pytest
 
 from reviewapp.core.marks import MarksStore, backup_path_for, load_sidecar, record_identity
 
-KILLS = 500
-TIME_CAP_S = 110.0
+KILLS = 200
+TIME_CAP_S = 60.0
 ROUNDS_PER_FILE = 25  # a new sidecar now and then keeps the audit trail (and saves) small
 
 pytestmark = [
