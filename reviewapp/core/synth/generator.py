@@ -1,12 +1,12 @@
 """Synthetic 12-lead ECG with exact ground truth, from a heart-vector (dipole) model.
 
 Method: the cardiac dipole model with fixed lead vectors (Burger & van Milaan 1946); the heart
-vector H(t) in Frank XYZ is built from compact-support lobes (``lobes``), projected onto I, II,
-V1-V6 with Dower's transform (Dower et al., Clin Cardiol 1980), and III, aVR, aVL, aVF derived
-with Einthoven's and Goldberger's relations (``leads``). Because every lobe is exactly zero
-outside its support, each wave's first and last non-zero samples are known by construction
-(``truth``), and the intervals and frontal axes asked for are realised to the sample and to
-floating-point precision respectively.
+vector H(t) in Frank XYZ is built from compact-support lobes (``lobes``), projected onto I and
+II by Einthoven's triangle and onto V1-V6 by Dower's transform (Dower et al., Clin Cardiol
+1980), and III, aVR, aVL, aVF derived with Einthoven's and Goldberger's relations (``leads``).
+Because every lobe is exactly zero outside its support, each wave's first and last non-zero
+samples are known by construction (``truth``), and the intervals and frontal axes asked for are
+realised to the sample and to floating-point precision respectively.
 
 Example:
     >>> syn = generate(SynthParams(hr_bpm=75, qt_ms=420, duration_s=4))
@@ -28,7 +28,6 @@ from reviewapp.core.synth import noise, templates
 from reviewapp.core.synth.leads import (
     axis_of_area,
     complete_leads,
-    dower_legacy_axis,
     frontal_rotation_for_axis,
     project_independent,
     rotation_z,
@@ -59,10 +58,6 @@ class SyntheticECG:
         d = asdict(self.params)
         d["ectopic_beats"] = list(self.params.ectopic_beats)
         d["lead_names"] = list(self.params.lead_names)
-        # Truth files written before limb_leads existed were all made with Dower's limb rows:
-        # an absent key means "dower", so it is written only for the Einthoven projection.
-        if d["limb_leads"] == "dower":
-            del d["limb_leads"]
         return d
 
 
@@ -240,7 +235,7 @@ def generate(
 
     def oriented(tpl: tuple[Lobe, ...], n_nonzero: int, axis_deg: float) -> np.ndarray:
         area = wave_area_vector(tpl, n_nonzero, np.eye(3))
-        return rotation_z(frontal_rotation_for_axis(area, axis_deg, p.limb_leads))
+        return rotation_z(frontal_rotation_for_axis(area, axis_deg))
 
     qrs_n = _samples(p.qrs_ms, fs) + 1
     rot_qrs = oriented(qrs_tpl, qrs_n, p.qrs_axis_deg)
@@ -294,14 +289,13 @@ def generate(
         return _frontal_deg(heart[lo : hi + 1].sum(axis=0))
 
     def truth_axis(lo: int, hi: int) -> float:
-        # From the generating dipole, not from the leads (the hexaxial axis the Einthoven
-        # limb leads show); the legacy Dower projection keeps its recorded definition.
-        area = heart[lo : hi + 1].sum(axis=0)
-        return dower_legacy_axis(area) if p.limb_leads == "dower" else axis_of_area(area)
+        # From the generating dipole, not from the leads: the hexaxial axis the Einthoven
+        # limb leads show.
+        return axis_of_area(heart[lo : hi + 1].sum(axis=0))
 
     if p.af and p.f_wave_mv > 0:
         heart = heart + noise.fibrillatory_waves(n, fs, p.f_wave_mv, f_rng)
-    clean_indep = project_independent(heart, p.limb_leads)
+    clean_indep = project_independent(heart)
     indep = clean_indep.copy()
     if p.baseline_wander_mv > 0:
         indep += noise.baseline_wander(n, fs, 8, p.baseline_wander_mv, wander_rng)
