@@ -550,9 +550,13 @@ def delineate_beats(
         matched[np.ix_(is_dom, absent)] = True
     own = ~matched.all(axis=1)
     if own.any():
-        g_own, l_own = _delineate_own(filt, fs_hz, r, np.flatnonzero(own), usable, params)
         # Per boundary: the matched median-beat mark where there is one, else the beat's own.
         take = ~matched[own]  # (n_own, 5)
+        # The global QRS is widened only where a beat's own QRS or P end is used.
+        need_qrs = bool(take[:, [P_OFF, QRS_ON, QRS_OFF]].any())
+        g_own, l_own = _delineate_own(
+            filt, fs_hz, r, np.flatnonzero(own), usable, params, need_qrs
+        )
         cols = np.zeros((take.shape[0], N_MARKS), dtype=bool)
         cols[:, :5] = take
         for pk, col in _PEAK_FOLLOWS.items():
@@ -584,8 +588,10 @@ def _delineate_own(
     sel: np.ndarray,
     usable: np.ndarray,
     params: DelineationParams,
+    widen_qrs: bool = True,
 ) -> tuple[np.ndarray, np.ndarray]:
-    """Delineate beats ``sel`` on their own signal; record indices, -1 absent."""
+    """Delineate beats ``sel`` on their own signal; record indices, -1 absent (the global QRS
+    widened to the standard's extremes with ``widen_qrs``, see ``delineate_block``)."""
     n = filt["fast"].shape[0]
     pre = round(0.45 * fs_hz)
     post = round(0.80 * fs_hz)
@@ -605,7 +611,7 @@ def _delineate_own(
     # P of this beat starts after the previous beat's T: search at most 45 % of the RR back.
     p_lo = np.maximum(lo, pre - (0.45 * rr_prev).astype(int))
     bounds = BlockBounds(r=np.full(len(r), pre), lo=lo, hi=hi, p_lo=p_lo, t_hi=t_hi, rr=rr_next)
-    glob, lead, _ = delineate_block(block, bounds, usable, params)
+    glob, lead, _ = delineate_block(block, bounds, usable, params, widen_qrs)
     shift = (r - pre)[:, None]
     glob = np.where(glob >= 0, glob + shift, -1)
     lead = np.where(lead >= 0, lead + shift[:, :, None], -1)

@@ -152,8 +152,12 @@ def prefilter(x_mv: np.ndarray, fs_hz: float) -> dict[str, np.ndarray]:
 
 
 def delineate_block(
-    block: dict[str, np.ndarray], bounds: BlockBounds, usable: np.ndarray, p: DelineationParams
-) -> tuple[np.ndarray, np.ndarray]:
+    block: dict[str, np.ndarray],
+    bounds: BlockBounds,
+    usable: np.ndarray,
+    p: DelineationParams,
+    widen_qrs: bool = True,
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Delineate B beat windows at once.
 
     Args:
@@ -161,6 +165,9 @@ def delineate_block(
         bounds: per-beat limits in window coordinates.
         usable: (L,) bool.
         p: parameters for this sampling rate.
+        widen_qrs: False skips widening the global QRS to the standard's extremes (the
+            caller then uses none of the global QRS onset, QRS end and P end: the P end is
+            kept before the QRS onset).
 
     Returns:
         (global (B, 8), per-lead (B, L, 8), multi-lead (B, 8)) int64 window indices, -1 =
@@ -282,7 +289,7 @@ def delineate_block(
     core = glob.copy()
     if p.standard_global:
         raw = block["raw"][:, :, ui] if "raw" in block else None
-        _standard_global(glob, d, raw, r, bounds, lp, lt, spk, p)
+        _standard_global(glob, d, raw, r, bounds, lp, lt, spk, p, widen_qrs)
         # The latest lead's T end stays before the next P, like every lead's own.
         glob[:, T_OFF] = np.where(glob[:, T_OFF] > t_hi_b, core[:, T_OFF], glob[:, T_OFF])
         _p_before_qrs(glob)
@@ -305,9 +312,11 @@ def _standard_global(
     lt: LeadT,
     spk: np.ndarray,
     p: DelineationParams,
+    widen_qrs: bool = True,
 ) -> None:
     """Global marks widened to the earliest onset / latest end over the leads (in place on
-    ``glob``), by the confirmed-extreme rule of ``delineate_global``.
+    ``glob``), by the confirmed-extreme rule of ``delineate_global`` (the QRS only with
+    ``widen_qrs``).
 
     Candidates (window indices, per beat and usable lead):
 
@@ -334,6 +343,42 @@ def _standard_global(
     early through them); the P extreme needs ``glob_p_confirm`` (one) other lead within
     ``glob_p_agree``.
     """
+    nb, _w, nu = d.shape
+    k = p.glob_min_votes
+    if widen_qrs:
+        _widen_qrs(glob, d, raw, bounds, lp, spk, p)
+
+    def lead_votes(amp_mv: np.ndarray, present: np.ndarray, frac: float) -> np.ndarray:
+        amp = np.where(present, amp_mv, -1.0).reshape(nb, nu)
+        return present.reshape(nb, nu) & (amp >= frac * amp.max(axis=1, keepdims=True))
+
+    def widened(
+        col: int, cand: np.ndarray, votes: np.ndarray, agree: int, confirm: int, on: bool
+    ) -> None:
+        g = glob[:, col]
+        ext = confirmed_extreme(cand.reshape(nb, nu), votes, agree, on, k, confirm)
+        glob[:, col] = np.where(g >= 0, widen(g, ext, earliest=on), -1)
+
+    p_vote = lead_votes(lp.amp_mv, lp.ok, p.glob_p_vote_frac)
+    p_on = _beside_corner(lp.on, lp.on_corner, p_vote, True, p)
+    p_off = _beside_corner(lp.off, lp.off_corner, p_vote, False, p)
+    widened(P_ON, p_on, p_vote, p.glob_p_agree, p.glob_p_confirm, True)
+    widened(P_OFF, p_off, p_vote, p.glob_p_agree, p.glob_p_confirm, False)
+    t_vote = lead_votes(lt.amp_mv, lt.ok, p.glob_t_vote_frac)
+    widened(T_OFF, lt.end, t_vote, p.glob_t_agree, p.glob_t_confirm, False)
+
+
+def _widen_qrs(
+    glob: np.ndarray,
+    d: np.ndarray,
+    raw: np.ndarray | None,
+    bounds: BlockBounds,
+    lp: LeadP,
+    spk: np.ndarray,
+    p: DelineationParams,
+) -> None:
+    """The QRS part of ``_standard_global`` (in place on ``glob``)."""
+    r = bounds.r.astype(np.int64)
     nb, w, nu = d.shape
     rep = lambda a: np.repeat(a, nu)  # noqa: E731
     k = p.glob_min_votes
@@ -379,25 +424,6 @@ def _standard_global(
     on = np.where((spk >= 0) & (on >= 0), np.maximum(on, spk + p.spike_delay), on)
     glob[:, QRS_ON] = np.where(ok, widen(g_on, on, earliest=True), g_on)
     glob[:, QRS_OFF] = np.where(ok, widen(g_off, off, earliest=False), g_off)
-
-    def lead_votes(amp_mv: np.ndarray, present: np.ndarray, frac: float) -> np.ndarray:
-        amp = np.where(present, amp_mv, -1.0).reshape(nb, nu)
-        return present.reshape(nb, nu) & (amp >= frac * amp.max(axis=1, keepdims=True))
-
-    def widened(
-        col: int, cand: np.ndarray, votes: np.ndarray, agree: int, confirm: int, on: bool
-    ) -> None:
-        g = glob[:, col]
-        ext = confirmed_extreme(cand.reshape(nb, nu), votes, agree, on, k, confirm)
-        glob[:, col] = np.where(g >= 0, widen(g, ext, earliest=on), -1)
-
-    p_vote = lead_votes(lp.amp_mv, lp.ok, p.glob_p_vote_frac)
-    p_on = _beside_corner(lp.on, lp.on_corner, p_vote, True, p)
-    p_off = _beside_corner(lp.off, lp.off_corner, p_vote, False, p)
-    widened(P_ON, p_on, p_vote, p.glob_p_agree, p.glob_p_confirm, True)
-    widened(P_OFF, p_off, p_vote, p.glob_p_agree, p.glob_p_confirm, False)
-    t_vote = lead_votes(lt.amp_mv, lt.ok, p.glob_t_vote_frac)
-    widened(T_OFF, lt.end, t_vote, p.glob_t_agree, p.glob_t_confirm, False)
 
 
 def _beside_corner(

@@ -82,6 +82,12 @@ def lead_p_waves(
     >>> int(lp.on[0]), int(lp.off[0]), bool(lp.ok[0])
     (100, 148, True)
     """
+    if y.shape[0]:
+        # Nothing here reads past the QRS onset (plus a level's samples): the rest of the
+        # window (QRS and T) is left out of the array work.
+        reach = min(y.shape[1], int(np.max(pre_on)) + k_iso + 2)
+        y = y[:, : max(1, reach)]
+        y_fine = None if y_fine is None else y_fine[:, : y.shape[1]]
     w = y.shape[1]
     fs = p.fs_hz
     p_b = pre_on - p.p_gap

@@ -72,11 +72,18 @@ def qrs_bounds_thresholds(
         lo = np.maximum(lo, on_min)
     if off_max is not None:
         hi = np.minimum(hi, off_max)
+    # The noise floor is the whole window's median slope; nothing else reads beyond the QRS
+    # end's search limit (plus the run and envelope lengths), so the rest of the window (the
+    # T wave) is left out of the array work.
+    med = np.median(f, axis=1)
+    if f.shape[0]:
+        reach = int(np.max(np.minimum(hi, r + p.qrs_off_limit))) + max(p.qrs_run, p.qrs_env) + 2
+        f = f[:, : max(1, min(f.shape[1], reach))]
     _m, w = f.shape
     c_lo = np.maximum(lo, r - p.qrs_half_search)
     c_hi = np.minimum(hi, r + p.qrs_half_search)
     fmax = np.max(np.where(range_mask(w, c_lo, c_hi), f, 0.0), axis=1)
-    floor = p.noise_mult * np.median(f, axis=1)
+    floor = p.noise_mult * med
     sig = p.qrs_sig * fmax
     on_lo = np.maximum(lo, r - p.qrs_on_search)
     off_lim = np.minimum(hi, r + p.qrs_off_limit)
@@ -132,7 +139,7 @@ def qrs_bounds_thresholds(
         if p.qrs_arc_noise:
             tail = range_mask(w, i1 + p.qrs_corner_xr // 2, xr)
             base = np.sum(np.where(tail, f, 0.0), axis=1) / np.maximum(tail.sum(axis=1), 1)
-            base = np.minimum(base, ARC_NOISE_MEDIANS * np.median(f, axis=1))
+            base = np.minimum(base, ARC_NOISE_MEDIANS * med)
             arc = np.cumsum(f - base[:, None], axis=1)
         else:
             arc = np.cumsum(f, axis=1)
