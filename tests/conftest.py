@@ -89,3 +89,31 @@ class LudbAnalyses:
 def ludb_analyses(shared_data: Path) -> LudbAnalyses:
     """LUDB records (Kalyakulina et al., IEEE Access 2020) analysed once per test run."""
     return LudbAnalyses(shared_data / "ludb")
+
+
+@pytest.fixture(scope="session", autouse=True)
+def _qt_torn_down_before_python():
+    """Close and delete every Qt window while the application still exists.
+
+    Widgets and pyqtgraph views left for the interpreter's own teardown are destroyed in no
+    particular order, after their C++ parents may be gone; PySide6 and pyqtgraph can crash
+    there (pyqtgraph's package notes say so), turning a green run into a failed process.
+    """
+    yield
+    import sys
+
+    if "PySide6.QtWidgets" not in sys.modules:
+        return
+    import gc
+
+    from PySide6 import QtCore, QtWidgets
+
+    app = QtWidgets.QApplication.instance()
+    if app is None:
+        return
+    app.closeAllWindows()
+    for w in QtWidgets.QApplication.topLevelWidgets():
+        w.deleteLater()
+    QtCore.QCoreApplication.sendPostedEvents(None, QtCore.QEvent.Type.DeferredDelete)
+    app.processEvents()
+    gc.collect()

@@ -32,6 +32,7 @@ SHORTCUTS: tuple[tuple[str, str], ...] = (
     ("Drag a mark", "Correct a boundary; every interval, QTc, axis and finding updates at once"),
     ("Double-click a mark", "Reset that mark to automatic"),
     ("Ctrl+Shift+R", "Reset all marks to automatic"),
+    ("Ctrl+I", "Add an interpretation statement from the catalogue"),
     ("Ctrl+Z / Ctrl+Shift+Z", "Undo / redo a mark correction or caliper edit"),
     ("Alt+1 / Alt+2 / Alt+3", "Display filter: baseline / mains / low-pass"),
     ("Ctrl+E", "Export the reading as a true-scale PDF page"),
