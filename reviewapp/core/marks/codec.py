@@ -17,7 +17,7 @@ from __future__ import annotations
 import hashlib
 import json
 import math
-from collections.abc import Callable
+from collections.abc import Callable, Iterable
 from functools import cache
 from importlib import resources
 from pathlib import Path
@@ -314,6 +314,7 @@ def nesting_depth(doc: Any) -> int:
     stack: list[tuple[Any, int]] = [(doc, 1)]
     while stack:
         node, depth = stack.pop()
+        children: Iterable[Any]
         if isinstance(node, dict):
             children = node.values()
         elif isinstance(node, list):
