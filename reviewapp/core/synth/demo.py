@@ -231,9 +231,9 @@ def _readme() -> str:
     lines += [f"| {d.name} | {d.subject_id} | {d.timepoint} | {d.scenario} |" for d in DEMO_RECORDS]
     lines += [
         "",
-        "`../sample_study/` holds a second invented study, for `reviewapp study`: triplicate",
-        "ECGs of five subjects at drug-free, baseline and post-dose timepoints, with readings;",
-        "see its README (regenerate: `python -m reviewapp.core.synth.demo sample_study --study`).",
+        "`study/` holds a second invented study, for `reviewapp study`: triplicate ECGs of",
+        "five subjects at drug-free, baseline and post-dose timepoints, with readings; see its",
+        "README (regenerate: `reviewapp samples sample_records/study --study`).",
     ]
     return "\n".join(lines) + "\n"
 
