@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
@@ -90,8 +91,14 @@ class DelineationParams:
         """Parameters at ``fs_hz``; ``overrides`` replace DURATIONS_MS entries or fractions."""
         ms = {**DURATIONS_MS, **{k: v for k, v in overrides.items() if k in DURATIONS_MS}}
         rest = {k: v for k, v in overrides.items() if k not in DURATIONS_MS}
-        samples = {k: max(1, round(v * fs_hz / 1000.0)) for k, v in ms.items()}
-        return cls(fs_hz=float(fs_hz), **samples, **rest)
+        # Settings by name (an unknown name is refused by the constructor): durations in
+        # samples, the rest as given. Any, because the fields differ in type (int samples,
+        # float fractions, bool switches).
+        settings: dict[str, Any] = {
+            **{k: max(1, round(v * fs_hz / 1000.0)) for k, v in ms.items()},
+            **rest,
+        }
+        return cls(fs_hz=float(fs_hz), **settings)
 
 
 # Search windows and offsets in ms (converted to samples by DelineationParams.for_fs).

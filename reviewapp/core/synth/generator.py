@@ -328,14 +328,15 @@ def generate(
         derive_limb_leads=False,
     )
 
-    doms = [b for b in beat_truths if b.kind is BeatKind.DOMINANT]
-    ref = doms[0] if doms else beat_truths[0]
-    ref_m = ref.marks
+    # Interval and axis truth from the plans (every boundary an int; P absent only in AF).
+    doms = [pl for pl in plans if pl.kind is BeatKind.DOMINANT]
+    pool = doms or list(plans)
+    ref = pool[0]
+    dom_p = [(pl.p, pl.qrs) for pl in doms if pl.p is not None]
 
     def med(values: list[int]) -> float:
         return float(np.median(values)) * 1000.0 / fs
 
-    pool = doms or list(beat_truths)
     mean_rr = float(np.mean(rr_ms)) if len(rr_ms) else 60000.0 / p.hr_bpm
     truth = GroundTruth(
         fs_hz=fs,
@@ -343,19 +344,19 @@ def generate(
         lead_names=tuple(p.lead_names),
         rhythm="af" if p.af else "sinus",
         beats=beat_truths,
-        pr_ms=None if p.af else med([b.marks.qrs_on - b.marks.p_on for b in doms]),
-        p_ms=None if p.af else med([b.marks.p_off - b.marks.p_on for b in doms]),
-        qrs_ms=med([b.marks.qrs_off - b.marks.qrs_on for b in pool]),
-        qt_ms=med([b.marks.t_off - b.marks.qrs_on for b in pool]),
+        pr_ms=None if p.af else med([qrs[0] - wp[0] for wp, qrs in dom_p]),
+        p_ms=None if p.af else med([wp[1] - wp[0] for wp, _ in dom_p]),
+        qrs_ms=med([pl.qrs[1] - pl.qrs[0] for pl in pool]),
+        qt_ms=med([pl.t[1] - pl.qrs[0] for pl in pool]),
         rr_ms=_r6(mean_rr),
-        rr_sd_ms=_r6(np.std(rr_ms)) if len(rr_ms) > 1 else 0.0,
+        rr_sd_ms=_r6(float(np.std(rr_ms))) if len(rr_ms) > 1 else 0.0,
         hr_bpm=_r6(60000.0 / mean_rr),
-        qrs_axis_deg=_r6(truth_axis(ref_m.qrs_on, ref_m.qrs_off)),
-        p_axis_deg=None if ref_m.p_on is None else _r6(truth_axis(ref_m.p_on, ref_m.p_off)),
-        t_axis_deg=_r6(truth_axis(ref.t_on, ref_m.t_off)),
-        qrs_dipole_axis_deg=_r6(dipole_axis(ref_m.qrs_on, ref_m.qrs_off)),
-        p_dipole_axis_deg=None if ref_m.p_on is None else _r6(dipole_axis(ref_m.p_on, ref_m.p_off)),
-        t_dipole_axis_deg=_r6(dipole_axis(ref.t_on, ref_m.t_off)),
+        qrs_axis_deg=_r6(truth_axis(*ref.qrs)),
+        p_axis_deg=None if ref.p is None else _r6(truth_axis(*ref.p)),
+        t_axis_deg=_r6(truth_axis(*ref.t)),
+        qrs_dipole_axis_deg=_r6(dipole_axis(*ref.qrs)),
+        p_dipole_axis_deg=None if ref.p is None else _r6(dipole_axis(*ref.p)),
+        t_dipole_axis_deg=_r6(dipole_axis(*ref.t)),
         emg_snr_db=snr,
     )
     return SyntheticECG(record=record, truth=truth, params=p, clean_mv=clean)
