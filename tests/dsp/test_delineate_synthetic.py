@@ -2,21 +2,31 @@
 
 The synthetic truth defines each boundary as the first/last non-zero sample of a compact-
 support wave whose edges are linear (a slope discontinuity; reviewapp.core.synth.lobes, truth).
-The engine finds boundaries on 20/40 Hz low-passed copies, which round such a corner outward by
-4-7 samples, and then moves each mark to the corner of a less-filtered copy where one is clearly
-there (P: two-segment fit, delineate_corner; QRS: coarse-to-fine, delineate_refine; T end:
-trapezium area on the conditioned input, delineate_t.refine_t_end).
+The limb leads are Einthoven-triangle projections of the generating dipole, the chest leads
+Dower's transform of it (reviewapp.core.synth.leads). The engine finds boundaries on 20/40 Hz
+low-passed copies, which round such a corner outward by 4-7 samples, and then moves each mark
+to the corner of a less-filtered copy where one is clearly there (P: two-segment fit,
+delineate_corner; QRS: coarse-to-fine, delineate_refine; T end: trapezium area on the
+conditioned input, delineate_t.refine_t_end).
 
-Measured, noise-free, detected minus truth: P and QRS onset 0 samples at 500 Hz (0-1 at 1 kHz;
-P also at 250 Hz; QRS onset within one sample at 250-2000 Hz); QRS end and T end +1 sample, the
-support edge (the first sample back on the baseline: the J point, where ST is read, and the T
-end), QRS end at 500-1000 Hz (+2 at 250 Hz), T end at 125-1000 Hz. At 125 Hz the conditioned
-signal is no finer than the 40 Hz copy, so QRS marks are not refined: -2 / +2 samples.
-At 20 dB SNR the P and T marks stay within the CSE tolerances; the QRS corner test
-refuses a noisy corner, so QRS onset / end sit at -8 / +9 ms: QRS end within its 11.6 ms
-tolerance, QRS onset 1.5 ms beyond its 6.5 ms (a noise-tolerant corner test was exact here but
-moved the QTDB/LUDB onsets 8 ms away from the cardiologists, who mark a sharp onset before its
-corner: the readers' marks win; see delineate_qrs).
+Measured, noise-free, detected minus truth: P and QRS onset 0 samples at 250 and 500 Hz (0-1
+at 1 kHz, -1..0 at 2 kHz); QRS end and T end +1 sample, the support edge (the first sample
+back on the baseline: the J point, where ST is read, and the T end), at 250-1000 Hz. At 125 Hz
+the conditioned signal is no finer than the 40 Hz copy, so QRS marks are not refined: -2 / +2
+samples. At 20 dB SNR (seeds 1-7): P onset -2..0 ms, P end 0..+4, QRS onset -8, QRS end
++8..+10, T end +10..+16 ms. The QRS corner test refuses a noisy corner, so the QRS marks stay
+near the 40 Hz slope boundary: QRS end within its 11.6 ms tolerance, QRS onset 1.5 ms beyond
+its 6.5 ms (a noise-tolerant corner test was exact here but moved the QTDB/LUDB onsets 8 ms
+away from the cardiologists, who mark a sharp onset before its corner: the readers' marks win;
+see delineate_qrs).
+
+Before these guards ran on the Einthoven limb leads they ran on a legacy projection (Dower's
+limb rows, not an equilateral triangle); on the Einthoven leads the engine then gave QRS end
++14 ms at 20 dB (noise dragged the QRS end's arc-length corner; delineate_qrs.ARC_NOISE_MEDIANS),
+P onset -16 / -14 ms (seeds 2, 3: leads whose P corner test the noise failed kept their
+trapezium marks 14-16 ms early and widened the global P; delineate_core._beside_corner) and
+QRS end +16 ms at 250 Hz (the fine threshold crossing lay in the conditioning low-pass's blurred
+tail; delineate_refine.CORNER_RATIO_BLURRED).
 """
 
 from __future__ import annotations
@@ -44,23 +54,19 @@ BIAS_MS = {"p_on": 0.0, "p_off": 0.0, "qrs_on": 0.0, "qrs_off": 2.0, "t_off": 2.
 # -8 ms / +8 to +10 ms.
 GUARD_MS = 4.0
 # At 20 dB the QRS corner test (delineate_refine) does not accept a noisy corner, so the QRS
-# marks stay on the 40 Hz slope boundary: measured -8 ms / +8 to +10 ms, as before the
-# refinement (a noise-tolerant corner test was exact here but moved real QTDB/LUDB onsets
-# 8 ms away from the readers; see delineate_qrs.CORNER_NOISE_MULT).
+# marks stay near the 40 Hz slope boundary: measured -8 ms / +8 to +10 ms (a noise-tolerant
+# corner test was exact here but moved real QTDB/LUDB onsets 8 ms away from the readers; see
+# delineate_qrs.CORNER_NOISE_MULT).
 # T end: the global T end is the latest lead T end confirmed by a second lead (the standard's
 # definition, AHA/ACCF/HRS 2007 Part I; delineate_core._standard_global); in 20 dB noise the
-# latest noisy lead ends lie later than the median lead's: measured +16 / +12 ms (seeds 1, 2),
+# latest noisy lead ends lie later than the median lead's: measured +12 to +14 ms (seeds 1-3),
 # +2 ms before the global marks followed that definition (still within the CSE 30.6 ms).
-# P end: +6 ms at seed 2 for the same reason (earliest / latest P mark over the leads
-# confirmed by two more leads), 0 before.
+# P end: 0 to +2 ms (seeds 1-3) for the same reason (the latest P mark over the leads).
 NOISY_BIAS_MS = {**BIAS_MS, "qrs_on": -8.0, "qrs_off": 9.0, "p_off": 2.0, "t_off": 12.0}
 
 
 def _errors_ms(**kw: object) -> dict[str, np.ndarray]:
-    # The guards below were measured on the Dower-projected limb leads (SynthParams.limb_leads
-    # "dower", the projection these checks were set on); the Einthoven-projected ECG is used
-    # by the axis and long-QT checks (tests/measure/test_axes.py, tests/dsp/test_long_qt.py).
-    syn = synth.generate(params_mod.SynthParams(**{"limb_leads": "dower", **kw}))
+    syn = synth.generate(params_mod.SynthParams(**kw))
     an = analyse(syn.record)
     fs = syn.record.fs_hz
     det_r = np.array([b.r for b in an.beats])
@@ -136,7 +142,7 @@ def test_noise_free_t_end_within_one_sample_of_the_support_edge(kw: dict) -> Non
 @pytest.mark.parametrize("seed", [4, 5, 6, 7])
 def test_20_db_t_end_within_cse(seed: int) -> None:
     # CSE tolerance for T end, 30.6 ms (CSE Working Party 1985): mean and SD of the dominant
-    # beats' T end error at 20 dB muscle-like noise. Measured +6 to +16 ms, SD 0 (the beats
+    # beats' T end error at 20 dB muscle-like noise. Measured +10 to +16 ms, SD 0 (the beats
     # carry the median beat's mark); +2 to +6 ms while the global T end was the median lead's,
     # before it followed the standard's latest end over the leads (AHA/ACCF/HRS 2007 Part I),
     # which noise moves later.
@@ -171,8 +177,8 @@ def test_noise_free_p_within_one_sample(kw: dict) -> None:
 @pytest.mark.parametrize("seed", [4, 5, 6, 7])
 def test_20_db_p_within_cse(seed: int) -> None:
     # CSE tolerances (CSE Working Party 1985): P onset 10.2 ms, P end 12.7 ms, for the mean and
-    # the SD of the dominant beats' errors at 20 dB muscle-like noise. Measured: means 0 or
-    # one sample (-2 ms), SD 0 (the beats carry the median beat's marks).
+    # the SD of the dominant beats' errors at 20 dB muscle-like noise. Measured: means -2 to
+    # +4 ms, SD 0 (the beats carry the median beat's marks).
     err = _errors_ms(emg_snr_db=20.0, seed=seed)
     for f in ("p_on", "p_off"):
         assert abs(err[f].mean()) <= CSE_MS[f], f"{f} mean {err[f].mean():.1f} ms"
@@ -196,11 +202,11 @@ def test_noise_free_qrs_within_one_sample(kw: dict) -> None:
     # onset must lie within one sample of the first non-zero sample; the end is placed on the
     # support edge, the first sample back on the baseline (the J point, where ST is read), and
     # must lie within one sample of that edge (truth + 0..2 samples). Measured: onset 0 samples
-    # at 500 Hz (narrow and wide QRS), 0-1 at 1 kHz, -1..0 at 2 kHz, +1 at 250 Hz; end +1 at
-    # 500 Hz, +1..+2 at 1 kHz, 0..+1 at 2 kHz, +2 at 250 Hz.
-    # Wide QRS: onset -2 samples since the global onset is the earliest lead's (AHA/ACCF/HRS
-    # 2007 Part I): the conditioning low-pass spreads its steep start over the two samples
-    # before it by more than the 5 uV a lead must move to widen the QRS (delineate_core).
+    # at 250 and 500 Hz (narrow and wide QRS), 0-1 at 1 kHz, -1..0 at 2 kHz; end +1 at 250
+    # and 500 Hz (wide QRS too), +1..+2 at 1 kHz, 0..+1 at 2 kHz.
+    # Wide QRS: the onset may lie 2 samples early since the global onset is the earliest
+    # lead's (AHA/ACCF/HRS 2007 Part I): the conditioning low-pass spreads a steep start over
+    # the samples before it (delineate_core); measured 0.
     err = _errors_ms(**kw)
     one = 1000.0 / float(kw.get("fs_hz", 500.0))
     on_tol = 2 * one if kw.get("wide_qrs") else one

@@ -13,21 +13,26 @@ Tuning split (RULES.md): every threshold of the global rule (``delineate_global`
 ``DelineationParams.glob_*``) was set on the ODD-numbered records only; the EVEN-numbered
 records were held out and are the honest figures (held-back records score worse still).
 
-Measured (this engine; before: the median lead's marks as global marks, engine 0.1.0):
+Measured (this engine; "issue 10": the first standard-definition rule; "before": the median
+lead's marks as global marks, engine 0.1.0):
 
-| interval | odd (tuning) | even (held out) | before, odd / even | IEC |mean| / SD |
+| interval | odd (tuning) | even (held out) | issue 10, odd / even | IEC |mean| / SD |
 |---|---|---|---|---|
-| P | -9.4 +- 12.2 | -11.8 +- 18.7 | -18.6 +- 10.8 / -20.6 +- 17.9 | 10 / 15 |
-| PR | -0.0 +- 8.7 | 0.6 +- 10.1 | 0.9 +- 6.4 / 0.7 +- 9.4 | 10 / 10 |
-| QRS | -7.9 +- 13.8 | -8.7 +- 11.7 | -20.2 +- 10.8 / -18.3 +- 12.3 | 6 / 10 |
-| QT | -9.9 +- 19.3 | -8.7 +- 19.9 | -29.4 +- 19.3 / -27.0 +- 19.6 | 12 / 30 |
+| P | -6.8 +- 12.0 | -6.3 +- 14.5 | -9.4 +- 12.2 / -11.8 +- 18.7 | 10 / 15 |
+| PR | 1.1 +- 8.5 | 1.4 +- 10.2 | -0.0 +- 8.7 / 0.6 +- 10.1 | 10 / 10 |
+| QRS | -5.4 +- 13.7 | -7.5 +- 12.2 | -7.9 +- 13.8 / -8.7 +- 11.7 | 6 / 10 |
+| QT | -9.6 +- 19.4 | -8.5 +- 20.2 | -9.9 +- 19.3 / -8.7 +- 19.9 | 12 / 30 |
 
-Within the IEC limits: PR (mean both halves, SD on the tuning half), QT (mean and SD both
-halves), P mean and SD on the tuning half. Not reached: the QRS mean (-7.9 / -8.7 ms against
-6 ms: the QRS still short of the readers' widest leads) and the QRS SD (the readers' own lead
-marks stray: record 61's V3/V4 QRS ends lie 20 ms after the other leads'), the P mean
-(-11.8) and SD on the held-out half, the PR SD on it (10.1). The limits below hold the
-figures reached so they cannot regress.
+Before (median lead's marks), odd / even: P -18.6 +- 10.8 / -20.6 +- 17.9, PR 0.9 +- 6.4 /
+0.7 +- 9.4, QRS -20.2 +- 10.8 / -18.3 +- 12.3, QT -29.4 +- 19.3 / -27.0 +- 19.6.
+
+Within the IEC limits: P (mean and SD, both halves), PR (mean both halves, SD on the tuning
+half), QT (mean and SD both halves), the QRS mean on the tuning half. Not reached: the QRS
+mean on the held-out half (-7.5 against 6 ms: the QRS still short of the readers' widest
+leads) and the QRS SD (the readers' own lead marks stray: record 61's V3/V4 QRS ends lie 20 ms
+after the other leads'; in atrial fibrillation records 101 and 109 the inferior leads' QRS
+ends are marked 40-60 ms after the J point), the PR SD on the held-out half (10.2). The limits
+below hold the figures reached so they cannot regress.
 """
 
 from __future__ import annotations
@@ -53,16 +58,16 @@ pytestmark = pytest.mark.slow  # 140 records (shared cached analyses)
 # (|mean| max, SD max) per half: a little above the measured figures in the table above.
 HELD = {
     True: {
-        "p_ms": (11.5, 14.0),
-        "pr_ms": (2.5, 10.0),
-        "qrs_ms": (9.5, 15.0),
-        "qt_ms": (12.0, 21.0),
+        "p_ms": (7.5, 13.0),
+        "pr_ms": (2.0, 9.5),
+        "qrs_ms": (6.5, 14.5),
+        "qt_ms": (10.5, 20.5),
     },
     False: {
-        "p_ms": (14.0, 20.5),
-        "pr_ms": (3.0, 11.5),
-        "qrs_ms": (10.5, 13.5),
-        "qt_ms": (11.0, 22.0),
+        "p_ms": (7.5, 15.5),
+        "pr_ms": (2.5, 11.0),
+        "qrs_ms": (8.5, 13.0),
+        "qt_ms": (9.5, 21.0),
     },
 }
 
@@ -130,8 +135,11 @@ def test_first_degree_av_block_pr(shared_data: Path, ludb_global) -> None:
     # ludb.csv: "I degree av block" (PR > 200 ms, common practice). The cardiologists' own
     # marks give a global PR of only 189-200 ms on 3 of the 5 such records here (15, 61, 131;
     # rule of the module docstring), so the check is: above 200 ms wherever theirs is (78:
-    # 230 vs 232, 134: 232 vs 266 ms, a P onset found 34 ms late), and within 10 ms of
-    # theirs on the borderline ones.
+    # 230 vs 232, 134: 240 vs 266 ms), and within 10 ms of theirs on the borderline ones.
+    # Record 134: the engine's P onset lies within 10 ms of the readers' in 9-10 of 12 leads
+    # on every beat; the reference's second-earliest onset comes from V2/V3 marks 88-122 ms
+    # earlier on three beats (and III/aVF 50-58 ms earlier on two), where those leads are
+    # flat, which makes the reference P 208 ms long.
     comp, readings = ludb_global
     labels = ludb_labels(shared_data / "ludb")
     avb = [

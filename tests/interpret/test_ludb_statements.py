@@ -32,13 +32,21 @@ from reviewapp.core.interpret.lead_checks import SEQUENCE_GAIN, limb_reversal, s
 from reviewapp.core.measure import compute_measurements
 from tests.interpret.ludb_labels import LABELS, OTHER_CONVENTION, read_labels, score, subject_of
 
-# label -> ((tp, fn, tn, fp) odd half, (tp, fn, tn, fp) even half), measured with engine 0.3.0.
+# label -> ((tp, fn, tn, fp) odd half, (tp, fn, tn, fp) even half), measured with engine 0.4.0
+# (global rule retuned on the odd half, issue 10). Against engine 0.3.0 (held-out, even half):
+# first-degree AV block gained a false statement on record 2 (PR 194 -> 204 ms; the
+# cardiologists' own global PR there is 201 ms, rule of tests/dsp/reference_global.py, and the
+# record is not labelled); ventricular extrasystoles lost record 38 (atrial fibrillation; its
+# premature beat reads QRS 112 ms, 120 before, the cardiologists' 148 ms, so it is stated as
+# a premature beat of other origin); left atrial abnormality 23 -> 30 true and 3 -> 5 false
+# statements (P duration longer). Odd half: left atrial 18 -> 19 true, 5 -> 3 false; early
+# repolarization 3 -> 2 false on the odd half, 7 -> 6 on the even half.
 EXPECTED: dict[str, tuple[tuple[int, int, int, int], tuple[int, int, int, int]]] = {
     "sinus rhythm (any rate)": ((51, 3, 6, 0), (69, 4, 7, 0)),
     "atrial fibrillation": ((5, 0, 55, 0), (5, 1, 74, 0)),
     "atrial flutter": ((1, 0, 59, 0), (1, 0, 79, 0)),
     "pacing": ((3, 0, 57, 0), (5, 0, 75, 0)),
-    "first-degree AV block": ((0, 3, 55, 2), (2, 0, 76, 2)),
+    "first-degree AV block": ((0, 3, 55, 2), (2, 0, 75, 3)),
     "complete RBBB": ((0, 0, 60, 0), (1, 1, 76, 2)),
     "complete LBBB": ((0, 1, 56, 3), (2, 0, 77, 1)),
     "incomplete RBBB": ((0, 9, 51, 0), (0, 13, 67, 0)),
@@ -48,10 +56,10 @@ EXPECTED: dict[str, tuple[tuple[int, int, int, int], tuple[int, int, int, int]]]
     "sinus tachycardia (LUDB: from about 90 bpm)": ((0, 0, 60, 0), (0, 2, 78, 0)),
     "left axis deviation (LUDB: < 0 deg)": ((6, 19, 35, 0), (5, 22, 53, 0)),
     "left ventricular hypertrophy": ((0, 34, 26, 0), (0, 40, 40, 0)),
-    "left atrial hypertrophy": ((18, 11, 26, 5), (23, 23, 31, 3)),
+    "left atrial hypertrophy": ((19, 10, 28, 3), (30, 16, 29, 5)),
     "right atrial overload": ((1, 4, 52, 3), (0, 8, 69, 3)),
-    "early repolarization": ((0, 4, 53, 3), (0, 2, 71, 7)),
-    "ventricular extrasystoles": ((2, 1, 56, 1), (2, 5, 73, 0)),
+    "early repolarization": ((0, 4, 54, 2), (0, 2, 72, 6)),
+    "ventricular extrasystoles": ((2, 1, 56, 1), (1, 6, 73, 0)),
 }
 
 

@@ -1,6 +1,6 @@
 """The bundled invented demo study, run through `reviewapp study`, and the report it gives.
 
-The demo is invented (sample_study/README.md); here it checks that the study shows
+The demo is invented (sample_records/study/README.md); here it checks that the study shows
 every part it was built for (design facts from ``demo_study.SUBJECTS``, not clinical
 references), and that every page and picture carries the clinical caution and its sources.
 """
@@ -16,15 +16,24 @@ from reviewapp.core.study.analysis import ANY_ON_DRUG
 from reviewapp.core.synth import demo_study
 
 REPO = Path(__file__).resolve().parents[2]
-STUDY = REPO / "sample_study"
+STUDY = REPO / "sample_records" / "study"
+
+
+def _shipped() -> Path:
+    """The demo study is part of the repository: missing is a failure, not a skip."""
+    if not (STUDY / "README.md").is_file():
+        pytest.fail(
+            f"the demo study is missing: {STUDY} (regenerate with `reviewapp samples "
+            "sample_records/study --study`)"
+        )
+    return STUDY
 
 
 @pytest.fixture(scope="module")
 def demo() -> dict:
     """The shipped demo through the study's own worker function and analysis (in-process; the
     command line around them is checked in test_study_command)."""
-    if not (STUDY / "README.md").is_file():
-        pytest.skip("no sample_study in this checkout")
+    _shipped()
     from reviewapp.core.io import find_records
     from reviewapp.core.study.analysis import analyse_study
     from reviewapp.core.study.task import study_records
@@ -43,12 +52,11 @@ def test_demo_design_has_every_part():
         assert {e.timepoint.replicates for e in mine if "dose" in e.timepoint.label} == {3}
     assert sum(s.qt_effect_ms > 60 for s in demo_study.SUBJECTS) >= 1
     assert sum(s.qt_effect_ms == 0 for s in demo_study.SUBJECTS) >= 1
-    assert len(ecgs) == len(list(STUDY.glob("*.hea"))) or not STUDY.is_dir()
+    assert len(ecgs) == len(list(_shipped().glob("*.hea")))
 
 
 def test_a_shipped_record_regenerates_identically(tmp_path):
-    if not STUDY.is_dir():
-        pytest.skip("no sample_study in this checkout")
+    _shipped()
     ecg = next(e for e in demo_study.study_ecgs() if e.name == "s103_3h_1")
     demo_study.write_records(tmp_path, [ecg])
     for suffix in (".hea", ".dat"):

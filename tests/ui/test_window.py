@@ -21,13 +21,17 @@ def _no_sidecar_in_shared_folders(monkeypatch):
 def test_open_sample_folder_lists_it_and_opens_first_record(window, sample_records_dir, qtbot):
     if not sample_records_dir.is_dir():
         pytest.skip("no sample_records folder in this checkout")
+    from reviewapp.core.io import find_records
     from reviewapp.ui.records_dock import list_records
 
     with qtbot.waitSignal(window.worklist.scanFinished, timeout=20_000):
         assert window.open_path(sample_records_dir, analyse_now=True)
     assert window.record is not None and window.workflow is not None
     listed = window.worklist.visible_paths()
-    assert len(listed) == len(list_records(sample_records_dir))
+    # The worklist lists the folder recursively: the demo worklist's own records and the
+    # demo QT study in its subfolder study/; the page opens on the folder's own first record.
+    assert set(listed) == set(find_records(sample_records_dir, recursive=True))
+    assert set(list_records(sample_records_dir)) < set(listed)
     assert window.record.name == list_records(sample_records_dir)[0].stem
     qtbot.waitUntil(lambda: window.worklist.current_path() is not None, timeout=5000)
     assert window.worklist.current_path().stem == window.record.name

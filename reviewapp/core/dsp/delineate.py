@@ -15,6 +15,7 @@ multi-lead feature for QRS and from multi-lead rules over the lead marks for P a
 from __future__ import annotations
 
 from dataclasses import dataclass, replace
+from typing import NamedTuple
 
 import numpy as np
 
@@ -223,6 +224,7 @@ _T_LOBE_FRAC = 0.05
 ALIGN_MIN_CORR = 0.5
 # Peaks follow the lag of a boundary of the same wave.
 _PEAK_FOLLOWS = {P_PEAK: P_ON, R_PEAK: QRS_ON, T_PEAK: T_OFF}
+_P_COLS = np.array([P_ON, P_OFF, P_PEAK])  # the columns a beat without P clears
 
 
 def _marks_from_rep(
@@ -336,14 +338,24 @@ def _zsegments(slow: np.ndarray, start: np.ndarray, length: int) -> tuple[np.nda
     return z, ok
 
 
-def _rep_p_window(fs_hz: float, rep: RepresentativeBeat) -> tuple[int, int] | None:
-    """P window (start, length) relative to R on the median beat, or None."""
+class _PWindow(NamedTuple):
+    """The median beat's P window: start relative to R and length (samples), and the P onset
+    and end it was cut around (median-beat sample indices)."""
+
+    start: int
+    length: int
+    p_on: int
+    p_off: int
+
+
+def _rep_p_window(fs_hz: float, rep: RepresentativeBeat) -> _PWindow | None:
+    """P window relative to R on the median beat, or None."""
     m = _anchor(rep)
     if m.p_on is None or m.p_off is None:
         return None
     a = m.p_on - round(_P_PRE_MS * fs_hz / 1000.0) - rep.r_index
     length = m.p_off - rep.r_index - a + 1
-    return (a, length) if length >= 4 else None
+    return _PWindow(a, length, m.p_on, m.p_off) if length >= 4 else None
 
 
 def _p_repeats(
@@ -363,7 +375,7 @@ def _p_repeats(
     if win is None or dom.sum() < 3:
         return True, None  # too little to judge: keep the median beat's decision
     ui = np.flatnonzero(usable)
-    z, ok = _zsegments(slow[:, ui], r[dom] + win[0], win[1])
+    z, ok = _zsegments(slow[:, ui], r[dom] + win.start, win.length)
     z = z[ok]
     nz = len(z)
     if nz < 3:
@@ -371,14 +383,14 @@ def _p_repeats(
     corr = _mean_pair_corr(z)
     s = z.sum(axis=0)
     tmpl = s / max(float(np.linalg.norm(s)), 1e-12)
-    if _p_coupled_to_previous_qrs(slow[:, ui], r, dom, win, tmpl):
+    if _p_coupled_to_previous_qrs(slow[:, ui], r, dom, (win.start, win.length), tmpl):
         return False, tmpl
     if corr >= P_MIN_BEAT_CORR:
         return True, tmpl
     if corr < P_MIN_BEAT_CORR_CLEAR:
         return False, tmpl
     rep_slow = prefilter(np.asarray(rep.waveform_mv)[:, ui], fs_hz)["slow"]
-    seg = rep_slow[_anchor(rep).p_on : _anchor(rep).p_off + 1]
+    seg = rep_slow[win.p_on : win.p_off + 1]
     amp = float(np.abs(seg - np.linspace(seg[0], seg[-1], len(seg))).max()) if len(seg) else 0.0
     return amp >= P_CLEAR_MV, tmpl
 
@@ -450,8 +462,8 @@ def _odd_beats_without_p(
     if tmpl is None:  # too few dominant beats to judge: trust the beat's own P
         return out
     ui = np.flatnonzero(usable)
-    pre = _anchor(rep).p_on - rep.r_index - win[0]  # samples from window start to P onset
-    z, ok = _zsegments(slow[:, ui], glob[odd, P_ON] - pre, win[1])
+    pre = win.p_on - rep.r_index - win.start  # samples from window start to P onset
+    z, ok = _zsegments(slow[:, ui], glob[odd, P_ON] - pre, win.length)
     out[np.flatnonzero(odd)] = ~ok | (z @ tmpl < P_ODD_MIN_CORR)
     return out
 
@@ -550,9 +562,13 @@ def delineate_beats(
         matched[np.ix_(is_dom, absent)] = True
     own = ~matched.all(axis=1)
     if own.any():
-        g_own, l_own = _delineate_own(filt, fs_hz, r, np.flatnonzero(own), usable, params)
         # Per boundary: the matched median-beat mark where there is one, else the beat's own.
         take = ~matched[own]  # (n_own, 5)
+        # The global QRS is widened only where a beat's own QRS or P end is used.
+        need_qrs = bool(take[:, [P_OFF, QRS_ON, QRS_OFF]].any())
+        g_own, l_own = _delineate_own(
+            filt, fs_hz, r, np.flatnonzero(own), usable, params, need_qrs
+        )
         cols = np.zeros((take.shape[0], N_MARKS), dtype=bool)
         cols[:, :5] = take
         for pk, col in _PEAK_FOLLOWS.items():
@@ -565,12 +581,12 @@ def delineate_beats(
     if p_p is not False and rep is not None:
         p_p, p_tmpl = _p_repeats(filt["slow"], fs_hz, r, beats, usable, rep)
     if p_p is False:
-        glob[:, [P_ON, P_OFF, P_PEAK]] = -1
-        lead[:, :, [P_ON, P_OFF, P_PEAK]] = -1
+        glob[:, _P_COLS] = -1
+        lead[:, :, _P_COLS] = -1
     elif rep is not None and own.any():
         odd = _odd_beats_without_p(filt["slow"], fs_hz, beats, usable, rep, glob, p_tmpl)
-        glob[np.ix_(odd, [P_ON, P_OFF, P_PEAK])] = -1
-        lead[np.ix_(odd, np.arange(n_leads), [P_ON, P_OFF, P_PEAK])] = -1
+        glob[np.ix_(odd, _P_COLS)] = -1
+        lead[np.ix_(odd, np.arange(n_leads), _P_COLS)] = -1
     # Python ints once for the whole block (per-element numpy scalars are slow here).
     g_marks = tuple(_marks_from_row(row) for row in glob.tolist())
     l_marks = tuple(tuple(_marks_from_row(row) for row in beat) for beat in lead.tolist())
@@ -584,8 +600,10 @@ def _delineate_own(
     sel: np.ndarray,
     usable: np.ndarray,
     params: DelineationParams,
+    widen_qrs: bool = True,
 ) -> tuple[np.ndarray, np.ndarray]:
-    """Delineate beats ``sel`` on their own signal; record indices, -1 absent."""
+    """Delineate beats ``sel`` on their own signal; record indices, -1 absent (the global QRS
+    widened to the standard's extremes with ``widen_qrs``, see ``delineate_block``)."""
     n = filt["fast"].shape[0]
     pre = round(0.45 * fs_hz)
     post = round(0.80 * fs_hz)
@@ -605,7 +623,7 @@ def _delineate_own(
     # P of this beat starts after the previous beat's T: search at most 45 % of the RR back.
     p_lo = np.maximum(lo, pre - (0.45 * rr_prev).astype(int))
     bounds = BlockBounds(r=np.full(len(r), pre), lo=lo, hi=hi, p_lo=p_lo, t_hi=t_hi, rr=rr_next)
-    glob, lead, _ = delineate_block(block, bounds, usable, params)
+    glob, lead, _ = delineate_block(block, bounds, usable, params, widen_qrs)
     shift = (r - pre)[:, None]
     glob = np.where(glob >= 0, glob + shift, -1)
     lead = np.where(lead >= 0, lead + shift[:, :, None], -1)

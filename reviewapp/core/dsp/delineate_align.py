@@ -25,7 +25,6 @@ T end     -120 .. +40      +-60
 from __future__ import annotations
 
 import numpy as np
-from scipy import signal
 
 # (segment before ms, segment after ms, max lag ms, signal key) per column P_ON..T_OFF.
 ALIGN_SPEC: tuple[tuple[float, float, float, str], ...] = (
@@ -95,13 +94,15 @@ def align_lags(
     var = np.zeros((nb, k))
     # Lags are tried every ``step`` samples (the segment is compared every step-th sample,
     # so finer lags would add nothing at rates far above what the boundaries need); at those
-    # lags the comparison is a sliding correlation (FFT) and sliding sums (cumulative sums).
+    # lags the comparison is a sliding correlation (direct dot products) and sliding sums
+    # (cumulative sums).
     for ph in range(0, min(step, k), step):
         sub = ext[:, ph::step]  # (B, m, L)
         n_lag = len(range(ph, k, step))
         # The template is zero-mean per lead, so the segment mean drops out of the numerator.
-        cor = signal.fftconvolve(sub, tmpl[::-1][None], mode="valid", axes=1)  # (B, m-S+1, L)
-        num[:, ph::step] = cor[:, :n_lag].sum(axis=2)
+        # A direct sliding dot product (the segments are short: an FFT costs more here).
+        win = np.lib.stride_tricks.sliding_window_view(sub[:, : n_lag + s_len - 1], s_len, axis=1)
+        num[:, ph::step] = np.einsum("bkls,sl->bk", win, tmpl)
         c1 = np.concatenate([np.zeros((nb, 1, nl)), np.cumsum(sub, axis=1)], axis=1)
         c2 = np.concatenate([np.zeros((nb, 1, nl)), np.cumsum(sub * sub, axis=1)], axis=1)
         sx = c1[:, s_len : s_len + n_lag] - c1[:, :n_lag]

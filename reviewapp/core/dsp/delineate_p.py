@@ -51,6 +51,10 @@ class LeadP:
     peak: np.ndarray
     amp_mv: np.ndarray
     ok: np.ndarray
+    # Whether the onset / end was moved to a true corner of the less-filtered lead (False:
+    # the trapezium mark on the 20 Hz copy, or no less-filtered copy given).
+    on_corner: np.ndarray | None = None
+    off_corner: np.ndarray | None = None
 
 
 def lead_p_waves(
@@ -78,6 +82,12 @@ def lead_p_waves(
     >>> int(lp.on[0]), int(lp.off[0]), bool(lp.ok[0])
     (100, 148, True)
     """
+    if y.shape[0]:
+        # Nothing here reads past the QRS onset (plus a level's samples): the rest of the
+        # window (QRS and T) is left out of the array work.
+        reach = min(y.shape[1], int(np.max(pre_on)) + k_iso + 2)
+        y = y[:, : max(1, reach)]
+        y_fine = None if y_fine is None else y_fine[:, : y.shape[1]]
     w = y.shape[1]
     fs = p.fs_hz
     p_b = pre_on - p.p_gap
@@ -96,10 +106,13 @@ def lead_p_waves(
     xm_off = masked_argmax(-sgn * dyp, range_mask(w, p_pk, np.minimum(p_b, p_pk + p.p_xm_max)))
     xr_off = np.minimum(p_b + p.p_gap, xm_off + p.p_xr_off)
     p_off = trapezium_boundary(yp, xm_off, xr_off)
+    on_c = off_c = np.zeros(p_on.shape, dtype=bool)
     if y_fine is not None:
-        p_on, p_off = _corners(y_fine, p_on, p_off, xm_on, xm_off, p_a, p_b + p.p_gap - 1, fs)
+        p_on, p_off, on_c, off_c = _corners(
+            y_fine, p_on, p_off, xm_on, xm_off, p_a, p_b + p.p_gap - 1, fs
+        )
     p_ok &= (p_on >= 0) & (p_off > p_on)
-    return LeadP(on=p_on, off=p_off, peak=p_pk, amp_mv=p_amp, ok=p_ok)
+    return LeadP(p_on, p_off, p_pk, p_amp, p_ok, on_c, off_c)
 
 
 def global_p(glob: np.ndarray, lu: np.ndarray, lp: LeadP, p: DelineationParams) -> None:
@@ -145,8 +158,9 @@ def _corners(
     lo: np.ndarray,
     hi: np.ndarray,
     fs: float,
-) -> tuple[np.ndarray, np.ndarray]:
-    """P onset/end moved to the slope corners of ``yf`` near the trapezium marks."""
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """P onset/end moved to the slope corners of ``yf`` near the trapezium marks; also
+    whether each was moved (a true corner found)."""
     search = max(1, round(P_CORNER_SEARCH_MS * fs / 1000.0))
     win = max(2, round(P_CORNER_WIN_MS * fs / 1000.0))
     # The slope changes towards the wave: its sign is the side the wave lies on.
@@ -159,9 +173,11 @@ def _corners(
         yf, off, search, win, s_off, False, np.minimum(xm_off, off), hi, lo, hi, with_ratio=True
     )
     # Only a true corner moves the mark; a gradual bend keeps the trapezium mark.
+    sharp_on = (r_on <= P_CORNER_MAX_RATIO) & (on >= 0) & (xm_on >= 0)
+    sharp_off = (r_off <= P_CORNER_MAX_RATIO) & (off >= 0) & (xm_off >= 0)
     c_on = np.where(r_on <= P_CORNER_MAX_RATIO, c_on, on - 1)
     c_off = np.where(r_off <= P_CORNER_MAX_RATIO, c_off, off + 1)
     # The join point is the last baseline sample: the wave starts one sample after it.
     c_on = np.where((on >= 0) & (xm_on >= 0), c_on + 1, on)
     c_off = np.where((off >= 0) & (xm_off >= 0), c_off - 1, off)
-    return c_on, c_off
+    return c_on, c_off, sharp_on, sharp_off

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
@@ -31,6 +32,7 @@ class DelineationParams:
     qrs_env_frac: float = 0.05  # the envelope below this fraction of its peak bounds the QRS
     qrs_end_corner_w: float = 0.5  # weight of the arc-length corner in the QRS end
     qrs_corner_xr: int = 0  # x_r of that corner, samples after the last significant slope
+    qrs_arc_noise: bool = True  # the QRS end corner's curve leaves out the slope's noise level
     qrs_lead_global: bool = True  # per-lead QRS marks = global ones (LUDB: closer to readers)
     qrs_sig: float = 0.25  # "significant slope": this fraction of the complex's steepest slope
     qrs_sig_off: float = 0.25  # the same for the last significant slope
@@ -71,7 +73,8 @@ class DelineationParams:
     glob_qrs_agree: int = 0  # two leads' QRS marks this close confirm each other
     glob_p_agree: int = 0  # ... P marks
     glob_t_agree: int = 0  # ... T ends
-    glob_p_confirm: int = 2  # other leads that must confirm the earliest / latest P mark
+    glob_p_confirm: int = 1  # other leads that must confirm the earliest / latest P mark
+    glob_p_corner_leads: int = 4  # agreeing corner leads that explain nearby smooth P marks
     glob_t_confirm: int = 1  # ... the latest T end (the QRS: one)
     glob_qrs_slack: int = 0  # a lead's own QRS boundary is sought this far outside the spatial
     glob_qrs_vote_frac: float = 0.3  # leads whose steepest QRS slope is >= this x the largest
@@ -88,8 +91,14 @@ class DelineationParams:
         """Parameters at ``fs_hz``; ``overrides`` replace DURATIONS_MS entries or fractions."""
         ms = {**DURATIONS_MS, **{k: v for k, v in overrides.items() if k in DURATIONS_MS}}
         rest = {k: v for k, v in overrides.items() if k not in DURATIONS_MS}
-        samples = {k: max(1, round(v * fs_hz / 1000.0)) for k, v in ms.items()}
-        return cls(fs_hz=float(fs_hz), **samples, **rest)
+        # Settings by name (an unknown name is refused by the constructor): durations in
+        # samples, the rest as given. Any, because the fields differ in type (int samples,
+        # float fractions, bool switches).
+        settings: dict[str, Any] = {
+            **{k: max(1, round(v * fs_hz / 1000.0)) for k, v in ms.items()},
+            **rest,
+        }
+        return cls(fs_hz=float(fs_hz), **settings)
 
 
 # Search windows and offsets in ms (converted to samples by DelineationParams.for_fs).
@@ -119,8 +128,8 @@ DURATIONS_MS: dict[str, float] = {
     "spike_after": 40,
     "spike_width": 8,
     "spike_delay": 10,
-    "glob_qrs_agree": 8,
-    "glob_p_agree": 6,
+    "glob_qrs_agree": 10,
+    "glob_p_agree": 10,
     "glob_t_agree": 20,
     "glob_qrs_slack": 80,
 }

@@ -99,6 +99,16 @@ def lead_t_waves(
     ``y_fine``: (rows, W) the same leads less filtered (e.g. the conditioned input): the T end
     is then refined on it (``refine_t_end``); None keeps the 20 Hz end.
     """
+    # Nothing here reads before the T search start or the T limit less the fine refinement's
+    # reach and the slope smoothing: the window's first part (P and QRS) is left out.
+    c0 = 0
+    if y.shape[0]:
+        margin = round(T_FINE_BEFORE_MS * p.fs_hz / 1000.0) + p.t_smooth + 2
+        c0 = max(0, int(min(np.min(qrs_off + p.t_start), np.min(t_hi))) - margin)
+    if c0 > 0:
+        y = y[:, c0:]
+        y_fine = None if y_fine is None else y_fine[:, c0:]
+        qrs_off, t_hi, r = qrs_off - c0, t_hi - c0, r - c0
     w = y.shape[1]
     dy = np.gradient(y, axis=1) * p.fs_hz
     t_a = qrs_off + p.t_start
@@ -125,6 +135,9 @@ def lead_t_waves(
         t_end = refine_t_end(y_fine, xm, xr, t_end, p.fs_hz)
     t_amp = np.abs(take(y, t_pk) - take(y, t_end))
     t_ok = (t_pk >= 0) & (xm >= 0) & (t_amp >= p.t_min_mv) & (t_b > t_a) & (t_end > t_pk)
+    if c0 > 0:
+        t_end = np.where(t_end >= 0, t_end + c0, -1)
+        t_pk = np.where(t_pk >= 0, t_pk + c0, -1)
     return LeadT(end=t_end, peak=t_pk, amp_mv=t_amp, ok=t_ok)
 
 

@@ -139,11 +139,11 @@ def compute_measurements(marked: MarkedECG) -> Measurements:
                 continue
             own = lead_marks[i] if i < len(lead_marks) else None
             base = None if bases is None else float(bases[i])
-            m, why = lead_measurements(name, wave[:, i], marks, own, fs, base)
+            m, lead_why = lead_measurements(name, wave[:, i], marks, own, fs, base)
             if base is not None:
                 m = replace(m, **_shapes(wave, i, base, marks, own, rep, fs))  # type: ignore[arg-type]
             leads.append(m)
-            unmeasured += why
+            unmeasured += lead_why
         g.update(_axes(marked, wave, marks, bases, unmeasured))
         if marks.p_on is None and marks.qrs_on is not None:
             leads = _st_without_baseline(leads, marked, unmeasured)

@@ -22,10 +22,11 @@ adopts the second reader's QT, on another they differ and nobody has adjudicated
 
 Regenerate (the records are identical each time; the sidecars' event ids are random)::
 
-    python -m reviewapp.core.synth.demo_study sample_study
+    reviewapp samples sample_records/study --study
 
-It lives in its own folder, not under ``sample_records/``: the workbench lists a folder
-recursively, and the demo worklist is meant to open on its eleven records.
+It lives in ``sample_records/study/``, a subfolder of the demo worklist: ``reviewapp study`` and
+``reviewapp batch`` search a folder recursively, so either run on ``sample_records`` also
+takes it in.
 """
 
 from __future__ import annotations
@@ -278,11 +279,11 @@ def _readme(ecgs: Sequence[StudyECG], subjects: Sequence[StudySubject]) -> str:
         "are made up; no record comes from a person.",
         "Use them to try `reviewapp study`, never as a reference for clinical values.",
         "",
-        "    reviewapp study sample_study --out study-results",
+        "    reviewapp study sample_records/study --out study-results",
         "",
         "Regenerate (records identical each time; the marks files' event ids are random):",
         "",
-        "    python -m reviewapp.core.synth.demo_study sample_study",
+        "    reviewapp samples sample_records/study --study",
         "",
         "Design per subject: day -1 (drug-free) single ECGs supine, standing and after a short",
         "walk (heart-rate spread for the individual QT/RR fit), then on the dosing day a",
@@ -352,7 +353,7 @@ def main(argv: Sequence[str] | None = None) -> int:
         prog="python -m reviewapp.core.synth.demo_study",
         description="Write the invented demo QT study (synthetic ECGs with readings).",
     )
-    parser.add_argument("folder", type=Path, help="output folder, e.g. sample_study")
+    parser.add_argument("folder", type=Path, help="output folder, e.g. sample_records/study")
     parser.add_argument(
         "--more-subjects",
         type=int,

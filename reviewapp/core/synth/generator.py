@@ -1,12 +1,12 @@
 """Synthetic 12-lead ECG with exact ground truth, from a heart-vector (dipole) model.
 
 Method: the cardiac dipole model with fixed lead vectors (Burger & van Milaan 1946); the heart
-vector H(t) in Frank XYZ is built from compact-support lobes (``lobes``), projected onto I, II,
-V1-V6 with Dower's transform (Dower et al., Clin Cardiol 1980), and III, aVR, aVL, aVF derived
-with Einthoven's and Goldberger's relations (``leads``). Because every lobe is exactly zero
-outside its support, each wave's first and last non-zero samples are known by construction
-(``truth``), and the intervals and frontal axes asked for are realised to the sample and to
-floating-point precision respectively.
+vector H(t) in Frank XYZ is built from compact-support lobes (``lobes``), projected onto I and
+II by Einthoven's triangle and onto V1-V6 by Dower's transform (Dower et al., Clin Cardiol
+1980), and III, aVR, aVL, aVF derived with Einthoven's and Goldberger's relations (``leads``).
+Because every lobe is exactly zero outside its support, each wave's first and last non-zero
+samples are known by construction (``truth``), and the intervals and frontal axes asked for are
+realised to the sample and to floating-point precision respectively.
 
 Example:
     >>> syn = generate(SynthParams(hr_bpm=75, qt_ms=420, duration_s=4))
@@ -28,7 +28,6 @@ from reviewapp.core.synth import noise, templates
 from reviewapp.core.synth.leads import (
     axis_of_area,
     complete_leads,
-    dower_legacy_axis,
     frontal_rotation_for_axis,
     project_independent,
     rotation_z,
@@ -59,10 +58,6 @@ class SyntheticECG:
         d = asdict(self.params)
         d["ectopic_beats"] = list(self.params.ectopic_beats)
         d["lead_names"] = list(self.params.lead_names)
-        # Truth files written before limb_leads existed were all made with Dower's limb rows:
-        # an absent key means "dower", so it is written only for the Einthoven projection.
-        if d["limb_leads"] == "dower":
-            del d["limb_leads"]
         return d
 
 
@@ -240,7 +235,7 @@ def generate(
 
     def oriented(tpl: tuple[Lobe, ...], n_nonzero: int, axis_deg: float) -> np.ndarray:
         area = wave_area_vector(tpl, n_nonzero, np.eye(3))
-        return rotation_z(frontal_rotation_for_axis(area, axis_deg, p.limb_leads))
+        return rotation_z(frontal_rotation_for_axis(area, axis_deg))
 
     qrs_n = _samples(p.qrs_ms, fs) + 1
     rot_qrs = oriented(qrs_tpl, qrs_n, p.qrs_axis_deg)
@@ -294,14 +289,13 @@ def generate(
         return _frontal_deg(heart[lo : hi + 1].sum(axis=0))
 
     def truth_axis(lo: int, hi: int) -> float:
-        # From the generating dipole, not from the leads (the hexaxial axis the Einthoven
-        # limb leads show); the legacy Dower projection keeps its recorded definition.
-        area = heart[lo : hi + 1].sum(axis=0)
-        return dower_legacy_axis(area) if p.limb_leads == "dower" else axis_of_area(area)
+        # From the generating dipole, not from the leads: the hexaxial axis the Einthoven
+        # limb leads show.
+        return axis_of_area(heart[lo : hi + 1].sum(axis=0))
 
     if p.af and p.f_wave_mv > 0:
         heart = heart + noise.fibrillatory_waves(n, fs, p.f_wave_mv, f_rng)
-    clean_indep = project_independent(heart, p.limb_leads)
+    clean_indep = project_independent(heart)
     indep = clean_indep.copy()
     if p.baseline_wander_mv > 0:
         indep += noise.baseline_wander(n, fs, 8, p.baseline_wander_mv, wander_rng)
@@ -334,14 +328,15 @@ def generate(
         derive_limb_leads=False,
     )
 
-    doms = [b for b in beat_truths if b.kind is BeatKind.DOMINANT]
-    ref = doms[0] if doms else beat_truths[0]
-    ref_m = ref.marks
+    # Interval and axis truth from the plans (every boundary an int; P absent only in AF).
+    doms = [pl for pl in plans if pl.kind is BeatKind.DOMINANT]
+    pool = doms or list(plans)
+    ref = pool[0]
+    dom_p = [(pl.p, pl.qrs) for pl in doms if pl.p is not None]
 
     def med(values: list[int]) -> float:
         return float(np.median(values)) * 1000.0 / fs
 
-    pool = doms or list(beat_truths)
     mean_rr = float(np.mean(rr_ms)) if len(rr_ms) else 60000.0 / p.hr_bpm
     truth = GroundTruth(
         fs_hz=fs,
@@ -349,19 +344,19 @@ def generate(
         lead_names=tuple(p.lead_names),
         rhythm="af" if p.af else "sinus",
         beats=beat_truths,
-        pr_ms=None if p.af else med([b.marks.qrs_on - b.marks.p_on for b in doms]),
-        p_ms=None if p.af else med([b.marks.p_off - b.marks.p_on for b in doms]),
-        qrs_ms=med([b.marks.qrs_off - b.marks.qrs_on for b in pool]),
-        qt_ms=med([b.marks.t_off - b.marks.qrs_on for b in pool]),
+        pr_ms=None if p.af else med([qrs[0] - wp[0] for wp, qrs in dom_p]),
+        p_ms=None if p.af else med([wp[1] - wp[0] for wp, _ in dom_p]),
+        qrs_ms=med([pl.qrs[1] - pl.qrs[0] for pl in pool]),
+        qt_ms=med([pl.t[1] - pl.qrs[0] for pl in pool]),
         rr_ms=_r6(mean_rr),
-        rr_sd_ms=_r6(np.std(rr_ms)) if len(rr_ms) > 1 else 0.0,
+        rr_sd_ms=_r6(float(np.std(rr_ms))) if len(rr_ms) > 1 else 0.0,
         hr_bpm=_r6(60000.0 / mean_rr),
-        qrs_axis_deg=_r6(truth_axis(ref_m.qrs_on, ref_m.qrs_off)),
-        p_axis_deg=None if ref_m.p_on is None else _r6(truth_axis(ref_m.p_on, ref_m.p_off)),
-        t_axis_deg=_r6(truth_axis(ref.t_on, ref_m.t_off)),
-        qrs_dipole_axis_deg=_r6(dipole_axis(ref_m.qrs_on, ref_m.qrs_off)),
-        p_dipole_axis_deg=None if ref_m.p_on is None else _r6(dipole_axis(ref_m.p_on, ref_m.p_off)),
-        t_dipole_axis_deg=_r6(dipole_axis(ref.t_on, ref_m.t_off)),
+        qrs_axis_deg=_r6(truth_axis(*ref.qrs)),
+        p_axis_deg=None if ref.p is None else _r6(truth_axis(*ref.p)),
+        t_axis_deg=_r6(truth_axis(*ref.t)),
+        qrs_dipole_axis_deg=_r6(dipole_axis(*ref.qrs)),
+        p_dipole_axis_deg=None if ref.p is None else _r6(dipole_axis(*ref.p)),
+        t_dipole_axis_deg=_r6(dipole_axis(*ref.t)),
         emg_snr_db=snr,
     )
     return SyntheticECG(record=record, truth=truth, params=p, clean_mv=clean)

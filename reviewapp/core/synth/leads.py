@@ -56,24 +56,9 @@ LEAD_ROWS_XYZ_TO_8 = np.array(
 )
 
 
-# Dower's own rows for leads I and II (from memory), used only by ``limb_leads="dower"``: the
-# projection the demo worklist in sample_records was made with. They are not an equilateral
-# triangle, so the hexaxial axis they show differs from the dipole's frontal angle.
-DOWER_LIMB_ROWS = np.array([[0.632, -0.235, 0.059], [0.235, 1.066, -0.132]])
-LIMB_PROJECTIONS = ("einthoven", "dower")
-
-
-def _rows(limb_leads: str) -> np.ndarray:
-    if limb_leads == "einthoven":
-        return LEAD_ROWS_XYZ_TO_8
-    if limb_leads == "dower":
-        return np.vstack([DOWER_LIMB_ROWS, LEAD_ROWS_XYZ_TO_8[2:]])
-    raise ValueError(f"unknown limb lead projection {limb_leads!r}; choose {LIMB_PROJECTIONS}")
-
-
-def project_independent(heart: np.ndarray, limb_leads: str = "einthoven") -> np.ndarray:
+def project_independent(heart: np.ndarray) -> np.ndarray:
     """Heart vector (n, 3) -> leads I, II, V1..V6 (n, 8), float64 mV."""
-    return heart @ _rows(limb_leads).T
+    return heart @ LEAD_ROWS_XYZ_TO_8.T
 
 
 def complete_leads(independent: np.ndarray, heart: np.ndarray) -> dict[str, np.ndarray]:
@@ -122,49 +107,14 @@ def axis_of_area(area_xyz: np.ndarray) -> float:
     return deg + 360.0 if deg <= -180.0 else deg
 
 
-def dower_legacy_axis(area_xyz: np.ndarray) -> float:
-    """atan2(net aVF, net I) of an area seen by Dower's limb rows: the axis the demo worklist's
-    truth files record (``limb_leads="dower"``; not the hexaxial axis, see module notes)."""
-    lead_i = DOWER_LIMB_ROWS[0]
-    lead_avf = DOWER_LIMB_ROWS[1] - 0.5 * DOWER_LIMB_ROWS[0]
-    deg = math.degrees(math.atan2(float(lead_avf @ area_xyz), float(lead_i @ area_xyz)))
-    return deg + 360.0 if deg <= -180.0 else deg
+def frontal_rotation_for_axis(area_xyz: np.ndarray, axis_deg: float) -> float:
+    """Frontal rotation angle (rad) that makes the wave's axis ``axis_deg`` exactly: a
+    rotation about z turns the frontal angle of the net area (``axis_of_area``, the axis the
+    Einthoven limb leads show) by the same amount.
 
-
-def frontal_rotation_for_axis(
-    area_xyz: np.ndarray, axis_deg: float, limb_leads: str = "einthoven"
-) -> float:
-    """Frontal rotation angle (rad) that makes the wave's axis ``axis_deg`` exactly:
-    ``axis_of_area`` for Einthoven limb leads (a rotation about z turns the frontal angle by
-    the same amount), ``dower_legacy_axis`` for Dower's.
-
-    Dower: the net area seen by (I, aVF) after rotating by phi is ``cos(phi) P + sin(phi) Q +
-    C`` with P, Q, C fixed 2-vectors; requiring it to be parallel to u = (cos a, sin a) gives
-    ``p cos(phi) + q sin(phi) = -c`` (p, q, c: cross products with u), solved in closed form;
-    of the two roots the one pointing along +u (not -u) is kept.
+    >>> round(math.degrees(frontal_rotation_for_axis(np.array([1.0, 0.0, 0.3]), 60.0)), 6)
+    60.0
     """
-    if limb_leads == "einthoven":
-        if math.hypot(float(area_xyz[0]), float(area_xyz[1])) < 1e-12:
-            raise ValueError(f"cannot orient the wave to a frontal axis of {axis_deg} deg")
-        return math.radians(axis_deg - axis_of_area(area_xyz))
-    m = np.vstack([DOWER_LIMB_ROWS[0], DOWER_LIMB_ROWS[1] - 0.5 * DOWER_LIMB_ROWS[0]])
-    a_xy = np.array([area_xyz[0], area_xyz[1], 0.0])
-    j_a = np.array([-area_xyz[1], area_xyz[0], 0.0])
-    a_z = np.array([0.0, 0.0, area_xyz[2]])
-    vp, vq, vc = m @ a_xy, m @ j_a, m @ a_z
-    th = math.radians(axis_deg)
-    u = np.array([math.cos(th), math.sin(th)])
-
-    def cross(v: np.ndarray) -> float:
-        return float(v[0] * u[1] - v[1] * u[0])
-
-    p, q, c = cross(vp), cross(vq), cross(vc)
-    r0 = math.hypot(p, q)
-    if r0 < 1e-12 or abs(c) > r0:
+    if math.hypot(float(area_xyz[0]), float(area_xyz[1])) < 1e-12:
         raise ValueError(f"cannot orient the wave to a frontal axis of {axis_deg} deg")
-    base, half = math.atan2(q, p), math.acos(-c / r0)
-    for phi in (base + half, base - half):
-        n = math.cos(phi) * vp + math.sin(phi) * vq + vc
-        if float(n @ u) > 0:
-            return phi
-    raise ValueError(f"cannot orient the wave to a frontal axis of {axis_deg} deg")
+    return math.radians(axis_deg - axis_of_area(area_xyz))

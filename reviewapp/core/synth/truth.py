@@ -138,7 +138,9 @@ class GroundTruth:
                 "Invented synthetic ECG with exact ground truth. Times are seconds from record "
                 "start (sample = round(seconds * fs_hz)); a boundary is the first (onset) or "
                 "last (end) sample where the wave is non-zero in the noise-free signal. "
-                "Intervals in ms, axes in degrees (atan2(net aVF, net I)). Not clinical data."
+                "Intervals in ms; axes in degrees, the frontal angle of the generating "
+                "dipole's net area over the wave (the hexaxial axis of the Einthoven limb "
+                "leads). Not clinical data."
             ),
             "fs_hz": self.fs_hz,
             "n_samples": self.n_samples,
