@@ -73,7 +73,13 @@ def chamber(ctx: Context) -> tuple[list[Statement], list[ValueReason]]:
     lvh = _lvh(ctx, reasons)
     if lvh is not None:
         out.append(lvh)
-    out += _rvh(ctx) + _atria(ctx) + _low_voltage(ctx)
+    # The right ventricular hypertrophy criteria ask a QRS axis > +90 deg.
+    gate = None if ctx.m.paced else ctx.frontal_gate("right ventricular hypertrophy", "chamber.rvh")
+    if gate is not None:
+        reasons.append(gate)
+    else:
+        out += _rvh(ctx)
+    out += _atria(ctx) + _low_voltage(ctx)
     return out, reasons
 
 
