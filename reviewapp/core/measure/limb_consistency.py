@@ -32,9 +32,14 @@ Threshold, measured (tests/measure/test_limb_consistency.py, tests/interpret/
 test_ludb_statements.py; figures in the README): consistent records give at most 0.0016 (PTB
 s0010_re, a real recording) and 0.0050 (the demo worklist, synthetic, noise included); the
 LUDB copy in ../shared (limb leads scaled lead by lead) gives a largest residual of 0.157 to
-1.127 on the odd-numbered records. 0.05 lies ten times above the largest consistent record
-and three times under the smallest LUDB record, and a 10 % gain error in one limb lead of
-ordinary size (its std near the limb-lead scale) gives a residual of about 0.1 there.
+1.127 on the odd-numbered records. A recorder that digitises every limb lead on its own adds
+amplifier noise that is not shared between the leads: at 5 uV rms per channel (about the
+30 uV peak-to-peak limit of IEC 60601-2-25, from memory) a small ECG (limb-lead rms 0.21 mV)
+gives 0.037, at 10 uV rms 0.074 (the tests' electrode model). ``MAX_RELATIVE_RESIDUAL`` = 0.08
+lies about midway (geometric mean) between that noise at the standard's limit and the
+smallest LUDB record. A gain error e in one limb lead gives a residual of about e times that
+lead's std over the limb-lead scale: 25 % or more is found in every lead, 10 % in the larger
+leads (std at or above the scale); a 10 % error in a small lead moves the axis little.
 
 Example:
     >>> import numpy as np
@@ -68,7 +73,7 @@ RELATIONS: tuple[tuple[str, Mapping[str, float], str], ...] = (
     ("aVF", {"II": 0.5, "III": 0.5}, "(II + III)/2"),
 )
 
-MAX_RELATIVE_RESIDUAL = 0.05
+MAX_RELATIVE_RESIDUAL = 0.08
 
 EINTHOVEN_1913 = "Einthoven W, Fahr G, de Waart A, Pflugers Arch Ges Physiol 1913;150:275-315"
 GOLDBERGER_1942 = "Goldberger E, Am Heart J 1942;23:483-492"
