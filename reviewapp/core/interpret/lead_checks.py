@@ -84,7 +84,7 @@ def limb_inconsistent(ctx: Context) -> list[Statement]:
         return []
     lead, rhs, worst = found.worst
     vals = [
-        MetValue(f"{lhs} - ({words}), residual", round(100.0 * r, 1), "%")
+        MetValue(f"{lhs} vs {words}, residual", round(100.0 * r, 1), "%")
         for (lhs, r), (_, _, words) in zip(found.residual_by_lead, RELATIONS, strict=True)
     ]
     return [
