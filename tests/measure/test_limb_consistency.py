@@ -195,7 +195,7 @@ def test_reversal_is_still_found_and_a_scaled_lead_on_top_warns_as_well():
         perm[col[a]], perm[col[b]] = col[b], col[a]
     swapped = sig[:, perm]
     swapped[:, col["I"]] *= -1.0
-    reading, it = _read(swapped, names)
+    _reading, it = _read(swapped, names)
     assert "lead_check.limb_reversal" in it.codes()
     assert "lead_check.limb_inconsistent" not in it.codes()
     swapped[:, col["III"]] *= 0.7
