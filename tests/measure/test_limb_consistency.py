@@ -233,3 +233,27 @@ def test_recomputed_on_the_same_signal_after_a_mark_moves_gives_the_same_result(
     other.conditioned_mv[:, names.index("I")] /= 1.3
     again = limb_consistency(other)
     assert again is not None and again.consistent
+
+
+def test_the_axes_caution_reaches_measure_json_csv_and_table():
+    import jsonschema
+
+    from reviewapp.core.measure.output import (
+        MEASURE_JSON_SCHEMA,
+        csv_row,
+        reading_to_dict,
+        table_text,
+    )
+
+    sig, names = _synthetic()
+    sig[:, names.index("II")] *= 0.6
+    an = analyse(record_from_array(sig, FS, names, derive_limb_leads=False))
+    reading = an.reading()
+    d = reading_to_dict(an, reading, path="scaled", interpretation=interpret(reading))
+    jsonschema.validate(d, MEASURE_JSON_SCHEMA)
+    kinds = {(r["quantity"], r["kind"]) for r in d["reasons"]}
+    assert {("qrs_axis_deg", "caution"), ("statement:axis", "gated")} <= kinds
+    row = csv_row(d)
+    assert row["less_reliable"].startswith("p_axis_deg qrs_axis_deg t_axis_deg: frontal axis")
+    axis_line = next(x for x in table_text(d).splitlines() if x.startswith("QRS axis"))
+    assert axis_line.endswith("caution: limb leads inconsistent")

@@ -89,11 +89,12 @@ ENTRIES: tuple[StatementDef, ...] = (
     ),
     _d(
         "lead_check.limb_inconsistent",
-        "limb leads inconsistent (calibration or electrode fault suspected)",
+        "limb leads inconsistent",
         "the recorded limb leads break Einthoven's or Goldberger's relations (III = II - I, "
         "aVR = -(I + II)/2, aVL = (I - III)/2, aVF = (II + III)/2): a residual above "
-        f"{100 * MAX_RELATIVE_RESIDUAL:.0f} % of the limb-lead signal (rms) in any of them; "
-        "the frontal axes and the statements resting on them are then not made",
+        f"{100 * MAX_RELATIVE_RESIDUAL:.0f} % of the limb-lead signal (rms) in any of them: a "
+        "limb lead's calibration or electrode is suspect; the frontal axes are then unreliable "
+        "and the statements resting on them are not made",
         (S.EINTHOVEN_1913, S.GOLDBERGER_1942),
         "Einthoven Goldberger calibration gain electrode cable technical",
     ),

@@ -85,13 +85,9 @@ AXIS_CAUTION = (
     "{pct:.0f} % of the limb-lead signal, so a limb lead's calibration or electrode is "
     "suspect (Einthoven et al., Pflugers Arch 1913; Goldberger, Am Heart J 1942)"
 )
-# The frontal values computed from the limb leads.
-FRONTAL_QUANTITIES: tuple[str, ...] = (
-    "p_axis_deg",
-    "qrs_axis_deg",
-    "t_axis_deg",
-    "qrs_t_angle_deg",
-)
+# The frontal axes, computed from the limb leads (the QRS-T angle, their difference, is not a
+# value of its own on screen or page: its statement is withheld with its reason instead).
+FRONTAL_QUANTITIES: tuple[str, ...] = ("p_axis_deg", "qrs_axis_deg", "t_axis_deg")
 
 
 @dataclass(frozen=True)
