@@ -113,8 +113,8 @@ def test_one_lead_off_by_a_quarter_or_a_half_is_inconsistent(lead, gain):
 @pytest.mark.parametrize("gain", [1.1, 0.9])
 def test_one_lead_off_by_a_tenth_is_found_in_the_larger_leads(gain):
     """A 10 % gain error gives a residual of about 0.1 x the lead's std over the limb-lead
-    scale: found in I, II and aVR here (std at or above the scale), not in III and aVL (about
-    half of it), whose error moves the axis little."""
+    scale: found in I, II, aVR and aVF here, not in III and aVL (about half of it). The axes
+    are computed from I and aVF (``measure.axes``): an error in either is found."""
     six = _limb_leads(_dipole(), np.random.default_rng(4))
     x = condition(six.astype(np.float32), FS)
     scale = float(np.sqrt(np.mean(np.var(x, axis=0))))
@@ -122,7 +122,7 @@ def test_one_lead_off_by_a_tenth_is_found_in_the_larger_leads(gain):
         off = six.copy()
         off[:, k] *= gain
         ratio = float(np.std(x[:, k])) / scale
-        if ratio >= 1.0:
+        if ratio >= 0.9 or lead in ("I", "aVF"):
             assert _worst(off) > MAX_RELATIVE_RESIDUAL, (lead, ratio)
         assert _worst(off) == pytest.approx(0.1 * ratio, rel=0.25), lead
 
