@@ -562,7 +562,7 @@ def test_limb_leads_inconsistent_above_the_threshold():
     warning = got.get("lead_check.limb_inconsistent")
     assert warning is not None and got.codes()[0] == "lead_check.limb_inconsistent"
     assert warning.detail == (
-        "aVF differs from (II + III)/2 by 8 %: check the limb-lead calibration and electrodes"
+        "aVF differs from (II + III)/2 by 8 %: check their calibration and electrodes"
     )
     assert [v.text for v in warning.values][3] == "aVF vs (II + III)/2, residual 8 %"
     assert "lead_check.limb_inconsistent" not in codes()  # check not applied

@@ -91,8 +91,8 @@ def limb_inconsistent(ctx: Context) -> list[Statement]:
         make(
             "lead_check.limb_inconsistent",
             vals,
-            f"{lead} differs from {rhs} by {100.0 * worst:.0f} %: check the limb-lead "
-            "calibration and electrodes",
+            f"{lead} differs from {rhs} by {100.0 * worst:.0f} %: check their calibration and "
+            "electrodes",
         )
     ]
 
