@@ -611,3 +611,22 @@ def test_sinus_p_read_in_lead_ii_when_the_limb_leads_are_inconsistent():
     p_up = {"II": dict(p_mv=0.1)}
     got = Case(glob={"p_axis_deg": -60.0}, leads=p_up, limbs=_limbs(0.5)).interpret()
     assert "rhythm.sinus" in got.codes()
+
+
+def test_limb_amplitude_statements_qualified_when_the_limb_leads_are_inconsistent():
+    # A limb lead scaled on its own mis-scales R in aVL (Cornell; Casale PN et al., JACC 1985,
+    # from memory) and the limb-lead QRS amplitudes (low voltage; Mason 2007, from memory):
+    # the statements stay, with a note; Sokolow-Lyon reads chest leads only, no note.
+    small = {
+        x: dict(q_mv=0.0, r_mv=0.29, s_mv=-0.2) for x in ("I", "II", "III", "aVR", "aVL", "aVF")
+    }
+    note = "limb leads inconsistent (III differs from II - I by 50 %): limb-lead amplitudes"
+    got = Case(leads=small, limbs=_limbs(0.5)).interpret().get("chamber.low_voltage_limb")
+    assert got is not None and any(q.startswith(note) for q in got.qualifiers)
+    got = Case(leads=small, limbs=_limbs(0.02)).interpret().get("chamber.low_voltage_limb")
+    assert got is not None and not got.qualifiers
+    cornell = Case(voltages={"cornell_mv": 2.9}, limbs=_limbs(0.5)).interpret().get("chamber.lvh")
+    assert cornell is not None and any(q.startswith(note) for q in cornell.qualifiers)
+    sokolow = Case(voltages={"sokolow_lyon_mv": 3.6}, limbs=_limbs(0.5)).interpret()
+    lvh = sokolow.get("chamber.lvh")
+    assert lvh is not None and not any(q.startswith(note) for q in lvh.qualifiers)

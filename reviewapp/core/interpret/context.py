@@ -48,6 +48,19 @@ class Context:
         text = FRONTAL_GATED.format(what=what, lead=lead, rhs=rhs, pct=100.0 * worst)
         return ValueReason(f"statement:{quantity}", "gated", text)
 
+    def limb_amplitude_note(self) -> str | None:
+        """A qualifier for a statement resting on limb-lead amplitudes (Cornell voltage: R in
+        aVL; Peguero-Lo Presti: the deepest S of any lead; low limb-lead voltage) when the limb
+        leads are inconsistent, one of them perhaps scaled on its own; None otherwise."""
+        found = self.m.limb_consistency
+        if found is None or found.consistent:
+            return None
+        lead, rhs, worst = found.worst
+        return (
+            f"limb leads inconsistent ({lead} differs from {rhs} by {100.0 * worst:.0f} %): "
+            "limb-lead amplitudes may be mis-scaled"
+        )
+
     # --- global values as displayed -------------------------------------------------------
     def g(self, name: str) -> float | None:
         """A ``GlobalIntervals`` value as displayed (whole ms, bpm, deg)."""
