@@ -140,6 +140,7 @@ class Analysis:
             beat_marks=tuple(beat_marks),
             beat_lead_marks=tuple(tuple(row) for row in beat_lead),
             representative=rep,
+            derived=tuple(lead.derived for lead in self.record.leads),
         )
         return marked, tuple(unmatched)
 

@@ -247,3 +247,7 @@ class MarkedECG:
     beat_marks: tuple[WaveMarks, ...]  # global, record indices, one per beat
     beat_lead_marks: tuple[tuple[WaveMarks, ...], ...]  # [beat][lead], record indices
     representative: RepresentativeBeat | None  # marks/lead_marks are the effective ones
+    # Per lead, True where the lead was computed from others (``LeadInfo.derived``), not
+    # recorded; empty: every lead recorded. The limb-lead consistency check tests only
+    # recorded leads (a derived lead obeys the relations by construction).
+    derived: tuple[bool, ...] = ()

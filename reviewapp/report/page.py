@@ -601,10 +601,13 @@ def _draw_table(c: _Canvas, box: Rect, content: ReportContent) -> None:
     # the smallest type leaves no room (with "...").
     line_h = _line_mm(size)
     y = table_bottom + 0.5 + 0.8 * line_h
+    start = 0.0  # where the other flags begin on the statements' last line (0: a line of their own)
     if paragraph:
-        for line in _wrap(c, paragraph, box.w, size, max_lines=99):
+        plines = _wrap(c, paragraph, box.w, size, max_lines=99)
+        for line in plines:
             c.text(x0, y, line, size, max_w=box.w)
             y += line_h
+        start = _run_on_mm(c, plines[-1], box.w, size)
     if flags and flags_beside:
         gx = x0 + 2 * group_w
         yy = y0 + head_h + (len(groups[2]) + 1) * row_h
@@ -615,8 +618,13 @@ def _draw_table(c: _Canvas, box: Rect, content: ReportContent) -> None:
             yy += FLAG_LINE_MM
     elif flags:
         lines = max(1, int((box.bottom - y + 0.8 * line_h) / line_h))
-        for line in _wrap(c, flags, box.w, size, max_lines=lines):
-            c.text(x0, y, line, size, colour=FLAG, max_w=box.w)
+        if start:
+            y -= line_h
+            lines += 1
+        wrapped = _wrap(c, flags, box.w, size, max_lines=lines, first_mm=box.w - start)
+        for k, line in enumerate(wrapped):
+            x = x0 + (start if k == 0 else 0.0)
+            c.text(x, y, line, size, colour=FLAG, max_w=box.right - x)
             y += line_h
 
 
@@ -659,10 +667,32 @@ def _notes_plan(
         if not pars:
             return head_h, row_h, NOTE_SIZES_PT[0], beside
         for size in NOTE_SIZES_PT:
-            n = sum(len(_wrap(c, t, box.w, size, max_lines=99)) for t in pars)
+            n = _notes_lines(c, paragraph, "" if beside else flags, box.w, size)
             if n * _line_mm(size) <= band_h:
                 return head_h, row_h, size, beside
     return plan
+
+
+# The other flags run on after the statements' last line when at least this much of it is
+# free (mm), so a short statement does not cost the flags a whole line.
+RUN_ON_MIN_MM = 30.0
+
+
+def _run_on_mm(c: _Canvas, last_line: str, width_mm: float, size_pt: float) -> float:
+    """Where text may continue on ``last_line`` (mm from its start), 0 when too little is left."""
+    used = c.text_width_mm(last_line + "   ", size_pt)
+    return used if width_mm - used >= RUN_ON_MIN_MM else 0.0
+
+
+def _notes_lines(c: _Canvas, paragraph: str, flags: str, width_mm: float, size_pt: float) -> int:
+    """Lines the statements and then the other flags take, the flags run on after the
+    statements' last line where it has room (as drawn in ``_table``)."""
+    plines = _wrap(c, paragraph, width_mm, size_pt, max_lines=99) if paragraph else []
+    if not flags:
+        return len(plines)
+    start = _run_on_mm(c, plines[-1], width_mm, size_pt) if plines else 0.0
+    flines = _wrap(c, flags, width_mm, size_pt, max_lines=99, first_mm=width_mm - start)
+    return len(plines) + len(flines) - (1 if start else 0)
 
 
 def _size_to_fit(c: _Canvas, text: str, width_mm: float, sizes: tuple[float, ...]) -> float:
@@ -746,14 +776,23 @@ def _draw_wide_qrs_line(
             x += c.text(x + 0.2, y - 0.2, _superscript(marks), 6.0, max_w=right - x) + 0.2
 
 
-def _wrap(c: _Canvas, text: str, width_mm: float, size_pt: float, max_lines: int) -> list[str]:
-    """Greedy word wrap; the last line ends in an ellipsis when text remains."""
+def _wrap(
+    c: _Canvas,
+    text: str,
+    width_mm: float,
+    size_pt: float,
+    max_lines: int,
+    first_mm: float | None = None,
+) -> list[str]:
+    """Greedy word wrap (the first line ``first_mm`` wide when given); the last line ends in
+    an ellipsis when text remains."""
     words = text.split(" ")
     lines: list[str] = []
     cur = ""
     while words and len(lines) < max_lines:
         trial = (cur + " " + words[0]).strip()
-        if c.text_width_mm(trial, size_pt) <= width_mm or not cur:
+        room = first_mm if first_mm is not None and not lines else width_mm
+        if c.text_width_mm(trial, size_pt) <= room or not cur:
             cur = trial
             words.pop(0)
         else:
@@ -762,7 +801,8 @@ def _wrap(c: _Canvas, text: str, width_mm: float, size_pt: float, max_lines: int
     if cur and len(lines) < max_lines:
         lines.append(cur)
     if words and lines:
-        lines[-1] = c.fit(lines[-1] + " " + " ".join(words), width_mm, size_pt)
+        last = first_mm if first_mm is not None and len(lines) == 1 else width_mm
+        lines[-1] = c.fit(lines[-1] + " " + " ".join(words), last, size_pt)
     return lines
 
 

@@ -15,6 +15,7 @@ import numpy as np
 
 from reviewapp.core.fiducials import Beat, BeatKind, MarkedECG, RepresentativeBeat, WaveMarks
 from reviewapp.core.interpret import Interpretation, interpret
+from reviewapp.core.measure.limb_consistency import LimbConsistency
 from reviewapp.core.measure.types import (
     AtrialActivity,
     GlobalIntervals,
@@ -104,6 +105,8 @@ class Case:
     reasons: tuple[ValueReason, ...] = ()
     unmeasured: tuple[tuple[str, str], ...] = ()
     voltages: dict[str, float | None] = field(default_factory=dict)
+    # The limb-lead consistency check's result (None: not applied).
+    limbs: LimbConsistency | None = None
     subject: SubjectFacts = field(default_factory=lambda: SubjectFacts(sex="male", age_years=50))
 
     def reading(self) -> Any:
@@ -154,6 +157,7 @@ class Case:
             pre_excitation=self.pre_excitation,
             atrial=self.atrial,
             reasons=self.reasons,
+            limb_consistency=self.limbs,
             **volts,  # type: ignore[arg-type]
         )
         return _Reading(marked, m)

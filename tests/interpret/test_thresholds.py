@@ -11,6 +11,7 @@ from __future__ import annotations
 import pytest
 
 from reviewapp.core.fiducials import BeatKind
+from reviewapp.core.measure.limb_consistency import MAX_RELATIVE_RESIDUAL, LimbConsistency
 from reviewapp.core.measure.types import AtrialActivity, ValueReason
 from reviewapp.core.record import SubjectFacts
 from tests.interpret.helpers import Case
@@ -543,3 +544,89 @@ def test_limb_lead_reversal():
     assert "lead_check.limb_reversal" in codes(leads=swapped)
     # A normal lead I (net QRS positive) never warns.
     assert "lead_check.limb_reversal" not in codes()
+
+
+def _limbs(worst: float, lead: str = "III") -> LimbConsistency:
+    rest = 0.01
+    return LimbConsistency(
+        tuple((x, worst if x == lead else rest) for x in ("III", "aVR", "aVL", "aVF"))
+    )
+
+
+def test_limb_leads_inconsistent_above_the_threshold():
+    # Einthoven 1913, Goldberger 1942 (from memory): the relations hold on any recording; the
+    # threshold is this program's (measure.limb_consistency: 0.08 of the limb-lead signal).
+    at = MAX_RELATIVE_RESIDUAL
+    assert "lead_check.limb_inconsistent" not in codes(limbs=_limbs(at))
+    got = Case(limbs=_limbs(at + 0.001, "aVF")).interpret()
+    warning = got.get("lead_check.limb_inconsistent")
+    assert warning is not None and got.codes()[0] == "lead_check.limb_inconsistent"
+    assert warning.detail == (
+        "aVF differs from (II + III)/2 by 8 %: check their calibration and electrodes"
+    )
+    assert [v.text for v in warning.values][3] == "aVF vs (II + III)/2, residual 8 %"
+    assert "lead_check.limb_inconsistent" not in codes()  # check not applied
+
+
+@pytest.mark.parametrize(
+    ("glob", "leads", "code", "gate"),
+    [
+        ({"qrs_axis_deg": -60.0}, {}, "axis.left_deviation", "statement:axis"),
+        ({"qrs_axis_deg": 120.0}, {}, "axis.right_deviation", "statement:axis"),
+        ({"qrs_axis_deg": -60.0}, LAFB_AVL, "conduction.lafb", "statement:conduction.fascicular"),
+        (
+            {"qrs_axis_deg": 100.0},
+            {"V1": dict(r_mv=0.6, s_mv=-0.3, q_mv=0.0)},
+            "chamber.rvh",
+            "statement:chamber.rvh",
+        ),
+        (
+            {"qrs_t_angle_deg": 130.0, "t_axis_deg": -70.0},
+            {},
+            "repolarization.wide_qrs_t_angle",
+            "statement:repolarization.wide_qrs_t_angle",
+        ),
+    ],
+)
+def test_statements_resting_on_the_frontal_axis_not_made_with_inconsistent_limb_leads(
+    glob, leads, code, gate
+):
+    assert code in codes(glob=glob, leads=leads, limbs=_limbs(0.02))
+    got = Case(glob=glob, leads=leads, limbs=_limbs(0.5)).interpret()
+    assert code not in got.codes()
+    why = [r for r in got.reasons if r.quantity == gate]
+    assert len(why) == 1 and why[0].kind == "gated"
+    assert "limb leads inconsistent, III differs from II - I by 50 %" in why[0].text
+    assert "Einthoven" in why[0].text and "Goldberger" in why[0].text
+
+
+def test_sinus_p_read_in_lead_ii_when_the_limb_leads_are_inconsistent():
+    # A sinus P is upright in lead II (common practice, no source). With consistent limb leads
+    # the P axis says so; with inconsistent ones the P in II itself is read.
+    p_down = {"II": dict(p_mv=-0.1)}
+    assert "rhythm.sinus" in codes(glob={"p_axis_deg": 60.0}, leads=p_down)
+    got = Case(glob={"p_axis_deg": 60.0}, leads=p_down, limbs=_limbs(0.5)).interpret()
+    ectopic = got.get("rhythm.ectopic_atrial")
+    assert ectopic is not None and "P -0.10 mV in II" in ectopic.detail
+    p_up = {"II": dict(p_mv=0.1)}
+    got = Case(glob={"p_axis_deg": -60.0}, leads=p_up, limbs=_limbs(0.5)).interpret()
+    assert "rhythm.sinus" in got.codes()
+
+
+def test_limb_amplitude_statements_qualified_when_the_limb_leads_are_inconsistent():
+    # A limb lead scaled on its own mis-scales R in aVL (Cornell; Casale PN et al., JACC 1985,
+    # from memory) and the limb-lead QRS amplitudes (low voltage; Mason 2007, from memory):
+    # the statements stay, with a note; Sokolow-Lyon reads chest leads only, no note.
+    small = {
+        x: dict(q_mv=0.0, r_mv=0.29, s_mv=-0.2) for x in ("I", "II", "III", "aVR", "aVL", "aVF")
+    }
+    note = "limb leads inconsistent (III differs from II - I by 50 %): limb-lead amplitudes"
+    got = Case(leads=small, limbs=_limbs(0.5)).interpret().get("chamber.low_voltage_limb")
+    assert got is not None and any(q.startswith(note) for q in got.qualifiers)
+    got = Case(leads=small, limbs=_limbs(0.02)).interpret().get("chamber.low_voltage_limb")
+    assert got is not None and not got.qualifiers
+    cornell = Case(voltages={"cornell_mv": 2.9}, limbs=_limbs(0.5)).interpret().get("chamber.lvh")
+    assert cornell is not None and any(q.startswith(note) for q in cornell.qualifiers)
+    sokolow = Case(voltages={"sokolow_lyon_mv": 3.6}, limbs=_limbs(0.5)).interpret()
+    lvh = sokolow.get("chamber.lvh")
+    assert lvh is not None and not any(q.startswith(note) for q in lvh.qualifiers)

@@ -7,7 +7,17 @@ import importlib
 
 import pytest
 
-MODULES = ["qtc", "intervals", "axes", "amplitudes", "limits", "limit_text", "findings", "output"]
+MODULES = [
+    "qtc",
+    "intervals",
+    "axes",
+    "amplitudes",
+    "limits",
+    "limit_text",
+    "findings",
+    "output",
+    "limb_consistency",
+]
 
 
 @pytest.mark.parametrize("name", MODULES)

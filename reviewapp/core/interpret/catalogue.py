@@ -20,6 +20,7 @@ from dataclasses import dataclass
 from reviewapp.core.interpret import sources as S
 from reviewapp.core.interpret.sources import Source
 from reviewapp.core.marks.model import FREE_TEXT_CODE
+from reviewapp.core.measure.limb_consistency import MAX_RELATIVE_RESIDUAL
 
 CATEGORIES: tuple[tuple[str, str], ...] = (
     ("lead_check", "Lead check"),
@@ -85,6 +86,17 @@ ENTRIES: tuple[StatementDef, ...] = (
         "(correlation along V1-V6 higher by more than 0.4 in sum)",
         S.ENGINE,
         "electrode misplacement chest V1 V2 V3 V4 V5 V6 swap technical",
+    ),
+    _d(
+        "lead_check.limb_inconsistent",
+        "limb leads inconsistent",
+        "the recorded limb leads break Einthoven's or Goldberger's relations (III = II - I, "
+        "aVR = -(I + II)/2, aVL = (I - III)/2, aVF = (II + III)/2): a residual above "
+        f"{100 * MAX_RELATIVE_RESIDUAL:.0f} % of the limb-lead signal (rms) in any of them: a "
+        "limb lead's calibration or electrode is suspect; the frontal axes are then unreliable "
+        "and the statements resting on them are not made",
+        (S.EINTHOVEN_1913, S.GOLDBERGER_1942),
+        "Einthoven Goldberger calibration gain electrode cable technical",
     ),
     # --- rhythm ------------------------------------------------------------------------
     _d(

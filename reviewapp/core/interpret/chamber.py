@@ -73,7 +73,13 @@ def chamber(ctx: Context) -> tuple[list[Statement], list[ValueReason]]:
     lvh = _lvh(ctx, reasons)
     if lvh is not None:
         out.append(lvh)
-    out += _rvh(ctx) + _atria(ctx) + _low_voltage(ctx)
+    # The right ventricular hypertrophy criteria ask a QRS axis > +90 deg.
+    gate = None if ctx.m.paced else ctx.frontal_gate("right ventricular hypertrophy", "chamber.rvh")
+    if gate is not None:
+        reasons.append(gate)
+    else:
+        out += _rvh(ctx)
+    out += _atria(ctx) + _low_voltage(ctx)
     return out, reasons
 
 
@@ -101,6 +107,13 @@ def lvh_criteria(ctx: Context) -> list[MetValue]:
         if shown(peg, "mV") >= limit:
             met.append(MetValue("Peguero-Lo Presti voltage", shown(peg, "mV"), "mV"))
     return met
+
+
+# The voltage criteria that read a limb lead: R in aVL (Cornell) and the deepest S of any lead
+# (Peguero-Lo Presti).
+LIMB_AMPLITUDE_CRITERIA = frozenset(
+    {"Cornell voltage", "Cornell product", "Peguero-Lo Presti voltage"}
+)
 
 
 def strain_leads(ctx: Context) -> list[str]:
@@ -134,6 +147,9 @@ def _lvh(ctx: Context, reasons: list[ValueReason]) -> Statement | None:
         quals.append("age not stated: voltage criteria applied as for 35 years or older")
     if ctx.sex is None:
         quals.append("sex not stated: the women's (lower) voltage limits used")
+    limb_note = ctx.limb_amplitude_note()
+    if limb_note is not None and any(v.label in LIMB_AMPLITUDE_CRITERIA for v in met):
+        quals.append(limb_note)
     names = ", ".join(v.label.replace(" voltage", "") for v in met)
     strain = strain_leads(ctx)
     if strain:
@@ -212,7 +228,7 @@ def _low_voltage(ctx: Context) -> list[Statement]:
             continue
         if all(a < limit for a in amps):
             top = max(amps)
-            out.append(
-                make(code, [MetValue("largest QRS amplitude", top, "mV")], f"largest {top:.2f} mV")
-            )
+            note = ctx.limb_amplitude_note() if leads == LIMB else None
+            vals = [MetValue("largest QRS amplitude", top, "mV")]
+            out.append(make(code, vals, f"largest {top:.2f} mV", [note] if note else []))
     return out

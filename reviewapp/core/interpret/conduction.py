@@ -111,7 +111,10 @@ def conduction(ctx: Context) -> tuple[list[Statement], list[ValueReason]]:
     narrow_or_rbbb = qrs < COMPLETE_QRS_MS or (
         block is not None and block.code == "conduction.rbbb"
     )
-    if narrow_or_rbbb:
+    gate = ctx.frontal_gate("fascicular block statements", "conduction.fascicular")
+    if narrow_or_rbbb and gate is not None:
+        reasons.append(gate)
+    elif narrow_or_rbbb:
         out += _fascicular(ctx)
     return out, reasons
 
@@ -223,6 +226,9 @@ def _fascicular(ctx: Context) -> list[Statement]:
 def axis(ctx: Context) -> tuple[list[Statement], list[ValueReason]]:
     if ctx.m.paced:
         return [], []
+    gate = ctx.frontal_gate("axis statements", "axis")
+    if gate is not None:
+        return [], [gate]
     ax = ctx.g("qrs_axis_deg")
     if ax is None:
         why = dict(ctx.m.unmeasured).get("qrs_axis_deg", "")

@@ -9,13 +9,22 @@ from dataclasses import dataclass, field
 from reviewapp.core.fiducials import BeatKind, MarkedECG
 from reviewapp.core.interpret.statement import MetValue
 from reviewapp.core.measure.limit_text import shown
-from reviewapp.core.measure.types import LeadMeasurements, Measurements
+from reviewapp.core.measure.types import LeadMeasurements, Measurements, ValueReason
 from reviewapp.core.record import SubjectFacts
 
 LIMB = ("I", "II", "III", "aVR", "aVL", "aVF")
 PRECORDIAL = ("V1", "V2", "V3", "V4", "V5", "V6")
 # Adults: the criteria here are the adult ones (Part III gives children's QRS limits apart).
 ADULT_AGE_YEARS = 16.0
+
+# A statement resting on the frontal axis is not made when the recorded limb leads break
+# Einthoven's and Goldberger's relations (``measure.limb_consistency``): the axis is computed
+# from those leads. "<what>: <cause>, <detail> (<source>)", the ``ValueReason`` convention.
+FRONTAL_GATED = (
+    "{what} not made: limb leads inconsistent, {lead} differs from {rhs} by {pct:.0f} % of "
+    "the limb-lead signal, so the frontal axis is unreliable (Einthoven et al., Pflugers "
+    "Arch 1913; Goldberger, Am Heart J 1942)"
+)
 
 
 @dataclass(frozen=True, eq=False)
@@ -28,6 +37,29 @@ class Context:
     @classmethod
     def of(cls, m: Measurements, marked: MarkedECG, subject: SubjectFacts) -> Context:
         return cls(m, marked, subject, {x.lead: x for x in m.leads})
+
+    def frontal_gate(self, what: str, quantity: str) -> ValueReason | None:
+        """The reason a statement resting on the frontal axis is not made (``what``: its
+        name for the reader), or None when the limb leads are consistent or untested."""
+        found = self.m.limb_consistency
+        if found is None or found.consistent:
+            return None
+        lead, rhs, worst = found.worst
+        text = FRONTAL_GATED.format(what=what, lead=lead, rhs=rhs, pct=100.0 * worst)
+        return ValueReason(f"statement:{quantity}", "gated", text)
+
+    def limb_amplitude_note(self) -> str | None:
+        """A qualifier for a statement resting on limb-lead amplitudes (Cornell voltage: R in
+        aVL; Peguero-Lo Presti: the deepest S of any lead; low limb-lead voltage) when the limb
+        leads are inconsistent, one of them perhaps scaled on its own; None otherwise."""
+        found = self.m.limb_consistency
+        if found is None or found.consistent:
+            return None
+        lead, rhs, worst = found.worst
+        return (
+            f"limb leads inconsistent ({lead} differs from {rhs} by {100.0 * worst:.0f} %): "
+            "limb-lead amplitudes may be mis-scaled"
+        )
 
     # --- global values as displayed -------------------------------------------------------
     def g(self, name: str) -> float | None:

@@ -9,6 +9,16 @@ positive QRS, P or T. Net QRS = R (or R') plus Q and S (signed); a P or T counts
 its P or T to be positive found 34 of 60, asking either 53-55 of 60, with no false warning on
 the 140 records as recorded. Dextrocardia gives the same picture, and the statement says so.
 
+Limb leads inconsistent (Einthoven W, Fahr G, de Waart A, Pflugers Arch 1913; Goldberger E,
+Am Heart J 1942; from memory): the recorded limb leads break III = II - I or Goldberger's
+relations by more than ``limb_consistency.MAX_RELATIVE_RESIDUAL`` of the limb-lead signal
+(the measurement, its threshold and the figures it was set on: ``measure.limb_consistency``).
+The frontal axes then carry a caution and the statements resting on them are not made
+(``AXIS_GATED``). The limb-lead reversal check stays: it reads the signs of the net QRS in I
+and aVR, which a lead's own (positive) gain does not change, and an arm swap keeps the
+relations (I becomes -I, II and III, aVR and aVL exchange), so the two checks answer
+different faults and may both fire.
+
 Precordial lead out of sequence (this program's own check, no published criterion): the
 QRS-T of each chest lead (representative beat, QRS onset - 10 ms to T end) is most like its
 neighbours' along V1-V6. For every pair of chest leads, the sum of correlations between
@@ -26,6 +36,7 @@ import numpy as np
 
 from reviewapp.core.interpret.context import PRECORDIAL, Context
 from reviewapp.core.interpret.statement import MetValue, Statement, make
+from reviewapp.core.measure.limb_consistency import RELATIONS
 
 WAVE_MV = 0.02  # the smallest wave (measure.amplitudes.MIN_WAVE_MV)
 SEQUENCE_GAIN = 0.2
@@ -63,6 +74,25 @@ def limb_reversal(ctx: Context) -> list[Statement]:
             vals,
             "QRS and P or T negative in I, positive in aVR; check the arm electrodes (or "
             "dextrocardia)",
+        )
+    ]
+
+
+def limb_inconsistent(ctx: Context) -> list[Statement]:
+    found = ctx.m.limb_consistency
+    if found is None or found.consistent:
+        return []
+    lead, rhs, worst = found.worst
+    vals = [
+        MetValue(f"{lhs} vs {words}, residual", round(100.0 * r, 1), "%")
+        for (lhs, r), (_, _, words) in zip(found.residual_by_lead, RELATIONS, strict=True)
+    ]
+    return [
+        make(
+            "lead_check.limb_inconsistent",
+            vals,
+            f"{lead} differs from {rhs} by {100.0 * worst:.0f} %: check their calibration and "
+            "electrodes",
         )
     ]
 
@@ -120,4 +150,4 @@ def precordial_sequence(ctx: Context) -> list[Statement]:
 
 
 def lead_checks(ctx: Context) -> list[Statement]:
-    return limb_reversal(ctx) + precordial_sequence(ctx)
+    return limb_inconsistent(ctx) + limb_reversal(ctx) + precordial_sequence(ctx)

@@ -71,7 +71,12 @@ def repolarization(ctx: Context) -> tuple[list[Statement], list[ValueReason]]:
             ValueReason("statement:repolarization.st_t", "gated", SECONDARY.format(why=why))
         )
     else:
-        out += _angle(ctx) + _t_inversion(ctx) + _prwp(ctx) + _early_repolarization(ctx)
+        gate = ctx.frontal_gate("wide frontal QRS-T angle", "repolarization.wide_qrs_t_angle")
+        if gate is not None:
+            reasons.append(gate)
+        else:
+            out += _angle(ctx)
+        out += _t_inversion(ctx) + _prwp(ctx) + _early_repolarization(ctx)
     out += _u_wave(ctx)
     if not ctx.m.paced:
         out += _brugada(ctx)

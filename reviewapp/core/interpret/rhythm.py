@@ -11,7 +11,9 @@ Thresholds (each tested at its value in tests/interpret/test_thresholds.py):
 - Sinus P wave: upright in lead II, i.e. a P axis between -30 and +150 deg (lead II lies at
   +60 deg; common practice, no source: a sinus P is upright in II, a low atrial or junctional
   P is inverted there). The P itself must repeat with a constant PR from beat to beat (the
-  delineator's P-presence rule, ``dsp.delineate``).
+  delineator's P-presence rule, ``dsp.delineate``). Where the recorded limb leads break
+  Einthoven's relations (``measure.limb_consistency``) the P axis is unreliable and the sign
+  of the P in lead II itself is read instead.
 - Sinus arrhythmia: the longest and shortest dominant cycles differ by more than 120 ms
   (common practice, no source; definitions range from 120 to 160 ms or 10 %).
 - Atrial flutter: no P wave, atrial rate 240-340/min (Mason 2007, from memory) and atrial
@@ -98,13 +100,21 @@ def _with_p(ctx: Context) -> list[Statement]:
     if pax is None or hr is None:
         what = "P axis" if pax is None else "heart rate"
         return [make("rhythm.undetermined", detail=f"P waves present, {what} not measurable")]
+    lo, hi = SINUS_P_AXIS_DEG
+    upright, where = lo < pax < hi, f"P axis {pax:+.0f}°"
     vals = [MetValue("P axis", pax, "deg"), MetValue("heart rate", hr, "bpm")]
+    p_ii = ctx.lv("II", "p_mv")
+    limbs = ctx.m.limb_consistency
+    if limbs is not None and not limbs.consistent and p_ii is not None and p_ii != 0.0:
+        # The P axis rests on limb leads that break Einthoven's relations: read the
+        # criterion's own words, the P in lead II, whose sign a lead's gain does not change.
+        upright, where = p_ii > 0.0, f"P {p_ii:+.2f} mV in II"
+        vals[0] = MetValue("P", p_ii, "mV", "II")
     pr = ctx.g("pr_ms")
     if pr is not None:
         vals.append(MetValue("PR", pr, "ms"))
-    lo, hi = SINUS_P_AXIS_DEG
-    if not lo < pax < hi:
-        return [make("rhythm.ectopic_atrial", vals, f"P inverted in II (P axis {pax:+.0f}°)")]
+    if not upright:
+        return [make("rhythm.ectopic_atrial", vals, f"P inverted in II ({where})")]
     if hr < BRADYCARDIA_BPM:
         code = "rhythm.sinus_bradycardia"
     elif hr > TACHYCARDIA_BPM:

@@ -70,6 +70,17 @@ ZEMA_1982 = Source("Zema MJ, Kligfield P, Arch Intern Med 1982;142:1145-1148")
 ARO_2012 = Source("Aro AL et al., Europace 2012;14:872-876")
 BATCHVAROV_2007 = Source("Batchvarov VN, Malik M, Camm AJ, Europace 2007;9:1081-1090")
 SLOCUM_1985 = Source("Slocum J et al., Circulation 1985;72:1028-1036")
+# The limb-lead relations (III = II - I; the augmented leads from I and II).
+EINTHOVEN_1913 = Source(
+    "Einthoven W, Fahr G, de Waart A, Uber die Richtung und die manifeste Grosse der "
+    "Potentialschwankungen im menschlichen Herzen, Pflugers Arch Ges Physiol "
+    "1913;150:275-315"
+)
+GOLDBERGER_1942 = Source(
+    "Goldberger E, A simple, indifferent, electrocardiographic electrode of zero potential "
+    "and a technique of obtaining augmented, unipolar, extremity leads, Am Heart J "
+    "1942;23:483-492"
+)
 # Trade criteria without one citable source: the reader is told so.
 CONVENTIONAL = Source("conventional criterion, no single published source", COMMON_PRACTICE)
 ENGINE = Source(

@@ -34,6 +34,7 @@ from reviewapp.core.measure.intervals import (
     rr_statistics,
     span_ms,
 )
+from reviewapp.core.measure.limb_consistency import FRONTAL_QUANTITIES, limb_consistency
 from reviewapp.core.measure.limits import QTC_QUANTITIES
 from reviewapp.core.measure.morphology import p_part, qrs_part, t_part
 from reviewapp.core.measure.preexcitation import is_preexcited
@@ -164,6 +165,12 @@ def compute_measurements(marked: MarkedECG) -> Measurements:
             ValueReason(k, "caution", caution) for k in rate_corrected if g.get(k) is not None
         ]
     reasons += gated
+    limbs = limb_consistency(marked)
+    if limbs is not None and not limbs.consistent:
+        why = limbs.axis_caution()
+        reasons += [
+            ValueReason(k, "caution", why) for k in FRONTAL_QUANTITIES if g.get(k) is not None
+        ]
 
     by_name = {m.lead: m for m in leads}
     sokolow = sokolow_lyon_mv(by_name.get("V1"), by_name.get("V5"), by_name.get("V6"))
@@ -196,6 +203,7 @@ def compute_measurements(marked: MarkedECG) -> Measurements:
         pre_excitation=pre_excited,
         atrial=atrial_activity(marked),
         reasons=tuple(reasons),
+        limb_consistency=limbs,
     )
     for skipped in (paced_criteria_skipped(out), infarct_criteria_skipped(out)):
         if skipped is not None:

@@ -80,6 +80,7 @@ from reviewapp.core.measure.limit_text import (
     value_text,
 )
 from reviewapp.core.measure.limits import normal_range
+from reviewapp.core.measure.reason_text import cause
 from reviewapp.core.measure.types import LeadMeasurements, NormalRange
 from reviewapp.core.record import SubjectFacts
 
@@ -318,6 +319,7 @@ CSV_COLUMNS: tuple[str, ...] = (
     "n_findings",
     *WIDE_QRS_KEYS,
     "not_comparable",
+    "less_reliable",
     "statements",
     "engine_version",
     "error",
@@ -523,6 +525,13 @@ def csv_row(d: Mapping[str, Any]) -> dict[str, Any]:
     nc = [r for r in d.get("reasons", ()) if r.get("kind") == "not_comparable"]
     if nc:
         row["not_comparable"] = " ".join(r["quantity"] for r in nc) + ": " + nc[0]["text"]
+    # Shown and compared but less reliable (kind "caution"), each distinct text once.
+    ca = [r for r in d.get("reasons", ()) if r.get("kind") == "caution"]
+    texts = dict.fromkeys(str(r["text"]) for r in ca)
+    if ca:
+        row["less_reliable"] = " | ".join(
+            " ".join(str(r["quantity"]) for r in ca if r["text"] == t) + ": " + t for t in texts
+        )
     row["statements"] = "; ".join(statement_line(x) for x in d.get("statements") or ())
     row["engine_version"] = d["engine_version"]
     return row
@@ -623,6 +632,11 @@ def table_text(d: Mapping[str, Any], *, per_lead: bool = False) -> str:
         for r in d.get("reasons") or ()
         if r.get("kind") == "not_comparable"
     }
+    cautions = {
+        str(r["quantity"]): cause(str(r["text"]))
+        for r in d.get("reasons") or ()
+        if r.get("kind") == "caution"
+    }
     for q, where, unit in _TABLE_ROWS:
         v = _dig(d, where)
         nr = normal_range(q, subject)
@@ -633,6 +647,10 @@ def table_text(d: Mapping[str, Any], *, per_lead: bool = False) -> str:
         flag = flag_text(direction)
         if q in not_comparable and v is not None:
             flag = "not comparable: " + not_comparable[q]
+        if q in cautions and v is not None:
+            # Shown and compared, but less reliable (an irregular rhythm's QTc, an axis from
+            # inconsistent limb leads): the cause beside the flag.
+            flag = "; ".join(x for x in (flag, f"caution: {cautions[q]}") if x)
         if v is None:
             flag = reasons.get(q, "not measured")
         label = LABELS.get(q, q)

@@ -3,7 +3,10 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Literal
+from typing import TYPE_CHECKING, Literal
+
+if TYPE_CHECKING:
+    from reviewapp.core.measure.limb_consistency import LimbConsistency
 
 
 @dataclass(frozen=True)
@@ -146,6 +149,9 @@ class Measurements:
     # Values shown but not comparable with their limits (e.g. QTc with a QRS >= 120 ms), and
     # values set aside (ST without an isoelectric baseline): structured reasons.
     reasons: tuple[ValueReason, ...] = ()
+    # Einthoven's and Goldberger's relations tested on the recorded limb leads
+    # (``limb_consistency``); None where the check does not apply.
+    limb_consistency: LimbConsistency | None = None
 
     def lead(self, name: str) -> LeadMeasurements | None:
         return next((m for m in self.leads if m.lead == name), None)
