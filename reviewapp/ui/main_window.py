@@ -24,6 +24,7 @@ from reviewapp.ui.page_controls import PageControls
 from reviewapp.ui.paper import PaperScale, screen_px_per_mm
 from reviewapp.ui.reading_panel import ReadingPanel
 from reviewapp.ui.records_dock import RecordsDock, list_records
+from reviewapp.ui.selection import SelectionKeys
 from reviewapp.ui.summary import SummaryPanel
 from reviewapp.ui.theme import LIGHT, THEMES
 from reviewapp.ui.workflow_adapter import WorkflowAdapter
@@ -91,8 +92,9 @@ class MainWindow(QtWidgets.QMainWindow):
         self.help_dock.setVisible(False)
 
         self.calipers = CaliperBinding(self.paper, self)
+        self.selection = SelectionKeys(self.paper, self.median, self.calipers, self)
         self.adapter = WorkflowAdapter(
-            self, s, self.acts, self.reading_panel, self.records, self.calipers.flush
+            self, s, self.acts, self.reading_panel, self.records, self._flush_nudges
         )
         self.reader_label = self.adapter.reader_label
         self.exports = ExportActions(self, lambda: self.workflow, self.show_error)
@@ -123,6 +125,8 @@ class MainWindow(QtWidgets.QMainWindow):
         a, c = self.adapter, self.calipers
         self.paper.mark_edit.connect(a.mark_edit)
         self.median.mark_edit.connect(a.mark_edit)
+        self.selection.edit.connect(a.mark_edit)
+        self.selection.report.connect(a.tell)
         a.started.connect(self._reading_started)
         a.values_changed.connect(self._show_values)
         a.marks_changed.connect(self._refresh_marks)
@@ -145,6 +149,11 @@ class MainWindow(QtWidgets.QMainWindow):
             self.resizeDocks([self.summary_dock], [480], QtCore.Qt.Orientation.Horizontal)
             self.resizeDocks([self.records], [190], QtCore.Qt.Orientation.Horizontal)
         self.summary_dock.setMinimumWidth(470)
+
+    def _flush_nudges(self) -> None:
+        """Nudges waiting for the reader's pause become their steps (before any other step)."""
+        self.calipers.flush()
+        self.selection.flush()
 
     @property
     def workflow(self) -> ReadingWorkflow | None:

@@ -389,8 +389,10 @@ def c_median(c: Ctx) -> None:
 
 
 def c_median_auto(c: Ctx) -> None:
-    menu_action(c.w, "View/Median beat where there is room").trigger()
-    assert c.w.view.median_auto
+    press(c, "B")  # hidden by the reader
+    assert not c.w.median.isVisible()
+    menu_action(c.w, "View/Median beat sized to the page").trigger()
+    assert c.w.view.median_auto and c.w.median.isVisible()
 
 
 def c_superimpose(c: Ctx) -> None:
@@ -504,6 +506,33 @@ def c_f_mains(c: Ctx) -> None:
 
 def c_f_low(c: Ctx) -> None:
     _filter(c, "Alt+3", "lowpass")
+
+
+def c_f_centre(c: Ctx) -> None:
+    """QTDB sel100 sits about +4.8 mV from zero (a DC offset in the file): centred, every
+    trace is drawn inside its own row; off, the page says which leads are off their rows.
+    Amplitudes read off the paper stay the signal's own either way."""
+    import numpy as np
+
+    def inside_rows() -> bool:
+        g = c.w.paper.geom
+        for t in c.w.paper.traces:
+            _x, y = t.getData()
+            top, bottom = g.row_band(t.cell.row)
+            if not (top - g.pitch_mm <= np.nanmedian(y) <= bottom + g.pitch_mm):
+                return False
+        return True
+
+    assert c.w.view.filters.centre and c.w.acts["f_centre"].isChecked() and inside_rows()
+    raw = c.w.record.window(c.w.paper.page_start, c.w.paper.page_start + 2500)
+    assert abs(float(np.median(raw[:, 0]))) > 2.0  # the offset this check is about
+    press(c, "Alt+4")
+    assert not c.w.view.filters.centre and not inside_rows()
+    assert "baseline off its row: MLII" in c.w.paper.footer.textItem.toPlainText()
+    assert c.w.settings.value("view/filters/centre", type=bool) is False
+    press(c, "Alt+4")
+    assert c.w.view.filters.centre and inside_rows()
+    assert c.w.settings.value("view/filters/centre", type=bool) is True
 
 
 def _dock(c: Ctx, title: str, dock: QtWidgets.QDockWidget) -> None:
@@ -677,7 +706,7 @@ EDIT_GROUP = "time_cal amp_cal march delete undo redo reset_marks add_note sign_
 VIEW_GROUP = (
     "layout_12x1 layout_6x2 layout_3x4+1 layout_3x4+3 median median_auto superimpose cabrera "
     "faster slower gain_up gain_down zoom_in zoom_out fit true next prev last first theme "
-    "f_base f_mains f_low dock:reading dock:measurements dock:records dock:keyboard "
+    "f_base f_mains f_low f_centre dock:reading dock:measurements dock:records dock:keyboard "
     "widget:toolbar_view_group widget:toolbar_filters"
 ).split()
 TOOLS_GROUP = "compare calibrate help about tab right left up down".split()
