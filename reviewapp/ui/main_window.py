@@ -33,6 +33,7 @@ if TYPE_CHECKING:
     from reviewapp.core.engine import Reading
 
 Area = QtCore.Qt.DockWidgetArea
+DOCK_PAUSE_MS = 120  # a median-beat drag's pause after which the Measurements dock follows
 
 
 def default_settings() -> QtCore.QSettings:
@@ -91,6 +92,10 @@ class MainWindow(QtWidgets.QMainWindow):
         self.help_dock = self._dock("Keyboard", HelpPanel(), Area.RightDockWidgetArea)
         self.help_dock.setVisible(False)
 
+        self._dock_timer = QtCore.QTimer(self)
+        self._dock_timer.setSingleShot(True)
+        self._dock_timer.setInterval(DOCK_PAUSE_MS)
+        self._dock_timer.timeout.connect(self._fill_dock)
         self.calipers = CaliperBinding(self.paper, self)
         self.selection = SelectionKeys(self.paper, self.median, self.calipers, self)
         self.adapter = WorkflowAdapter(
@@ -258,11 +263,29 @@ class MainWindow(QtWidgets.QMainWindow):
 
     def _show_values(self, reading: Reading) -> None:
         w = self.workflow
-        if w is not None and self.record is not None:
-            fixed = {f for f in FIDUCIALS if w.is_corrected(MarkTarget("representative", f))}
-            self.summary.show_reading(
-                reading, self.record.subject, fixed, hide_automatic=w.hide_automatic
-            )
+        if w is None or self.record is None:
+            return
+        live = reading is not w.committed_reading  # a drag or a nudge not yet recorded
+        if live and self.median.show_values(reading):
+            # The magnified beat shows the values beside the mark being moved; the dock
+            # follows when the movement pauses (its relayout would slow every step).
+            self._dock_timer.start()
+            return
+        self._dock_timer.stop()
+        self._fill_dock()
+        self.median.show_values(reading)
+
+    def _fill_dock(self) -> None:
+        w = self.workflow
+        if w is None or self.record is None:
+            return
+        reading = w.reading
+        # A drag's values (not yet a correction) keep the table's columns still.
+        self.summary.hold_column_widths(reading is not w.committed_reading)
+        fixed = {f for f in FIDUCIALS if w.is_corrected(MarkTarget("representative", f))}
+        self.summary.show_reading(
+            reading, self.record.subject, fixed, hide_automatic=w.hide_automatic
+        )
 
     def _refresh_marks(self) -> None:
         self.paper.rebuild_marks()

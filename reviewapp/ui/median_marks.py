@@ -53,6 +53,25 @@ class MedianMarkLine(pg.InfiniteLine):
         self._halo = QtGui.QPen(QtGui.QColor(0, 0, 0, 0), HALO_PX)
         self._halo.setCosmetic(True)
 
+    def setPos(self, pos) -> None:
+        """Moving a vertical line sideways leaves its own outline unchanged (it spans the
+        view's height): only the position is set, without pyqtgraph recomputing the outline
+        from the view on every step of a drag."""
+        if (
+            isinstance(pos, int | float)
+            and self.angle == 90
+            and self._boundingRect is not None
+            and self.maxRange == [None, None]
+        ):
+            x = float(pos)
+            if self.getPos() == [x, 0.0]:
+                return
+            self.p = [x, 0.0]
+            pg.GraphicsObject.setPos(self, QtCore.QPointF(x, 0.0))
+            self.sigPositionChanged.emit(self)
+            return
+        super().setPos(pos)
+
     def set_selected(self, on: bool, colour: QtGui.QColor) -> None:
         halo = QtGui.QColor(colour)
         halo.setAlphaF(HALO_ALPHA)

@@ -15,18 +15,23 @@ keys nudge it one sample (``ui/selection.py``).
 from __future__ import annotations
 
 from collections.abc import Callable
+from typing import TYPE_CHECKING
 
 import numpy as np
 import pyqtgraph as pg
 from PySide6 import QtCore, QtGui, QtWidgets
 
 from reviewapp.core.fiducials import FIDUCIALS
+from reviewapp.core.measure import limit_text
 from reviewapp.core.workflow import MarkAction, MarkEdit, MarkTarget, ReadingWorkflow
 from reviewapp.ui.layouts import ordered_leads
 from reviewapp.ui.mark_items import SHORT_LABELS
 from reviewapp.ui.median_marks import MedianMarkLine
 from reviewapp.ui.paper import PaperGrid, PaperScale
 from reviewapp.ui.theme import LIGHT, Theme, mark_colour
+
+if TYPE_CHECKING:
+    from reviewapp.core.engine import Reading
 
 MAX_SUPERIMPOSED = 300
 # Curves and grids are cached as device pixels: dragging a mark line repaints a thin column of
@@ -62,6 +67,14 @@ DEFAULT_MS_PER_PX = 1.0
 MAGNIFIER_PAPER = PaperScale(px_per_mm=1.0, speed_mm_per_s=25.0, gain_mm_per_mv=10.0)
 ALL_LEADS = "*"  # the magnified panel shows every lead superimposed
 MAGNIFIER_SHARE = 0.42  # of the view's width
+# The values that depend on each mark, shown beside it in the magnified beat while it moves.
+LIVE_VALUES: dict[str, tuple[tuple[str, str], ...]] = {
+    "p_on": (("pr_ms", "PR"), ("p_ms", "P")),
+    "p_off": (("p_ms", "P"),),
+    "qrs_on": (("qrs_ms", "QRS"), ("pr_ms", "PR"), ("qt_ms", "QT")),
+    "qrs_off": (("qrs_ms", "QRS"),),
+    "t_off": (("qt_ms", "QT"), ("qtc_fridericia_ms", "QTcF"), ("qtc_bazett_ms", "QTcB")),
+}
 LEGEND_PX = 44.0  # height the key under the small panels takes
 MIN_PANEL_PX = 90.0  # least width of a small panel
 
@@ -253,6 +266,7 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
         self.mag_lines.clear()
         self.magnifier = None
         self.mag_j = None
+        self.mag_position: QtWidgets.QGraphicsSimpleTextItem | None = None
         s = self.workflow
         if s is None or s.reading.marked.representative is None:
             label = self.addLabel("No representative beat for this record.", color=self.theme.text)
@@ -383,6 +397,16 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
             self.mag_j = self._add_j_mark(vb, names[shown[0]], shown[0], 1.0)
         vb.sigResized.connect(self._fit_magnifier)
         vb.sigResized.connect(self._place_labels)
+        # The selected mark's position, pinned to the panel's top-left corner (pixels).
+        pos = QtWidgets.QGraphicsSimpleTextItem("", vb)
+        font = QtGui.QFont()
+        font.setPointSizeF(10.0)
+        font.setBold(True)
+        pos.setFont(font)
+        pos.setBrush(QtGui.QColor(self.theme.text))
+        pos.setPos(8.0, 4.0)
+        pos.setZValue(60)
+        self.mag_position = pos
 
     def _build_small_panels(
         self,
@@ -768,6 +792,8 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
         self._update_readout()
 
     def _update_readout(self) -> None:
+        """The bar: the magnified scale and how to move a mark (it changes with the scale and
+        the selection only: a widget's text change relays the window out)."""
         s = self.workflow
         ms_px = self.magnifier_ms_per_px()
         scale = "" if ms_px is None else f"1 px = {ms_px:.1f} ms  ·  "
@@ -776,17 +802,52 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
             return
         step = f"{1000.0 / s.fs_hz:g} ms"
         fid = self.selected_fid
-        k = None if fid is None else self.shown_sample(fid)
-        if fid is None or k is None:
-            self.bar.readout.setText(
-                f"{scale}click a mark to select it; drag it, or move it with ← → one sample "
-                f"({step}) at a time"
-            )
-            return
-        self.bar.readout.setText(
-            f"{scale}selected: {SHORT_LABELS[fid]} at {self.window_ms(k):+.0f} ms from R  ·  "
-            f"← → move it one sample ({step})"
+        text = (
+            f"{scale}click a mark to select it; drag it, or move it with ← → one sample "
+            f"({step}) at a time"
+            if fid is None
+            else f"{scale}selected: {SHORT_LABELS[fid]}  ·  ← → move it one sample ({step})"
         )
+        if self.bar.readout.text() != text:
+            self.bar.readout.setText(text)
+        self._update_position()
+
+    def show_values(self, reading: Reading) -> bool:
+        """The values that depend on the selected mark, beside its position in the magnified
+        beat (while it is dragged or nudged, and after). True if they are shown there."""
+        self._live = None
+        fid = self.selected_fid
+        s = self.workflow
+        if fid is None or s is None or s.hide_automatic or not self.isVisible():
+            self._update_position()
+            return False
+        iv = reading.measurements.intervals
+        parts = []
+        for key, label in LIVE_VALUES[fid]:
+            v = getattr(iv, key, None)
+            parts.append(f"{label} {limit_text.value_text(v, 'ms')}")
+        self._live = "  ·  ".join(parts)
+        self._update_position()
+        return True
+
+    def _update_position(self) -> None:
+        """Where the selected mark is, in the magnified beat's corner (drawn in the scene, so
+        following a drag costs no relayout)."""
+        item = getattr(self, "mag_position", None)
+        if item is None:
+            return
+        fid = self.selected_fid
+        k = None if fid is None else self.shown_sample(fid)
+        text = (
+            ""
+            if fid is None or k is None
+            else (f"{SHORT_LABELS[fid]} {self.window_ms(k):+.0f} ms from R")
+        )
+        live = getattr(self, "_live", None)
+        if text and live:
+            text += "\n" + live
+        if item.text() != text:
+            item.setText(text)
 
     # --- each lead's own J point ---------------------------------------------------------
     def _add_j_mark(self, p: pg.ViewBox, lead: str, idx: int, sign: float) -> pg.TargetItem:
@@ -908,7 +969,7 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
         finally:
             self._syncing = False
         if fid == self.selected_fid:
-            self._update_readout()
+            self._update_position()
 
     _snap = snap  # the name the benchmark has always driven
 

@@ -221,6 +221,19 @@ class SummaryPanel(QtWidgets.QWidget):
         self._values: dict[str, str] = {}
         self._findings_shown: list[tuple[str, str]] | None = None
 
+    def hold_column_widths(self, hold: bool) -> None:
+        """While a mark is dragged the values table keeps its column widths: fitting the
+        columns to their contents on every step of the drag costs more than the values."""
+        mode = (
+            QtWidgets.QHeaderView.ResizeMode.Interactive
+            if hold
+            else QtWidgets.QHeaderView.ResizeMode.ResizeToContents
+        )
+        hh = self.table.horizontalHeader()
+        for col in range(self.table.columnCount() - 1):  # the last one stretches
+            if hh.sectionResizeMode(col) != mode:
+                hh.setSectionResizeMode(col, mode)
+
     def value_text(self, quantity: str) -> str:
         """The text shown for ``quantity`` (tests read what the reader reads)."""
         return self._values.get(quantity, "")

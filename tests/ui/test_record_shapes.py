@@ -15,6 +15,7 @@ import numpy as np
 import pytest
 
 from reviewapp.ui.geometry import GROUP_GAP_MM
+from tests.ui.conftest import choose_in_box
 
 
 def _copy(shared_data: Path, tmp_path: Path, db: str, stem: str, exts: tuple[str, ...]) -> Path:
@@ -112,7 +113,9 @@ def test_display_filters_are_remembered_across_records_and_restarts(
     again.close()
 
 
-def test_fifteen_lead_record_puts_frank_leads_in_their_own_group(window, shared_data, tmp_path):
+def test_fifteen_lead_record_puts_frank_leads_in_their_own_group(
+    window, shared_data, tmp_path, qtbot
+):
     w = window
     path = _copy(shared_data, tmp_path, "ptbdb", "s0010_re", (".hea", ".dat", ".xyz"))
     w.view.set_layout("3x4+1")
@@ -139,8 +142,7 @@ def test_fifteen_lead_record_puts_frank_leads_in_their_own_group(window, shared_
     assert _trace_medians_in_rows(w)
     # The rhythm box names the lead the strip shows.
     assert w.view.rhythm_box.isEnabled() and w.view.rhythm_box.currentData() == "II"
-    w.view.rhythm_box.setCurrentIndex(w.view.rhythm_box.findData("V5"))
-    w.view.rhythm_changed()
+    choose_in_box(qtbot, w.view.rhythm_box, "V5")  # the toolbar box, with the mouse and keys
     strip = next(c for c in w.paper.geom.layout.cells if c.rhythm)
     label = next(
         it
