@@ -215,6 +215,11 @@ class MainWindow(QtWidgets.QMainWindow):
             show_error(self, err)
             self.records.show_page(self.records.page_path)
             return False
+        if self.adapter.ask_lock(record) == "cancel":
+            # Open in another window and the reader cancelled: the page stays as it was.
+            self.records.show_page(self.records.page_path)
+            self.statusBar().showMessage(f"Not opened: {record.name} (open in another window).")
+            return False
         self.settings.setValue("files/last_dir", str(path.parent))
         if self.records.folder != path.parent:
             self.records.show_folder(path.parent, list_records(path.parent))
