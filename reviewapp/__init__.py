@@ -4,7 +4,7 @@ Automated measurements must be verified by a qualified clinician. This is not a
 certified medical device; local protocols and licensed practice govern.
 """
 
-__version__ = "0.2.0"
+__version__ = "0.3.0"
 
 CLINICAL_CAUTION = (
     "Automated measurements must be verified by a qualified clinician. "

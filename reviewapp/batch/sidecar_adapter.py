@@ -267,6 +267,7 @@ class ReadingForReport:
     status: str = "unread"
     reviewer: str | None = None
     signed_off_at: str | None = None
+    statements: tuple[Any, ...] = ()  # the reader's interpretation (ReaderStatement)
 
 
 def reading_for_report(
@@ -303,4 +304,5 @@ def reading_for_report(
         status=chosen.status,
         reviewer=chosen.reviewer,
         signed_off_at=chosen.signed_off_at,
+        statements=chosen.statements,
     )

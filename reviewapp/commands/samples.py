@@ -16,8 +16,7 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
     p.add_argument(
         "--study",
         action="store_true",
-        help="write the invented demo QT study (75 records with readings) instead of the "
-        "worklist",
+        help="write the invented demo QT study (75 records with readings) instead of the worklist",
     )
 
 

@@ -16,7 +16,7 @@ import numpy as np
 from reviewapp.core.dsp.beats import classify_beats, representative_beat
 from reviewapp.core.dsp.delineate import (
     delineate_beats,
-    delineate_representative,
+    delineate_median_beat,
     representative_p_from_beats,
 )
 from reviewapp.core.dsp.filters import condition
@@ -32,6 +32,8 @@ from reviewapp.core.fiducials import (
     match_beat,
 )
 from reviewapp.core.measure import Finding, Measurements, compute_measurements, evaluate_findings
+from reviewapp.core.measure.findings import gated_reasons
+from reviewapp.core.measure.types import ValueReason
 from reviewapp.core.record import Record
 from reviewapp.core.versions import ENGINE_VERSION
 
@@ -45,6 +47,9 @@ class Reading:
     findings: tuple[Finding, ...]
     overrides: tuple[MarkOverride, ...]
     unmatched_overrides: tuple[MarkOverride, ...]  # beat overrides whose beat was not found
+    # Why each value left out is left out: not measured, not comparable with its limits, or a
+    # criterion not applied (``value_reasons``), for window, report and CLI alike.
+    reasons: tuple[ValueReason, ...] = ()
 
 
 @dataclass(frozen=True, eq=False)
@@ -144,7 +149,19 @@ class Analysis:
         marked, unmatched = self.marked(overrides)
         measurements = compute_measurements(marked)
         findings = evaluate_findings(measurements, self.record.subject)
-        return Reading(marked, measurements, findings, overrides, unmatched)
+        return Reading(
+            marked, measurements, findings, overrides, unmatched, value_reasons(measurements)
+        )
+
+
+def value_reasons(measurements: Measurements) -> tuple[ValueReason, ...]:
+    """Every reason a value is left out, in one list: not measured (``unmeasured``), not
+    comparable with its limits (``Measurements.reasons``) and criteria not applied
+    (``findings.gated_reasons``)."""
+    out = [ValueReason(q, "not_measured", r) for q, r in measurements.unmeasured]
+    out += list(measurements.reasons)
+    out += list(gated_reasons(measurements))
+    return tuple(out)
 
 
 def _follow_global(
@@ -155,16 +172,28 @@ def _follow_global(
     pinned: set[tuple[str, int | None, int, str]],
     where: tuple[str, int | None],
 ) -> None:
-    """In place on ``leads``: lead marks equal to the automatic global mark take its final
-    value, unless the reader set that lead's mark (``pinned``: (scope, beat index, lead, fid);
-    ``where``: (scope, beat index) of these marks)."""
+    """In place on ``leads``: lead marks follow the reader's correction of the global mark,
+    unless the reader set that lead's mark (``pinned``: (scope, beat index, lead, fid);
+    ``where``: (scope, beat index) of these marks).
+
+    A lead's QRS onset and end (its J point, where ST is read) come from the one multi-lead
+    QRS boundary, so they move by the same amount as the corrected global mark (and go
+    where the reader says the QRS is absent). P and T marks are each lead's own: only those
+    equal to the automatic global mark take its final value.
+    """
     for name in FIDUCIALS:
         a, f = auto.get(name), final.get(name)
         if a == f or a is None:
             continue
+        shift = name in ("qrs_on", "qrs_off")
         for j, lead_auto in enumerate(auto_leads):
-            if lead_auto.get(name) == a and (*where, j, name) not in pinned:
+            v = lead_auto.get(name)
+            if (*where, j, name) in pinned or v is None:
+                continue
+            if v == a:
                 leads[j] = leads[j].with_mark(name, f)
+            elif shift:
+                leads[j] = leads[j].with_mark(name, None if f is None else v + (f - a))
 
 
 def _carry_representative(
@@ -220,8 +249,8 @@ def analyse(record: Record, *, mains_hz: float | None = None) -> Analysis:
     beats = classify_beats(conditioned, fs, r, usable_mask)
     rep = representative_beat(conditioned, fs, beats, usable_mask)
     if rep is not None:
-        marks, lead_marks = delineate_representative(rep.waveform_mv, fs, rep.r_index, usable_mask)
-        rep = replace(rep, marks=marks, lead_marks=lead_marks)
+        m = delineate_median_beat(rep.waveform_mv, fs, rep.r_index, usable_mask, rep.rr_samples)
+        rep = replace(rep, marks=m.marks, lead_marks=m.lead_marks, align_marks=m.align_marks)
     else:
         notes.append("no representative beat: too few dominant beats")
     beat_marks, beat_lead_marks = delineate_beats(conditioned, fs, beats, usable_mask, rep)
@@ -234,6 +263,7 @@ def analyse(record: Record, *, mains_hz: float | None = None) -> Analysis:
             rep,
             marks=rep.marks.ordered(n_rep),
             lead_marks=tuple(m.ordered(n_rep) for m in rep.lead_marks),
+            align_marks=None if rep.align_marks is None else rep.align_marks.ordered(n_rep),
         )
     # Out-of-order or edge-cut boundaries would give silently wrong intervals: drop them.
     n = record.n_samples

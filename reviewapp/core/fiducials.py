@@ -171,8 +171,9 @@ class RepresentativeBeat:
     """Median of the aligned dominant beats, per lead.
 
     ``waveform_mv[k, lead]`` is the median at record-relative time ``k - r_index`` samples from
-    each beat's R. ``marks`` are global boundaries (indices into the window); ``lead_marks``
-    are each lead's own boundaries, in lead order.
+    each beat's R. ``marks`` are global boundaries (indices into the window: earliest onset
+    and latest end over the leads, the standard's definition); ``lead_marks`` are each lead's
+    own boundaries, in lead order.
     """
 
     waveform_mv: np.ndarray  # (n_window, n_leads) float32
@@ -180,6 +181,12 @@ class RepresentativeBeat:
     n_beats_used: int
     marks: WaveMarks = field(default_factory=WaveMarks)
     lead_marks: tuple[WaveMarks, ...] = ()
+    # The multi-lead marks found before the global marks were widened to the standard's
+    # earliest onset / latest end (``dsp.delineate_global``): each beat is aligned to the
+    # median beat around these (None: around ``marks``). Automatic, never overridden.
+    align_marks: WaveMarks | None = None
+    # The median RR the window was cut for (samples), None with a single beat.
+    rr_samples: int | None = None
 
 
 Scope = Literal["representative", "beat"]

@@ -15,8 +15,9 @@ import numpy as np
 
 from reviewapp.core.fiducials import FIDUCIALS, Beat, MarkOverride, WaveMarks
 from reviewapp.core.measure import limit_text
-from reviewapp.core.measure.findings import judged
-from reviewapp.core.measure.types import NormalRange
+from reviewapp.core.measure import reason_text as rt
+from reviewapp.core.measure.findings import finding_for_value
+from reviewapp.core.measure.types import NormalRange, ValueReason
 from reviewapp.core.record import Record
 
 
@@ -40,7 +41,7 @@ def _global_quantities() -> tuple[tuple[str, str, str], ...]:
     out = []
     for col in CSV_COLUMNS:
         if col in interval_fields or col in VOLTAGE_QUANTITIES:
-            out.append((col, LABELS.get(col, "RR SD" if col == "rr_sd_ms" else col), _unit(col)))
+            out.append((col, LABELS.get(col, col), _unit(col)))
     return tuple(out)
 
 
@@ -79,10 +80,24 @@ class MeasurementRow:
     flag: str = ""
     range_source: str = ""
     normal: NormalRange | None = None
+    # Why the value is not measured, not compared with its range (not comparable, a criterion
+    # not applied) or less reliable: the engine's reasons for this quantity, most important
+    # first (``reason_text``).
+    reasons: tuple[ValueReason, ...] = ()
 
     @property
     def range_text(self) -> str:
         return limit_text.range_text(self.normal)
+
+    @property
+    def judged(self) -> bool:
+        """Compared with its normal range (not "not comparable", no criterion left out)."""
+        return not any(r.kind in ("not_comparable", "gated") for r in self.reasons)
+
+    @property
+    def reason_cell(self) -> str:
+        """The few words beside the value: its most important reason."""
+        return rt.cell_text(self.reasons)
 
 
 @dataclass(frozen=True)
@@ -119,6 +134,18 @@ class ReportContent:
     engine_version: str
     n_overrides: int
     notes: tuple[str, ...] = ()
+    # Every reason of the reading (value not measured, not comparable, criterion not applied,
+    # caution), for the CSV; and the numbered reason notes the page prints with their sources
+    # (each once; per-lead values are not on the page, so neither are their not-measured
+    # causes).
+    reasons: tuple[ValueReason, ...] = ()
+    reason_statements: tuple[rt.Statement, ...] = ()
+    # The interpretation (report/interpretation_block.py): the engine's statements with their
+    # criteria, why statements were not made, and the reader's own statements (the reading
+    # printed; ``core.marks.model.ReaderStatement``).
+    statements: tuple[Any, ...] = ()
+    statement_reasons: tuple[Any, ...] = ()
+    reader_statements: tuple[Any, ...] = ()
 
     @property
     def fs_hz(self) -> float:
@@ -150,27 +177,27 @@ def _normal_range(quantity: str, subject: Any) -> Any:
 def measurement_rows(
     reading: Any, subject: Any
 ) -> tuple[tuple[MeasurementRow, ...], tuple[str, ...]]:
-    """Global rows with ranges and flags, plus the text of every other finding."""
+    """Global rows with ranges, flags and reasons, plus the text of every other finding.
+
+    A row is flagged by its finding only (``findings.finding_for_value``); a value not
+    comparable with its range, or whose criterion is not applied, is never flagged.
+    """
     ms = reading.measurements
     iv = ms.intervals
+    reasons = tuple(getattr(reading, "reasons", ()))
+    findings = tuple(reading.findings)
     used: set[int] = set()
     rows = []
     for quantity, label, unit in QUANTITIES:
         value = getattr(ms if quantity in VOLTAGE_QUANTITIES else iv, quantity)
         nr = _normal_range(quantity, subject)
+        mine = rt.for_quantity(reasons, quantity)
         flag = ""
-        for i, f in enumerate(reading.findings):
-            if f.quantity == quantity and f.lead is None:
+        if not any(r.kind in ("not_comparable", "gated") for r in mine):
+            f = finding_for_value(quantity, value, nr, findings)
+            if f is not None:
                 flag = limit_text.flag_text(f.direction)
-                used.add(i)
-                break
-        # A paced rhythm's conduction values are shown but not judged.
-        if not flag and judged(ms, quantity) and value is not None and nr is not None:
-            # Several QTc formulas flagging together arrive as one merged "qtc_ms" finding;
-            # each formula's own row is still flagged against its own range.
-            flag = limit_text.flag_text(limit_text.direction_of(nr, float(value)))
-            if flag and quantity.startswith("qtc_"):
-                used.update(i for i, f in enumerate(reading.findings) if f.quantity == "qtc_ms")
+                used.update(i for i, g in enumerate(findings) if g is f)
         rows.append(
             MeasurementRow(
                 quantity=quantity,
@@ -182,9 +209,10 @@ def measurement_rows(
                 flag=flag,
                 range_source="" if nr is None else nr.source,
                 normal=nr,
+                reasons=mine,
             )
         )
-    others = tuple(f.text for i, f in enumerate(reading.findings) if i not in used)
+    others = tuple(f.text for i, f in enumerate(findings) if i not in used)
     return tuple(rows), others
 
 
@@ -195,10 +223,14 @@ def build_report_content(
     status: str = "unread",
     reviewer: str | None = None,
     signed_off_at: str | None = None,
+    reader_statements: Iterable[Any] = (),
 ) -> ReportContent:
     """Recompute the reading under ``overrides`` and collect what the page shows."""
+    from reviewapp.core.interpret import interpret
+
     overrides = tuple(overrides)
     reading = analysis.reading(overrides)
+    interpretation = interpret(reading, analysis.record.subject)
     marked = reading.marked
     rows, others = measurement_rows(reading, analysis.record.subject)
     rep_auto = analysis.representative
@@ -210,6 +242,7 @@ def build_report_content(
         _pairs(a, f) for a, f in zip(analysis.beat_marks, marked.beat_marks, strict=True)
     )
     notes = tuple(analysis.notes)
+    reasons = tuple(reading.reasons)
     if reading.unmatched_overrides:
         notes += (f"{len(reading.unmatched_overrides)} reviewer mark(s) could not be placed",)
     return ReportContent(
@@ -230,6 +263,11 @@ def build_report_content(
         engine_version=analysis.engine_version,
         n_overrides=len(overrides),
         notes=notes,
+        reasons=reasons,
+        reason_statements=rt.statements(reasons, measured_too=False),
+        statements=interpretation.statements,
+        statement_reasons=interpretation.reasons,
+        reader_statements=tuple(reader_statements),
     )
 
 
@@ -249,4 +287,5 @@ def load_report_content(path: Path, reviewer: str | None = None) -> ReportConten
         status=chosen.status,
         reviewer=chosen.reviewer,
         signed_off_at=chosen.signed_off_at,
+        reader_statements=chosen.statements,
     )

@@ -16,6 +16,8 @@ from typing import TextIO
 from reviewapp import CLINICAL_CAUTION, __version__
 from reviewapp.core.errors import ReviewError
 from reviewapp.core.measure import limit_text
+from reviewapp.core.measure import reason_text as rt
+from reviewapp.core.measure.types import ValueReason
 from reviewapp.report.content import ReportContent
 from reviewapp.report.layout import PageLayout, page_layout
 
@@ -64,10 +66,12 @@ def _ensure_gui() -> None:
 
 
 def write_pdf(path: Path, content: ReportContent, layout: PageLayout | None = None) -> PageLayout:
-    """One landscape page at true scale; returns the layout used."""
+    """The landscape ECG page at true scale, then the interpretation page (statements with
+    their criteria and sources); returns the layout used."""
     from PySide6.QtCore import QMarginsF
     from PySide6.QtGui import QPageLayout, QPageSize, QPainter, QPdfWriter
 
+    from reviewapp.report.interpretation_block import paint_interpretation_page
     from reviewapp.report.page import paint_page
 
     path = check_output_path(path, "PDF", (".pdf",))
@@ -93,6 +97,8 @@ def write_pdf(path: Path, content: ReportContent, layout: PageLayout | None = No
         raise ReviewError("cannot write the PDF (folder missing or not writable?)", path)
     try:
         paint_page(painter, PDF_DPI / MM_PER_INCH, lo, content)
+        writer.newPage()
+        paint_interpretation_page(painter, PDF_DPI / MM_PER_INCH, lo, content)
     finally:
         painter.end()
     if not path.is_file() or path.stat().st_size == 0:
@@ -160,15 +166,24 @@ CSV_HEADER = (
     "reading_status",
     "reviewer",
     "engine_version",
+    "reason_kind",
+    "reason",
 )
+# Several reasons of one value in one cell (the texts themselves hold ";" and ",").
+REASON_SEPARATOR = " | "
 
 
 def write_measurements_csv(path: Path | str, content: ReportContent) -> None:
     """Every global value (the quantities of ``reviewapp measure``'s CSV: RR, HR, intervals,
-    the four QTc formulas, axes, voltages) with normal range and flag, one row each, then the
-    clinical caution. Values and limits are written as the page prints them (whole ms, bpm
-    and degrees, mV to 0.01), so each flag agrees with the number beside it. ``path`` "-"
-    writes to standard output."""
+    the four QTc formulas, JT, JTc and the QRS-adjusted QT, axes, voltages) with normal range,
+    flag and reasons, one row each; then one row for every other value with a reason (a lead's
+    values not measured, criteria not applied), its value cell empty; then the clinical
+    caution. Values and limits are written as the page prints them (whole ms, bpm and
+    degrees, mV to 0.01), so each flag agrees with the number beside it. A value with a reason
+    (not measured, not comparable with its range, a criterion not applied, less reliable) has
+    its kinds in ``reason_kind`` and the full texts with their sources in ``reason``; a value
+    not comparable, or whose criterion is not applied, has no flag. ``path`` "-" writes to
+    standard output."""
     if str(path) == STDOUT:
         _write_csv_rows(sys.stdout, content)
         sys.stdout.flush()
@@ -186,10 +201,16 @@ def _number(value: float | None, unit: str) -> str:
     return "" if value is None else limit_text.number_text(value, unit, signed=False)
 
 
+def _reason_cells(reasons: tuple[ValueReason, ...]) -> list[str]:
+    kinds = REASON_SEPARATOR.join(dict.fromkeys(r.kind for r in reasons))
+    return [kinds, REASON_SEPARATOR.join(dict.fromkeys(r.text for r in reasons))]
+
+
 def _write_csv_rows(fh: TextIO, content: ReportContent) -> None:
     w = csv.writer(fh, lineterminator="\n")
     w.writerow(CSV_HEADER)
     marks = "reviewer-corrected" if content.n_corrected else "automatic"
+    tail = [marks, content.status, content.reviewer or "", content.engine_version]
     for r in content.rows:
         w.writerow(
             [
@@ -203,11 +224,21 @@ def _write_csv_rows(fh: TextIO, content: ReportContent) -> None:
                 r.range_text,
                 r.flag,
                 r.range_source,
-                marks,
-                content.status,
-                content.reviewer or "",
-                content.engine_version,
+                *tail,
+                *_reason_cells(r.reasons),
             ]
+        )
+    # Values without a row of their own (a lead's values, the ST and Q criteria): their reason.
+    with_rows = {r.quantity for r in content.rows}
+    others: dict[str, list[ValueReason]] = {}
+    for reason in content.reasons:
+        if reason.quantity not in with_rows:
+            others.setdefault(reason.quantity, []).append(reason)
+    for quantity, reasons in others.items():
+        label = rt.describe_quantities([quantity])
+        blank = [""] * 7  # value, unit, limits, range, flag, range source
+        w.writerow(
+            [content.record.name, quantity, label, *blank, *tail, *_reason_cells(tuple(reasons))]
         )
     w.writerow([])
     w.writerow([f"# {CLINICAL_CAUTION}"])

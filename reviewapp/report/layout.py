@@ -59,6 +59,9 @@ GRID_H = 145.0
 FOOTER_H = 11.0
 GAP = 2.0
 BEAT_PANEL_W = 52.0
+# The title keeps this much of its row; the interpretation line takes the rest
+# (report/interpretation_block.py).
+TITLE_W = 96.0
 ROW_BASELINES_IN_GRID = (21.0, 55.0, 89.0, 120.0)  # 3 lead rows + rhythm strip
 # The three mark lanes (P, QRS, T) under a strip: top offset from its baseline and lane height.
 LANE_TOP_BELOW_BASELINE_MM = 11.0
@@ -110,6 +113,7 @@ class PageLayout:
     gain_mm_per_mv: float
     header: Rect  # everything above the grid (the blocks below lie inside it)
     title: Rect  # "ECG reading report · record"
+    statements: Rect  # the interpretation in two lines, right of the title
     facts: Rect  # subject, age, sex, study time point, acquisition, file
     status: Rect  # reading status, reviewer, corrected marks
     table: Rect  # global measurements with normal ranges and flags
@@ -167,6 +171,7 @@ class PageLayout:
         """The top-level blocks that must not overlap one another."""
         return {
             "title": self.title,
+            "statements": self.statements,
             "facts": self.facts,
             "status": self.status,
             "table": self.table,
@@ -211,7 +216,8 @@ def page_layout(
     header = Rect(left, top, grid_w, HEADER_H)
     beat_panel = Rect(header.right - BEAT_PANEL_W, top, BEAT_PANEL_W, HEADER_H)
     text_w = beat_panel.x - 3.0 - left
-    title = Rect(left, top, text_w, 5.0)
+    title = Rect(left, top, TITLE_W, 5.0)
+    statements = Rect(left + TITLE_W + 2.0, top, text_w - TITLE_W - 2.0, 5.0)
     facts = Rect(left, title.bottom, text_w, 4.2)
     status = Rect(left, facts.bottom, text_w, 4.2)
     table = Rect(left, status.bottom + 0.2, text_w, header.bottom - status.bottom - 0.2)
@@ -238,6 +244,7 @@ def page_layout(
         gain_mm_per_mv=float(gain_mm_per_mv),
         header=header,
         title=title,
+        statements=statements,
         facts=facts,
         status=status,
         table=table,

@@ -25,7 +25,8 @@ from PySide6.QtGui import QBrush, QColor, QFont, QFontMetricsF, QPainter, QPen, 
 
 from reviewapp import CLINICAL_CAUTION
 from reviewapp.core.measure import limit_text
-from reviewapp.report.content import MarkPair, ReportContent, study_facts
+from reviewapp.core.measure import reason_text as rt
+from reviewapp.report.content import MarkPair, MeasurementRow, ReportContent, study_facts
 from reviewapp.report.layout import (
     CAL_PULSE_S,
     FIDUCIAL_LANES,
@@ -84,6 +85,11 @@ TABLE_GROUPS = (
     ("qt_ms", "qtc_bazett_ms", "qtc_fridericia_ms", "qtc_framingham_ms", "qtc_hodges_ms"),
     ("ventricular_rate_bpm", "p_axis_deg", "qrs_axis_deg", "t_axis_deg"),
 )
+# Beside a QTc that is not comparable with its limits: JT, JTc and the QRS-adjusted QT, on
+# one line at the top of the third group (next to the QTc rows).
+WIDE_QRS_LINE = ("jt_ms", "jtc_bazett_ms", "qt_bogossian_ms")
+WIDE_QRS_SHORT = {"jt_ms": "JT", "jtc_bazett_ms": "JTc", "qt_bogossian_ms": "QT adj."}
+SUPERSCRIPT_DIGITS = "⁰¹²³⁴⁵⁶⁷⁸⁹"
 MM_PER_PT = 25.4 / 72.0
 
 
@@ -226,6 +232,9 @@ def paint_page(
     _draw_calibration(c, layout, sorted({s.row for s in strips}))
     _draw_leads(c, layout, content, strips)
     _draw_header(c, layout, content)
+    from reviewapp.report.interpretation_block import draw_statement_line
+
+    draw_statement_line(c, layout.statements, content)
     _draw_beat_panel(c, layout, content)
     _draw_footer(c, layout, content, generated_at or datetime.now(UTC), strips)
     return c.drawing
@@ -537,50 +546,204 @@ def _utc_text(iso: str) -> str:
     return f"{t.astimezone(UTC):%Y-%m-%d %H:%M} UTC"
 
 
+def _superscript(numbers: list[int]) -> str:
+    """Statement numbers as raised digits: [1, 3] -> "¹˒³"."""
+    return "˒".join("".join(SUPERSCRIPT_DIGITS[int(d)] for d in str(n)) for n in numbers)
+
+
 def _draw_table(c: _Canvas, box: Rect, content: ReportContent) -> None:
     """Global values in three column groups (rate and conduction / QT and the four QTc
-    formulas / axes and other flags): name, value, unit, normal range, flag."""
-    row_h = 3.4
+    formulas / axes), name, value, unit, normal range, flag; a value with a reason says it
+    where its range and flag would be ("no P wave marked", "not comparable: QRS >= 120 ms")
+    and carries the number of its statement. Under the groups, the statements (each reason
+    once, brief, with its source) and then the other flags (per-lead values, voltages)."""
+    by_q = {r.quantity: r for r in content.rows}
+    statements = [rt.brief(st.text) for st in content.reason_statements]
+    numbers: dict[str, list[int]] = {}
+    for k, st in enumerate(content.reason_statements, start=1):
+        for q in st.quantities:
+            numbers.setdefault(q, []).append(k)
+    qtc_not_comparable = any(
+        r.kind == "not_comparable" for q in TABLE_GROUPS[1] if q in by_q for r in by_q[q].reasons
+    )
+    groups = [list(g) for g in TABLE_GROUPS]
+    if qtc_not_comparable and all(q in by_q for q in WIDE_QRS_LINE):
+        groups[2].insert(0, "wide_qrs_line")
     group_w = (box.w + 3.0) / 3.0
+    n_rows = max(len(g) for g in groups)
+    flags = "Other flags: " + "; ".join(content.other_findings) if content.other_findings else ""
+    paragraph = "   ".join(f"{_superscript([k])} {t}" for k, t in enumerate(statements, 1))
+    head_h, row_h, size, flags_beside = _notes_plan(c, box, group_w, groups, paragraph, flags)
     # label, value (right edge), unit, range, flag: room for the longest range, "> 390 and
     # < 450 ms" (about 23 mm at 6.2 pt), so no range is ever cut short.
     cols = (0.0, 29.5, 30.3, 36.0, 59.8)
-    by_q = {r.quantity: r for r in content.rows}
     x0, y0 = box.x, box.y
-    for gi, group in enumerate(TABLE_GROUPS):
+    for gi, group in enumerate(groups):
         gx = x0 + gi * group_w
-        c.text(gx + cols[0], y0 + 2.6, "Measure", 6.5, colour=MARK_AUTO)
-        c.text(gx + cols[1], y0 + 2.6, "Value", 6.5, colour=MARK_AUTO, align="right")
-        c.text(gx + cols[3], y0 + 2.6, "Normal", 6.5, colour=MARK_AUTO)
-        c.text(gx + cols[4], y0 + 2.6, "Flag", 6.5, colour=MARK_AUTO)
+        right = gx + group_w - 3.0
+        c.text(gx + cols[0], y0 + head_h - 0.8, "Measure", 6.5, colour=MARK_AUTO)
+        c.text(gx + cols[1], y0 + head_h - 0.8, "Value", 6.5, colour=MARK_AUTO, align="right")
+        c.text(gx + cols[3], y0 + head_h - 0.8, "Normal", 6.5, colour=MARK_AUTO)
+        c.text(gx + cols[4], y0 + head_h - 0.8, "Flag", 6.5, colour=MARK_AUTO)
         c.pen(MARK_AUTO, 0.1)
-        c.line(gx, y0 + 3.4, gx + group_w - 3.0, y0 + 3.4)
+        c.line(gx, y0 + head_h, right, y0 + head_h)
         for i, q in enumerate(group):
-            row = by_q.get(q)
-            if row is None:
+            y = y0 + head_h + (i + 1) * row_h
+            if q == "wide_qrs_line":
+                _draw_wide_qrs_line(c, gx, y, right, [by_q[k] for k in WIDE_QRS_LINE], numbers)
                 continue
-            y = y0 + 3.4 + (i + 1) * row_h
-            flagged = bool(row.flag)
-            colour = FLAG if flagged else TEXT
-            c.text(gx + cols[0], y, PAGE_LABELS.get(q, row.label), 7.5, max_w=cols[1] - 6.8)
-            value = _fmt(row.value, row.unit)
-            c.text(gx + cols[1], y, value, 8.0, bold=True, colour=colour, align="right")
-            if limit_text.unit_symbol(row.unit) == limit_text.unit_key(row.unit):
-                c.text(gx + cols[2], y, row.unit, 6.5)
-            range_w = cols[4] - cols[3] - 0.3
-            c.text(gx + cols[3], y, row.range_text, 6.2, colour=MARK_AUTO, max_w=range_w)
-            if flagged:
-                flag_w = group_w - 3 - cols[4]
-                c.text(gx + cols[4], y, row.flag, 7.0, bold=True, colour=FLAG, max_w=flag_w)
-    # Other flags (per-lead values, voltages) under the axes in the third group.
-    if content.other_findings:
+            row = by_q.get(q)
+            if row is not None:
+                _draw_row(c, gx, y, right, cols, row, numbers.get(q, []))
+    table_bottom = y0 + head_h + n_rows * row_h
+    # The statements, then (unless they fit under the axes) the other flags, across the
+    # whole width under the groups; the statements are never cut, the flags only when even
+    # the smallest type leaves no room (with "...").
+    line_h = _line_mm(size)
+    y = table_bottom + 0.5 + 0.8 * line_h
+    if paragraph:
+        for line in _wrap(c, paragraph, box.w, size, max_lines=99):
+            c.text(x0, y, line, size, max_w=box.w)
+            y += line_h
+    if flags and flags_beside:
         gx = x0 + 2 * group_w
-        y = y0 + 3.4 + (len(TABLE_GROUPS[2]) + 1) * row_h
-        room = int((box.bottom - y) / 2.7) + 1
-        text = "Other flags: " + "; ".join(content.other_findings)
-        for line in _wrap(c, text, box.right - gx, 6.0, max_lines=max(1, room)):
-            c.text(gx, y, line, 6.0, colour=FLAG, max_w=box.right - gx)
-            y += 2.7
+        yy = y0 + head_h + (len(groups[2]) + 1) * row_h
+        bottom = (table_bottom if paragraph else box.bottom) - 0.5
+        lines = max(1, int((bottom - yy) / FLAG_LINE_MM) + 1)
+        for line in _wrap(c, flags, box.right - gx, 6.0, max_lines=lines):
+            c.text(gx, yy, line, 6.0, colour=FLAG, max_w=box.right - gx)
+            yy += FLAG_LINE_MM
+    elif flags:
+        lines = max(1, int((box.bottom - y + 0.8 * line_h) / line_h))
+        for line in _wrap(c, flags, box.w, size, max_lines=lines):
+            c.text(x0, y, line, size, colour=FLAG, max_w=box.w)
+            y += line_h
+
+
+FLAG_LINE_MM = 2.7  # the other flags under the axes, at 6 pt
+NOTE_SIZES_PT = (6.0, 5.75, 5.5, 5.25, 5.0)
+# Group header and row heights (mm), tallest first: rows give way to the notes under them.
+ROW_PLANS_MM = ((3.4, 3.4), (3.1, 3.1), (2.9, 3.0), (2.8, 2.9))
+
+
+def _line_mm(size_pt: float) -> float:
+    """Line spacing of a note at ``size_pt``: 1.2 x the type size, in mm (independent of the
+    device's resolution)."""
+    return 1.2 * size_pt * MM_PER_PT
+
+
+def _notes_plan(
+    c: _Canvas,
+    box: Rect,
+    group_w: float,
+    groups: list[list[str]],
+    paragraph: str,
+    flags: str,
+) -> tuple[float, float, float, bool]:
+    """(header height, row height, type size of the notes, other flags under the axes): the
+    tallest rows and largest type at which the statements and the other flags fit the block.
+    The other flags go under the axes of the third group when they fit there whole."""
+    n_rows = max(len(g) for g in groups)
+    flags_w = box.right - (box.x + 2 * group_w)
+    plan = (*ROW_PLANS_MM[-1], NOTE_SIZES_PT[-1], False)
+    for head_h, row_h in ROW_PLANS_MM:
+        table_bottom = box.y + head_h + n_rows * row_h
+        band_h = box.bottom - table_bottom - 0.5
+        first = box.y + head_h + (len(groups[2]) + 1) * row_h
+        bottom = (table_bottom if paragraph else box.bottom) - 0.5
+        beside = bool(flags) and (
+            len(_wrap(c, flags, flags_w, 6.0, max_lines=99))
+            <= int((bottom - first) / FLAG_LINE_MM) + 1
+        )
+        pars = [t for t in (paragraph, "" if beside else flags) if t]
+        if not pars:
+            return head_h, row_h, NOTE_SIZES_PT[0], beside
+        for size in NOTE_SIZES_PT:
+            n = sum(len(_wrap(c, t, box.w, size, max_lines=99)) for t in pars)
+            if n * _line_mm(size) <= band_h:
+                return head_h, row_h, size, beside
+    return plan
+
+
+def _size_to_fit(c: _Canvas, text: str, width_mm: float, sizes: tuple[float, ...]) -> float:
+    """The first of ``sizes`` (largest first) at which ``text`` fits ``width_mm`` on one
+    line; the smallest when none does (the text is then elided to its box)."""
+    return next((z for z in sizes if c.text_width_mm(text, z) <= width_mm), sizes[-1])
+
+
+def _draw_row(
+    c: _Canvas,
+    gx: float,
+    y: float,
+    right: float,
+    cols: tuple[float, ...],
+    row: MeasurementRow,
+    numbers: list[int],
+) -> None:
+    """One global value: label with the numbers of its statements, value, unit, then its
+    range and flag, or its reason in their place."""
+    flagged = bool(row.flag)
+    colour = FLAG if flagged else TEXT
+    value = _fmt(row.value, row.unit)
+    label_w = c.text(
+        gx + cols[0], y, PAGE_LABELS.get(row.quantity, row.label), 7.5, max_w=cols[1] - 6.8
+    )
+    value_w = c.text(gx + cols[1], y, value, 8.0, bold=True, colour=colour, align="right")
+    unit_end = gx + cols[1] + 0.2
+    if limit_text.unit_symbol(row.unit) == limit_text.unit_key(row.unit):
+        unit_end = gx + cols[2] + c.text(gx + cols[2], y, row.unit, 6.5)
+    if numbers:  # like a footnote mark: after the name, else (a long name) after the unit
+        marks = _superscript(numbers)
+        room = cols[1] - value_w - label_w - 1.0
+        if c.text_width_mm(marks, 5.5) <= room:
+            size = _size_to_fit(c, marks, room, (6.5, 6.0, 5.5))
+            c.text(gx + label_w + 0.3, y - 0.3, marks, size)
+        else:
+            room = gx + cols[3] - unit_end - 0.6
+            size = _size_to_fit(c, marks, room, (6.0, 5.5, 5.0, 4.5))
+            c.text(unit_end + 0.2, y - 0.3, marks, size)
+    if row.judged and row.value is not None:
+        c.text(
+            gx + cols[3], y, row.range_text, 6.2, colour=MARK_AUTO, max_w=cols[4] - cols[3] - 0.3
+        )
+        if flagged:
+            c.text(
+                gx + cols[4], y, row.flag, 7.0, bold=True, colour=FLAG, max_w=right - gx - cols[4]
+            )
+        return
+    # Not measured, not comparable, or its criterion not applied: the reason in a few words
+    # where the range and the flag would be (a range not applied is not printed).
+    note = row.reason_cell or "not measured"
+    width = right - gx - cols[3]
+    size = _size_to_fit(c, note, width, (6.2, 5.9, 5.6, 5.3, 5.0))
+    c.text(
+        gx + cols[3],
+        y,
+        note,
+        size,
+        colour=TEXT if row.value is not None else MARK_AUTO,
+        max_w=width,
+    )
+
+
+def _draw_wide_qrs_line(
+    c: _Canvas,
+    gx: float,
+    y: float,
+    right: float,
+    rows: list[MeasurementRow],
+    numbers: dict[str, list[int]],
+) -> None:
+    """JT, JTc and the QRS-adjusted QT on one line: "JT 330 · JTc 348 · QT adj. 401 ms"."""
+    x = gx
+    for k, row in enumerate(rows):
+        name = ("" if k == 0 else "  ·  ") + WIDE_QRS_SHORT[row.quantity] + " "
+        x += c.text(x, y, name, 7.5, max_w=right - x)
+        value = _fmt(row.value, row.unit) + (" ms" if k == len(rows) - 1 else "")
+        x += c.text(x, y, value, 8.0, bold=True, max_w=right - x)
+        marks = numbers.get(row.quantity, [])
+        if marks and x < right - 2.0:
+            x += c.text(x + 0.2, y - 0.2, _superscript(marks), 6.0, max_w=right - x) + 0.2
 
 
 def _wrap(c: _Canvas, text: str, width_mm: float, size_pt: float, max_lines: int) -> list[str]:

@@ -104,6 +104,26 @@ ACTIONS: tuple[ActionSpec, ...] = (
         tip="Repeat the selected time caliper along the strip",
     ),
     A("delete", "Delete caliper", "calipers.delete_selected", Key.Key_Delete),
+    # Edit > Interpretation (the reader's statements; ui/interpretation_panel.py)
+    A(
+        "stmt_add",
+        "Add statement from catalogue…",
+        "interpretation.add_from_catalogue",
+        "Ctrl+I",
+        tip="Search the statement catalogue and add a statement to your interpretation",
+    ),
+    A("stmt_free", "Add statement in own words…", "interpretation.add_own_words"),
+    A(
+        "stmt_auto",
+        "Start from automatic statements",
+        "interpretation.use_automatic",
+        tip="Add the automatic statements to your interpretation (not in a read that hides "
+        "the automatic marks)",
+    ),
+    A("stmt_edit", "Edit statement…", "interpretation.edit_selected"),
+    A("stmt_remove", "Remove statement", "interpretation.remove_selected"),
+    A("stmt_up", "Move statement up", "interpretation.move", arg=-1),
+    A("stmt_down", "Move statement down", "interpretation.move", arg=+1),
     # View
     *(
         A(f"layout_{key}", text, "view.set_layout", str(i + 1), True, arg=key, group="layout")
@@ -234,6 +254,19 @@ MENUS: tuple[tuple[str, tuple[object, ...]], ...] = (
             "-",
             "add_note",
             "sign_off",
+            (
+                "Interpretation",
+                (
+                    "stmt_add",
+                    "stmt_free",
+                    "stmt_auto",
+                    "-",
+                    "stmt_edit",
+                    "stmt_remove",
+                    "stmt_up",
+                    "stmt_down",
+                ),
+            ),
             "-",
             "time_cal",
             "amp_cal",
@@ -267,6 +300,7 @@ MENUS: tuple[tuple[str, tuple[object, ...]], ...] = (
             "-",
             "theme",
             "dock:reading",
+            "dock:interpretation",
             "dock:measurements",
             "dock:records",
             "dock:keyboard",

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import gc
 import logging
 import sys
 import traceback
@@ -88,4 +89,11 @@ def run_app(
         QtCore.QTimer.singleShot(0, lambda: window.open_path(target))
     if median:
         QtCore.QTimer.singleShot(0, lambda: window.view.show_median(True))
-    return int(app.exec())
+    code = int(app.exec())
+    # Delete the window while the application still exists: left to the interpreter's own
+    # teardown, Qt and pyqtgraph objects go in no set order and can crash the process after
+    # every reading is already saved.
+    window.deleteLater()
+    QtCore.QCoreApplication.sendPostedEvents(None, QtCore.QEvent.Type.DeferredDelete)
+    gc.collect()
+    return code

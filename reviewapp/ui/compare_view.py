@@ -16,6 +16,7 @@ from PySide6 import QtCore, QtGui, QtWidgets
 
 from reviewapp.core.fiducials import FIDUCIAL_LABELS
 from reviewapp.core.workflow import Outcome, ReadingWorkflow, WorkflowChange
+from reviewapp.ui.statement_compare import StatementComparison
 
 if TYPE_CHECKING:
     from reviewapp.core.marks import Comparison, ComparisonRow
@@ -130,12 +131,21 @@ class CompareDialog(QtWidgets.QDialog):
         buttons.addWidget(self.adj_note, 1)
         close = QtWidgets.QDialogButtonBox(QtWidgets.QDialogButtonBox.StandardButton.Close)
         close.rejected.connect(self.close)
+        values = QtWidgets.QWidget()
+        vl = QtWidgets.QVBoxLayout(values)
+        vl.setContentsMargins(0, 0, 0, 0)
+        vl.addLayout(tol_row)
+        vl.addWidget(self.table, 1)
+        vl.addWidget(self.summary)
+        vl.addLayout(buttons)
+        vl.addWidget(self.result_label)
+        # The readers' interpretations, statement by statement (ui/statement_compare.py).
+        self.statements = StatementComparison(workflow, tell)
+        self.tabs = QtWidgets.QTabWidget()
+        self.tabs.addTab(values, "Values")
+        self.tabs.addTab(self.statements, "Interpretation")
         lay = QtWidgets.QVBoxLayout(self)
-        lay.addLayout(tol_row)
-        lay.addWidget(self.table, 1)
-        lay.addWidget(self.summary)
-        lay.addLayout(buttons)
-        lay.addWidget(self.result_label)
+        lay.addWidget(self.tabs, 1)
         lay.addWidget(close)
         self.a_box.activated.connect(lambda _i: self.refresh())
         self.b_box.activated.connect(lambda _i: self.refresh())
@@ -203,12 +213,17 @@ class CompareDialog(QtWidgets.QDialog):
                 if len(readings) < 2
                 else "Choose two different readers."
             )
+            self.statements.clear(self.summary.text())
             self._update_buttons()
             return
         tol = self.tolerances_ms()
         analysis = self.workflow.analysis
         comp = compare_readings(analysis, readings[a], readings[b], tol)
         final = self._final_reading()
+        key = None if (row := self.statements.selected_row()) is None else row.key
+        self.statements.show_readings(readings[a], readings[b], final, self._can_adjudicate())
+        if key is not None:
+            self.statements.select_key(key)
         finals: dict[str, str] = {}
         if final is not None:
             adj = compare_readings(analysis, readings[a], final, tol)

@@ -34,14 +34,21 @@ def report_content(workflow: ReadingWorkflow) -> ReportContent:
     """The report page's content for the reading on screen (corrections, status, reviewer)."""
     store = workflow.store
     status, reviewer, signed_at = "unread", None, None
+    statements: tuple = ()
     if store is not None:
         reading = store.reading
         status, reviewer, signed_at = reading.status, reading.reviewer, reading.signed_off_at
+        statements = reading.statements
     overrides = workflow.engine_overrides
     if overrides and status == "unread":
         status = "in_progress"
     return build_report_content(
-        workflow.analysis, overrides, status=status, reviewer=reviewer, signed_off_at=signed_at
+        workflow.analysis,
+        overrides,
+        status=status,
+        reviewer=reviewer,
+        signed_off_at=signed_at,
+        reader_statements=statements,
     )
 
 
@@ -141,9 +148,11 @@ class ExportActions(QObject):
         return out
 
     def print_report(self, printer: object | None = None) -> bool:
-        """Print the page at true scale on the chosen printer (A4 or Letter landscape)."""
+        """Print the page at true scale on the chosen printer (A4 or Letter landscape), then
+        the interpretation page."""
         from PySide6.QtPrintSupport import QPrintDialog, QPrinter
 
+        from reviewapp.report.interpretation_block import paint_interpretation_page
         from reviewapp.report.page import paint_page
 
         content = self._content()
@@ -170,7 +179,10 @@ class ExportActions(QObject):
             raise ReviewError("the printer could not be started")
         try:
             # Full-page mode: the device origin is the sheet's corner, so true scale holds.
-            paint_page(painter, printer.resolution() / MM_PER_INCH, lo, content)  # type: ignore[attr-defined]
+            px_per_mm = printer.resolution() / MM_PER_INCH  # type: ignore[attr-defined]
+            paint_page(painter, px_per_mm, lo, content)
+            printer.newPage()  # type: ignore[attr-defined]
+            paint_interpretation_page(painter, px_per_mm, lo, content)
         finally:
             painter.end()
         self._done("report sent to the printer")

@@ -34,6 +34,7 @@ SHORTCUTS: tuple[tuple[str, str], ...] = (
     ("Click a lead's median beat", "Show that lead magnified (1 ms per pixel at first)"),
     ("Double-click a mark", "Reset that mark to automatic"),
     ("Ctrl+Shift+R", "Reset all marks to automatic"),
+    ("Ctrl+I", "Add an interpretation statement from the catalogue"),
     ("Ctrl+Z / Ctrl+Shift+Z", "Undo / redo a mark correction or caliper edit"),
     ("Alt+1 / Alt+2 / Alt+3", "Display filter: baseline / mains / low-pass"),
     ("Alt+4", "Centre each lead's baseline on its row (display only; on at first)"),

@@ -19,6 +19,7 @@ from reviewapp.ui.caliper_binding import CaliperBinding
 from reviewapp.ui.errors import show_error
 from reviewapp.ui.export_actions import ExportActions
 from reviewapp.ui.help_panel import HelpPanel, show_about
+from reviewapp.ui.interpretation_panel import InterpretationPanel, InterpretationView
 from reviewapp.ui.layouts import LAYOUTS
 from reviewapp.ui.page_controls import PageControls
 from reviewapp.ui.paper import PaperScale, screen_px_per_mm
@@ -85,6 +86,15 @@ class MainWindow(QtWidgets.QMainWindow):
         self.summary = SummaryPanel()
         self.summary_dock = self._dock("Measurements", self.summary, Area.RightDockWidgetArea)
         self.splitDockWidget(self.reading_dock, self.summary_dock, QtCore.Qt.Orientation.Vertical)
+        self.interpretation_panel = InterpretationPanel()
+        self.interpretation_dock = self._dock(
+            "Interpretation", self.interpretation_panel, Area.RightDockWidgetArea
+        )
+        # A tab beside the reading's, the tabs on the side: a third dock stacked under it, or
+        # a tab bar above it, would not fit a small window (the minimum heights add up).
+        self.tabifyDockWidget(self.reading_dock, self.interpretation_dock)
+        self.setTabPosition(Area.RightDockWidgetArea, QtWidgets.QTabWidget.TabPosition.West)
+        self.reading_dock.raise_()
         self.records = RecordsDock(self, self._page_short_px)
         self.addDockWidget(Area.LeftDockWidgetArea, self.records)
         self.records.setVisible(False)
@@ -102,10 +112,21 @@ class MainWindow(QtWidgets.QMainWindow):
             self, s, self.acts, self.reading_panel, self.records, self._flush_nudges
         )
         self.reader_label = self.adapter.reader_label
+        self.interpretation = InterpretationView(
+            self,
+            self.interpretation_panel,
+            lambda: self.adapter.workflow,
+            self.adapter.tell,
+            self.adapter.started,
+            self.adapter.values_changed,
+        )
         self.exports = ExportActions(self, lambda: self.workflow, self.show_error)
         widgets = {"view": self.view.view_group(), "filters": self.view.filters_button}
         self.toolbar = build_toolbar(self, self.acts, widgets)
-        docks = {d.objectName()[5:]: d for d in (self.reading_dock, self.summary_dock)}
+        docks = {
+            d.objectName()[5:]: d
+            for d in (self.reading_dock, self.summary_dock, self.interpretation_dock)
+        }
         docks |= {"records": self.records, "keyboard": self.help_dock}
         build_menus(self.menuBar(), self.acts, docks)
         self.statusBar().showMessage("Open a record: File ▸ Open, drag a file here, or Ctrl+O.")

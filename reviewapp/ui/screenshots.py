@@ -198,9 +198,16 @@ def _sign_off_and_compare(w, app, outdir: Path, shot, written: list[Path]) -> No
         dlg.accept()
 
     w.view.set_median_automatic()
+    # The first reader starts from the automatic statements and adds one of their own.
+    if w.workflow is not None:
+        w.interpretation.use_automatic()
+        w.workflow.statements.add_free_text("Compare with the previous tracing.")
     QtCore.QTimer.singleShot(0, confirm)
     w.adapter.sign_off()
     shot("signed_off")
+    w.interpretation_dock.raise_()
+    shot("interpretation")
+    w.reading_dock.raise_()
     s = w.workflow
     if s is None or s.store is None:
         return
@@ -211,6 +218,11 @@ def _sign_off_and_compare(w, app, outdir: Path, shot, written: list[Path]) -> No
         k = None if rep is None else rep.marks.get(fid)
         if k is not None:
             s.move_mark(MarkTarget("representative", fid), k + round(shift_s * s.fs_hz))
+    # The second reader's interpretation differs in one statement.
+    s.statements.start_from_automatic()
+    if s.store is not None and s.store.reading.statements:
+        s.statements.delete(s.store.reading.statements[-1].id)
+    s.statements.add("axis.left_deviation")
     w._refresh_marks()
     shot("second_reader_blinded")
     w.settings.setValue("reader/id", "adj1")
@@ -226,6 +238,15 @@ def _sign_off_and_compare(w, app, outdir: Path, shot, written: list[Path]) -> No
     for _ in range(3):
         app.processEvents()
     p = outdir / "compare_readings.png"
+    dlg.grab().save(str(p))
+    written.append(p)
+    dlg.tabs.setCurrentWidget(dlg.statements)
+    if dlg.statements.rows:
+        dlg.statements.table.selectRow(0)
+        dlg.statements.adopt("a")
+    for _ in range(3):
+        app.processEvents()
+    p = outdir / "compare_interpretation.png"
     dlg.grab().save(str(p))
     written.append(p)
     dlg.close()

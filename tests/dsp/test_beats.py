@@ -165,9 +165,13 @@ def test_median_beat_matches_reference_annotated_beats(shared_data: Path) -> Non
         for k in range(0, 41)
     )
     assert best > 0.99
-    # The representative window keeps neighbouring QRS complexes out: it is shorter than RR.
+    # The representative window keeps neighbouring QRS complexes out (a QRS spans at most
+    # about 60 ms either side of its R: common practice, no source) but reaches the next P.
     rr = np.median(np.diff([b.r for b in beats]))
-    assert rep.waveform_mv.shape[0] < rr
+    half_qrs = 0.06 * fs
+    assert rep.r_index < rr - half_qrs
+    assert rep.waveform_mv.shape[0] - 1 - rep.r_index < rr - half_qrs
+    assert rep.rr_samples == round(rr)
 
 
 def test_classify_handles_one_and_two_beats() -> None:

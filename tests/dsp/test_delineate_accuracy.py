@@ -28,11 +28,9 @@ from reviewapp.core.record import record_from_array
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 from reference_marks import (
     CSE_TOLERANCE_MS,
-    LUDB_LEAD_NAMES,
     BeatCounts,
     ErrorPool,
     ludb_record_names,
-    ludb_signal,
     qtdb_record_names,
     qtdb_window,
     score_ludb_record,
@@ -94,16 +92,14 @@ def qtdb_scores(shared_data: Path) -> tuple[ErrorPool, BeatCounts]:
 
 
 @pytest.fixture(scope="module")
-def ludb_scores(shared_data: Path) -> tuple[ErrorPool, BeatCounts]:
+def ludb_scores(shared_data: Path, ludb_analyses) -> tuple[ErrorPool, BeatCounts]:
     pool, counts = ErrorPool.empty(), BeatCounts()
     names = ludb_record_names(shared_data / "ludb")
     assert names, "no LUDB records found"
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
-        for name in names:
-            x, fs = ludb_signal(shared_data / "ludb", name)
-            rec = record_from_array(x, fs, LUDB_LEAD_NAMES, name=name)
-            score_ludb_record(shared_data / "ludb", name, analyse(rec), pool, counts)
+        for name in names:  # one cached analysis per record for the whole run (conftest)
+            score_ludb_record(shared_data / "ludb", name, ludb_analyses[name], pool, counts)
     print(pool.table(f"LUDB per-lead marks vs each lead's own marks ({len(names)} records)"))
     return pool, counts
 

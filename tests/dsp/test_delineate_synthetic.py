@@ -47,11 +47,20 @@ GUARD_MS = 4.0
 # marks stay on the 40 Hz slope boundary: measured -8 ms / +8 to +10 ms, as before the
 # refinement (a noise-tolerant corner test was exact here but moved real QTDB/LUDB onsets
 # 8 ms away from the readers; see delineate_qrs.CORNER_NOISE_MULT).
-NOISY_BIAS_MS = {**BIAS_MS, "qrs_on": -8.0, "qrs_off": 9.0}
+# T end: the global T end is the latest lead T end confirmed by a second lead (the standard's
+# definition, AHA/ACCF/HRS 2007 Part I; delineate_core._standard_global); in 20 dB noise the
+# latest noisy lead ends lie later than the median lead's: measured +16 / +12 ms (seeds 1, 2),
+# +2 ms before the global marks followed that definition (still within the CSE 30.6 ms).
+# P end: +6 ms at seed 2 for the same reason (earliest / latest P mark over the leads
+# confirmed by two more leads), 0 before.
+NOISY_BIAS_MS = {**BIAS_MS, "qrs_on": -8.0, "qrs_off": 9.0, "p_off": 2.0, "t_off": 12.0}
 
 
 def _errors_ms(**kw: object) -> dict[str, np.ndarray]:
-    syn = synth.generate(params_mod.SynthParams(**kw))
+    # The guards below were measured on the Dower-projected limb leads (SynthParams.limb_leads
+    # "dower", the projection these checks were set on); the Einthoven-projected ECG is used
+    # by the axis and long-QT checks (tests/measure/test_axes.py, tests/dsp/test_long_qt.py).
+    syn = synth.generate(params_mod.SynthParams(**{"limb_leads": "dower", **kw}))
     an = analyse(syn.record)
     fs = syn.record.fs_hz
     det_r = np.array([b.r for b in an.beats])
@@ -127,10 +136,12 @@ def test_noise_free_t_end_within_one_sample_of_the_support_edge(kw: dict) -> Non
 @pytest.mark.parametrize("seed", [4, 5, 6, 7])
 def test_20_db_t_end_within_cse(seed: int) -> None:
     # CSE tolerance for T end, 30.6 ms (CSE Working Party 1985): mean and SD of the dominant
-    # beats' T end error at 20 dB muscle-like noise. Measured +2 to +6 ms, SD 0 (the beats
-    # carry the median beat's mark).
+    # beats' T end error at 20 dB muscle-like noise. Measured +6 to +16 ms, SD 0 (the beats
+    # carry the median beat's mark); +2 to +6 ms while the global T end was the median lead's,
+    # before it followed the standard's latest end over the leads (AHA/ACCF/HRS 2007 Part I),
+    # which noise moves later.
     err = _errors_ms(emg_snr_db=20.0, seed=seed)["t_off"]
-    assert abs(err.mean()) <= 10.0, f"t_off mean {err.mean():.1f} ms"
+    assert abs(err.mean()) <= 20.0, f"t_off mean {err.mean():.1f} ms"
     assert err.std() <= CSE_MS["t_off"], f"t_off SD {err.std():.1f} ms"
 
 
@@ -187,8 +198,12 @@ def test_noise_free_qrs_within_one_sample(kw: dict) -> None:
     # must lie within one sample of that edge (truth + 0..2 samples). Measured: onset 0 samples
     # at 500 Hz (narrow and wide QRS), 0-1 at 1 kHz, -1..0 at 2 kHz, +1 at 250 Hz; end +1 at
     # 500 Hz, +1..+2 at 1 kHz, 0..+1 at 2 kHz, +2 at 250 Hz.
+    # Wide QRS: onset -2 samples since the global onset is the earliest lead's (AHA/ACCF/HRS
+    # 2007 Part I): the conditioning low-pass spreads its steep start over the two samples
+    # before it by more than the 5 uV a lead must move to widen the QRS (delineate_core).
     err = _errors_ms(**kw)
     one = 1000.0 / float(kw.get("fs_hz", 500.0))
+    on_tol = 2 * one if kw.get("wide_qrs") else one
     assert err["qrs_on"].size >= 8 and err["qrs_off"].size >= 8
-    assert np.all(np.abs(err["qrs_on"]) <= one + 1e-9), f"qrs_on: {err['qrs_on']} ms"
+    assert np.all(np.abs(err["qrs_on"]) <= on_tol + 1e-9), f"qrs_on: {err['qrs_on']} ms"
     assert np.all(np.abs(err["qrs_off"] - one) <= one + 1e-9), f"qrs_off: {err['qrs_off']} ms"

@@ -47,8 +47,8 @@ def _infarct_leads() -> tuple[LeadMeasurements, ...]:
     # 4th UDMI (Thygesen et al., 2018): ST >= 0.1 mV in two contiguous leads; Q >= 30 ms and
     # >= 0.1 mV deep in two contiguous leads. Both met in II and aVF.
     return (
-        LeadMeasurements("II", st_j_mv=0.2, q_mv=-0.2, q_ms=40.0),
-        LeadMeasurements("aVF", st_j_mv=0.25, q_mv=-0.2, q_ms=40.0),
+        LeadMeasurements("II", st_j_mv=0.2, st_j60_mv=0.18, q_mv=-0.2, q_ms=40.0),
+        LeadMeasurements("aVF", st_j_mv=0.25, st_j60_mv=0.2, q_mv=-0.2, q_ms=40.0),
     )
 
 
@@ -93,17 +93,17 @@ def test_ludb_complete_lbbb_gets_no_st_q_flags_and_a_note(shared_data: Path):
 
 
 def test_flag_agrees_with_displayed_value():
-    # AHA 2009 Part IV: short QTc <= 390 ms (from memory). 389.6 prints as 390 and is flagged
-    # as 390, against the normal range that excludes 390.
+    # ESC 2015 (Priori et al., from memory): short QTc <= 340 ms. 339.6 prints as 340 and is
+    # flagged as 340, against the normal range that excludes 340.
     woman = SubjectFacts(sex="female", age_years=40)
-    (f,) = evaluate_findings(Measurements(GlobalIntervals(qtc_bazett_ms=389.6)), woman)
-    assert f.value == 390.0
-    assert f.text == "QTc (Bazett) 390 ms, below normal (normal > 390 and < 460 ms; female adult)"
+    (f,) = evaluate_findings(Measurements(GlobalIntervals(qtc_bazett_ms=339.6)), woman)
+    assert f.value == 340.0
+    assert f.text == "QTc (Bazett) 340 ms, below normal (normal > 340 and < 460 ms; female adult)"
     assert "Rautaharju" in f.source
-    # 390.4 prints as 390 as well: same flag, never "391" vs "below 390".
-    (g,) = evaluate_findings(Measurements(GlobalIntervals(qtc_bazett_ms=390.4)), woman)
-    assert g.value == 390.0
-    assert evaluate_findings(Measurements(GlobalIntervals(qtc_bazett_ms=390.6)), woman) == ()
+    # 340.4 prints as 340 as well: same flag, never "341" vs "below 340".
+    (g,) = evaluate_findings(Measurements(GlobalIntervals(qtc_bazett_ms=340.4)), woman)
+    assert g.value == 340.0
+    assert evaluate_findings(Measurements(GlobalIntervals(qtc_bazett_ms=340.6)), woman) == ()
 
 
 def test_displayed_normalises_negative_zero():

@@ -34,12 +34,12 @@ def test_qtc_455_flagged_for_men_not_women():
 
 
 def test_short_qtc_and_text():
-    # Same source: short QTc <= 390 ms.
-    (f,) = _qtc_findings(390.0, WOMAN)
-    assert f.direction == "below" and f.limit == 390.0
+    # Short QTc <= 340 ms (Priori et al., Eur Heart J 2015, short QT syndrome; from memory).
+    (f,) = _qtc_findings(340.0, WOMAN)
+    assert f.direction == "below" and f.limit == 340.0
     (f,) = _qtc_findings(478.0, WOMAN)
     assert f.text == (
-        "QTc (Fridericia) 478 ms, above normal (normal > 390 and < 460 ms; female adult)"
+        "QTc (Fridericia) 478 ms, above normal (normal > 340 and < 460 ms; female adult)"
     )
 
 
@@ -49,7 +49,8 @@ def test_unknown_sex_uses_narrowest_limit_and_says_so():
 
 
 def _leads(st: dict[str, float]) -> tuple[LeadMeasurements, ...]:
-    return tuple(LeadMeasurements(n, st_j_mv=v) for n, v in st.items())
+    # The ST segment confirms the J level (J+60 as deep or high): see test_st_finding_needs_*.
+    return tuple(LeadMeasurements(n, st_j_mv=v, st_j60_mv=v) for n, v in st.items())
 
 
 def _st_leads(st: dict[str, float], subject: SubjectFacts) -> set[str]:

@@ -87,7 +87,9 @@ def test_study_table_fit_recovers_b_from_engine_measured_records(tmp_path, recor
     fit = analysis.fits["S-1"]
     assert fit.n == 6
     assert abs(fit.b - b) < 0.01
-    # QTcI of the on-drug ECGs: the drug effect over the subject's own a. Within 5 ms: the
-    # engine's T end is the first sample back on the baseline (+2 ms at 500 Hz, README).
+    # QTcI of the on-drug ECGs: the drug effect over the subject's own a. Within 7 ms: the
+    # global QT runs from the earliest lead's QRS onset to the latest lead's T end, and the
+    # T end is the first sample back on the baseline (README: +1 sample T end, QRS onset up
+    # to -2 samples in noise at 500 Hz: +2 to +3 samples of QT).
     qtci = [e.values["qtc_individual_ms"] for e in analysis.ecgs if e.timepoint == "post-dose 2 h"]
-    assert qtci == pytest.approx([a_ms + 25.0] * 2, abs=5.0)
+    assert qtci == pytest.approx([a_ms + 25.0] * 2, abs=7.0)

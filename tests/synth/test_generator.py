@@ -3,8 +3,9 @@
 Outside references used here:
 - Einthoven's law and Goldberger's augmented-lead relations (III = II - I, aVR = -(I + II)/2,
   aVL = I - II/2, aVF = II - I/2): Malmivuo & Plonsey, Bioelectromagnetism, 1995, ch. 15.
-- Frontal axis from leads I and aVF, atan2(net aVF, net I), hexaxial reference: common
-  practice (the convention restated in Mason et al., Circulation 2007;115:1306 - from memory).
+- Frontal axis from leads I and aVF in Einthoven's triangle (I = |V| cos t, aVF = (sqrt(3)/2)
+  |V| sin t), so t = atan2(2 aVF / sqrt(3), I), hexaxial reference: common practice (the
+  convention restated in Mason et al., Circulation 2007;115:1306 - from memory).
 - Fridericia's formula QT = QTc * RR^(1/3) (Fridericia 1920).
 - SNR in dB = 10 log10(signal power / noise power): definition.
 Everything is measured from the generated signal itself (runs of non-zero samples), not read
@@ -184,7 +185,7 @@ def test_frontal_qrs_axis_from_i_and_avf(axis: float) -> None:
     lo, hi = b.marks.qrs_on, b.marks.qrs_off
     net_i = float(np.sum(_lead(syn, "I")[lo : hi + 1]))
     net_avf = float(np.sum(_lead(syn, "aVF")[lo : hi + 1]))
-    measured = math.degrees(math.atan2(net_avf, net_i))
+    measured = math.degrees(math.atan2(2.0 * net_avf / math.sqrt(3.0), net_i))
     diff = (measured - axis + 180.0) % 360.0 - 180.0
     assert abs(diff) < 0.5
     assert syn.truth.qrs_axis_deg == pytest.approx(measured, abs=0.01)
@@ -196,7 +197,8 @@ def test_p_and_t_axes_from_i_and_avf() -> None:
     for lo, hi, want in ((b.marks.p_on, b.marks.p_off, 20.0), (b.t_on, b.marks.t_off, -15.0)):
         net_i = float(np.sum(_lead(syn, "I")[lo : hi + 1]))
         net_avf = float(np.sum(_lead(syn, "aVF")[lo : hi + 1]))
-        assert math.degrees(math.atan2(net_avf, net_i)) == pytest.approx(want, abs=0.5)
+        got = math.degrees(math.atan2(2.0 * net_avf / math.sqrt(3.0), net_i))
+        assert got == pytest.approx(want, abs=0.5)
 
 
 @pytest.mark.parametrize("snr_db", [6.0, 15.0, 25.0])

@@ -37,12 +37,13 @@ def test_paced_beats_of_a_ludb_pacemaker_record_are_named_under_the_strip(
     assert set(tags) == {b.r for b in on_page if b.kind is not BeatKind.DOMINANT}
     tip = next(t for t in window.paper.beat_tags).toolTip()
     assert "pacing stimulus" in tip and "Q and ST criteria" in tip
-    # Its wide paced QRS is shown but not flagged in the summary, and the tooltip says why.
+    # Its wide paced QRS is shown but not flagged in the summary; its cells say why.
     from reviewapp.ui.summary import GLOBAL_ROWS
 
     row = [k for k, *_ in GLOBAL_ROWS].index("qrs_ms")
     assert window.workflow.reading.measurements.intervals.qrs_ms > 110.0
-    assert window.summary.table.item(row, 3).text() == ""
+    cells = [window.summary.table.item(row, c).text() for c in (2, 3)]
+    assert cells == ["not applied", "paced rhythm"]  # no range, no "high"
     assert "paced rhythm" in window.summary.table.item(row, 1).toolTip()
 
 

@@ -194,6 +194,10 @@ def c_role_1(c: Ctx) -> None:
 def c_role_2(c: Ctx) -> None:
     _role(c, 2, SECOND_HIDDEN)
     assert c.wf.hide_automatic and c.w.summary.value_text("qt_ms") == "set marks"
+    # No automatic statement shows in a read that hides the automatic marks.
+    panel = c.w.interpretation_panel
+    assert panel.automatic_lines() == [] and panel.automatic.count() == 0
+    assert "hidden" in panel.auto_label.text() and not panel.auto_button.isEnabled()
 
 
 def c_role_0(c: Ctx) -> None:
@@ -340,6 +344,117 @@ def c_add_note(c: Ctx) -> None:
     answer_modal(type_into(c, "T end read in II"), QtWidgets.QInputDialog)
     menu_action(c.w, "Edit/Add note…").trigger()
     assert [n["text"] for n in c.sidecar()["readings"]["reader1"]["notes"]] == ["T end read in II"]
+
+
+def _statements(c: Ctx) -> list[dict]:
+    return c.sidecar()["readings"]["reader1"]["statements"]
+
+
+def show_tab(c: Ctx, title: str) -> None:
+    """Click a dock's tab (the Interpretation dock is a tab beside the Reading dock)."""
+    bar = next(
+        b
+        for b in c.w.findChildren(QtWidgets.QTabBar)
+        if title in [b.tabText(i) for i in range(b.count())] and b.isVisible()
+    )
+    i = [bar.tabText(k) for k in range(bar.count())].index(title)
+    c.qtbot.mouseClick(bar, L, pos=bar.tabRect(i).center())
+    c.qtbot.waitUntil(
+        c.w.interpretation_panel.isVisible
+        if title == "Interpretation"
+        else c.w.reading_panel.isVisible,
+        timeout=3000,
+    )
+
+
+def _select_mine(c: Ctx, row: int) -> None:
+    """Click one of the reader's statements in the Interpretation dock."""
+    show_tab(c, "Interpretation")
+    lst = c.w.interpretation_panel.mine
+    item = lst.item(row)
+    lst.scrollToItem(item)
+    c.qtbot.mouseClick(lst.viewport(), L, pos=lst.visualItemRect(item).center())
+    assert lst.currentRow() == row
+
+
+def c_stmt_auto(c: Ctx) -> None:
+    auto = c.wf.automatic_interpretation()
+    assert auto is not None and auto.statements
+    shown = c.w.interpretation_panel.automatic_lines()
+    assert shown == [x.line for x in auto.statements]
+    menu_action(c.w, "Edit/Interpretation/Start from automatic statements").trigger()
+    side = _statements(c)
+    assert [x["code"] for x in side] == [x.code for x in auto.statements]
+    assert {x["origin"] for x in side} == {"automatic"}
+    assert c.w.interpretation_panel.mine_texts() == [x["text"] for x in side]
+    # LUDB record 1 runs at 45 bpm with upright P waves in II: sinus bradycardia, < 50 bpm
+    # (Kusumoto et al., Circulation 2019; from memory).
+    assert "rhythm.sinus_bradycardia" in [x["code"] for x in side]
+    assert c.sidecar()["audit"][-1]["action"] == "add_statement"
+
+
+def c_stmt_add(c: Ctx) -> None:
+    from reviewapp.ui.interpretation_panel import StatementPickerDialog
+
+    def pick(dlg: StatementPickerDialog) -> None:
+        c.qtbot.keyClicks(dlg.search_edit, "abnormal ecg")
+        assert dlg.chosen() is not None and dlg.chosen().code == "other.abnormal_ecg"
+        c.qtbot.mouseClick(dlg.add_button, L)
+
+    answer_modal(pick, StatementPickerDialog)
+    press(c, "Ctrl+I")
+    last = _statements(c)[-1]
+    assert (last["code"], last["text"], last["origin"]) == (
+        "other.abnormal_ecg",
+        "abnormal ECG",
+        "catalogue",
+    )
+
+
+def c_stmt_free(c: Ctx) -> None:
+    answer_modal(type_into(c, "Compare with an earlier tracing"), QtWidgets.QInputDialog)
+    menu_action(c.w, "Edit/Interpretation/Add statement in own words…").trigger()
+    last = _statements(c)[-1]
+    assert (last["code"], last["text"], last["origin"]) == (
+        "other.free_text",
+        "Compare with an earlier tracing",
+        "free_text",
+    )
+
+
+def c_stmt_edit(c: Ctx) -> None:
+    n = len(_statements(c))
+    _select_mine(c, n - 1)
+    answer_modal(type_into(c, "No earlier tracing on file"), QtWidgets.QInputDialog)
+    menu_action(c.w, "Edit/Interpretation/Edit statement…").trigger()
+    last = _statements(c)[-1]
+    assert last["text"] == "No earlier tracing on file" and last["origin"] == "free_text"
+    assert c.sidecar()["audit"][-1]["action"] == "edit_statement"
+
+
+def c_stmt_up(c: Ctx) -> None:
+    before = [x["id"] for x in _statements(c)]
+    menu_action(c.w, "Edit/Interpretation/Move statement up").trigger()
+    after = [x["id"] for x in _statements(c)]
+    assert after == [*before[:-2], before[-1], before[-2]]
+    assert c.w.interpretation_panel.selected_id() == before[-1]
+
+
+def c_stmt_down(c: Ctx) -> None:
+    before = [x["id"] for x in _statements(c)]
+    menu_action(c.w, "Edit/Interpretation/Move statement down").trigger()
+    assert [x["id"] for x in _statements(c)] == [*before[:-2], before[-1], before[-2]]
+
+
+def c_stmt_remove(c: Ctx) -> None:
+    n = len(_statements(c))
+    _select_mine(c, n - 1)
+    gone = _statements(c)[-1]["id"]
+    menu_action(c.w, "Edit/Interpretation/Remove statement").trigger()
+    assert gone not in [x["id"] for x in _statements(c)] and len(_statements(c)) == n - 1
+    assert c.w.interpretation_panel.mine.count() == n - 1
+    assert c.sidecar()["audit"][-1]["action"] == "delete_statement"
+    show_tab(c, "Reading")
 
 
 def c_sign_off(c: Ctx) -> None:
@@ -547,6 +662,12 @@ def c_dock_reading(c: Ctx) -> None:
     _dock(c, "Reading", c.w.reading_dock)
 
 
+def c_dock_interpretation(c: Ctx) -> None:
+    show_tab(c, "Interpretation")  # a tab beside the Reading dock
+    _dock(c, "Interpretation", c.w.interpretation_dock)
+    show_tab(c, "Reading")
+
+
 def c_dock_measurements(c: Ctx) -> None:
     _dock(c, "Measurements", c.w.summary_dock)
 
@@ -697,11 +818,15 @@ FILE_GROUP = (
     "open_folder open next_unread prev_unread role_3 role_1 role_2 role_0 open_second reader "
     "export_pdf export_image export_csv export_wfdb print quit"
 ).split()
-EDIT_GROUP = "time_cal amp_cal march delete undo redo reset_marks add_note sign_off".split()
+EDIT_GROUP = (
+    "time_cal amp_cal march delete undo redo reset_marks add_note stmt_auto stmt_add stmt_free "
+    "stmt_edit stmt_up stmt_down stmt_remove sign_off"
+).split()
 VIEW_GROUP = (
     "layout_12x1 layout_6x2 layout_3x4+1 layout_3x4+3 median median_auto superimpose cabrera "
     "faster slower gain_up gain_down zoom_in zoom_out fit true next prev last first theme "
-    "f_base f_mains f_low f_centre dock:reading dock:measurements dock:records dock:keyboard "
+    "f_base f_mains f_low f_centre dock:reading dock:interpretation dock:measurements "
+    "dock:records dock:keyboard "
     "widget:toolbar_view_group widget:toolbar_filters"
 ).split()
 TOOLS_GROUP = "compare calibrate help about tab right left up down".split()

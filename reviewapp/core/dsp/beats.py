@@ -32,15 +32,20 @@ LOCAL_RR_BEATS = 9
 MAX_GROUPS = 8
 SEED_SAMPLE = 400  # beats sampled to pick each group's seed (keeps grouping O(n))
 
-# Representative window: R - min(450 ms, 0.45 RR) .. R + min(900 ms, 0.65 RR), RR = median RR of
-# all detected beats, so the neighbouring QRS complexes stay outside (and, at 0.45 RR, mostly
-# the previous T wave too). Common practice, no source. 900 ms after R holds a QT of about
-# 850 ms at slow rates (a 650 ms cap cut off QT >= ~690 ms, e.g. QTDB sel33 at RR 1.7 s);
-# below RR 1.0 s the 0.65 RR term decides, as before.
+# Representative window: R - min(450 ms, 0.45 RR) .. R + min(900 ms, RR10 - 80 ms), RR = median
+# and RR10 = 10th percentile of the RR of all detected beats, so the next QRS complex stays
+# outside (its onset lies at most
+# about 80 ms before its R: common practice, no source) and at 0.45 RR before R mostly the
+# previous T wave too. The window reaches the next beat's P: the T of a long QT ends close to
+# it at any rate (at 150 bpm, RR 400 ms, a QT of 300 ms ends 260 ms after R; the earlier
+# 0.65 RR cut it at 260 ms), and the delineator keeps the T end before the next P
+# (``delineate_core``: this beat's PR carried one RR on). 900 ms after R holds a QT of about
+# 850 ms at slow rates (QTDB sel33 at RR 1.7 s).
 REP_PRE_S = 0.45
 REP_POST_S = 0.90
 REP_PRE_RR = 0.45
-REP_POST_RR = 0.65
+REP_NEXT_QRS_S = 0.08
+REP_FIT_RR = 0.65
 ALIGN_MAX_S = 0.010  # cross-correlation refinement of R, +-10 ms (at least +-2 samples)
 ALIGN_PRE_S = 0.06
 ALIGN_POST_S = 0.06
@@ -278,9 +283,10 @@ def representative_beat(
     """Median beat of the dominant-rhythm beats (``Beat.in_dominant_rhythm``: DOMINANT, or
     PACED within the dominant group), per lead, aligned by cross-correlation.
 
-    Window: R - min(450 ms, 0.45 RR) to R + min(900 ms, 0.65 RR), RR = median RR of all
-    detected beats (fixed 450/900 ms with one beat). Beats whose window (plus the alignment
-    range) does not fit in the record are skipped. Each beat's R is refined within +-10 ms by
+    Window: R - min(450 ms, 0.45 RR) to R + min(900 ms, RR10 - 80 ms), RR = median RR and
+    RR10 = its 10th percentile over all detected beats (fixed 450/900 ms with one beat;
+    ``rr_samples`` holds RR). Beats whose window (plus the alignment range) does not fit
+    in the record are skipped. Each beat's R is refined within +-10 ms by
     maximising the correlation of its QRS (R +-60 ms, usable leads) with the median QRS of the
     unaligned beats; then the median is taken sample by sample. At most ``MAX_REP_BEATS``
     beats are used (those most like the template). Returns None without a usable beat.
@@ -306,9 +312,16 @@ def representative_beat(
     rr = np.diff(np.sort(all_r))
     rr_med = float(np.median(rr)) / fs_hz if rr.size else np.inf
     pre = round(min(REP_PRE_S, REP_PRE_RR * rr_med) * fs_hz)
-    post = round(min(REP_POST_S, REP_POST_RR * rr_med) * fs_hz)
+    # The shortest RRs set where the window ends (10th percentile): in an irregular rhythm
+    # the next QRS of the short cycles would otherwise enter the median beat's tail.
+    rr_short = float(np.percentile(rr, 10)) / fs_hz if rr.size else np.inf
+    classic = round(min(REP_POST_S, REP_FIT_RR * rr_med) * fs_hz)
+    post = max(classic, round(min(REP_POST_S, rr_short - REP_NEXT_QRS_S) * fs_hz))
     max_lag = max(2, round(ALIGN_MAX_S * fs_hz))
-    fits = (dom - pre - max_lag >= 0) & (dom + post + max_lag < n)
+    # Which beats fit is judged on the classic window (R + min(900 ms, 0.65 RR)), so the
+    # median is taken over the same beats; past a record's last samples the longer tail of
+    # the last beat repeats its final value (a minority the median ignores).
+    fits = (dom - pre - max_lag >= 0) & (dom + classic + max_lag < n)
     dom = dom[fits]
     if dom.size == 0:
         return None
@@ -326,4 +339,7 @@ def representative_beat(
     aligned = dom + _align(x, usable, dom, template, a_pre, a_post, max_lag)
     seg = _windows(x, aligned, pre, post)
     wave = median_axis0(seg).astype(np.float32)
-    return RepresentativeBeat(waveform_mv=wave, r_index=pre, n_beats_used=int(aligned.size))
+    rr_samples = round(rr_med * fs_hz) if np.isfinite(rr_med) else None
+    return RepresentativeBeat(
+        waveform_mv=wave, r_index=pre, n_beats_used=int(aligned.size), rr_samples=rr_samples
+    )

@@ -14,17 +14,17 @@ multi-lead feature for QRS and from multi-lead rules over the lead marks for P a
 
 from __future__ import annotations
 
-from dataclasses import replace
+from dataclasses import dataclass, replace
 
 import numpy as np
 
-from reviewapp.core.dsp.beats import REP_POST_RR, REP_POST_S
 from reviewapp.core.dsp.delineate_align import ALIGN_SPEC, align_lags
 from reviewapp.core.dsp.delineate_core import (
     N_MARKS,
     P_OFF,
     P_ON,
     P_PEAK,
+    QRS_OFF,
     QRS_ON,
     R_PEAK,
     T_OFF,
@@ -44,21 +44,36 @@ def _marks_from_row(row: np.ndarray | list[int], offset: int = 0) -> WaveMarks:
     return WaveMarks(*[None if v < 0 else v + offset for v in vals])
 
 
-def _rep_rr_samples(n: int, r_index: int, fs_hz: float) -> int:
-    """The RR the representative window was cut for, where its length tells (else -1).
-
-    beats.representative_beat ends the window at R + min(REP_POST_S, REP_POST_RR x RR); a
-    window shorter than REP_POST_S therefore gives RR = post / REP_POST_RR.
-    """
-    post = n - 1 - r_index
-    if post < round(REP_POST_S * fs_hz) - 1:
-        return round(post / REP_POST_RR)
-    return -1
-
-
 def delineate_representative(
-    waveform_mv: np.ndarray, fs_hz: float, r_index: int, usable: np.ndarray
+    waveform_mv: np.ndarray,
+    fs_hz: float,
+    r_index: int,
+    usable: np.ndarray,
+    rr_samples: int | None = None,
 ) -> tuple[WaveMarks, tuple[WaveMarks, ...]]:
+    """(global marks, per-lead marks) of the median beat: ``delineate_median_beat`` without
+    the alignment marks."""
+    m = delineate_median_beat(waveform_mv, fs_hz, r_index, usable, rr_samples)
+    return m.marks, m.lead_marks
+
+
+@dataclass(frozen=True)
+class MedianBeatMarks:
+    """The median beat's marks: global (the standard's earliest onset / latest end over the
+    leads), each lead's own, and the multi-lead marks beats are aligned on (window indices)."""
+
+    marks: WaveMarks
+    lead_marks: tuple[WaveMarks, ...]
+    align_marks: WaveMarks
+
+
+def delineate_median_beat(
+    waveform_mv: np.ndarray,
+    fs_hz: float,
+    r_index: int,
+    usable: np.ndarray,
+    rr_samples: int | None = None,
+) -> MedianBeatMarks:
     """Global and per-lead wave boundaries of the representative (median) beat.
 
     Args:
@@ -66,9 +81,13 @@ def delineate_representative(
         fs_hz: sampling rate in Hz.
         r_index: index of the R fiducial point in the window.
         usable: (n_leads,) bool; unusable leads get all-None marks and do not vote.
+        rr_samples: the RR the window was cut for (``RepresentativeBeat.rr_samples``); with
+            it the T end is kept before the next beat's P (this beat's PR one RR on) and the
+            P is sought only after the previous beat's T (this beat's T end one RR back), so
+            a long QT's T is never taken for the next beat's P. None: neither limit.
 
     Returns:
-        (global marks, per-lead marks), indices into the window; absent waves are None.
+        ``MedianBeatMarks``, indices into the window; absent waves are None.
 
     Example:
         >>> import numpy as np
@@ -77,8 +96,8 @@ def delineate_representative(
         >>> qrs = np.exp(-0.5 * ((t - 0.4) / 0.012) ** 2)
         >>> tw = 0.3 * np.exp(-0.5 * ((t - 0.7) / 0.04) ** 2)
         >>> w = np.stack([qrs + tw, 0.5 * (qrs + tw)], axis=1).astype(np.float32)
-        >>> marks, leads = delineate_representative(w, fs, 200, np.array([True, True]))
-        >>> 160 < marks.qrs_on < 200 < marks.qrs_off < 240, marks.t_off > 350
+        >>> m = delineate_median_beat(w, fs, 200, np.array([True, True]))
+        >>> 160 < m.marks.qrs_on < 200 < m.marks.qrs_off < 240, m.marks.t_off > 350
         (True, True)
     """
     wave = np.asarray(waveform_mv, dtype=np.float32)
@@ -86,22 +105,120 @@ def delineate_representative(
     usable = np.asarray(usable, dtype=bool)
     if n == 0 or not usable.any() or not 0 <= r_index < n:
         empty = WaveMarks()
-        return empty, tuple(empty for _ in range(n_leads))
+        return MedianBeatMarks(empty, tuple(empty for _ in range(n_leads)), empty)
     params = DelineationParams.for_fs(fs_hz)
+    rr = -1 if rr_samples is None else int(rr_samples)
+    # First on the classic window, R + min(900 ms, 0.65 RR): a T usually ends within it and
+    # the previous T mostly lies before the P search.
+    post = round(min(_CLASSIC_POST_S * fs_hz, _T_SOFT_RR * rr)) if rr > 0 else n - 1 - r_index
+    n1 = min(n, r_index + post + 1)
+    rr1 = rr if rr > 0 and post < round(_CLASSIC_POST_S * fs_hz) else -1
+    glob, lead, core, slow = _delineate_one(wave[:n1], fs_hz, r_index, usable, params, rr1, 0)
+    if rr > 0 and core[0, QRS_ON] >= 0 and core[0, T_OFF] >= 0:
+        q_on, q_off, t_end = (int(v) for v in core[0, [QRS_ON, QRS_OFF, T_OFF]])
+        k = round(_T_PINNED_S * fs_hz)
+        # A long QT: the T has not ended by the classic window's end, or the P found lies
+        # inside the previous beat's T (this beat's T end one RR back). Then once more on
+        # the whole window (to the next beat's P), the P sought after the previous T's main
+        # lobe and the T end allowed up to the next P.
+        unfinished = n1 < n and t_end >= n1 - 1 - k
+        lobe = _t_lobe_end(slow[:, usable], q_on, q_off, t_end, fs_hz)
+        if n1 < n and (unfinished or lobe < 0 or lobe >= n1 - 2):
+            # The lobe runs past the classic window: follow it on the whole window.
+            whole = prefilter(wave, fs_hz)["slow"]
+            lobe = _t_lobe_end(whole[:, usable], q_on, q_off, t_end, fs_hz)
+        p_lo = max(0, lobe - rr) if lobe >= 0 else 0
+        p_in_t = 0 <= int(glob[0, P_ON]) < p_lo - round(_P_IN_T_S * fs_hz)
+        if unfinished or p_in_t:
+            glob, lead, core, _ = _delineate_one(wave, fs_hz, r_index, usable, params, rr, p_lo)
+    return MedianBeatMarks(
+        _marks_from_row(glob[0]),
+        tuple(_marks_from_row(lead[0, j]) for j in range(n_leads)),
+        _marks_from_row(core[0]),
+    )
+
+
+def _delineate_one(
+    wave: np.ndarray,
+    fs_hz: float,
+    r_index: int,
+    usable: np.ndarray,
+    params: DelineationParams,
+    rr: int,
+    p_lo: int,
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """``delineate_block`` on one median-beat window; ``p_lo`` > 0: the P search starts there,
+    after the previous beat's T (``BlockBounds.p_after_t``). Also returns the window's 20 Hz
+    copy (``prefilter``'s "slow")."""
+    n = wave.shape[0]
     filt = prefilter(wave, fs_hz)
-    block = {k: v[None] for k, v in filt.items()}
     bounds = BlockBounds(
         r=np.array([r_index]),
         lo=np.array([0]),
         hi=np.array([n - 1]),
-        p_lo=np.array([0]),
+        p_lo=np.array([p_lo]),
         t_hi=np.array([n - 1]),
-        rr=np.array([_rep_rr_samples(n, r_index, fs_hz)]),
+        rr=np.array([rr]),
+        p_after_t=p_lo > 0,
     )
-    glob, lead = delineate_block(block, bounds, usable, params)
-    return _marks_from_row(glob[0]), tuple(_marks_from_row(lead[0, j]) for j in range(n_leads))
+    glob, lead, core = delineate_block(
+        {k: v[None] for k, v in filt.items()}, bounds, usable, params
+    )
+    return glob, lead, core, filt["slow"]
 
 
+def _t_lobe_end(slow: np.ndarray, qrs_on: int, qrs_off: int, t_end: int, fs_hz: float) -> int:
+    """Where the T wave's main lobe has fallen back near the baseline, window index (-1: none).
+
+    Found without the P wave, so it can bound the P search of a long QT whose previous T runs
+    into this beat's P window (a first T end ``t_end``, found under a next-P limit set by
+    such a false P, stops short of the true end): per lead, the largest deflection from the
+    PR level between QRS end + ``_T_LOBE_START_MS`` and ``t_end`` + ``_T_LOBE_AFTER_MS``;
+    the lobe ends at the first sample after it below ``_T_LOBE_FRAC`` of that deflection or
+    where the deflection grows again (a P or U wave fused with the T). The median over the
+    leads whose deflection is at least a third of the largest (this module's own rule;
+    common practice to read the T where it is clear).
+    """
+    n = slow.shape[0]
+    k = max(1, round(0.010 * fs_hz))
+    a = qrs_off + round(_T_LOBE_START_MS * fs_hz / 1000.0)
+    b = min(n - 2, t_end + round(_T_LOBE_AFTER_MS * fs_hz / 1000.0))
+    if qrs_on < 1 or not 0 <= a < b:
+        return -1
+    level = slow[max(0, qrs_on - k) : qrs_on].mean(axis=0)
+    y = np.abs(slow - level[None, :])
+    pk = a + np.argmax(y[a : b + 1], axis=0)
+    amp = y[pk, np.arange(y.shape[1])]
+    if not (amp > 0).any():
+        return -1
+    ends = []
+    for j in np.flatnonzero(amp >= amp.max() / 3.0):
+        seg = y[pk[j] :, j]
+        stop = (seg[:-1] < _T_LOBE_FRAC * amp[j]) | (np.diff(seg) > 0)
+        hit = np.flatnonzero(stop)
+        if hit.size:
+            ends.append(int(pk[j]) + int(hit[0]))
+    return int(np.median(ends)) if ends else -1
+
+
+def _anchor(rep: RepresentativeBeat) -> WaveMarks:
+    """The marks beats are aligned on and P windows are cut around (see ``align_marks``)."""
+    return rep.align_marks if rep.align_marks is not None else rep.marks
+
+
+# The classic median-beat window, R + min(_CLASSIC_POST_S, _T_SOFT_RR x RR): a T usually ends
+# within it (first delineation); a T end within _T_PINNED_S of its end is not over.
+_CLASSIC_POST_S = 0.90
+_T_SOFT_RR = 0.65
+_T_PINNED_S = 0.006
+# A P counts as inside the previous beat's T when it starts this long before that T's end.
+_P_IN_T_S = 0.010
+# The T wave's main lobe (``_t_lobe_end``): its peak sought from this long after QRS end to
+# this long after a first T end (ms); the lobe ends where the deflection falls below this
+# fraction of its peak.
+_T_LOBE_START_MS = 80.0
+_T_LOBE_AFTER_MS = 60.0
+_T_LOBE_FRAC = 0.05
 # Below this correlation with the median beat, a beat is delineated on its own.
 ALIGN_MIN_CORR = 0.5
 # Peaks follow the lag of a boundary of the same wave.
@@ -133,6 +250,7 @@ def _marks_from_rep(
     ui = np.flatnonzero(usable)
     rep_f = prefilter(np.asarray(rep.waveform_mv)[:, ui], fs_hz)
     rep_g = np.array([-1 if v is None else v for v in _mark_values(rep.marks)], dtype=np.int64)
+    anchor = np.array([-1 if v is None else v for v in _mark_values(_anchor(rep))])
     rep_l = np.array(
         [[-1 if v is None else v for v in _mark_values(m)] for m in rep.lead_marks], dtype=np.int64
     ).reshape(-1, N_MARKS)
@@ -143,9 +261,11 @@ def _marks_from_rep(
 
     lag_of = np.zeros((dom.size, N_MARKS), dtype=np.int64)
     for col, (before_ms, after_ms, lag_ms, key) in enumerate(ALIGN_SPEC):
-        m = int(rep_g[col])
-        if m < 0:
+        if rep_g[col] < 0:
             continue
+        # Matched around the multi-lead mark (where the wave is in most leads), not around
+        # the widened global one (the earliest / latest lead, often on a flat stretch).
+        m = int(anchor[col]) if anchor[col] >= 0 else int(rep_g[col])
         expected = r[dom] + (m - rep.r_index)
         lags, corr = align_lags(
             filt[key][:, ui],
@@ -218,7 +338,7 @@ def _zsegments(slow: np.ndarray, start: np.ndarray, length: int) -> tuple[np.nda
 
 def _rep_p_window(fs_hz: float, rep: RepresentativeBeat) -> tuple[int, int] | None:
     """P window (start, length) relative to R on the median beat, or None."""
-    m = rep.marks
+    m = _anchor(rep)
     if m.p_on is None or m.p_off is None:
         return None
     a = m.p_on - round(_P_PRE_MS * fs_hz / 1000.0) - rep.r_index
@@ -258,7 +378,7 @@ def _p_repeats(
     if corr < P_MIN_BEAT_CORR_CLEAR:
         return False, tmpl
     rep_slow = prefilter(np.asarray(rep.waveform_mv)[:, ui], fs_hz)["slow"]
-    seg = rep_slow[rep.marks.p_on : rep.marks.p_off + 1]
+    seg = rep_slow[_anchor(rep).p_on : _anchor(rep).p_off + 1]
     amp = float(np.abs(seg - np.linspace(seg[0], seg[-1], len(seg))).max()) if len(seg) else 0.0
     return amp >= P_CLEAR_MV, tmpl
 
@@ -330,7 +450,7 @@ def _odd_beats_without_p(
     if tmpl is None:  # too few dominant beats to judge: trust the beat's own P
         return out
     ui = np.flatnonzero(usable)
-    pre = rep.marks.p_on - rep.r_index - win[0]  # samples from window start to P onset
+    pre = _anchor(rep).p_on - rep.r_index - win[0]  # samples from window start to P onset
     z, ok = _zsegments(slow[:, ui], glob[odd, P_ON] - pre, win[1])
     out[np.flatnonzero(odd)] = ~ok | (z @ tmpl < P_ODD_MIN_CORR)
     return out
@@ -361,6 +481,7 @@ def representative_p_from_beats(
         rep,
         marks=replace(rep.marks, **no_p),
         lead_marks=tuple(replace(m, **no_p) for m in rep.lead_marks),
+        align_marks=None if rep.align_marks is None else replace(rep.align_marks, **no_p),
     )
 
 
@@ -484,7 +605,7 @@ def _delineate_own(
     # P of this beat starts after the previous beat's T: search at most 45 % of the RR back.
     p_lo = np.maximum(lo, pre - (0.45 * rr_prev).astype(int))
     bounds = BlockBounds(r=np.full(len(r), pre), lo=lo, hi=hi, p_lo=p_lo, t_hi=t_hi, rr=rr_next)
-    glob, lead = delineate_block(block, bounds, usable, params)
+    glob, lead, _ = delineate_block(block, bounds, usable, params)
     shift = (r - pre)[:, None]
     glob = np.where(glob >= 0, glob + shift, -1)
     lead = np.where(lead >= 0, lead + shift[:, :, None], -1)

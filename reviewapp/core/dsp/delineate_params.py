@@ -62,6 +62,26 @@ class DelineationParams:
     spike_width: int = 0  # a pacing spike's slope stays above half its peak at most this long
     spike_ratio: float = 2.5  # ... and peaks above this multiple of the QRS's steepest slope
     spike_delay: int = 0  # QRS onset this many samples after a pacing spike
+    # Global marks by the standard's definition (``delineate_global`` and
+    # ``delineate_core._standard_global``): earliest onset / latest end over the leads. Set on
+    # the odd-numbered LUDB records only (tests/dsp/reference_global.py); the even-numbered
+    # ones were held out.
+    standard_global: bool = True
+    glob_min_votes: int = 3  # fewer voting leads: the multi-lead marks stay
+    glob_qrs_agree: int = 0  # two leads' QRS marks this close confirm each other
+    glob_p_agree: int = 0  # ... P marks
+    glob_t_agree: int = 0  # ... T ends
+    glob_p_confirm: int = 2  # other leads that must confirm the earliest / latest P mark
+    glob_t_confirm: int = 1  # ... the latest T end (the QRS: one)
+    glob_qrs_slack: int = 0  # a lead's own QRS boundary is sought this far outside the spatial
+    glob_qrs_vote_frac: float = 0.3  # leads whose steepest QRS slope is >= this x the largest
+    glob_qrs_on_frac: float = 0.02  # a lead's QRS onset: slope below this x its first lobe
+    glob_qrs_off_frac: float = 0.045  # a lead's QRS end: slope below this x its last lobe
+    glob_lead_min_mv: float = 0.005  # a lead widens the QRS only if it moves this much there
+    glob_lead_noise_mult: float = 3.0  # ... and this many times its noise SD
+    glob_lead_size_frac: float = 0.0  # ... and this fraction of its peak-to-peak size
+    glob_p_vote_frac: float = 0.15  # leads whose P is >= this x the largest lead's P vote
+    glob_t_vote_frac: float = 0.15  # leads whose T is >= this x the largest lead's T vote
 
     @classmethod
     def for_fs(cls, fs_hz: float, **overrides: float) -> DelineationParams:
@@ -99,6 +119,10 @@ DURATIONS_MS: dict[str, float] = {
     "spike_after": 40,
     "spike_width": 8,
     "spike_delay": 10,
+    "glob_qrs_agree": 8,
+    "glob_p_agree": 6,
+    "glob_t_agree": 20,
+    "glob_qrs_slack": 80,
 }
 
 
@@ -112,3 +136,6 @@ class BlockBounds:
     p_lo: np.ndarray  # earliest P onset allowed
     t_hi: np.ndarray  # latest T end allowed
     rr: np.ndarray | None = None  # RR to the next beat, samples (<= 0 unknown)
+    # p_lo lies after the previous beat's T (found from its T, not guessed): the P found is
+    # trusted and the T end may reach the next P (this beat's PR carried one RR on).
+    p_after_t: bool = False

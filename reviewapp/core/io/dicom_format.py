@@ -164,7 +164,8 @@ def _read_group(
         )
     raw = np.frombuffer(raw_bytes[:need], dtype=dtype).reshape(n_s, n_ch)
     out = np.empty((n_s, n_ch), dtype=np.float64)
-    names, leads = [], []
+    names: list[str] = []
+    leads: list[tuple[float, int | None, int]] = []  # ADC gain per mV, baseline, bits
     assumed = []
     for k, ch in enumerate(channels):
         sens = _number(ch, "ChannelSensitivity", 1.0, path, k)
@@ -186,10 +187,10 @@ def _read_group(
         step_mv = sens * corr * factor
         b = -base / (sens * corr)
         leads.append(
-            dict(
-                adc_gain_per_mv=1.0 / step_mv,
-                adc_baseline=int(b) if float(b).is_integer() else None,
-                adc_resolution_bits=int(ch.get("WaveformBitsStored", bits) or bits),
+            (
+                1.0 / step_mv,
+                int(b) if float(b).is_integer() else None,
+                int(ch.get("WaveformBitsStored", bits) or bits),
             )
         )
     if assumed:
@@ -200,8 +201,15 @@ def _read_group(
         )
     data = frozen_mv(out, path, "sensitivity or baseline give values beyond any voltage")
     lead_infos = [
-        LeadInfo(name=n, original_name=n, units="mV", **facts)
-        for n, facts in zip(unique_names(names), leads, strict=True)
+        LeadInfo(
+            name=n,
+            original_name=n,
+            units="mV",
+            adc_gain_per_mv=gain,
+            adc_baseline=baseline,
+            adc_resolution_bits=bits_stored,
+        )
+        for n, (gain, baseline, bits_stored) in zip(unique_names(names), leads, strict=True)
     ]
     return build_record(
         name=path.stem,

@@ -632,7 +632,7 @@ def subject_from_header(header: wfdb.Record | wfdb.MultiRecord) -> SubjectFacts:
             subject_id = m.group(1).strip()
             continue
         age_line = age is None and (m_age := _AGE.match(line)) is not None
-        if age_line:
+        if age_line and m_age is not None:
             age = float(m_age.group(1))
         if sex is None and (m := _SEX.search(line)):  # may share the line with the age
             sex = _sex(m.group(1))
@@ -654,7 +654,7 @@ def subject_from_header(header: wfdb.Record | wfdb.MultiRecord) -> SubjectFacts:
     base_time = getattr(header, "base_time", None)
     if isinstance(base_date, date):
         time_known = isinstance(base_time, time)
-        acquired = datetime.combine(base_date, base_time if time_known else time())
+        acquired = datetime.combine(base_date, base_time if isinstance(base_time, time) else time())
     return SubjectFacts(
         subject_id=subject_id,
         age_years=age,

@@ -7,12 +7,15 @@ stem, e.g. ``1.hea`` -> ``1.marks.json``). UTF-8, keys sorted, indent 2, one val
 so it reads and diffs well. Times are seconds from record start, rounded to the record's
 sample grid (``round(t * fs) / fs``); representative-beat times are seconds relative to the
 representative beat's R (negative before R); ``null`` means absent. The format is versioned
-(``schema_version``, now 1) and described by the JSON Schema ``sidecar.schema.json`` in this
-package; every load and every save is validated against it.
+(``schema_version``, now 2) and described by the JSON Schema ``sidecar.schema.json`` in this
+package; every load and every save is validated against it. A version-1 file (before the
+reader's interpretation statements) is validated against ``sidecar-1.schema.json``, migrated
+in memory (every reading gets an empty statement list; every mark, caliper, note, status and
+audit event stays as it was) and written as version 2 with the next change.
 
 Top-level fields
 ----------------
-- ``format``: always ``"reviewapp-marks"``; ``schema_version``: 1.
+- ``format``: always ``"reviewapp-marks"``; ``schema_version``: 2.
 - ``record``: ``name``, ``fingerprint`` (``"sha256:<hex>"`` over the header and every signal
   file it names, or the one source file; ``"sha256-signal:<hex>"`` over the samples for a
   record without a file), ``fs_hz``, ``n_samples``, ``lead_names``. A sidecar whose
@@ -25,10 +28,14 @@ Top-level fields
   ``overrides`` (``scope`` representative|beat, ``fiducial``, ``beat_r_s`` for a beat,
   ``lead`` or null for global, ``old_s`` (the automatic value replaced) and ``new_s``),
   ``calipers`` (``id``, ``kind`` time|amplitude, ``lead``, ``t1_s``, ``t2_s``, ``v1_mv``,
-  ``v2_mv``, ``label``) and ``notes`` (``id``, ``text``).
+  ``v2_mv``, ``label``), ``notes`` (``id``, ``text``) and ``statements``, the reader's
+  interpretation in their order (``id``, ``code`` from ``core.interpret.catalogue`` or
+  ``other.free_text``, ``text`` as the reader keeps it, ``origin`` automatic|catalogue|
+  free_text|reader and ``from_reader`` for a statement adopted from another reading).
 - ``audit``: append-only list of events: ``id``, ``at`` (UTC ISO 8601), ``reviewer``,
   ``action`` (move_fiducial, reset_fiducial, add/move/delete_caliper, add/edit/delete_note,
-  set_status, sign_off, adjudicate, set_automatic, reopen, restore_sign_off, merge, and
+  set_status, sign_off, adjudicate, add/edit/delete/move_statement, set_automatic, reopen,
+  restore_sign_off, merge, and
   ``undo:<action>`` / ``redo:<action>``), ``target`` (what changed), ``old``, ``new``.
 - ``listing_cache`` (optional, written by ``reviewapp batch``): a few global values computed
   from the automatic marks (``hr_bpm``, ``pr_ms``, ``qrs_ms``, ``qt_ms``, ``qtc_*_ms``,
@@ -73,6 +80,9 @@ Example (a complete, schema-valid file; a real one has an event for every change
           "role": "first",
           "signed_off_at": "2026-12-02T00:52:06.807307Z",
           "signed_off_by": "reader1",
+          "statements": [{"code": "rhythm.sinus", "from_reader": null,
+                          "id": "9f1c2a7be0d34c55", "origin": "automatic",
+                          "text": "sinus rhythm"}],
           "status": "signed_off"
         }
       },
@@ -84,7 +94,7 @@ Example (a complete, schema-valid file; a real one has an event for every change
         "n_samples": 5000,
         "name": "demo"
       },
-      "schema_version": 1
+      "schema_version": 2
     }
 
 Never losing a mark
@@ -147,7 +157,13 @@ from reviewapp.core.marks.commands import (
     SetStatus,
     UndoStack,
 )
-from reviewapp.core.marks.compare import Comparison, ComparisonRow, compare_readings
+from reviewapp.core.marks.compare import (
+    Comparison,
+    ComparisonRow,
+    StatementRow,
+    compare_readings,
+    compare_statements,
+)
 from reviewapp.core.marks.convert import (
     automatic_from_analysis,
     override_from_mark,
@@ -178,6 +194,7 @@ from reviewapp.core.marks.model import (
     FiducialTimes,
     Note,
     Override,
+    ReaderStatement,
     RecordIdentity,
     RepresentativeTimes,
     ReviewerReading,
@@ -218,6 +235,7 @@ __all__ = [
     "Note",
     "Override",
     "ReadOnlyError",
+    "ReaderStatement",
     "RecordIdentity",
     "RepresentativeTimes",
     "ReviewerReading",
@@ -226,6 +244,7 @@ __all__ = [
     "SetOverride",
     "SetStatus",
     "Sidecar",
+    "StatementRow",
     "TakenOverError",
     "UndoStack",
     "UnreadableSidecarError",
@@ -233,6 +252,7 @@ __all__ = [
     "backup_path_for",
     "blinded_view",
     "compare_readings",
+    "compare_statements",
     "load_sidecar",
     "merge_sidecars",
     "override_from_mark",

@@ -3,7 +3,13 @@
 Every failure becomes an ``UnreadableSidecarError`` naming the file: size above
 ``MAX_SIDECAR_BYTES``, not UTF-8, nesting deeper than ``MAX_DEPTH``, NaN/Infinity or numbers
 too large for a float, duplicate keys, invalid JSON, a future schema version, or anything the
-JSON Schema (``sidecar.schema.json``) rejects. Output is diff-friendly: sorted keys, indent 2.
+JSON Schema of its version rejects. Output is diff-friendly: sorted keys, indent 2.
+
+Versions: a file is checked against the schema of the version it declares
+(``sidecar-1.schema.json`` for version 1, ``sidecar.schema.json`` for the current one), then
+migrated to the current version (``migrate_document``: version 1 -> 2 gives every reading an
+empty statement list, every other value as it was). Only the current version is written, so
+a version-1 file opens, keeps every mark and is saved as version 2 with its next change.
 """
 
 from __future__ import annotations
@@ -11,7 +17,7 @@ from __future__ import annotations
 import hashlib
 import json
 import math
-from collections.abc import Callable
+from collections.abc import Callable, Iterable
 from functools import cache
 from importlib import resources
 from pathlib import Path
@@ -22,6 +28,7 @@ from reviewapp.core.errors import MarksError
 from reviewapp.core.marks.errors import FutureVersionError, UnreadableSidecarError
 from reviewapp.core.marks.model import (
     FORMAT_NAME,
+    READABLE_VERSIONS,
     SCHEMA_VERSION,
     AuditEvent,
     AutomaticMarks,
@@ -35,17 +42,39 @@ from reviewapp.core.marks.model import (
 MAX_SIDECAR_BYTES = 50 * 1024 * 1024
 MAX_DEPTH = 32
 SCHEMA_FILE = "sidecar.schema.json"
+SCHEMA_FILES: dict[int, str] = {1: "sidecar-1.schema.json", SCHEMA_VERSION: SCHEMA_FILE}
 
 
 @cache
-def schema() -> dict[str, Any]:
-    """The JSON Schema of the current sidecar version (shipped as package data)."""
-    text = resources.files("reviewapp.core.marks").joinpath(SCHEMA_FILE).read_text("utf-8")
+def schema(version: int = SCHEMA_VERSION) -> dict[str, Any]:
+    """The JSON Schema of a sidecar version (shipped as package data; default: current)."""
+    name = SCHEMA_FILES[version]
+    text = resources.files("reviewapp.core.marks").joinpath(name).read_text("utf-8")
     return json.loads(text)
 
 
+def migrate_document(doc: dict[str, Any]) -> dict[str, Any]:
+    """A schema-valid document of an older version, as the current version (a new dict;
+    ``doc`` is not changed). Version 1 -> 2: every reading gets ``"statements": []``.
+
+    >>> old = {"schema_version": 1, "readings": {"r1": {"notes": []}}, "audit": []}
+    >>> new = migrate_document(old)
+    >>> new["schema_version"], new["readings"]["r1"]["statements"]
+    (2, [])
+    >>> "statements" in old["readings"]["r1"]
+    False
+    """
+    version = doc.get("schema_version")
+    if version == SCHEMA_VERSION:
+        return doc
+    if version != 1:
+        raise ValueError(f"no migration from schema version {version!r}")
+    readings = {k: {**r, "statements": []} for k, r in doc["readings"].items()}
+    return {**doc, "schema_version": 2, "readings": readings}
+
+
 @cache
-def _validator() -> Any:
+def _validator(version: int = SCHEMA_VERSION) -> Any:
     """The schema's validator, built once per process (format checks off, as before).
 
     It checks the schema with ``$defs`` references written in place: the same constraints,
@@ -54,7 +83,7 @@ def _validator() -> Any:
     """
     import jsonschema
 
-    return jsonschema.Draft202012Validator(inline_refs(schema()))
+    return jsonschema.Draft202012Validator(inline_refs(schema(version)))
 
 
 def inline_refs(doc: dict[str, Any]) -> dict[str, Any]:
@@ -266,11 +295,11 @@ def _keyword(key: str, arg: Any, node: dict[str, Any], props: dict[str, Any]) ->
 
 
 @cache
-def _fast_check() -> Check | None:
+def _fast_check(version: int = SCHEMA_VERSION) -> Check | None:
     """The compiled check of the inlined schema; None if it uses a keyword not covered."""
     try:
         # a "$ref" left in (inlining declined) is an unknown keyword: all goes to jsonschema
-        return compile_check(inline_refs(schema()))
+        return compile_check(inline_refs(schema(version)))
     except (LookupError, TypeError, re_error):
         return None
 
@@ -285,6 +314,7 @@ def nesting_depth(doc: Any) -> int:
     stack: list[tuple[Any, int]] = [(doc, 1)]
     while stack:
         node, depth = stack.pop()
+        children: Iterable[Any]
         if isinstance(node, dict):
             children = node.values()
         elif isinstance(node, list):
@@ -352,40 +382,44 @@ def parse_bytes(data: bytes, path: Path | None) -> dict[str, Any]:
 
 
 def validate_document(doc: Any, path: Path | None) -> dict[str, Any]:
-    """Check format, version and schema; returns ``doc`` unchanged when valid."""
+    """Check format, version and the schema of that version; returns the document as the
+    current version (``doc`` itself when it is current, else ``migrate_document(doc)``)."""
     if not isinstance(doc, dict):
         raise UnreadableSidecarError("marks file does not hold a JSON object", path)
     if doc.get("format") != FORMAT_NAME:
         raise UnreadableSidecarError(
             f"not a reviewapp marks file (format field is {_short(doc.get('format'))})", path
         )
-    version = doc.get("schema_version")
-    if isinstance(version, int) and not isinstance(version, bool) and version > SCHEMA_VERSION:
+    raw = doc.get("schema_version")
+    version = raw if isinstance(raw, int) and not isinstance(raw, bool) else None
+    if version is not None and version > SCHEMA_VERSION:
         raise FutureVersionError(
             f"marks file has schema version {version}, written by a newer reviewapp; this one "
             f"reads up to version {SCHEMA_VERSION}. Open it with the newer version",
             path,
         )
-    fast = _fast_check()
+    # Any other value is checked against the current schema, which refuses it by name.
+    checked = version if version in READABLE_VERSIONS else SCHEMA_VERSION
+    fast = _fast_check(checked)
     try:
         if fast is not None and fast(doc):
-            return doc
+            return migrate_document(doc)
     except RecursionError:
         raise UnreadableSidecarError("marks file nests too deeply", path) from None
     from jsonschema.exceptions import best_match
 
     try:
-        error = best_match(_validator().iter_errors(doc))
+        error = best_match(_validator(checked).iter_errors(doc))
     except RecursionError:
         raise UnreadableSidecarError("marks file nests too deeply", path) from None
     if error is not None:
         where = "/".join(str(p) for p in error.absolute_path) or "(top level)"
         raise UnreadableSidecarError(
-            f"marks file does not match schema version {SCHEMA_VERSION} at {_short(where)}: "
+            f"marks file does not match schema version {checked} at {_short(where)}: "
             f"{_short(error.message)}",
             path,
         )
-    return doc
+    return migrate_document(doc)
 
 
 def decode(data: bytes, path: Path | None) -> Sidecar:

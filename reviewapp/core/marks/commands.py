@@ -21,12 +21,14 @@ from reviewapp.core.marks.model import (
     Note,
     Override,
     OverrideKey,
+    ReaderStatement,
     ReviewerReading,
     Status,
     caliper_to_json,
     key_text,
     note_to_json,
     override_to_json,
+    statement_to_json,
 )
 
 StatusTriple = tuple[Status, str | None, str | None]  # status, signed_off_by, signed_off_at
@@ -191,6 +193,82 @@ class SetNote(Command):
 
     def _backward(self, r: ReviewerReading) -> ReviewerReading:
         return replace(r, notes=_swap(r.notes, self.note_id, self.after, self.before, self.index))
+
+
+@dataclass(frozen=True)
+class SetStatement(Command):
+    """Add (before None), edit, or delete (after None) one interpretation statement at
+    ``index`` of the reader's list."""
+
+    before: ReaderStatement | None
+    after: ReaderStatement | None
+    index: int
+
+    @property
+    def statement_id(self) -> str:
+        x = self.after or self.before
+        assert x is not None
+        return x.id
+
+    @property
+    def target(self) -> str:
+        x = self.after or self.before
+        assert x is not None
+        return f"statement {x.id} ({x.text[:80]})"
+
+    def old_value(self) -> Any:
+        return None if self.before is None else statement_to_json(self.before)
+
+    def new_value(self) -> Any:
+        return None if self.after is None else statement_to_json(self.after)
+
+    def _forward(self, r: ReviewerReading) -> ReviewerReading:
+        return replace(
+            r,
+            statements=_swap(r.statements, self.statement_id, self.before, self.after, self.index),
+        )
+
+    def _backward(self, r: ReviewerReading) -> ReviewerReading:
+        return replace(
+            r,
+            statements=_swap(r.statements, self.statement_id, self.after, self.before, self.index),
+        )
+
+
+@dataclass(frozen=True)
+class MoveStatement(Command):
+    """Move one statement from position ``old_index`` to ``new_index`` of the reader's list."""
+
+    statement_id: str
+    old_index: int
+    new_index: int
+
+    @property
+    def target(self) -> str:
+        return f"statement {self.statement_id} (order)"
+
+    def old_value(self) -> Any:
+        return {"id": self.statement_id, "index": self.old_index}
+
+    def new_value(self) -> Any:
+        return {"id": self.statement_id, "index": self.new_index}
+
+    def _move(self, r: ReviewerReading, src: int, dst: int) -> ReviewerReading:
+        items = list(r.statements)
+        if not 0 <= src < len(items) or items[src].id != self.statement_id:
+            raise MarksError(
+                f"cannot move statement {self.statement_id}: the list changed since the edit "
+                "was made"
+            )
+        item = items.pop(src)
+        items.insert(min(max(dst, 0), len(items)), item)
+        return replace(r, statements=tuple(items))
+
+    def _forward(self, r: ReviewerReading) -> ReviewerReading:
+        return self._move(r, self.old_index, self.new_index)
+
+    def _backward(self, r: ReviewerReading) -> ReviewerReading:
+        return self._move(r, self.new_index, self.old_index)
 
 
 @dataclass(frozen=True)

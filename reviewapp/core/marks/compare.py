@@ -14,7 +14,7 @@ from typing import TYPE_CHECKING
 
 from reviewapp.core.fiducials import FIDUCIALS
 from reviewapp.core.marks.convert import overrides_for
-from reviewapp.core.marks.model import ReviewerReading
+from reviewapp.core.marks.model import ReaderStatement, ReviewerReading
 
 if TYPE_CHECKING:
     from reviewapp.core.engine import Analysis
@@ -138,3 +138,50 @@ def compare_readings(
         b_val = getattr(ib, name, None)
         rows.append(_row(name, "interval", a_val, b_val, tol.get(name), "computed", "computed"))
     return Comparison(reading_a.reviewer, reading_b.reviewer, tuple(rows))
+
+
+@dataclass(frozen=True)
+class StatementRow:
+    """One statement of either reader's interpretation, matched on its key
+    (``ReaderStatement.key``: the catalogue code, or the words of free text). ``agree``: both
+    readers state it; ``text_a``/``text_b`` as each wrote it (None: not stated)."""
+
+    key: str
+    code: str
+    text_a: str | None
+    text_b: str | None
+
+    @property
+    def agree(self) -> bool:
+        return self.text_a is not None and self.text_b is not None
+
+    @property
+    def verdict(self) -> str:
+        """ "agree", "agree, worded differently" or "differ: only A" / "differ: only B"."""
+        if self.agree:
+            same = (self.text_a or "").strip().lower() == (self.text_b or "").strip().lower()
+            return "agree" if same else "agree, worded differently"
+        return "differ: only A" if self.text_a is not None else "differ: only B"
+
+
+def compare_statements(
+    reading_a: ReviewerReading, reading_b: ReviewerReading
+) -> tuple[StatementRow, ...]:
+    """Both readers' interpretations statement by statement: A's order, then what only B
+    states. Example: ``[r.verdict for r in compare_statements(first, second)]``."""
+    by_b: dict[str, ReaderStatement] = {}
+    for x in reading_b.statements:
+        by_b.setdefault(x.key, x)
+    rows: list[StatementRow] = []
+    seen: set[str] = set()
+    for x in reading_a.statements:
+        if x.key in seen:
+            continue
+        seen.add(x.key)
+        other = by_b.get(x.key)
+        rows.append(StatementRow(x.key, x.code, x.text, None if other is None else other.text))
+    for x in reading_b.statements:
+        if x.key not in seen:
+            seen.add(x.key)
+            rows.append(StatementRow(x.key, x.code, None, x.text))
+    return tuple(rows)

@@ -101,7 +101,7 @@ def _pid_alive_windows(pid: int) -> bool:
     kernel32 = ctypes.WinDLL("kernel32", use_last_error=True)  # type: ignore[attr-defined]
     handle = kernel32.OpenProcess(0x1000, False, pid)  # PROCESS_QUERY_LIMITED_INFORMATION
     if not handle:
-        return ctypes.get_last_error() == 5  # ERROR_ACCESS_DENIED: exists, not ours
+        return ctypes.get_last_error() == 5  # type: ignore[attr-defined]  # Windows only  # ERROR_ACCESS_DENIED: exists, not ours
     try:
         code = ctypes.c_ulong()
         if not kernel32.GetExitCodeProcess(handle, ctypes.byref(code)):

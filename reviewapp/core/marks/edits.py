@@ -17,14 +17,24 @@ from reviewapp.core.fiducials import FIDUCIALS, MarkOverride
 from reviewapp.core.marks.commands import (
     Command,
     Composite,
+    MoveStatement,
     SetCaliper,
     SetNote,
     SetOverride,
+    SetStatement,
     SetStatus,
     status_of,
 )
 from reviewapp.core.marks.convert import override_from_mark
-from reviewapp.core.marks.model import AutomaticMarks, Caliper, Note, Override, ReviewerReading
+from reviewapp.core.marks.model import (
+    AutomaticMarks,
+    Caliper,
+    Note,
+    Override,
+    ReaderStatement,
+    ReviewerReading,
+    StatementOrigin,
+)
 
 # Which fiducials bound each interval (adopted together when adjudicating an interval).
 INTERVAL_ENDS: dict[str, tuple[str, str]] = {
@@ -218,6 +228,72 @@ class Edits:
         if before is None:
             raise MarksError(f"no note {note_id!r}")
         return SetNote("delete_note", status_of(r), before, None, r.notes.index(before))
+
+    # --- interpretation statements --------------------------------------------------------
+
+    def add_statement(
+        self,
+        code: str,
+        text: str,
+        *,
+        origin: StatementOrigin = "catalogue",
+        from_reader: str | None = None,
+        index: int | None = None,
+    ) -> SetStatement:
+        """A new statement (catalogue ``code``, ``other.free_text`` for the reader's own
+        words) at ``index`` (default: the end of the list)."""
+        text = str(text).strip()
+        if not text:
+            raise MarksError("a statement needs text")
+        r = self._reading
+        x = ReaderStatement(new_id(), str(code), text, origin, from_reader)
+        at = len(r.statements) if index is None else max(0, min(int(index), len(r.statements)))
+        return SetStatement("add_statement", status_of(r), None, x, at)
+
+    def add_statements(
+        self, items: list[tuple[str, str]], *, origin: StatementOrigin, name: str
+    ) -> Command:
+        """Several statements ((code, text) pairs) added at the end as one edit."""
+        r = self._reading
+        parts: list[Command] = []
+        for k, (code, text) in enumerate(items):
+            x = ReaderStatement(new_id(), str(code), str(text).strip(), origin, None)
+            parts.append(
+                SetStatement("add_statement", status_of(r), None, x, len(r.statements) + k)
+            )
+        return Composite("add_statement", status_of(r), tuple(parts), name)
+
+    def edit_statement(self, statement_id: str, text: str) -> SetStatement:
+        """New text of one statement (its code and origin stay)."""
+        text = str(text).strip()
+        if not text:
+            raise MarksError("a statement needs text; delete it instead")
+        r = self._reading
+        before = r.statement(statement_id)
+        if before is None:
+            raise MarksError(f"no statement {statement_id!r}")
+        after = replace(before, text=text)
+        return SetStatement(
+            "edit_statement", status_of(r), before, after, r.statements.index(before)
+        )
+
+    def delete_statement(self, statement_id: str) -> SetStatement:
+        r = self._reading
+        before = r.statement(statement_id)
+        if before is None:
+            raise MarksError(f"no statement {statement_id!r}")
+        return SetStatement(
+            "delete_statement", status_of(r), before, None, r.statements.index(before)
+        )
+
+    def move_statement(self, statement_id: str, new_index: int) -> MoveStatement:
+        r = self._reading
+        before = r.statement(statement_id)
+        if before is None:
+            raise MarksError(f"no statement {statement_id!r}")
+        old = r.statements.index(before)
+        new = max(0, min(int(new_index), len(r.statements) - 1))
+        return MoveStatement("move_statement", status_of(r), statement_id, old, new)
 
     # --- status ---------------------------------------------------------------------------
 

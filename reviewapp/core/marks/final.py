@@ -41,6 +41,14 @@ only). Its ``ValueSource`` is ``adjudicated`` if the adjudicator set any of thos
 signed the reading as the one who accepted it). An adjudicated source also lists the readers
 whose mark the adjudicator's equals.
 
+Statements
+----------
+The final interpretation follows the same rule as a whole list (an interpretation is read
+together, not merged statement by statement): a signed adjudication's own statements if it
+has any (each ``adjudicated``, with the readers who stated the same listed in ``equal_to``),
+else the chosen reading's (``reader``), else the engine's statements on the final marks
+(``automatic``; never "accepted" by a reader who left no interpretation of their own).
+
 Readers differ
 --------------
 Every pair of signed first/second readings is compared with ``compare_readings`` on the
@@ -169,6 +177,16 @@ class FinalValue:
 
 
 @dataclass(frozen=True)
+class FinalStatement:
+    """One statement of the final interpretation and where it came from."""
+
+    code: str
+    text: str
+    category: str
+    source: ValueSource
+
+
+@dataclass(frozen=True)
 class ReaderSummary:
     reviewer: str
     role: str
@@ -228,6 +246,7 @@ class FinalReading:
     overrides: tuple[MarkOverride, ...]
     reading: Reading
     automatic_reading: Reading
+    statements: tuple[FinalStatement, ...] = ()
 
     @property
     def not_signed(self) -> bool:
@@ -444,6 +463,7 @@ def resolve_final(
             )
         )
 
+    statements = _final_statements(adj, base, others, final_reading, analysis, engine_version)
     if adj is not None:
         status: RecordStatus = "adjudicated"
         over = f" over {base.reviewer}'s {_state_words(base)} reading" if base else ""
@@ -472,7 +492,40 @@ def resolve_final(
         overrides=tuple(overrides),
         reading=final_reading,
         automatic_reading=auto_reading,
+        statements=statements,
     )
+
+
+def _final_statements(
+    adj: ReviewerReading | None,
+    base: ReviewerReading | None,
+    others: list[ReviewerReading],
+    final_reading: Reading,
+    analysis: Analysis,
+    engine_version: str,
+) -> tuple[FinalStatement, ...]:
+    """The final interpretation (see "Statements" in the module docstring)."""
+    from reviewapp.core.interpret import CATALOGUE, interpret
+
+    def category(code: str) -> str:
+        d = CATALOGUE.get(code)
+        return "other" if d is None else d.category
+
+    if adj is not None and adj.statements:
+        out = []
+        for x in adj.statements:
+            equal = tuple(r.reviewer for r in others if any(y.key == x.key for y in r.statements))
+            src = ValueSource(
+                "adjudicated", engine_version, adj.reviewer, adj.role, True, (), equal
+            )
+            out.append(FinalStatement(x.code, x.text, category(x.code), src))
+        return tuple(out)
+    if base is not None and base.statements:
+        src = ValueSource("reader", engine_version, base.reviewer, base.role, _signed(base))
+        return tuple(FinalStatement(x.code, x.text, category(x.code), src) for x in base.statements)
+    auto = interpret(final_reading, analysis.record.subject)
+    src = ValueSource("automatic", engine_version)
+    return tuple(FinalStatement(x.code, x.line, x.category, src) for x in auto.statements)
 
 
 def _role_order(role: str) -> int:

@@ -14,10 +14,13 @@ JSON: ``reviewapp measure --final --format json`` prints the usual measure objec
   two signed readers differ on (``{item, reviewer_a, reviewer_b, a_ms, b_ms, tolerance_ms,
   text}``); ``tolerances_ms`` and ``tolerance_source``.
 - ``engine_version``; ``notes``: e.g. an unsigned adjudication that was not applied.
+- ``statements``: the final interpretation, ``[{code, text, category, source}]`` (``source``
+  as for values: automatic, the reader's, or adjudicated with ``equal_to``).
 
 CSV: the measure columns (final values), then for each value ``<name>_source`` and
 ``auto_<name>``, then ``status``, ``readers``, ``basis``, ``flag_not_signed``,
-``flag_readers_differ``, ``flag_no_adjudication``, ``differences``.
+``flag_readers_differ``, ``flag_no_adjudication``, ``differences``, ``final_statements``
+(texts joined by "; ") and ``final_statements_source``.
 """
 
 from __future__ import annotations
@@ -103,6 +106,19 @@ FINAL_JSON_SCHEMA: dict[str, Any] = {
         "tolerance_source": {"type": "string"},
         "engine_version": {"type": "string"},
         "notes": {"type": "array", "items": {"type": "string"}},
+        "statements": {
+            "type": "array",
+            "items": {
+                "type": "object",
+                "required": ["code", "text", "category", "source"],
+                "properties": {
+                    "code": {"type": "string"},
+                    "text": {"type": "string"},
+                    "category": {"type": "string"},
+                    "source": _source,
+                },
+            },
+        },
     },
 }
 
@@ -157,6 +173,10 @@ def final_to_dict(final: FinalReading) -> dict[str, Any]:
         "tolerance_source": TOLERANCE_SOURCE,
         "engine_version": final.engine_version,
         "notes": list(final.notes),
+        "statements": [
+            {"code": x.code, "text": x.text, "category": x.category, "source": x.source.to_dict()}
+            for x in final.statements
+        ],
     }
 
 
@@ -182,6 +202,8 @@ PROVENANCE_COLUMNS: tuple[str, ...] = (
     "readers",
     "basis",
     *FLAG_COLUMNS,
+    "final_statements",
+    "final_statements_source",
 )
 
 
@@ -203,6 +225,9 @@ def provenance_columns(final_d: Mapping[str, Any] | None) -> dict[str, Any]:
         flag_no_adjudication=_yes(flags["no_adjudication"]),
         differences="; ".join(d["text"] for d in final_d["differences"]),
     )
+    stmts = final_d.get("statements") or []
+    row["final_statements"] = "; ".join(x["text"] for x in stmts)
+    row["final_statements_source"] = "; ".join(dict.fromkeys(x["source"]["text"] for x in stmts))
     return row
 
 
@@ -256,5 +281,9 @@ def final_table_text(final_d: Mapping[str, Any]) -> str:
     if final_d["differences"]:
         lines.append(f"Tolerance: {final_d['tolerance_source']}")
     lines += [f"Note: {n}" for n in final_d.get("notes", ())]
+    stmts = final_d.get("statements") or []
+    if stmts:
+        lines.append("Final interpretation:")
+        lines += [f"  - {x['text']}  [{x['source']['text']}]" for x in stmts]
     lines.append(f"Precedence: {PRECEDENCE}")
     return "\n".join(lines) + "\n"

@@ -1,7 +1,8 @@
 """Three-way merge of two sidecars that both grew from one loaded version.
 
 Items are merged one by one: each override (by target: scope, beat, lead, fiducial), each
-caliper and note (by id), each reading's status and role, and the automatic marks. An item
+caliper and note (by id), each reading's status and role, its interpretation statements (the
+ordered list as one item: an order is not merged piece by piece), and the automatic marks. An item
 changed on one side only takes that side's value; changed on both sides to different values it
 is a conflict and nothing is merged. The audit trail is append-only, so the merged trail is
 theirs followed by our events that they do not have.
@@ -37,6 +38,7 @@ def _items(r: ReviewerReading | None) -> dict[Hashable, Any]:
     out.update({("override", o.key): o for o in r.overrides})
     out.update({("caliper", c.id): c for c in r.calipers})
     out.update({("note", n.id): n for n in r.notes})
+    out[("statements",)] = r.statements
     return out
 
 
@@ -46,6 +48,8 @@ def _describe(reviewer: str, key: Hashable) -> str:
         return f"{reviewer}: {key_text(key[1])}"  # type: ignore[index]
     if kind in ("caliper", "note"):
         return f"{reviewer}: {kind} {key[1]}"  # type: ignore[index]
+    if kind == "statements":
+        return f"{reviewer}: interpretation statements"
     return f"{reviewer}: reading {kind}"
 
 
@@ -108,6 +112,7 @@ def _merge_reading(
         signed_off_at=status[2],
         calipers=calipers,
         notes=notes,
+        statements=merged.get(("statements",), ()),
     )
 
 

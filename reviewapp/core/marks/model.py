@@ -13,12 +13,17 @@ from typing import Any, Literal
 
 from reviewapp.core.fiducials import FIDUCIALS
 
-SCHEMA_VERSION = 1
+SCHEMA_VERSION = 2
+# Versions this program reads: older ones are migrated on reading (codec.migrate_document).
+READABLE_VERSIONS: tuple[int, ...] = (1, 2)
 FORMAT_NAME = "reviewapp-marks"
 
 Status = Literal["unread", "in_progress", "signed_off"]
 Role = Literal["first", "second", "adjudicator"]
 CaliperKind = Literal["time", "amplitude"]
+StatementOrigin = Literal["automatic", "catalogue", "free_text", "reader"]
+# The catalogue code of a statement in the reader's own words (``core.interpret.catalogue``).
+FREE_TEXT_CODE = "other.free_text"
 STATUSES: tuple[str, ...] = ("unread", "in_progress", "signed_off")
 ROLES: tuple[str, ...] = ("first", "second", "adjudicator")
 
@@ -151,6 +156,37 @@ class Note:
 
 
 @dataclass(frozen=True)
+class ReaderStatement:
+    """One statement of a reader's interpretation (their order is the list's).
+
+    code: the catalogue code (``core.interpret.catalogue``; ``other.free_text`` for the
+        reader's own words). text: the statement as the reader keeps it (edited or not).
+    origin: "automatic" (the engine's statement taken over), "catalogue" (picked), "free_text"
+        (typed) or "reader" (adopted from another reader's reading: ``from_reader``).
+    """
+
+    id: str
+    code: str
+    text: str
+    origin: StatementOrigin = "catalogue"
+    from_reader: str | None = None
+
+    @property
+    def key(self) -> str:
+        """What two readers' statements are matched on: the catalogue code, or for free text
+        the words themselves (case and spacing ignored).
+
+        >>> ReaderStatement("a", "rhythm.sinus", "Sinus rhythm, 62 bpm").key
+        'rhythm.sinus'
+        >>> ReaderStatement("b", FREE_TEXT_CODE, "  Artefact in  V3 ").key
+        'free: artefact in v3'
+        """
+        if self.code != FREE_TEXT_CODE:
+            return self.code
+        return "free: " + " ".join(self.text.lower().split())
+
+
+@dataclass(frozen=True)
 class ReviewerReading:
     """One reader's work on one record. Overrides are kept sorted by target."""
 
@@ -163,6 +199,7 @@ class ReviewerReading:
     overrides: tuple[Override, ...] = ()
     calipers: tuple[Caliper, ...] = ()
     notes: tuple[Note, ...] = ()
+    statements: tuple[ReaderStatement, ...] = ()
 
     def override(self, key: OverrideKey) -> Override | None:
         return next((o for o in self.overrides if o.key == key), None)
@@ -172,6 +209,9 @@ class ReviewerReading:
 
     def note(self, note_id: str) -> Note | None:
         return next((n for n in self.notes if n.id == note_id), None)
+
+    def statement(self, statement_id: str) -> ReaderStatement | None:
+        return next((x for x in self.statements if x.id == statement_id), None)
 
     def with_override(self, key: OverrideKey, ov: Override | None) -> ReviewerReading:
         rest = [o for o in self.overrides if o.key != key]
@@ -285,6 +325,26 @@ def note_to_json(n: Note) -> dict[str, Any]:
     return {"id": n.id, "text": n.text}
 
 
+def statement_to_json(x: ReaderStatement) -> dict[str, Any]:
+    return {
+        "id": x.id,
+        "code": x.code,
+        "text": x.text,
+        "origin": x.origin,
+        "from_reader": x.from_reader,
+    }
+
+
+def statement_from_json(d: Mapping[str, Any]) -> ReaderStatement:
+    return ReaderStatement(
+        id=d["id"],
+        code=d["code"],
+        text=d["text"],
+        origin=d["origin"],
+        from_reader=d.get("from_reader"),
+    )
+
+
 def reading_to_json(r: ReviewerReading) -> dict[str, Any]:
     return {
         "reviewer": r.reviewer,
@@ -296,6 +356,7 @@ def reading_to_json(r: ReviewerReading) -> dict[str, Any]:
         "overrides": [override_to_json(o) for o in r.overrides],
         "calipers": [caliper_to_json(c) for c in r.calipers],
         "notes": [note_to_json(n) for n in r.notes],
+        "statements": [statement_to_json(x) for x in r.statements],
     }
 
 
@@ -312,6 +373,7 @@ def reading_from_json(d: Mapping[str, Any]) -> ReviewerReading:
         ),
         calipers=tuple(caliper_from_json(c) for c in d["calipers"]),
         notes=tuple(Note(id=n["id"], text=n["text"]) for n in d["notes"]),
+        statements=tuple(statement_from_json(x) for x in d.get("statements", ())),
     )
 
 

@@ -13,6 +13,7 @@ from reviewapp.core.measure.types import (
     LeadMeasurements,
     Measurements,
     NormalRange,
+    ValueReason,
 )
 
 __all__ = [
@@ -22,6 +23,7 @@ __all__ = [
     "LeadMeasurements",
     "Measurements",
     "NormalRange",
+    "ValueReason",
     "compute_measurements",
     "evaluate_findings",
     "normal_range",

@@ -12,7 +12,9 @@ earlier than the P end when the PR segment is long enough.
 
 from __future__ import annotations
 
+from collections.abc import Iterable
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
@@ -206,7 +208,7 @@ def lead_measurements(
         missing.append((f"{name}", "QRS onset at the window start: no isoelectric level"))
         return LeadMeasurements(lead=name), missing
     y = x - base
-    values: dict[str, float | None] = {}
+    values: dict[str, Any] = {}
 
     p_on, p_off = _pick(own, glob, "p_on"), _pick(own, glob, "p_off")
     if p_on is None or p_off is None or p_off < p_on:
@@ -303,3 +305,23 @@ def cornell_mv(avl: LeadMeasurements | None, v3: LeadMeasurements | None) -> flo
     if avl is None or avl.r_mv is None or s3 is None:
         return None
     return avl.r_mv + s3
+
+
+def peguero_mv(leads: Iterable[LeadMeasurements]) -> float | None:
+    """Peguero-Lo Presti voltage: the deepest S wave in any single lead (SD) plus the S wave
+    in V4, in mV. When V4 holds the deepest S, SD is V4's own (it counts twice).
+
+    Peguero JG, Lo Presti S, Perez J, et al., "Electrocardiographic criteria for the diagnosis
+    of left ventricular hypertrophy", J Am Coll Cardiol 69:1694-1703, 2017 (from memory).
+
+    >>> leads = (LeadMeasurements("V2", r_mv=0.3, s_mv=-2.1, q_mv=0.0),
+    ...          LeadMeasurements("V4", r_mv=1.2, s_mv=-0.9, q_mv=0.0))
+    >>> round(peguero_mv(leads), 3)
+    3.0
+    """
+    depths = {m.lead: s_depth_mv(m) for m in leads}
+    s4 = depths.get("V4")
+    known = [d for d in depths.values() if d is not None]
+    if s4 is None or not known:
+        return None
+    return max(known) + s4

@@ -6,19 +6,27 @@ Runs on every mark drag, so it touches only the representative-beat window (a se
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import replace
 
 import numpy as np
 
-from reviewapp.core.fiducials import Beat, BeatKind, MarkedECG, WaveMarks
+from reviewapp.core.fiducials import FIDUCIAL_LABELS, Beat, BeatKind, MarkedECG, WaveMarks
 from reviewapp.core.measure.amplitudes import (
     cornell_mv,
     isoelectric_levels,
     lead_measurements,
+    peguero_mv,
     sokolow_lyon_mv,
 )
+from reviewapp.core.measure.atrial_activity import atrial_activity
 from reviewapp.core.measure.axes import LIMB_LEADS, frontal_axis
-from reviewapp.core.measure.findings import infarct_criteria_skipped, paced_criteria_skipped
+from reviewapp.core.measure.findings import (
+    WIDE_QRS_MS,
+    displayed,
+    infarct_criteria_skipped,
+    paced_criteria_skipped,
+)
 from reviewapp.core.measure.intervals import (
     INTERVAL_MARKS,
     beat_intervals,
@@ -26,8 +34,17 @@ from reviewapp.core.measure.intervals import (
     rr_statistics,
     span_ms,
 )
+from reviewapp.core.measure.limits import QTC_QUANTITIES
+from reviewapp.core.measure.morphology import p_part, qrs_part, t_part
+from reviewapp.core.measure.preexcitation import is_preexcited
+from reviewapp.core.measure.qt_wide_qrs import jt_ms, jtc_bazett, qt_bogossian
 from reviewapp.core.measure.qtc import QTC_FORMULAS
-from reviewapp.core.measure.types import GlobalIntervals, LeadMeasurements, Measurements
+from reviewapp.core.measure.types import (
+    GlobalIntervals,
+    LeadMeasurements,
+    Measurements,
+    ValueReason,
+)
 
 # Common practice, no source: with RR varying beat to beat, no single RR makes the QT
 # correction right for the QT it is applied to.
@@ -98,6 +115,9 @@ def compute_measurements(marked: MarkedECG) -> Measurements:
         else:
             g[key] = None
             unmeasured.append((key, "no QT" if qt is None else "no RR"))
+    g.update(_wide_qrs_measures(qt, g["qrs_ms"], rr_ms, unmeasured))
+    paced = _mostly_paced(marked)
+    gated: list[ValueReason] = []
 
     leads: list[LeadMeasurements] = []
     if rep is None:
@@ -120,9 +140,30 @@ def compute_measurements(marked: MarkedECG) -> Measurements:
             own = lead_marks[i] if i < len(lead_marks) else None
             base = None if bases is None else float(bases[i])
             m, why = lead_measurements(name, wave[:, i], marks, own, fs, base)
+            if base is not None:
+                m = replace(m, **_shapes(wave, i, base, marks, own, rep, fs))  # type: ignore[arg-type]
             leads.append(m)
             unmeasured += why
         g.update(_axes(marked, wave, marks, bases, unmeasured))
+        if marks.p_on is None and marks.qrs_on is not None:
+            leads = _st_without_baseline(leads, marked, unmeasured)
+            if any(q.endswith(".st") and t == ST_NO_BASELINE for q, t in unmeasured):
+                # The ST criteria as a whole are not applied either (one statement for the
+                # reader besides each lead's missing values).
+                gated.append(ValueReason("st_j_mv", "gated", ST_NO_BASELINE))
+
+    g["qrs_t_angle_deg"] = qrs_t_angle(g.get("qrs_axis_deg"), g.get("t_axis_deg"))
+    if g["qrs_t_angle_deg"] is None:
+        unmeasured.append(("qrs_t_angle_deg", "needs the QRS and T axes"))
+    pre_excited = is_preexcited(GlobalIntervals(pr_ms=g["pr_ms"]), leads, paced)
+    reasons = _qtc_comparability(g["qrs_ms"], paced, g, pre_excited)
+    if rr.irregular and rr.cv is not None:
+        caution = QTC_IRREGULAR_CAUTION.format(cv=100.0 * rr.cv)
+        rate_corrected = (*QTC_QUANTITIES, "jtc_bazett_ms")
+        reasons += [
+            ValueReason(k, "caution", caution) for k in rate_corrected if g.get(k) is not None
+        ]
+    reasons += gated
 
     by_name = {m.lead: m for m in leads}
     sokolow = sokolow_lyon_mv(by_name.get("V1"), by_name.get("V5"), by_name.get("V6"))
@@ -132,20 +173,191 @@ def compute_measurements(marked: MarkedECG) -> Measurements:
     if cornell is None:
         unmeasured.append(("cornell_mv", "needs R in aVL and S in V3"))
 
+    peguero = peguero_mv(leads)
+    if peguero is None:
+        unmeasured.append(("peguero_mv", "needs S in V4 and the QRS of the other leads"))
+    product = None
+    if cornell is not None and g["qrs_ms"] is not None:
+        product = cornell * 10.0 * g["qrs_ms"]  # mm at 10 mm/mV x ms
+    else:
+        unmeasured.append(("cornell_product_mm_ms", "needs the Cornell voltage and QRS"))
+
     out = Measurements(
         intervals=GlobalIntervals(**g),
         leads=tuple(leads),
         beats=beat_intervals(marked.beats, marked.beat_marks, fs),
         sokolow_lyon_mv=sokolow,
         cornell_mv=cornell,
+        peguero_mv=peguero,
+        cornell_product_mm_ms=product,
         unmeasured=tuple(unmeasured),
         rhythm_irregular=rr.irregular,
-        paced=_mostly_paced(marked),
+        paced=paced,
+        pre_excitation=pre_excited,
+        atrial=atrial_activity(marked),
+        reasons=tuple(reasons),
     )
     for skipped in (paced_criteria_skipped(out), infarct_criteria_skipped(out)):
         if skipped is not None:
             notes.append(skipped)
     return replace(out, notes=tuple(notes))
+
+
+# Reason texts (shown to the reader beside the values on screen, page and CSV, so each is
+# short and names its source): "<what>: <cause>; <what to read instead> (<source>)".
+QTC_NOT_COMPARABLE_WIDE = (
+    "QTc not comparable with the QTc limits: QRS >= 120 ms, the QT holds the prolonged "
+    "depolarisation; read JT, JTc and the QRS-adjusted QT (Rautaharju et al., Circulation "
+    "2009; Bogossian et al., Heart Rhythm 2014)"
+)
+QTC_NOT_COMPARABLE_PREEXCITED = (
+    "QTc not comparable with the QTc limits: ventricular pre-excitation, the delta wave "
+    "widens the QRS and alters repolarisation; read JT, JTc and the QRS-adjusted QT "
+    "(Surawicz et al., Circulation 2009; Rautaharju et al., Circulation 2009)"
+)
+QTC_NOT_COMPARABLE_PACED = (
+    "QTc not comparable with the QTc limits: paced rhythm, the paced QRS is wide; read JT, "
+    "JTc and the QRS-adjusted QT (Rautaharju et al., Circulation 2009; Bogossian et al., "
+    "Heart Rhythm 2014)"
+)
+ST_NO_BASELINE = (
+    "ST not assessed: no P wave, so no PR segment to serve as the isoelectric baseline of ST "
+    "(Kligfield et al., Circulation 2007)"
+)
+# With RR varying beat to beat no single RR corrects the QT it is applied to. Sources, read
+# as abstracts: Darbar D et al., J Cardiovasc Electrophysiol 2007;18:636-641 ("cycle length
+# variability during AF makes rate-corrected QT impossible to calculate"); Musat DL et al.,
+# Am J Cardiol 2013;112:1379-1383 (Bazett overestimates QTc during AF). The threshold that
+# calls a rhythm irregular (``IRREGULAR_RR_CV``) is ours and is not stated as a criterion.
+QTC_IRREGULAR_CAUTION = (
+    "QTc less reliable: irregular rhythm, RR varies {cv:.0f} % beat to beat, so no single RR "
+    "corrects the QT (Darbar et al., J Cardiovasc Electrophysiol 2007; Musat et al., Am J "
+    "Cardiol 2013)"
+)
+
+
+def _wide_qrs_measures(
+    qt: float | None, qrs: float | None, rr_ms: float | None, unmeasured: list[tuple[str, str]]
+) -> dict[str, float | None]:
+    """JT, JTc (Bazett) and the Bogossian QRS-adjusted QT (``qt_wide_qrs``), None with a
+    reason where QT, QRS or RR is missing."""
+    out: dict[str, float | None] = dict.fromkeys(("jt_ms", "jtc_bazett_ms", "qt_bogossian_ms"))
+    if qt is None or qrs is None:
+        why = "no QT" if qt is None else "no QRS duration"
+        unmeasured += [(k, why) for k in out]
+        return out
+    out["jt_ms"] = jt_ms(qt, qrs)
+    out["qt_bogossian_ms"] = qt_bogossian(qt, qrs)
+    if rr_ms is not None and rr_ms > 0:
+        out["jtc_bazett_ms"] = jtc_bazett(qt, qrs, rr_ms)
+    else:
+        unmeasured.append(("jtc_bazett_ms", "no RR"))
+    return out
+
+
+def _qtc_comparability(
+    qrs: float | None, paced: bool, g: dict[str, float | None], pre_excited: bool = False
+) -> list[ValueReason]:
+    """QTc values marked not comparable with their limits for a wide, paced or pre-excited
+    QRS (the QTc is still shown). QRS judged as displayed (whole ms), like the findings."""
+    if paced:
+        text = QTC_NOT_COMPARABLE_PACED
+    elif pre_excited:
+        text = QTC_NOT_COMPARABLE_PREEXCITED
+    elif qrs is not None and displayed(qrs, "ms") >= WIDE_QRS_MS:
+        text = QTC_NOT_COMPARABLE_WIDE
+    else:
+        return []
+    return [ValueReason(k, "not_comparable", text) for k in QTC_QUANTITIES if g.get(k) is not None]
+
+
+def _st_without_baseline(
+    leads: list[LeadMeasurements], marked: MarkedECG, unmeasured: list[tuple[str, str]]
+) -> list[LeadMeasurements]:
+    """ST levels removed where the rhythm has no P wave (``ST_NO_BASELINE``)."""
+    out = []
+    for m in leads:
+        if m.st_j_mv is None and m.st_j60_mv is None and m.st_j80_mv is None:
+            out.append(m)
+            continue
+        out.append(replace(m, st_j_mv=None, st_j60_mv=None, st_j80_mv=None))
+        unmeasured.append((f"{m.lead}.st", ST_NO_BASELINE))
+    return out
+
+
+def qrs_t_angle(qrs_axis: float | None, t_axis: float | None) -> float | None:
+    """The frontal QRS-T angle: the absolute difference of the two axes, folded to 0..180.
+
+    >>> qrs_t_angle(60.0, 40.0), qrs_t_angle(-150.0, 150.0), qrs_t_angle(None, 40.0)
+    (20.0, 60.0, None)
+    """
+    if qrs_axis is None or t_axis is None:
+        return None
+    d = abs(qrs_axis - t_axis) % 360.0
+    return 360.0 - d if d > 180.0 else d
+
+
+def _next_beat_start(rep: object, marks: WaveMarks) -> int | None:
+    """The representative window index where the next beat starts (its P onset, else its
+    QRS onset), one median RR after this beat's."""
+    rr = getattr(rep, "rr_samples", None)
+    first = marks.p_on if marks.p_on is not None else marks.qrs_on
+    return None if rr is None or first is None else first + int(rr)
+
+
+# Wave shapes of the last readings, by part: a mark drag changes one part of one or a few
+# leads (a T end moves the T part only), so the others are reused, keeping a drag's
+# recomputation near what it was before the shapes were measured. Keyed on the window's
+# array (kept with the result, so a reused id never matches) and every index a part reads.
+Shape = dict[str, float | bool | str | None]
+_SHAPES: dict[tuple[object, ...], tuple[np.ndarray, Shape]] = {}
+
+
+def _cached_part(wave: np.ndarray, key: tuple[object, ...], make: Callable[[], Shape]) -> Shape:
+    k = (id(wave), *key)
+    hit = _SHAPES.get(k)
+    if hit is not None and hit[0] is wave:
+        return hit[1]
+    out = make()
+    if len(_SHAPES) > 4000:
+        _SHAPES.clear()
+    _SHAPES[k] = (wave, out)
+    return out
+
+
+def _shapes(
+    wave: np.ndarray,
+    i: int,
+    base: float,
+    marks: WaveMarks,
+    own: WaveMarks | None,
+    rep: object,
+    fs: float,
+) -> Shape:
+    def pick(name: str) -> int | None:
+        v = own.get(name) if own is not None else None
+        return marks.get(name) if v is None else v
+
+    y: list[np.ndarray] = []
+
+    def lead() -> np.ndarray:
+        if not y:
+            y.append(np.asarray(wave[:, i], dtype=np.float64) - base)
+        return y[0]
+
+    g = (marks.qrs_on, marks.qrs_off)
+    q = (pick("qrs_on"), pick("qrs_off"))
+    p = (pick("p_on"), pick("p_off"))
+    t_off, stop = pick("t_off"), _next_beat_start(rep, marks)
+    return {
+        **_cached_part(wave, ("qrs", i, base, fs, g, q), lambda: qrs_part(lead(), g, q, fs)),
+        **_cached_part(wave, ("p", i, base, fs, p), lambda: p_part(lead(), p, fs)),
+        **_cached_part(
+            wave,
+            ("t", i, base, fs, q[1], t_off, stop),
+            lambda: t_part(lead(), q[1], t_off, stop, fs),
+        ),
+    }
 
 
 def _mostly_paced(marked: MarkedECG) -> bool:
@@ -179,7 +391,7 @@ def _axes(
         if base is None or a is None or b is None or b <= a or b >= wave.shape[0] or a < 0:
             out[key] = None
             unmeasured.append(
-                (key, f"no {first.replace('_', ' ')} / {second.replace('_', ' ')} marks")
+                (key, f"no {FIDUCIAL_LABELS[first]} / {FIDUCIAL_LABELS[second]} marks")
             )
             continue
         seg = wave[a : b + 1, idx].astype(np.float64) - base[None, :]

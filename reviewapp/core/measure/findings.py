@@ -11,7 +11,13 @@ aVF, lateral/apical I and aVL — from memory), is implemented as:
   "contiguous" chest leads are commonly read (common practice, no source).
 
 aVR belongs to no group. ST depression is flagged on level alone; the ST slope the 4th UDMI
-asks for (horizontal or downsloping) is not assessed, and the text says so.
+asks for (horizontal or downsloping) is not assessed, and the text says so. An ST deviation
+at J counts only where J+60 ms (else J+80 ms) deviates the same way past the same limit: a J
+point inside a slurred QRS end must not make an ST finding on its own.
+
+QTc with a QRS >= 120 ms or a paced rhythm is shown but not compared with the QTc limits
+(``Measurements.reasons``, kind "not_comparable"; JT, JTc and a QRS-adjusted QT are reported
+beside it, ``qt_wide_qrs``).
 
 Neither the ST nor the Q-wave criteria are applied when the QRS is 120 ms or longer or the
 rhythm is paced: the 4th UDMI notes that left bundle branch block and ventricular pacing
@@ -40,7 +46,13 @@ from collections.abc import Callable, Iterable
 
 from reviewapp.core.measure.limit_text import finding_text, merged_text, shown
 from reviewapp.core.measure.limits import normal_range
-from reviewapp.core.measure.types import Finding, LeadMeasurements, Measurements, NormalRange
+from reviewapp.core.measure.types import (
+    Finding,
+    LeadMeasurements,
+    Measurements,
+    NormalRange,
+    ValueReason,
+)
 from reviewapp.core.record import SubjectFacts
 
 LABELS: dict[str, str] = {
@@ -62,6 +74,10 @@ LABELS: dict[str, str] = {
     "cornell_mv": "Cornell voltage",
     "st_j_mv": "ST at J",
     "q_ms": "Q duration",
+    "rr_sd_ms": "RR SD",
+    "jt_ms": "JT (QT - QRS)",
+    "jtc_bazett_ms": "JTc (Bazett)",
+    "qt_bogossian_ms": "QT adj. (Bogossian)",
 }
 
 GLOBAL_CHECKS: tuple[str, ...] = (
@@ -141,7 +157,42 @@ def judged(measurements: Measurements, quantity: str) -> bool:
     >>> judged(m, "qrs_ms"), judged(m, "qtc_bazett_ms")
     (False, True)
     """
-    return not (measurements.paced and quantity in PACED_NOT_ASSESSED)
+    if measurements.paced and quantity in PACED_NOT_ASSESSED:
+        return False
+    # A value shown but not comparable with its limits (QTc with a wide or paced QRS).
+    return not any(
+        r.quantity == quantity and r.kind == "not_comparable" for r in measurements.reasons
+    )
+
+
+def gated_reasons(measurements: Measurements) -> tuple[ValueReason, ...]:
+    """Why criteria are not applied to this reading, one entry per quantity concerned (kind
+    "gated"): a paced rhythm's conduction values, and the ST and Q-wave infarct criteria with
+    a paced rhythm or a QRS >= 120 ms (the texts of ``paced_criteria_skipped`` and
+    ``infarct_criteria_skipped``, which name the reason)."""
+    out: list[ValueReason] = []
+    paced = paced_criteria_skipped(measurements)
+    if paced is not None:
+        text = f"{paced}, {PACED_WHY}"
+        out += [ValueReason(q, "gated", text) for q in sorted(PACED_NOT_ASSESSED)]
+    infarct = infarct_criteria_skipped(measurements)
+    if infarct is not None:
+        text = f"{infarct}; {INFARCT_GATE_WHY}"
+        out += [ValueReason(q, "gated", text) for q in ("st_j_mv", "q_ms")]
+    return tuple(out)
+
+
+# What the reader reads after the gate's note (``gated_reasons``). The 4th UDMI states that
+# left bundle branch block and ventricular pacing confound the ECG diagnosis of infarction
+# (Thygesen K et al., Circulation 2018;138:e618-e651); gating every QRS >= 120 ms (right
+# bundle branch block too) is this program's choice, so the text does not claim the 4th UDMI
+# says so (``infarct_criteria_skipped``). The paced-rhythm limits: no published
+# statement is cited for them, so the text says why in words only (common practice, no source).
+INFARCT_GATE_WHY = (
+    "the universal definition of infarction names left bundle branch block and ventricular "
+    "pacing as confounders of these criteria (Thygesen et al., Circulation 2018)"
+)
+PACED_WHY = "the QRS is the pacemaker's activation and the PR its programmed AV delay"
 
 
 def paced_criteria_skipped(measurements: Measurements) -> str | None:
@@ -156,6 +207,8 @@ def infarct_criteria_skipped(measurements: Measurements) -> str | None:
     qrs = measurements.intervals.qrs_ms
     if measurements.paced:
         return "ST/Q criteria not applied: paced rhythm"
+    if measurements.pre_excitation:
+        return "ST/Q criteria not applied: ventricular pre-excitation"
     if qrs is not None and displayed(qrs, "ms") >= WIDE_QRS_MS:
         return f"ST/Q criteria not applied: QRS >= {WIDE_QRS_MS:.0f} ms"
     return None
@@ -252,18 +305,35 @@ def evaluate_findings(measurements: Measurements, subject: SubjectFacts) -> tupl
         if f is not None:
             out.append(f)
 
+    if infarct_criteria_skipped(measurements) is not None:
+        return tuple(out)
+    return tuple(out) + infarct_findings(measurements, subject)
+
+
+def infarct_findings(measurements: Measurements, subject: SubjectFacts) -> tuple[Finding, ...]:
+    """The ST and Q-wave criteria of the 4th UDMI on every lead, without the gating of
+    ``infarct_criteria_skipped`` (``evaluate_findings`` applies it; the interpretation
+    statements apply their own, e.g. Q waves stay readable in right bundle branch block).
+    Order: ST levels (two contiguous leads), then Q waves."""
+
     def st_flag(m: LeadMeasurements) -> Finding | None:
-        f = _check("st_j_mv", m.st_j_mv, normal_range("st_j_mv", subject, m.lead), m.lead)
+        nr = normal_range("st_j_mv", subject, m.lead)
+        f = _check("st_j_mv", m.st_j_mv, nr, m.lead)
         if f is None:
+            return None
+        # Backed by the ST segment itself: a J point inside a slurred QRS end is not ST
+        # deviation, so J+60 (else J+80) ms must deviate the same way past the same limit
+        # (common practice to confirm at J+60/J+80, no single source).
+        later = m.st_j60_mv if m.st_j60_mv is not None else m.st_j80_mv
+        g = _check("st_j_mv", later, nr, m.lead)
+        if g is None or g.direction != f.direction:
             return None
         word = "ST elevation" if f.direction == "above" else "ST depression (slope not assessed)"
         return Finding(
             f.quantity, f.value, f.unit, f.limit, f.direction, f.source, f"{word}: {f.text}", f.lead
         )
 
-    if infarct_criteria_skipped(measurements) is not None:
-        return tuple(out)
-    out += _contiguous_flags(measurements.leads, st_flag)
+    out = _contiguous_flags(measurements.leads, st_flag)
 
     def q_flag(m: LeadMeasurements) -> Finding | None:
         nr = normal_range("q_ms", subject, m.lead)
@@ -280,6 +350,38 @@ def evaluate_findings(measurements: Measurements, subject: SubjectFacts) -> tupl
     out += [f for m in v2v3 if (f := q_flag(m)) is not None]
     out += _contiguous_flags(others, q_flag)
     return tuple(out)
+
+
+def finding_for_value(
+    quantity: str,
+    value: float | None,
+    nr: NormalRange | None,
+    findings: Iterable[Finding],
+    lead: str | None = None,
+) -> Finding | None:
+    """The finding that flags this value, if any: its own (``quantity`` and ``lead``), or for
+    one QTc formula the merged ``qtc_ms`` finding, which merges exactly the formulas whose
+    value as displayed is past their own limit on its side (``_merge_qtc``). Every table that
+    flags a value (summary dock, per-lead grid, report) asks this, so a cell is never flagged
+    by a rule of its own.
+
+    >>> nr = normal_range("qtc_fridericia_ms", SubjectFacts(sex="male", age_years=50))
+    >>> merged = Finding("qtc_ms", 470.0, "ms", 450.0, "above", "", "QTc above normal by ...")
+    >>> finding_for_value("qtc_fridericia_ms", 455.2, nr, [merged]) is merged
+    True
+    >>> finding_for_value("qtc_fridericia_ms", 440.0, nr, [merged]) is None
+    True
+    """
+    if value is None:
+        return None
+    for f in findings:
+        if f.quantity == quantity and f.lead == lead:
+            return f
+    if lead is None and quantity in QTC_ORDER and nr is not None:
+        v = displayed(value, nr.unit)
+        side = "above" if nr.is_above(v) else "below" if nr.is_below(v) else ""
+        return next((f for f in findings if f.quantity == "qtc_ms" and f.direction == side), None)
+    return None
 
 
 def _merge_qtc(findings: list[Finding], subject: SubjectFacts) -> list[Finding]:

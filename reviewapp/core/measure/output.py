@@ -31,7 +31,31 @@ seconds; absent or unmeasurable values are ``null``, never a guess.
   source, text}``: values outside normal limits, flags for the reader, not diagnoses.
   ``value`` is the value as displayed (1 ms, 0.01 mV); several QTc formulas flagging the same
   way give one ``qtc_ms`` finding.
+  Beside the QTc: ``jt_ms`` (QT - QRS), ``jtc_bazett_ms`` (JT / sqrt(RR_s)) and
+  ``qt_bogossian_ms`` (QT - 0.485 x QRS; Bogossian et al., Heart Rhythm 2014), for a QRS of
+  120 ms or more or a paced rhythm, when the QTc is not comparable with its limits.
 - ``unmeasured`` (list): ``{quantity, reason}`` for every value left null.
+- ``reasons`` (list): ``{quantity, kind, text}`` for every value left out, in one list: kind
+  "not_measured" (null; the same as ``unmeasured``), "not_comparable" (shown, but not to be
+  compared with its normal limits, e.g. QTc with QRS >= 120 ms), "gated" (a criterion not
+  applied, e.g. the ST and Q infarct criteria with a wide QRS) or "caution" (shown and
+  compared, but less reliable, e.g. QTc in an irregular rhythm). ``quantity`` as in
+  ``unmeasured`` (a field name, ``<lead>.<field>``, ``<lead>.st``, ...).
+- ``statements`` (list): the interpretation statements, in reading order (lead checks,
+  rhythm, conduction, axis, chambers, repolarization and QT, ischemia and infarction):
+  ``{code, text, category, criteria, source, detail, values, qualifiers}``. ``text`` is the
+  trade term as the AHA/ACCF/HRS statement list writes it ("complete right bundle branch
+  block"); ``code`` this program's own identifier (``core/interpret/catalogue.py``);
+  ``criteria`` the rule applied, in words; ``source`` the published source (authors,
+  journal, year); ``detail`` the specifics ("2 of 12 beats"); ``values`` the measured values
+  that met the criteria ``{label, value, unit, lead, text}``; ``qualifiers`` how to read the
+  statement given the rest of the ECG. Statements not made for a reason appear in
+  ``reasons`` (kind "gated", quantity "statement:<group>").
+- ``lead_shapes``: ``{lead: {r_peak_time_ms, r_ms, s_ms, r_notched, p_terminal_mv,
+  p_terminal_ms, u_mv, t_min_mv, jp_mv, end_qrs, delta_ms, delta_mv}}``: the wave shapes
+  the statements use (R-peak time, wave durations, P terminal force, U wave, terminal QRS
+  notch or slur, initial slur); ``global.qrs_t_angle_deg``; ``voltages.peguero_mv`` and
+  ``voltages.cornell_product_mm_ms``.
 - ``notes`` (list of str): remarks from reading and analysis ("no beats found", ...).
 - ``engine_version`` (str); ``caution`` (str): the clinical caution, always present.
 - A record that cannot be read gives ``{"record", "path", "error", "caution"}`` instead.
@@ -61,6 +85,8 @@ from reviewapp.core.record import SubjectFacts
 
 SCHEMA_VERSION = 1
 QTC_NAMES = ("bazett", "fridericia", "framingham", "hodges")
+WIDE_QRS_KEYS = ("jt_ms", "jtc_bazett_ms", "qt_bogossian_ms")
+REASON_KINDS = ("not_measured", "not_comparable", "gated", "caution")
 LEAD_FIELDS = (
     "p_mv",
     "q_mv",
@@ -74,6 +100,20 @@ LEAD_FIELDS = (
     "st_j80_mv",
 )
 MARK_KEYS = tuple(f"{n}_s" for n in FIDUCIALS)
+SHAPE_FIELDS = (
+    "r_peak_time_ms",
+    "r_ms",
+    "s_ms",
+    "r_notched",
+    "p_terminal_mv",
+    "p_terminal_ms",
+    "u_mv",
+    "t_min_mv",
+    "jp_mv",
+    "end_qrs",
+    "delta_ms",
+    "delta_mv",
+)
 
 _num = {"type": ["number", "null"]}
 _marks_obj = {
@@ -154,6 +194,7 @@ MEASURE_JSON_SCHEMA: dict[str, Any] = {
                     "required": list(QTC_NAMES),
                     "properties": {k: _num for k in QTC_NAMES},
                 },
+                **{k: _num for k in WIDE_QRS_KEYS},
                 "rhythm_irregular": {"type": "boolean"},
                 "axis_deg": {
                     "type": "object",
@@ -206,6 +247,49 @@ MEASURE_JSON_SCHEMA: dict[str, Any] = {
                 "properties": {"quantity": {"type": "string"}, "reason": {"type": "string"}},
             },
         },
+        "reasons": {
+            "type": "array",
+            "items": {
+                "type": "object",
+                "required": ["quantity", "kind", "text"],
+                "properties": {
+                    "quantity": {"type": "string"},
+                    "kind": {"enum": list(REASON_KINDS)},
+                    "text": {"type": "string"},
+                },
+            },
+        },
+        "statements": {
+            "type": "array",
+            "items": {
+                "type": "object",
+                "required": ["code", "text", "category", "criteria", "source"],
+                "properties": {
+                    "code": {"type": "string"},
+                    "text": {"type": "string"},
+                    "category": {"type": "string"},
+                    "criteria": {"type": "string"},
+                    "source": {"type": "string"},
+                    "detail": {"type": "string"},
+                    "values": {
+                        "type": "array",
+                        "items": {
+                            "type": "object",
+                            "required": ["label", "value", "unit", "text"],
+                            "properties": {
+                                "label": {"type": "string"},
+                                "value": {"type": "number"},
+                                "unit": {"type": "string"},
+                                "lead": {"type": ["string", "null"]},
+                                "text": {"type": "string"},
+                            },
+                        },
+                    },
+                    "qualifiers": {"type": "array", "items": {"type": "string"}},
+                },
+            },
+        },
+        "lead_shapes": {"type": "object", "additionalProperties": {"type": "object"}},
         "notes": {"type": "array", "items": {"type": "string"}},
         "engine_version": {"type": "string"},
         "caution": {"type": "string"},
@@ -232,6 +316,9 @@ CSV_COLUMNS: tuple[str, ...] = (
     "sokolow_lyon_mv",
     "cornell_mv",
     "n_findings",
+    *WIDE_QRS_KEYS,
+    "not_comparable",
+    "statements",
     "engine_version",
     "error",
     "caution",
@@ -250,11 +337,40 @@ def _marks_s(m: WaveMarks, fs: float, offset: int = 0) -> dict[str, float | None
     return {f"{k}_s": _f(v, 6) for k, v in m.as_seconds(fs, offset).items()}
 
 
-def reading_to_dict(analysis: Any, reading: Any, *, path: str = "", per_lead: bool = False) -> dict:
+def statement_dict(x: Any) -> dict[str, Any]:
+    """One ``interpret.Statement`` as its JSON object (module docstring)."""
+    return {
+        "code": x.code,
+        "text": x.text,
+        "category": x.category,
+        "criteria": x.criteria,
+        "source": x.source,
+        "detail": x.detail,
+        "values": [
+            {"label": v.label, "value": _f(v.value), "unit": v.unit, "lead": v.lead, "text": v.text}
+            for v in x.values
+        ],
+        "qualifiers": list(x.qualifiers),
+    }
+
+
+def reading_to_dict(
+    analysis: Any,
+    reading: Any,
+    *,
+    path: str = "",
+    per_lead: bool = False,
+    interpretation: Any = None,
+) -> dict:
     """The JSON object for one record (see the module docstring for the schema).
 
-    ``analysis`` is an ``engine.Analysis``, ``reading`` its ``Reading``.
+    ``analysis`` is an ``engine.Analysis``, ``reading`` its ``Reading``; ``interpretation``
+    its ``interpret.Interpretation`` (computed here when not given).
     """
+    if interpretation is None:
+        from reviewapp.core.interpret import interpret
+
+        interpretation = interpret(reading, analysis.record.subject)
     rec = analysis.record
     fs = float(rec.fs_hz)
     marked = reading.marked
@@ -308,14 +424,21 @@ def reading_to_dict(analysis: Any, reading: Any, *, path: str = "", per_lead: bo
             "qrs_ms": _f(iv.qrs_ms),
             "qt_ms": _f(iv.qt_ms),
             "qtc_ms": {n: _f(getattr(iv, f"qtc_{n}_ms")) for n in QTC_NAMES},
+            **{k: _f(getattr(iv, k)) for k in WIDE_QRS_KEYS},
             "rhythm_irregular": bool(ms.rhythm_irregular),
+            "qrs_t_angle_deg": _f(iv.qrs_t_angle_deg, 2),
             "axis_deg": {
                 "p": _f(iv.p_axis_deg, 2),
                 "qrs": _f(iv.qrs_axis_deg, 2),
                 "t": _f(iv.t_axis_deg, 2),
             },
         },
-        "voltages": {"sokolow_lyon_mv": _f(ms.sokolow_lyon_mv), "cornell_mv": _f(ms.cornell_mv)},
+        "voltages": {
+            "sokolow_lyon_mv": _f(ms.sokolow_lyon_mv),
+            "cornell_mv": _f(ms.cornell_mv),
+            "peguero_mv": _f(ms.peguero_mv),
+            "cornell_product_mm_ms": _f(ms.cornell_product_mm_ms, 0),
+        },
         "representative": rep_d,
         "leads_measurements": {m.lead: _lead_dict(m) for m in ms.leads},
         "findings": [
@@ -332,6 +455,12 @@ def reading_to_dict(analysis: Any, reading: Any, *, path: str = "", per_lead: bo
             for f in reading.findings
         ],
         "unmeasured": [{"quantity": q, "reason": r} for q, r in ms.unmeasured],
+        "reasons": [
+            {"quantity": r.quantity, "kind": r.kind, "text": r.text}
+            for r in (*getattr(reading, "reasons", ()), *interpretation.reasons)
+        ],
+        "statements": [statement_dict(x) for x in interpretation.statements],
+        "lead_shapes": {m.lead: _shape_dict(m) for m in ms.leads},
         "notes": notes,
         "engine_version": analysis.engine_version,
         "caution": CLINICAL_CAUTION,
@@ -340,6 +469,14 @@ def reading_to_dict(analysis: Any, reading: Any, *, path: str = "", per_lead: bo
 
 def _lead_dict(m: LeadMeasurements) -> dict[str, float | None]:
     return {k: _f(getattr(m, k)) for k in LEAD_FIELDS}
+
+
+def _shape_dict(m: LeadMeasurements) -> dict[str, Any]:
+    out: dict[str, Any] = {}
+    for k in SHAPE_FIELDS:
+        v = getattr(m, k)
+        out[k] = v if v is None or isinstance(v, bool | str) else _f(v)
+    return out
 
 
 def error_dict(record: str, path: str, message: str) -> dict[str, Any]:
@@ -379,8 +516,21 @@ def csv_row(d: Mapping[str, Any]) -> dict[str, Any]:
         row[f"{n}_axis_deg"] = g["axis_deg"][n]
     row.update(d.get("voltages", {}))
     row["n_findings"] = len(d["findings"])
+    for k in WIDE_QRS_KEYS:
+        row[k] = g.get(k)
+    # The quantities shown but not to be compared with their limits (e.g. QTc with a wide
+    # QRS), with the first reason: the full texts are in the JSON ``reasons``.
+    nc = [r for r in d.get("reasons", ()) if r.get("kind") == "not_comparable"]
+    if nc:
+        row["not_comparable"] = " ".join(r["quantity"] for r in nc) + ": " + nc[0]["text"]
+    row["statements"] = "; ".join(statement_line(x) for x in d.get("statements") or ())
     row["engine_version"] = d["engine_version"]
     return row
+
+
+def statement_line(x: Mapping[str, Any]) -> str:
+    """A statement's JSON object as one line: text and detail."""
+    return f"{x['text']}: {x['detail']}" if x.get("detail") else str(x["text"])
 
 
 def format_range(nr: NormalRange | None) -> str:
@@ -402,6 +552,7 @@ _TABLE_ROWS: tuple[tuple[str, str, str], ...] = (
     ("qrs_ms", "global.qrs_ms", "ms"),
     ("qt_ms", "global.qt_ms", "ms"),
     *((f"qtc_{n}_ms", f"global.qtc_ms.{n}", "ms") for n in QTC_NAMES),
+    *((k, f"global.{k}", "ms") for k in WIDE_QRS_KEYS),
     ("p_axis_deg", "global.axis_deg.p", "deg"),
     ("qrs_axis_deg", "global.axis_deg.qrs", "deg"),
     ("t_axis_deg", "global.axis_deg.t", "deg"),
@@ -467,6 +618,11 @@ def table_text(d: Mapping[str, Any], *, per_lead: bool = False) -> str:
     ]
     flagged = {(f["quantity"], f["lead"]): f["direction"] for f in d["findings"]}
     reasons = _reasons(d)
+    not_comparable = {
+        str(r["quantity"]): str(r["text"]).split(":", 1)[-1].split(";", 1)[0].strip()
+        for r in d.get("reasons") or ()
+        if r.get("kind") == "not_comparable"
+    }
     for q, where, unit in _TABLE_ROWS:
         v = _dig(d, where)
         nr = normal_range(q, subject)
@@ -475,6 +631,8 @@ def table_text(d: Mapping[str, Any], *, per_lead: bool = False) -> str:
             # Merged QTc finding: each formula's own flag from its limit, on the shown value.
             direction = direction_of(nr, v)
         flag = flag_text(direction)
+        if q in not_comparable and v is not None:
+            flag = "not comparable: " + not_comparable[q]
         if v is None:
             flag = reasons.get(q, "not measured")
         label = LABELS.get(q, q)
@@ -490,6 +648,21 @@ def table_text(d: Mapping[str, Any], *, per_lead: bool = False) -> str:
             row = f"{lead:<6}" + "".join(f" {c:>7}" for c in cells)
             why = reasons.get(lead) or reasons.get(f"{lead}.qrs") or reasons.get(f"{lead}.st")
             lines.append(row + (f"  ({why})" if why and "-" in cells else ""))
+    lines += ["", "Interpretation (automatic statements; criteria and sources below):"]
+    stmts = d.get("statements") or []
+    for x in stmts:
+        lines.append(f"  - {statement_line(x)}")
+        lines.append(f"      criteria: {x['criteria']}")
+        if x.get("values"):
+            lines.append("      measured: " + "; ".join(v["text"] for v in x["values"]))
+        lines += [f"      note: {q}" for q in x.get("qualifiers") or ()]
+        lines.append(f"      source: {x['source']}")
+    if not stmts:
+        lines.append("  none")
+    gated = [
+        r for r in d.get("reasons") or () if str(r.get("quantity", "")).startswith("statement:")
+    ]
+    lines += [f"  (not stated: {r['text']})" for r in gated]
     lines += ["", "Findings (flags for the reader, not diagnoses):"]
     lines += [f"  - {f['text']}" for f in d["findings"]] or ["  none"]
     sources = list(dict.fromkeys(f["source"] for f in d["findings"] if f.get("source")))

@@ -12,7 +12,7 @@ from __future__ import annotations
 import argparse
 import csv
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from datetime import datetime
 from pathlib import Path
 
@@ -20,6 +20,9 @@ from reviewapp.core.record import SubjectFacts
 from reviewapp.core.synth.generator import generate
 from reviewapp.core.synth.params import SynthParams
 from reviewapp.core.synth.wfdb_out import write_synthetic
+
+# Limb-lead projection of the demo worklist (see write_demo_record).
+DEMO_LIMB_LEADS = "dower"
 
 STUDY = "RA-DEMO-101"
 STUDY_TITLE = "fictional single-ascending-dose study of the invented compound ZX-0917 (torvamidine)"
@@ -246,7 +249,10 @@ def write_demo_record(demo: DemoRecord, folder: Path) -> Path:
         acquired_at=demo.acquired_at,
         comments=(f"timepoint: {demo.timepoint}", f"study: {STUDY} (fictional)"),
     )
-    syn = generate(demo.params, name=demo.name, subject=subject)
+    # The shipped worklist was made with Dower's limb rows; keep it byte for byte (its truth
+    # axes are therefore atan2(net aVF, net I) of those leads, see SynthParams.limb_leads).
+    params = replace(demo.params, limb_leads=DEMO_LIMB_LEADS)
+    syn = generate(params, name=demo.name, subject=subject)
     return write_synthetic(syn, folder, demo.name)
 
 

@@ -26,7 +26,9 @@ from reviewapp.core.fiducials import BeatKind, WaveMarks
 from reviewapp.core.record import Record, SubjectFacts, record_from_array
 from reviewapp.core.synth import noise, templates
 from reviewapp.core.synth.leads import (
+    axis_of_area,
     complete_leads,
+    dower_legacy_axis,
     frontal_rotation_for_axis,
     project_independent,
     rotation_z,
@@ -57,6 +59,10 @@ class SyntheticECG:
         d = asdict(self.params)
         d["ectopic_beats"] = list(self.params.ectopic_beats)
         d["lead_names"] = list(self.params.lead_names)
+        # Truth files written before limb_leads existed were all made with Dower's limb rows:
+        # an absent key means "dower", so it is written only for the Einthoven projection.
+        if d["limb_leads"] == "dower":
+            del d["limb_leads"]
         return d
 
 
@@ -234,7 +240,7 @@ def generate(
 
     def oriented(tpl: tuple[Lobe, ...], n_nonzero: int, axis_deg: float) -> np.ndarray:
         area = wave_area_vector(tpl, n_nonzero, np.eye(3))
-        return rotation_z(frontal_rotation_for_axis(area, axis_deg))
+        return rotation_z(frontal_rotation_for_axis(area, axis_deg, p.limb_leads))
 
     qrs_n = _samples(p.qrs_ms, fs) + 1
     rot_qrs = oriented(qrs_tpl, qrs_n, p.qrs_axis_deg)
@@ -284,21 +290,18 @@ def generate(
         for r, pl, marks, i in beats
     )
 
-    wave_indep = project_independent(heart)
-    wave_leads = complete_leads(wave_indep, heart)
-
-    def realised_axis(lo: int, hi: int) -> float:
-        net_i = float(wave_leads["I"][lo : hi + 1].sum())
-        net_avf = float(wave_leads["aVF"][lo : hi + 1].sum())
-        deg = math.degrees(math.atan2(net_avf, net_i))
-        return deg + 360.0 if deg <= -180.0 else deg
-
     def dipole_axis(lo: int, hi: int) -> float:
         return _frontal_deg(heart[lo : hi + 1].sum(axis=0))
 
+    def truth_axis(lo: int, hi: int) -> float:
+        # From the generating dipole, not from the leads (the hexaxial axis the Einthoven
+        # limb leads show); the legacy Dower projection keeps its recorded definition.
+        area = heart[lo : hi + 1].sum(axis=0)
+        return dower_legacy_axis(area) if p.limb_leads == "dower" else axis_of_area(area)
+
     if p.af and p.f_wave_mv > 0:
         heart = heart + noise.fibrillatory_waves(n, fs, p.f_wave_mv, f_rng)
-    clean_indep = project_independent(heart)
+    clean_indep = project_independent(heart, p.limb_leads)
     indep = clean_indep.copy()
     if p.baseline_wander_mv > 0:
         indep += noise.baseline_wander(n, fs, 8, p.baseline_wander_mv, wander_rng)
@@ -353,9 +356,9 @@ def generate(
         rr_ms=_r6(mean_rr),
         rr_sd_ms=_r6(np.std(rr_ms)) if len(rr_ms) > 1 else 0.0,
         hr_bpm=_r6(60000.0 / mean_rr),
-        qrs_axis_deg=_r6(realised_axis(ref_m.qrs_on, ref_m.qrs_off)),
-        p_axis_deg=None if ref_m.p_on is None else _r6(realised_axis(ref_m.p_on, ref_m.p_off)),
-        t_axis_deg=_r6(realised_axis(ref.t_on, ref_m.t_off)),
+        qrs_axis_deg=_r6(truth_axis(ref_m.qrs_on, ref_m.qrs_off)),
+        p_axis_deg=None if ref_m.p_on is None else _r6(truth_axis(ref_m.p_on, ref_m.p_off)),
+        t_axis_deg=_r6(truth_axis(ref.t_on, ref_m.t_off)),
         qrs_dipole_axis_deg=_r6(dipole_axis(ref_m.qrs_on, ref_m.qrs_off)),
         p_dipole_axis_deg=None if ref_m.p_on is None else _r6(dipole_axis(ref_m.p_on, ref_m.p_off)),
         t_dipole_axis_deg=_r6(dipole_axis(ref.t_on, ref_m.t_off)),

@@ -1,11 +1,16 @@
-"""From the heart vector to the 12 leads: Dower's transform plus Einthoven and Goldberger.
+"""From the heart vector to the 12 leads: Einthoven's triangle for the limb leads, Dower's
+transform for the chest leads.
 
 Dipole model: the heart is a single time-varying current dipole H(t) = (x, y, z) and each lead
-voltage is a fixed linear projection of it (lead vectors; Burger & van Milaan 1946). The
-projection used here is Dower's transform from the Frank XYZ leads to the 12 standard leads
-(Dower GE, Machado HB, Osborne JA. On deriving the electrocardiogram from vectorcardiographic
-leads. Clin Cardiol 1980;3:87-95; citation and coefficients from memory). Frank axes: x towards
-the subject's left, y towards the feet, z towards the back.
+voltage is a fixed linear projection of it (lead vectors; Burger & van Milaan 1946). Frank
+axes: x towards the subject's left, y towards the feet, z towards the back.
+
+Limb leads: the frontal projection of Einthoven's equilateral triangle (Einthoven W, Fahr G,
+de Waart A, Pflugers Arch 150:275-315, 1913): lead I along +x, lead II at +60 deg (towards
+the feet), both with gain ``LIMB_GAIN``, so the frontal angle of the dipole is exactly the
+hexaxial axis the limb leads show. Chest leads V1-V6: Dower's transform from the Frank XYZ
+leads (Dower GE, Machado HB, Osborne JA. On deriving the electrocardiogram from
+vectorcardiographic leads. Clin Cardiol 1980;3:87-95; coefficients from memory).
 
 Only I and II (and V1-V6) are projected; III, aVR, aVL and aVF are then computed from I and II
 with Einthoven's and Goldberger's relations, so those identities hold exactly (to float32
@@ -16,7 +21,7 @@ Example:
     >>> import numpy as np
     >>> leads = project_leads(np.array([[1.0, 0.0, 0.0]]))
     >>> round(float(leads[0, 0]), 3), round(float(leads[0, 2]), 3)  # I and III for a pure +x dipole
-    (0.632, -0.397)
+    (0.9, -0.45)
 """
 
 from __future__ import annotations
@@ -31,11 +36,16 @@ INDEPENDENT_LEADS: tuple[str, ...] = ("I", "II", "V1", "V2", "V3", "V4", "V5", "
 FRANK_LEADS: tuple[str, ...] = ("X", "Y", "Z")
 AVAILABLE_LEADS: tuple[str, ...] = STANDARD_12 + FRANK_LEADS
 
-# Dower transform, rows I, II, V1..V6; columns Frank X, Y, Z. From memory (Dower et al. 1980).
-DOWER_XYZ_TO_8 = np.array(
+# Gain of the limb leads (mV per dipole unit): about the size of Dower's lead II row
+# (|(0.235, 1.066)| = 1.09) and lead I row (0.67) averaged, so limb amplitudes stay realistic.
+LIMB_GAIN = 0.9
+_C60, _S60 = math.cos(math.radians(60.0)), math.sin(math.radians(60.0))
+
+# Rows I, II (Einthoven, frontal only), V1..V6 (Dower et al. 1980, from memory); columns X, Y, Z.
+LEAD_ROWS_XYZ_TO_8 = np.array(
     [
-        [0.632, -0.235, 0.059],  # I
-        [0.235, 1.066, -0.132],  # II
+        [LIMB_GAIN, 0.0, 0.0],  # I: +x (0 deg)
+        [LIMB_GAIN * _C60, LIMB_GAIN * _S60, 0.0],  # II: +60 deg
         [-0.515, 0.157, -0.917],  # V1
         [0.044, 0.164, -1.387],  # V2
         [0.882, 0.098, -1.277],  # V3
@@ -45,13 +55,25 @@ DOWER_XYZ_TO_8 = np.array(
     ]
 )
 
-LEAD_I = DOWER_XYZ_TO_8[0]
-LEAD_AVF = DOWER_XYZ_TO_8[1] - 0.5 * DOWER_XYZ_TO_8[0]  # Goldberger: aVF = II - I/2
+
+# Dower's own rows for leads I and II (from memory), used only by ``limb_leads="dower"``: the
+# projection the demo worklist in sample_records was made with. They are not an equilateral
+# triangle, so the hexaxial axis they show differs from the dipole's frontal angle.
+DOWER_LIMB_ROWS = np.array([[0.632, -0.235, 0.059], [0.235, 1.066, -0.132]])
+LIMB_PROJECTIONS = ("einthoven", "dower")
 
 
-def project_independent(heart: np.ndarray) -> np.ndarray:
+def _rows(limb_leads: str) -> np.ndarray:
+    if limb_leads == "einthoven":
+        return LEAD_ROWS_XYZ_TO_8
+    if limb_leads == "dower":
+        return np.vstack([DOWER_LIMB_ROWS, LEAD_ROWS_XYZ_TO_8[2:]])
+    raise ValueError(f"unknown limb lead projection {limb_leads!r}; choose {LIMB_PROJECTIONS}")
+
+
+def project_independent(heart: np.ndarray, limb_leads: str = "einthoven") -> np.ndarray:
     """Heart vector (n, 3) -> leads I, II, V1..V6 (n, 8), float64 mV."""
-    return heart @ DOWER_XYZ_TO_8.T
+    return heart @ _rows(limb_leads).T
 
 
 def complete_leads(independent: np.ndarray, heart: np.ndarray) -> dict[str, np.ndarray]:
@@ -89,23 +111,43 @@ def rotation_z(angle_rad: float) -> np.ndarray:
 
 
 def axis_of_area(area_xyz: np.ndarray) -> float:
-    """Frontal axis (deg, (-180, 180]) seen in leads I and aVF for a net heart-vector area.
+    """Frontal axis (deg, (-180, 180]) of a net heart-vector area: its angle in the frontal
+    (x, y) plane, +x (left) at 0 deg, +y (feet) at +90 deg. With the Einthoven limb leads
+    above this is the hexaxial axis the limb leads show.
 
-    Hexaxial convention (lead I at 0 deg, aVF at +90 deg): atan2(net aVF, net I).
+    >>> axis_of_area(np.array([1.0, 1.0, 5.0]))
+    45.0
     """
-    deg = math.degrees(math.atan2(float(LEAD_AVF @ area_xyz), float(LEAD_I @ area_xyz)))
+    deg = math.degrees(math.atan2(float(area_xyz[1]), float(area_xyz[0])))
     return deg + 360.0 if deg <= -180.0 else deg
 
 
-def frontal_rotation_for_axis(area_xyz: np.ndarray, axis_deg: float) -> float:
-    """Frontal rotation angle (rad) that makes ``axis_of_area(R @ area) == axis_deg`` exactly.
+def dower_legacy_axis(area_xyz: np.ndarray) -> float:
+    """atan2(net aVF, net I) of an area seen by Dower's limb rows: the axis the demo worklist's
+    truth files record (``limb_leads="dower"``; not the hexaxial axis, see module notes)."""
+    lead_i = DOWER_LIMB_ROWS[0]
+    lead_avf = DOWER_LIMB_ROWS[1] - 0.5 * DOWER_LIMB_ROWS[0]
+    deg = math.degrees(math.atan2(float(lead_avf @ area_xyz), float(lead_i @ area_xyz)))
+    return deg + 360.0 if deg <= -180.0 else deg
 
-    The net area seen by (I, aVF) after rotating by phi is ``cos(phi) P + sin(phi) Q + C`` with
-    P, Q, C fixed 2-vectors; requiring it to be parallel to u = (cos a, sin a) gives
+
+def frontal_rotation_for_axis(
+    area_xyz: np.ndarray, axis_deg: float, limb_leads: str = "einthoven"
+) -> float:
+    """Frontal rotation angle (rad) that makes the wave's axis ``axis_deg`` exactly:
+    ``axis_of_area`` for Einthoven limb leads (a rotation about z turns the frontal angle by
+    the same amount), ``dower_legacy_axis`` for Dower's.
+
+    Dower: the net area seen by (I, aVF) after rotating by phi is ``cos(phi) P + sin(phi) Q +
+    C`` with P, Q, C fixed 2-vectors; requiring it to be parallel to u = (cos a, sin a) gives
     ``p cos(phi) + q sin(phi) = -c`` (p, q, c: cross products with u), solved in closed form;
     of the two roots the one pointing along +u (not -u) is kept.
     """
-    m = np.vstack([LEAD_I, LEAD_AVF])  # (2, 3)
+    if limb_leads == "einthoven":
+        if math.hypot(float(area_xyz[0]), float(area_xyz[1])) < 1e-12:
+            raise ValueError(f"cannot orient the wave to a frontal axis of {axis_deg} deg")
+        return math.radians(axis_deg - axis_of_area(area_xyz))
+    m = np.vstack([DOWER_LIMB_ROWS[0], DOWER_LIMB_ROWS[1] - 0.5 * DOWER_LIMB_ROWS[0]])
     a_xy = np.array([area_xyz[0], area_xyz[1], 0.0])
     j_a = np.array([-area_xyz[1], area_xyz[0], 0.0])
     a_z = np.array([0.0, 0.0, area_xyz[2]])

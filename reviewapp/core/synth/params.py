@@ -15,8 +15,12 @@ class SynthParams:
     onset to QRS end, ``qt_ms`` QRS onset to T end; each measured between first and last
     non-zero samples, so e.g. qrs_ms=90 at 500 Hz gives QRS on/off 45 samples apart.
 
-    Axes (deg, hexaxial: lead I at 0, aVF at +90): the frontal axis that atan2(net aVF, net I)
-    of the wave's area gives in the generated signal.
+    Axes (deg, hexaxial: lead I at 0, aVF at +90): the frontal angle of the generating
+    dipole's net area over the wave, which the Einthoven limb leads show as the hexaxial axis.
+    ``limb_leads``: "einthoven" (limb leads are Einthoven-triangle projections of the dipole)
+    or "dower" (Dower's limb rows: only to regenerate the demo worklist shipped in
+    sample_records byte for byte; there the axes are atan2(net aVF, net I) of those leads,
+    not the hexaxial axis).
 
     Amplitudes (mV): size of the main heart-vector lobe of the R, P and T waves (dipole units;
     lead amplitudes follow from the lead vectors).
@@ -62,6 +66,7 @@ class SynthParams:
     emg_snr_db: float | None = None
     seed: int = 0
     lead_names: tuple[str, ...] = STANDARD_12
+    limb_leads: str = "einthoven"
 
     def __post_init__(self) -> None:
         from reviewapp.core.synth.leads import AVAILABLE_LEADS
@@ -102,6 +107,8 @@ class SynthParams:
             raise ValueError(f"mains_hz must lie between 0 and fs_hz/2, got {self.mains_hz}")
         if self.fs_hz < 100:
             raise ValueError(f"fs_hz must be at least 100 Hz, got {self.fs_hz}")
+        if self.limb_leads not in ("einthoven", "dower"):
+            raise ValueError(f"limb_leads must be 'einthoven' or 'dower', got {self.limb_leads!r}")
         if not self.lead_names:
             raise ValueError("lead_names is empty")
         unknown = [n for n in self.lead_names if n not in AVAILABLE_LEADS]

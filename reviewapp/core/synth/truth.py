@@ -15,10 +15,11 @@ Definitions (by construction, noise-free signal):
   magnitude within the wave.
 - Global intervals are the median over dominant beats: PR = qrs_on - p_on, P = p_off - p_on,
   QRS = qrs_off - qrs_on, QT = t_off - qrs_on, in ms.
-- Axes are the frontal axes realised in the signal: atan2(net aVF, net I) of the wave's area in
-  the first dominant beat (hexaxial convention). ``*_dipole_axis_deg`` is the frontal angle
-  of the net heart-vector area itself, which differs because Dower's lead I and aVF are not
-  orthogonal unit projections.
+- Axes are the frontal angle of the generating dipole's net area over the wave in the first
+  dominant beat (+x at 0 deg, +y, the feet, at +90 deg), computed from the dipole and not from
+  the leads; the limb leads are Einthoven-triangle projections (``leads``), so this is the
+  hexaxial axis they show. ``*_dipole_axis_deg`` hold the same values (kept for readers of
+  older truth files).
 """
 
 from __future__ import annotations

@@ -2,14 +2,14 @@
 (sign-off, the adjudicator's final values). Each makes marks commands and hands them to the
 workflow as one step (``StepRecorder.record_step``).
 
-Interpretation statements get an editor of their own here, shaped like ``NoteEditor``.
+``StatementEditor`` keeps the reader's interpretation statements, shaped like ``NoteEditor``.
 """
 
 from __future__ import annotations
 
 from collections.abc import Callable, Sequence
 from dataclasses import replace
-from typing import Protocol
+from typing import TYPE_CHECKING, Protocol
 
 from reviewapp.core.errors import MarksError, ReviewError
 from reviewapp.core.fiducials import FIDUCIAL_LABELS
@@ -20,6 +20,9 @@ from reviewapp.core.workflow.history import MarchPart, Part
 from reviewapp.core.workflow.memory import Holder, MemoryMarks
 from reviewapp.core.workflow.outcome import Outcome
 from reviewapp.core.workflow.roles import UNIDENTIFIED
+
+if TYPE_CHECKING:
+    from reviewapp.core.interpret import Interpretation
 
 Build = tuple[Holder, Callable[[Holder], Command]]
 
@@ -39,6 +42,8 @@ class StepRecorder(Protocol):
     def store_automatic_first(self) -> Outcome | None: ...
 
     def all_calipers(self) -> tuple[Caliper, ...]: ...
+
+    def automatic_interpretation(self) -> Interpretation | None: ...
 
     def record_step(
         self, text: str, builds: Sequence[Build], extra: Sequence[Part] = ()
@@ -177,6 +182,149 @@ class NoteEditor:
         if isinstance(st, Outcome):
             return st
         return self._w.record_step("Delete note", [(st, lambda h: h.edits.delete_note(note_id))])
+
+
+AUTOMATIC_HIDDEN = (
+    "Not available: the automatic statements are hidden in this blinded read (automatic "
+    "marks hidden); pick statements from the catalogue or type your own."
+)
+
+
+class StatementEditor:
+    """The reader's interpretation: statements picked from the catalogue (searchable), the
+    automatic statements taken over when the reader asks for them, and free text; each can be
+    edited, removed and moved. Kept in the marks file (one undo step and one audit event per
+    action), in the reader's order."""
+
+    def __init__(self, workflow: StepRecorder) -> None:
+        self._w = workflow
+
+    def _store(self) -> MarksStore | Outcome:
+        return writable_store(self._w, "interpretation statements")
+
+    def add(self, code: str, text: str | None = None) -> Outcome:
+        """A catalogue statement (its trade term, or ``text`` when given) at the end."""
+        from reviewapp.core.interpret import CATALOGUE, FREE_TEXT
+
+        d = CATALOGUE.get(code)
+        if d is None:
+            return Outcome.unchanged(f"No statement added: {code!r} is not in the catalogue.")
+        if code == FREE_TEXT:
+            return self.add_free_text(text or "")
+        st = self._store()
+        if isinstance(st, Outcome):
+            return st
+        words = (text or d.text).strip()
+        if any(x.code == code for x in st.reading.statements):
+            return Outcome.unchanged(f"No statement added: {d.text!r} is in the list already.")
+        return self._w.record_step(
+            f"Add statement {d.text}", [(st, lambda h: h.edits.add_statement(code, words))]
+        )
+
+    def add_free_text(self, text: str) -> Outcome:
+        from reviewapp.core.interpret import FREE_TEXT
+
+        text = text.strip()
+        if not text:
+            return Outcome.unchanged("No statement added: the text is empty.")
+        st = self._store()
+        if isinstance(st, Outcome):
+            return st
+        return self._w.record_step(
+            "Add statement (own words)",
+            [(st, lambda h: h.edits.add_statement(FREE_TEXT, text, origin="free_text"))],
+        )
+
+    def start_from_automatic(self) -> Outcome:
+        """The automatic statements the list does not hold yet, added at its end (one step).
+        Refused in a blinded read that hides the automatic marks."""
+        auto = self._w.automatic_interpretation()
+        if auto is None:
+            return Outcome.unchanged(AUTOMATIC_HIDDEN)
+        st = self._store()
+        if isinstance(st, Outcome):
+            return st
+        have = {x.code for x in st.reading.statements}
+        items = [(s.code, s.line) for s in auto.statements if s.code not in have]
+        if not items:
+            return Outcome.unchanged("No change: every automatic statement is in the list already.")
+        name = f"{len(items)} automatic statement(s)"
+        return self._w.record_step(
+            f"Add {name}",
+            [(st, lambda h: h.edits.add_statements(items, origin="automatic", name=name))],
+        )
+
+    def edit(self, statement_id: str, text: str) -> Outcome:
+        text = text.strip()
+        if not text:
+            return Outcome.unchanged(
+                "Statement not changed: the text is empty (remove it instead)."
+            )
+        st = self._store()
+        if isinstance(st, Outcome):
+            return st
+        return self._w.record_step(
+            "Edit statement", [(st, lambda h: h.edits.edit_statement(statement_id, text))]
+        )
+
+    def delete(self, statement_id: str) -> Outcome:
+        st = self._store()
+        if isinstance(st, Outcome):
+            return st
+        old = st.reading.statement(statement_id)
+        if old is None:
+            return Outcome.unchanged("No change: that statement is not in this reading.")
+        return self._w.record_step(
+            f"Remove statement {old.text}",
+            [(st, lambda h: h.edits.delete_statement(statement_id))],
+        )
+
+    def move(self, statement_id: str, delta: int) -> Outcome:
+        """Move a statement ``delta`` places (-1 up, +1 down)."""
+        st = self._store()
+        if isinstance(st, Outcome):
+            return st
+        items = st.reading.statements
+        old = st.reading.statement(statement_id)
+        if old is None:
+            return Outcome.unchanged("No change: that statement is not in this reading.")
+        i = items.index(old)
+        j = max(0, min(len(items) - 1, i + int(delta)))
+        if i == j:
+            where = "first" if delta < 0 else "last"
+            return Outcome.unchanged(f"No change: {old.text!r} is {where} already.")
+        return self._w.record_step(
+            f"Move statement {'up' if j < i else 'down'}",
+            [(st, lambda h: h.edits.move_statement(statement_id, j))],
+        )
+
+    def adopt(self, reviewer: str, statement_id: str) -> Outcome:
+        """Adjudication: take another reader's statement into this (the adjudicator's)
+        interpretation, naming where it came from."""
+        st = writable_store(self._w, "final statements")
+        if isinstance(st, Outcome):
+            return st
+        try:
+            st.require_adjudicator()
+            source = st.readings().get(reviewer)
+        except ReviewError as err:
+            return Outcome.failed(err)
+        x = None if source is None else source.statement(statement_id)
+        if x is None:
+            return Outcome.failed(MarksError(f"no such statement in {reviewer}'s reading"))
+        if any(y.key == x.key for y in st.reading.statements):
+            return Outcome.unchanged(f"No change: {x.text!r} is in the final statements already.")
+        return self._w.record_step(
+            f"Adjudicate statement {x.text}: from {reviewer}",
+            [
+                (
+                    st,
+                    lambda h: h.edits.add_statement(
+                        x.code, x.text, origin="reader", from_reader=reviewer
+                    ),
+                )
+            ],
+        )
 
 
 def when_text(at: str | None) -> str:

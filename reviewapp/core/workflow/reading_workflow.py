@@ -13,9 +13,9 @@ value equal to the old one is not a step and is not audited. Each action returns
 ``Outcome`` saying what actually happened, and listeners hear a ``WorkflowChange``.
 
 The parts of a reading each have their own small editor on the workflow: ``calipers``,
-``notes`` and ``decisions`` (sign-off, adjudication). Interpretation statements belong beside
-the notes: a command in ``core/marks/commands.py``, its factory in ``Edits``, and an editor
-like ``NoteEditor`` built on ``ReadingWorkflow.record``.
+``notes``, ``statements`` (the reader's interpretation; ``automatic_interpretation`` gives
+the engine's statements, None in a blinded read that hides the automatic marks) and
+``decisions`` (sign-off, adjudication).
 """
 
 from __future__ import annotations
@@ -36,6 +36,7 @@ from reviewapp.core.workflow.editors import (
     CaliperEditor,
     DecisionEditor,
     NoteEditor,
+    StatementEditor,
     read_only,
     when_text,
 )
@@ -48,6 +49,7 @@ from reviewapp.core.workflow.targets import MarkEdit, MarkTarget
 
 if TYPE_CHECKING:
     from reviewapp.core.engine import Analysis, Reading
+    from reviewapp.core.interpret import Interpretation
     from reviewapp.core.record import Record
 
 Snapshot = tuple[ReviewerReading, ReviewerReading, frozenset[str]]
@@ -100,7 +102,9 @@ class ReadingWorkflow:
         self._preview: Reading | None = None
         self.calipers = CaliperEditor(self)
         self.notes = NoteEditor(self)
+        self.statements = StatementEditor(self)
         self.decisions = DecisionEditor(self)
+        self._interpretation: tuple[Reading, Interpretation] | None = None
         self._sync_values()
 
     # --- what the views read ---------------------------------------------------------------
@@ -194,6 +198,21 @@ class ReadingWorkflow:
             return None
         marks = marked.beat_marks[bi] if lead_i is None else marked.beat_lead_marks[bi][lead_i]
         return marks.get(target.fiducial)
+
+    def automatic_interpretation(self) -> Interpretation | None:
+        """The engine's statements for the reading on screen (with a mark being dragged, if
+        any); None in a blinded read that hides the automatic marks."""
+        if self.hide_automatic:
+            return None
+        reading = self.reading
+        cached = self._interpretation
+        if cached is not None and cached[0] is reading:
+            return cached[1]
+        from reviewapp.core.interpret import interpret
+
+        result = interpret(reading, self.record.subject)
+        self._interpretation = (reading, result)
+        return result
 
     def all_calipers(self) -> tuple[Caliper, ...]:
         """The reading's calipers, then any kept in the window only."""

@@ -1,0 +1,185 @@
+"""Global P duration, PR, QRS duration and QT against the LUDB cardiologists' global values.
+
+Reference (shared/data/README.md; ``reference_global``): a global duration runs from the
+earliest onset to the latest offset over the simultaneous leads (AHA/ACCF/HRS 2007 Part I,
+Kligfield et al., Circulation 115:1306-1324). LUDB's cardiologists marked each lead on its own
+(Kalyakulina et al., IEEE Access 8:186181, 2020): a beat's reference is the SECOND-earliest
+onset and the SECOND-latest offset among the leads marked (at least 4), a record's value the
+median over its beats. Figures are engine minus reference, record by record, mean and SD in
+ms, beside the IEC 60601-2-25 acceptance limits for global durations (recalled, from memory:
+P +-10 / 15, PR +-10 / 10, QRS +-6 / 10, QT +-12 / 30 ms).
+
+Tuning split (RULES.md): every threshold of the global rule (``delineate_global``,
+``DelineationParams.glob_*``) was set on the ODD-numbered records only; the EVEN-numbered
+records were held out and are the honest figures (held-back records score worse still).
+
+Measured (this engine; before: the median lead's marks as global marks, engine 0.1.0):
+
+| interval | odd (tuning) | even (held out) | before, odd / even | IEC |mean| / SD |
+|---|---|---|---|---|
+| P | -9.4 +- 12.2 | -11.8 +- 18.7 | -18.6 +- 10.8 / -20.6 +- 17.9 | 10 / 15 |
+| PR | -0.0 +- 8.7 | 0.6 +- 10.1 | 0.9 +- 6.4 / 0.7 +- 9.4 | 10 / 10 |
+| QRS | -7.9 +- 13.8 | -8.7 +- 11.7 | -20.2 +- 10.8 / -18.3 +- 12.3 | 6 / 10 |
+| QT | -9.9 +- 19.3 | -8.7 +- 19.9 | -29.4 +- 19.3 / -27.0 +- 19.6 | 12 / 30 |
+
+Within the IEC limits: PR (mean both halves, SD on the tuning half), QT (mean and SD both
+halves), P mean and SD on the tuning half. Not reached: the QRS mean (-7.9 / -8.7 ms against
+6 ms: the QRS still short of the readers' widest leads) and the QRS SD (the readers' own lead
+marks stray: record 61's V3/V4 QRS ends lie 20 ms after the other leads'), the P mean
+(-11.8) and SD on the held-out half, the PR SD on it (10.1). The limits below hold the
+figures reached so they cannot regress.
+"""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+from reference_global import (
+    GLOBAL_INTERVALS,
+    IEC_GLOBAL_LIMITS_MS,
+    GlobalComparison,
+    has_label,
+    ludb_global_reference,
+    ludb_labels,
+)
+
+pytestmark = pytest.mark.slow  # 140 records (shared cached analyses)
+
+# (|mean| max, SD max) per half: a little above the measured figures in the table above.
+HELD = {
+    True: {
+        "p_ms": (11.5, 14.0),
+        "pr_ms": (2.5, 10.0),
+        "qrs_ms": (9.5, 15.0),
+        "qt_ms": (12.0, 21.0),
+    },
+    False: {
+        "p_ms": (14.0, 20.5),
+        "pr_ms": (3.0, 11.5),
+        "qrs_ms": (10.5, 13.5),
+        "qt_ms": (11.0, 22.0),
+    },
+}
+
+
+@pytest.fixture(scope="module")
+def ludb_global(shared_data: Path, ludb_analyses) -> tuple[GlobalComparison, dict]:
+    root = shared_data / "ludb"
+    comp = GlobalComparison.empty()
+    readings = {}
+    for name in ludb_analyses.names():
+        reading = ludb_analyses[name].reading()
+        iv = reading.measurements.intervals
+        comp.add(
+            name, {k: getattr(iv, k) for k in GLOBAL_INTERVALS}, ludb_global_reference(root, name)
+        )
+        readings[name] = reading
+    print(comp.table("LUDB global durations, engine - cardiologists' global (ms)"))
+    return comp, readings
+
+
+@pytest.mark.parametrize("tuning", [True, False], ids=["odd-tuning", "even-held-out"])
+@pytest.mark.parametrize("interval", GLOBAL_INTERVALS)
+def test_global_durations_against_ludb_cardiologists(ludb_global, tuning, interval) -> None:
+    comp, _ = ludb_global
+    mean, sd, n = comp.stats(tuning)[interval]
+    mean_max, sd_max = HELD[tuning][interval]
+    iec = IEC_GLOBAL_LIMITS_MS[interval]
+    assert n >= 45, f"{interval}: only {n} records compared"
+    assert abs(mean) <= mean_max, f"{interval}: mean {mean:.1f} ms (IEC {iec[0]})"
+    assert sd <= sd_max, f"{interval}: SD {sd:.1f} ms (IEC {iec[1]})"
+
+
+def test_pr_and_qt_means_within_iec_on_the_held_out_half(ludb_global) -> None:
+    # IEC 60601-2-25 global-duration acceptance, recalled (from memory): PR +-10, QT +-12 ms
+    # mean; the QT spread 30 ms. Held-out (even) records.
+    comp, _ = ludb_global
+    st = comp.stats(False)
+    assert abs(st["pr_ms"][0]) <= IEC_GLOBAL_LIMITS_MS["pr_ms"][0]
+    assert abs(st["qt_ms"][0]) <= IEC_GLOBAL_LIMITS_MS["qt_ms"][0]
+    assert st["qt_ms"][1] <= IEC_GLOBAL_LIMITS_MS["qt_ms"][1]
+
+
+def test_bundle_branch_block_reads_a_wide_qrs(shared_data: Path, ludb_global) -> None:
+    # ludb.csv "Conduction abnormalities" (the cardiologists' reading): complete right or left
+    # bundle branch block needs QRS >= 120 ms (AHA/ACCF/HRS 2009 Part III, Surawicz et al.;
+    # from memory). Before: record 108 (complete RBBB) read 86 ms.
+    _, readings = ludb_global
+    labels = ludb_labels(shared_data / "ludb")
+    bbb = [
+        n
+        for n in readings
+        if has_label(
+            labels[n], "Conduction abnormalities", "complete right bundle", exclude="incomplete"
+        )
+        or has_label(
+            labels[n], "Conduction abnormalities", "complete left bundle", exclude="incomplete"
+        )
+    ]
+    assert len(bbb) >= 4
+    qrs = {n: readings[n].measurements.intervals.qrs_ms for n in bbb}
+    assert all(v is not None and v >= 120.0 for v in qrs.values()), qrs
+
+
+def test_first_degree_av_block_pr(shared_data: Path, ludb_global) -> None:
+    # ludb.csv: "I degree av block" (PR > 200 ms, common practice). The cardiologists' own
+    # marks give a global PR of only 189-200 ms on 3 of the 5 such records here (15, 61, 131;
+    # rule of the module docstring), so the check is: above 200 ms wherever theirs is (78:
+    # 230 vs 232, 134: 232 vs 266 ms, a P onset found 34 ms late), and within 10 ms of
+    # theirs on the borderline ones.
+    comp, readings = ludb_global
+    labels = ludb_labels(shared_data / "ludb")
+    avb = [
+        n for n in readings if has_label(labels[n], "Conduction abnormalities", "i degree av block")
+    ]
+    assert len(avb) >= 4
+    for n in avb:
+        pr = readings[n].measurements.intervals.pr_ms
+        ref = pr - comp.diffs["pr_ms"][n]
+        if ref > 200.0:
+            assert pr > 200.0, (n, pr, ref)
+        else:
+            assert abs(pr - ref) <= 10.0, (n, pr, ref)
+
+
+def test_short_qtc_is_rare(ludb_global) -> None:
+    # At most 1 in 30 LUDB records flagged short QTc (a cardiologist signs short QT rarely;
+    # limit <= 340 ms, ESC 2015, Priori et al., from memory). Measured 1 of 140 (record 88).
+    # Before: 50 of 140 at <= 390 ms with the median lead's QT, 30 of 140 at <= 390 ms with the
+    # global QT.
+    _, readings = ludb_global
+    short = [
+        n
+        for n, r in readings.items()
+        if any(f.quantity.startswith("qtc") and f.direction == "below" for f in r.findings)
+    ]
+    assert len(short) <= len(readings) / 30.0, short
+
+
+def test_no_false_st_infarct_pattern_in_bundle_branch_block(shared_data: Path, ludb_global) -> None:
+    # 4th UDMI (Thygesen et al., 2018; from memory): with a QRS >= 120 ms the ST and Q criteria
+    # are not applied; the reason is part of the reading. Before: record 108 (RBBB) listed
+    # inferior ST elevation, reciprocal depression and Q waves.
+    _, readings = ludb_global
+    r = readings["108"]
+    assert not any(f.quantity in ("st_j_mv", "q_ms") for f in r.findings)
+    gated = {x.quantity for x in r.reasons if x.kind == "gated"}
+    assert {"st_j_mv", "q_ms"} <= gated
+    assert any(x.kind == "not_comparable" and x.quantity.startswith("qtc") for x in r.reasons)
+    assert r.measurements.intervals.jt_ms == pytest.approx(
+        r.measurements.intervals.qt_ms - r.measurements.intervals.qrs_ms
+    )
+
+
+def test_halves_are_disjoint_and_cover_the_records(ludb_global) -> None:
+    comp, readings = ludb_global
+    odd = {n for n in readings if int(n) % 2}
+    assert odd and len(odd) < len(readings)
+    assert np.isfinite(comp.stats(True)["qrs_ms"][0]) and np.isfinite(
+        comp.stats(False)["qrs_ms"][0]
+    )
