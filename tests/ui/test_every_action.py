@@ -238,6 +238,11 @@ def c_export_csv(c: Ctx) -> None:
     text = (c.out / "values.csv").read_text()
     qt = c.wf.reading.measurements.intervals.qt_ms
     assert str(round(qt)) in text
+    # The file says whose reading it is, in which role, and that it is the one on screen.
+    st = c.wf.store
+    if st is not None:
+        role = {"first": "first reader", "second": "second reader"}.get(st.role, st.role)
+        assert f"# Printed: {st.reviewer}'s own reading ({role}), as on screen." in text
 
 
 def c_export_wfdb(c: Ctx) -> None:
