@@ -256,7 +256,8 @@ class CompareDialog(QtWidgets.QDialog):
         analysis = self.workflow.analysis
         comp = compare_readings(analysis, readings[a], readings[b], tol)
         final = self._final_reading()
-        key = None if (row := self.statements.selected_row()) is None else row.key
+        picked = self.statements.selected_row()
+        key = None if picked is None else picked.key
         self.statements.show_readings(readings[a], readings[b], final, self._can_adjudicate())
         if key is not None:
             self.statements.select_key(key)
