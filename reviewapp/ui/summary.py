@@ -520,6 +520,9 @@ class SummaryPanel(QtWidgets.QWidget):
         self._reasons_shown = texts
         for label in self._reason_labels:
             self.reasons_layout.removeWidget(label)
+            # Hidden now: deleteLater waits for the event loop, and until then the old text
+            # would be painted under the new (a grab or a nested loop shows both).
+            label.hide()
             label.deleteLater()
         self._reason_labels = []
         for text, kind in texts:
