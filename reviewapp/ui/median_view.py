@@ -259,6 +259,11 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
     # --- building ------------------------------------------------------------------------
     def rebuild(self) -> None:
         self._dirty = False
+        # Let go of the previous build's panel grid and legend with the items themselves: a
+        # Python reference kept to a graphics item the layout has deleted crashes the
+        # interpreter when Qt cleans up at exit.
+        self._small: pg.GraphicsLayout | None = None
+        self._legend: _Legend | None = None
         self.clear()
         self.plots.clear()
         self.lines.clear()
