@@ -268,6 +268,7 @@ class ReadingForReport:
     reviewer: str | None = None
     signed_off_at: str | None = None
     statements: tuple[Any, ...] = ()  # the reader's interpretation (ReaderStatement)
+    role: str | None = None  # "first", "second" or "adjudicator"
 
 
 def reading_for_report(
@@ -305,4 +306,5 @@ def reading_for_report(
         reviewer=chosen.reviewer,
         signed_off_at=chosen.signed_off_at,
         statements=chosen.statements,
+        role=chosen.role,
     )

@@ -146,6 +146,14 @@ class ReportContent:
     statements: tuple[Any, ...] = ()
     statement_reasons: tuple[Any, ...] = ()
     reader_statements: tuple[Any, ...] = ()
+    # Which reading the page prints: the reader's role ("first", "second", "adjudicator"),
+    # one sentence naming the reading (the record's final reading, or one reader's own), the
+    # final reading's short flags ("readers differ", "no adjudication", "not signed") and its
+    # details (each difference, each note of ``resolve_final``, the readers).
+    role: str | None = None
+    printed: str = ""
+    final_flags: tuple[str, ...] = ()
+    final_details: tuple[str, ...] = ()
 
     @property
     def fs_hz(self) -> float:
@@ -224,8 +232,14 @@ def build_report_content(
     reviewer: str | None = None,
     signed_off_at: str | None = None,
     reader_statements: Iterable[Any] = (),
+    role: str | None = None,
+    printed: str = "",
+    final_flags: Iterable[str] = (),
+    final_details: Iterable[str] = (),
+    n_corrected: int | None = None,
 ) -> ReportContent:
-    """Recompute the reading under ``overrides`` and collect what the page shows."""
+    """Recompute the reading under ``overrides`` and collect what the page shows.
+    ``n_corrected``: the reader's corrections among ``overrides`` (default: all of them)."""
     from reviewapp.core.interpret import interpret
 
     overrides = tuple(overrides)
@@ -261,25 +275,128 @@ def build_report_content(
         final_beat_marks=tuple(marked.beat_marks),
         beats=tuple(analysis.beats),
         engine_version=analysis.engine_version,
-        n_overrides=len(overrides),
+        n_overrides=len(overrides) if n_corrected is None else n_corrected,
         notes=notes,
         reasons=reasons,
         reason_statements=rt.statements(reasons, measured_too=False),
         statements=interpretation.statements,
         statement_reasons=interpretation.reasons,
         reader_statements=tuple(reader_statements),
+        role=role,
+        printed=printed,
+        final_flags=tuple(final_flags),
+        final_details=tuple(final_details),
+    )
+
+
+STATUS_WORDS = {
+    "adjudicated": "adjudicated",
+    "signed_off": "signed off",
+    "in_progress": "in progress (not signed off)",
+    "unread": "unread: automated marks only, not verified by a reader",
+}
+
+
+def reader_words(content: ReportContent) -> str:
+    """The reader named on the page with their role, e.g. "reader1 (first reader)"."""
+    if not content.reviewer:
+        return ""
+    role = role_words(content.role)
+    return f"{content.reviewer} ({role})" if role else content.reviewer
+
+
+def printed_words(content: ReportContent) -> str:
+    """Which reading is printed, its flags and their details, in sentences (page 2)."""
+    out = f"Printed: {content.printed}." if content.printed else ""
+    if content.final_flags:
+        out += " ⚠ " + ", ".join(content.final_flags).capitalize() + "."
+    if content.final_details:
+        out += " " + "; ".join(content.final_details) + "."
+    return out.strip()
+
+
+def role_words(role: str | None) -> str:
+    """'first reader', 'second reader', 'adjudicator' ('' for none)."""
+    from reviewapp.core.marks.final import ROLE_WORDS
+
+    return "" if role is None else ROLE_WORDS.get(role, role)
+
+
+def own_reading_words(reviewer: str | None, role: str | None, where: str) -> str:
+    """The sentence naming one reader's own reading, e.g. "reader2's own reading (second
+    reader), not the record's final reading"."""
+    if reviewer is None:
+        return "automatic marks only; no reader's reading"
+    return f"{reviewer}'s own reading ({role_words(role) or 'reader'}){where}"
+
+
+def final_report_content(analysis: Any, sidecar: Any) -> ReportContent:
+    """The page for the record's final reading (``core.marks.final.resolve_final``: a signed
+    adjudication over the chosen reading, else signed before unsigned, first before second),
+    with its flags and notes; the reader named is the adjudicator, else the reader whose
+    reading it is."""
+    from reviewapp.core.marks.final import resolve_final
+
+    final = resolve_final(sidecar, analysis)
+    readings = {} if sidecar is None else {r.reviewer: r for r in sidecar.readings}
+    name = final.adjudicator or final.base_reviewer
+    shown = readings.get(name) if name is not None else None
+    base = readings.get(final.base_reviewer) if final.base_reviewer else None
+    corrected = {
+        o.key for r in (base, readings.get(final.adjudicator or "")) if r for o in r.overrides
+    }
+    flags = []
+    if final.not_signed:
+        flags.append("not signed")
+    if final.readers_differ:
+        flags.append("readers differ" + (", adjudicated" if final.status == "adjudicated" else ""))
+    if final.no_adjudication:
+        flags.append("no adjudication")
+    details = [d.text for d in final.differences] + list(final.notes)
+    if final.readers:
+        states = {
+            r.reviewer: STATUS_WORDS.get(r.status, r.status).split(":")[0] for r in final.readers
+        }
+        details.append(
+            "readers: "
+            + ", ".join(
+                f"{r.reviewer} ({role_words(r.role)}, {states[r.reviewer]})" for r in final.readers
+            )
+        )
+    # The reader's interpretation printed is the one the final reading takes its statements
+    # from (the adjudicator's, else the chosen reading's), as ``resolve_final`` decides.
+    kinds = {x.source.kind for x in final.statements}
+    stated = shown if "adjudicated" in kinds else base if "reader" in kinds else None
+    return build_report_content(
+        analysis,
+        final.overrides,
+        status=final.status,
+        reviewer=name,
+        signed_off_at=None if shown is None else shown.signed_off_at,
+        reader_statements=() if stated is None else stated.statements,
+        role=None if shown is None else shown.role,
+        printed="final reading: " + final.basis,
+        final_flags=flags,
+        final_details=details,
+        n_corrected=len(corrected),
     )
 
 
 def load_report_content(path: Path, reviewer: str | None = None) -> ReportContent:
-    """Open ``path``, analyse it and apply the sidecar's reading (``reviewer``'s, else a
-    signed-off one, else the most recently edited; none = automatic marks only)."""
+    """Open ``path``, analyse it and print its reading: ``reviewer``'s own when one is named,
+    else the record's final reading (``final_report_content``); no marks file = automatic
+    marks only."""
     from reviewapp.batch.sidecar_adapter import reading_for_report
     from reviewapp.core.engine import analyse
     from reviewapp.core.io import open_record
+    from reviewapp.core.marks.final import sidecar_for
 
     record = open_record(path)
     analysis = analyse(record)
+    if reviewer is None:
+        sidecar = sidecar_for(record)
+        if sidecar is not None and sidecar.readings:
+            return final_report_content(analysis, sidecar)
     chosen = reading_for_report(record, analysis, reviewer)
     return build_report_content(
         analysis,
@@ -288,4 +405,8 @@ def load_report_content(path: Path, reviewer: str | None = None) -> ReportConten
         reviewer=chosen.reviewer,
         signed_off_at=chosen.signed_off_at,
         reader_statements=chosen.statements,
+        role=chosen.role,
+        printed=own_reading_words(
+            chosen.reviewer, chosen.role, ", chosen for this report; not the final reading"
+        ),
     )

@@ -18,7 +18,7 @@ from reviewapp.core.errors import ReviewError
 from reviewapp.core.measure import limit_text
 from reviewapp.core.measure import reason_text as rt
 from reviewapp.core.measure.types import ValueReason
-from reviewapp.report.content import ReportContent
+from reviewapp.report.content import ReportContent, printed_words
 from reviewapp.report.layout import PageLayout, page_layout
 
 PDF_DPI = 2540  # 1 mm = 100 device units exactly
@@ -241,6 +241,9 @@ def _write_csv_rows(fh: TextIO, content: ReportContent) -> None:
             [content.record.name, quantity, label, *blank, *tail, *_reason_cells(tuple(reasons))]
         )
     w.writerow([])
+    if content.printed:
+        # Which reading the values are (the final one, or one reader's own), its flags, notes.
+        w.writerow([f"# {printed_words(content)}"])
     w.writerow([f"# {CLINICAL_CAUTION}"])
 
 

@@ -21,7 +21,7 @@ from PySide6.QtGui import QColor, QPainter
 
 from reviewapp import CLINICAL_CAUTION
 from reviewapp.core.interpret import CATEGORY_NAMES
-from reviewapp.report.content import ReportContent
+from reviewapp.report.content import STATUS_WORDS, ReportContent, printed_words, reader_words
 from reviewapp.report.layout import PageLayout, Rect
 from reviewapp.report.page import (
     FLAG,
@@ -118,17 +118,21 @@ def paint_interpretation_page(
             subj.sex or "sex not stated",
         )
     )
-    status = {
-        "signed_off": "signed off",
-        "in_progress": "in progress (not signed off)",
-        "unread": "unread: automated statements only, not verified by a reader",
-    }.get(content.status, content.status)
-    reading = f"reading {status}" + (f" by {content.reviewer}" if content.reviewer else "")
-    if content.status == "signed_off" and content.signed_off_at:
+    status = STATUS_WORDS.get(content.status, content.status)
+    if content.status == "unread":
+        status = "unread: automated statements only, not verified by a reader"
+    reader = reader_words(content)
+    reading = f"reading {status}" + (f" by {reader}" if reader else "")
+    if content.status in ("signed_off", "adjudicated") and content.signed_off_at:
         reading += f" at {_utc_text(content.signed_off_at)}"
     c.text(left, top + 8.6, f"{who}  ·  {reading}", 7.5, max_w=right - left)
+    # Which reading this is (the final one, or one reader's own), its flags and notes.
+    y = top + 11.0
+    for row in _wrap(c, printed_words(content), right - left, 7.0, max_lines=3):
+        y += 3.0
+        c.text(left, y, row, 7.0, max_w=right - left)
     foot_y = layout.footer.bottom
-    body = Rect(left, top + 11.0, right - left, foot_y - 12.0 - (top + 11.0))
+    body = Rect(left, y + 1.2, right - left, foot_y - 12.0 - (y + 1.2))
     col_gap = 6.0
     reader_w = 0.36 * body.w if content.reader_statements else 0.0
     auto = Rect(body.x + (reader_w + col_gap if reader_w else 0.0), body.y,

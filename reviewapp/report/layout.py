@@ -17,8 +17,14 @@ from __future__ import annotations
 import itertools
 import math
 from dataclasses import dataclass
+from typing import TypeVar
+
+import numpy as np
 
 from reviewapp.core.record import STANDARD_12
+
+# A position or a whole trace of positions: x_of/y_of map one value or an array alike.
+Values = TypeVar("Values", float, np.ndarray)
 
 # ISO 216 A4 and ANSI Letter, portrait width x height in mm (landscape swaps them).
 PAPER_MM = {"a4": (210.0, 297.0), "letter": (215.9, 279.4)}
@@ -151,11 +157,11 @@ class PageLayout:
         room = self.row_baselines_mm[0] - self.grid.y - 0.5
         return CAL_PULSE_MV if CAL_PULSE_MV * self.gain_mm_per_mv <= room else CAL_PULSE_MV / 2
 
-    def x_of(self, t_s: float, t0_s: float = 0.0) -> float:
+    def x_of(self, t_s: Values, t0_s: float = 0.0) -> Values:
         """x (mm) of time ``t_s`` on a strip starting at ``t0_s`` at the trace origin."""
         return self.trace_x0_mm + (t_s - t0_s) * self.speed_mm_per_s
 
-    def y_of(self, mv: float, row: int) -> float:
+    def y_of(self, mv: Values, row: int) -> Values:
         """y (mm) of ``mv`` on row ``row`` (positive up)."""
         return self.row_baselines_mm[row] - mv * self.gain_mm_per_mv
 

@@ -26,7 +26,13 @@ from PySide6.QtGui import QBrush, QColor, QFont, QFontMetricsF, QPainter, QPen, 
 from reviewapp import CLINICAL_CAUTION
 from reviewapp.core.measure import limit_text
 from reviewapp.core.measure import reason_text as rt
-from reviewapp.report.content import MarkPair, MeasurementRow, ReportContent, study_facts
+from reviewapp.report.content import (
+    MarkPair,
+    MeasurementRow,
+    ReportContent,
+    reader_words,
+    study_facts,
+)
 from reviewapp.report.layout import (
     CAL_PULSE_S,
     FIDUCIAL_LANES,
@@ -51,6 +57,7 @@ MARK_AUTO = QColor(90, 90, 90)
 MARK_REVIEWED = QColor(0, 70, 190)
 FLAG = QColor(170, 0, 0)
 STATUS_COLOURS = {
+    "adjudicated": QColor(0, 110, 40),
     "signed_off": QColor(0, 110, 40),
     "in_progress": QColor(150, 90, 0),
     "unread": QColor(170, 0, 0),
@@ -507,15 +514,20 @@ def _draw_header(c: _Canvas, lo: PageLayout, content: ReportContent) -> None:
     st = lo.status
     y = st.y + 3.3
     status_text = {
+        "adjudicated": "ADJUDICATED",
         "signed_off": "SIGNED OFF",
         "in_progress": "IN PROGRESS (not signed off)",
         "unread": "UNREAD: automated marks only, not verified by a reader",
     }.get(content.status, content.status)
     who = ""
+    if content.printed.startswith("final reading"):
+        status_text += " (final reading)"
     if content.reviewer:
-        who = f"  ·  reviewer {content.reviewer}"
-    if content.status == "signed_off" and content.signed_off_at:
+        who = f"  ·  {reader_words(content)}"
+    if content.status in ("signed_off", "adjudicated") and content.signed_off_at:
         who += f"  ·  signed {_utc_text(content.signed_off_at)}"
+    if content.final_flags:
+        who += "  ·  ⚠ " + ", ".join(content.final_flags)
     w = c.text(st.x, y, "Reading: ", 8.0, bold=True)
     w += c.text(
         st.x + w,
@@ -528,7 +540,7 @@ def _draw_header(c: _Canvas, lo: PageLayout, content: ReportContent) -> None:
     )
     corrected = content.n_corrected
     marks_text = (
-        f"  ·  {corrected} mark(s) corrected by the reviewer; values below use them"
+        f"  ·  values use {corrected} corrected mark(s)"
         if corrected
         else "  ·  values below from automatic marks"
     )

@@ -139,9 +139,10 @@ ACTIONS: tuple[ActionSpec, ...] = (
     ),
     A(
         "median_auto",
-        "Median beat where there is room",
+        "Median beat sized to the page",
         "view.set_median_automatic",
-        tip="Show the median beats below the page whenever the page leaves room for them",
+        tip="Show the median beats below the page, taking the height the page leaves (at "
+        "least a readable strip, whatever the gain and layout)",
     ),
     A(
         "superimpose",
@@ -196,6 +197,15 @@ ACTIONS: tuple[ActionSpec, ...] = (
         True,
         "Display only: low-pass 40 Hz",
     ),
+    A(
+        "f_centre",
+        "Centre baselines",
+        "view.filters_changed",
+        "Alt+4",
+        True,
+        "Display only: each lead drawn with its baseline on its row (a large DC offset is not "
+        "drawn off the page); amplitudes and values are unchanged",
+    ),
     # Tools, Help
     A(
         "compare",
@@ -208,10 +218,10 @@ ACTIONS: tuple[ActionSpec, ...] = (
     A("about", "About reviewapp", "about"),
     # Keys of the paper only (no menu entry)
     A("tab", "Next caliper part", "calipers.cycle_part", Key.Key_Tab),
-    A("left", "Nudge left", "calipers.nudge", Key.Key_Left, arg=(-1, 0)),
-    A("right", "Nudge right", "calipers.nudge", Key.Key_Right, arg=(+1, 0)),
-    A("up", "Nudge up", "calipers.nudge", Key.Key_Up, arg=(0, +1)),
-    A("down", "Nudge down", "calipers.nudge", Key.Key_Down, arg=(0, -1)),
+    A("left", "Nudge left", "selection.nudge", Key.Key_Left, arg=(-1, 0)),
+    A("right", "Nudge right", "selection.nudge", Key.Key_Right, arg=(+1, 0)),
+    A("up", "Nudge up", "selection.nudge", Key.Key_Up, arg=(0, +1)),
+    A("down", "Nudge down", "selection.nudge", Key.Key_Down, arg=(0, -1)),
 )
 
 # Menus: action names, "-" a separator, ("title", (...)) a submenu, "dock:<name>" a dock's
@@ -296,7 +306,7 @@ MENUS: tuple[tuple[str, tuple[object, ...]], ...] = (
             "dock:keyboard",
         ),
     ),
-    ("Fi&lters", ("f_base", "f_mains", "f_low")),
+    ("Fi&lters", ("f_base", "f_mains", "f_low", "-", "f_centre")),
     ("&Tools", ("compare", "calibrate")),
     ("&Help", ("help", "about")),
 )

@@ -19,7 +19,6 @@ from reviewapp.core.marks.edits import new_id
 from reviewapp.core.marks.model import Caliper
 from reviewapp.core.workflow import Outcome, ReadingWorkflow
 from reviewapp.ui.calipers import CaliperPair
-from reviewapp.ui.mark_items import FiducialMark
 from reviewapp.ui.paper_view import PaperView
 
 PART_NAMES = {"a": "leg 1", "b": "leg 2", "bar": "the whole pair"}
@@ -274,12 +273,11 @@ class CaliperBinding(QtCore.QObject):
             self._tell(Outcome(True, f"{c.name}: arrow keys move {PART_NAMES[c.part]}"))
 
     def nudge(self, step: tuple[int, int]) -> None:
+        """An arrow key on the selected caliper (its selected leg, or the whole pair)."""
         dx, dy = step
-        sel = self.paper.selected
-        if isinstance(sel, CaliperPair):
+        sel = self.selected()
+        if sel is not None:
             sel.nudge(dx, dy)
-        elif isinstance(sel, FiducialMark) and dx:
-            sel.nudge(dx)
 
     # --- the list in the summary --------------------------------------------------------------
     def lines(self) -> list[str]:

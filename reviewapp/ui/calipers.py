@@ -27,8 +27,8 @@ class CaliperGeometry(Protocol):
 
     def x_of_sample(self, sample: float) -> float: ...
     def sample_of_x(self, x_mm: float) -> int: ...
-    def y_of_mv(self, row: int, mv: float) -> float: ...
-    def mv_of_y(self, row: int, y_mm: float) -> float: ...
+    def y_of_mv(self, row: int, mv: float, lead: str | None = None) -> float: ...
+    def mv_of_y(self, row: int, y_mm: float, lead: str | None = None) -> float: ...
     def row_band(self, row: int) -> tuple[float, float]: ...
 
 
@@ -256,7 +256,8 @@ class CaliperPair(pg.GraphicsObject):
             y = self._bar_y()
             return legs, QtCore.QLineF(xa, y, xb, y)
         x = g.x_of_sample(self.at)
-        ya, yb = g.y_of_mv(self.row, self.a_mv), g.y_of_mv(self.row, self.b_mv)
+        ya = g.y_of_mv(self.row, self.a_mv, self.lead)
+        yb = g.y_of_mv(self.row, self.b_mv, self.lead)
         h = AMP_LEG_HALF_MM
         legs = [QtCore.QLineF(x - h, ya, x + h, ya), QtCore.QLineF(x - h, yb, x + h, yb)]
         return legs, QtCore.QLineF(x, ya, x, yb)
@@ -370,7 +371,7 @@ class CaliperPair(pg.GraphicsObject):
                 d = s - g.sample_of_x(x0)
                 self.set_legs(a=a0 + d, b=b0 + d)
         else:
-            mv = g.mv_of_y(self.row, pos.y())
+            mv = g.mv_of_y(self.row, pos.y(), self.lead)
             if part == "a":
                 self.set_levels(a_mv=mv)
             elif part == "b":

@@ -20,6 +20,7 @@ from reviewapp.ui.statement_compare import StatementComparison
 
 if TYPE_CHECKING:
     from reviewapp.core.marks import Comparison, ComparisonRow
+    from reviewapp.core.marks.final import AdjudicatedItem
     from reviewapp.core.marks.model import ReviewerReading
 
 ITEM_LABELS = {
@@ -33,6 +34,7 @@ ITEM_LABELS = {
 # An interval is adjudicated by adopting both of its end marks; QTc follows QT.
 ADOPTS = {"qtc_bazett_ms": "qt_ms", "qtc_fridericia_ms": "qt_ms"}
 COLUMNS = ("Item", "Reader A", "Reader B", "B − A", "Tolerance", "Verdict", "Final")
+FINAL_COLUMN = COLUMNS.index("Final")
 BEYOND = "▲"
 
 
@@ -50,6 +52,35 @@ def verdict_text(row: ComparisonRow) -> str:
     if row.diff_ms is None:
         return "—"
     return "within tolerance" if row.tolerance_ms is not None else "no tolerance set"
+
+
+def final_words(adjudication: ReviewerReading | None, n_settled: int) -> str:
+    """What the Final column holds, in one sentence."""
+    if adjudication is None or n_settled == 0:
+        return "Final: empty until an adjudicator settles a value."
+    state = "signed" if adjudication.status == "signed_off" else "not signed yet"
+    return (
+        f"Final: {n_settled} value{'s' if n_settled != 1 else ''} adjudicated by "
+        f"{adjudication.reviewer} ({state}); the rest stay empty."
+    )
+
+
+def final_tip(
+    row: ComparisonRow, settled: AdjudicatedItem | None, adjudication: ReviewerReading | None
+) -> str:
+    if settled is None or adjudication is None:
+        return f"{item_label(row)}: not adjudicated; no final value yet."
+    marks = ", ".join(FIDUCIAL_LABELS.get(m, m) for m in settled.marks)
+    state = "signed" if adjudication.status == "signed_off" else "not signed yet"
+    rest = (
+        "the automatic marks"
+        if settled.base_reviewer is None
+        else f"{settled.base_reviewer}'s reading"
+    )
+    return (
+        f"{item_label(row)}: {_ms(settled.value_ms)}, adjudicated by {adjudication.reviewer} "
+        f"({state}): {marks} set by the adjudicator, the other marks as in {rest}."
+    )
 
 
 def _ms(v: float | None, signed: bool = False) -> str:
@@ -193,15 +224,20 @@ class CompareDialog(QtWidgets.QDialog):
         }
 
     def _final_reading(self) -> ReviewerReading | None:
+        """The adjudication the Final column shows: the adjudicator's own, as they make it, in
+        their window; elsewhere the latest signed one (``resolve_final`` applies no other)."""
+        from reviewapp.core.marks.final import choose_adjudication
+
         st = self.workflow.store
         if st is None:
             return None
         if st.role == "adjudicator":
             return st.reading
-        return next((r for r in self._readings().values() if r.role == "adjudicator"), None)
+        return choose_adjudication(self._readings().values())
 
     def refresh(self) -> None:
         from reviewapp.core.marks import compare_readings
+        from reviewapp.core.marks.final import adjudicated_items
 
         readings = self._readings()
         a, b = self.a_box.currentData(), self.b_box.currentData()
@@ -220,17 +256,13 @@ class CompareDialog(QtWidgets.QDialog):
         analysis = self.workflow.analysis
         comp = compare_readings(analysis, readings[a], readings[b], tol)
         final = self._final_reading()
-        key = None if (row := self.statements.selected_row()) is None else row.key
+        picked = self.statements.selected_row()
+        key = None if picked is None else picked.key
         self.statements.show_readings(readings[a], readings[b], final, self._can_adjudicate())
         if key is not None:
             self.statements.select_key(key)
-        finals: dict[str, str] = {}
-        if final is not None:
-            adj = compare_readings(analysis, readings[a], final, tol)
-            finals = {
-                r.item: _ms(r.b_ms) + (" (auto)" if r.source_b == "automatic" else "")
-                for r in adj.rows
-            }
+        # Only what an adjudicator settled is final: every other cell of the column is empty.
+        finals = adjudicated_items(analysis, readings.values(), final)
         self.comparison = comp
         bold = QtGui.QFont(self.table.font())
         bold.setBold(True)
@@ -243,7 +275,7 @@ class CompareDialog(QtWidgets.QDialog):
                 _ms(row.diff_ms, signed=True),
                 "—" if row.tolerance_ms is None else f"± {row.tolerance_ms:g} ms",
                 verdict_text(row),
-                finals.get(row.item, "—"),
+                "" if row.item not in finals else _ms(finals[row.item].value_ms),
             )
             for col, text in enumerate(cells):
                 it = QtWidgets.QTableWidgetItem(text)
@@ -257,7 +289,9 @@ class CompareDialog(QtWidgets.QDialog):
                     it.setBackground(QtGui.QColor(255, 236, 200))
                     it.setForeground(QtGui.QColor(0, 0, 0))
                 it.setToolTip(
-                    f"{item_label(row)}: {a} {_ms(row.a_ms)} ({row.source_a}), "
+                    final_tip(row, finals.get(row.item), final)
+                    if col == FINAL_COLUMN
+                    else f"{item_label(row)}: {a} {_ms(row.a_ms)} ({row.source_a}), "
                     f"{b} {_ms(row.b_ms)} ({row.source_b})"
                 )
                 self.table.setItem(i, col, it)
@@ -265,7 +299,8 @@ class CompareDialog(QtWidgets.QDialog):
         self.summary.setText(
             f"{n} item{'s' if n != 1 else ''} beyond tolerance or present for one reader only "
             f"(A = {a}, B = {b}; fiducials of the median beat, intervals recomputed from each "
-            "reader's marks; '(auto)' = the reader kept the automatic mark)."
+            "reader's marks; '(auto)' = the reader kept the automatic mark). "
+            + final_words(final, len(finals))
         )
         self._update_buttons()
 

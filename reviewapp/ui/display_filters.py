@@ -10,17 +10,21 @@ import numpy as np
 
 @dataclass(frozen=True)
 class DisplayFilters:
-    """Which display filters are on; cut-offs in Hz."""
+    """Which display filters are on; cut-offs in Hz. ``centre``: each lead is drawn with its
+    baseline on its row (its median over the page is taken off the drawing only), so a record
+    with a large DC offset is never drawn off the page."""
 
     baseline: bool = False
     mains: bool = False
     lowpass: bool = False
+    centre: bool = True
     baseline_hz: float = 0.5
     mains_hz: float = 50.0
     lowpass_hz: float = 40.0
 
     @property
     def any(self) -> bool:
+        """A filter that changes the wave shapes is on (centring only moves a trace)."""
         return self.baseline or self.mains or self.lowpass
 
     def legend(self) -> str:
@@ -31,7 +35,30 @@ class DisplayFilters:
             parts.append(f"mains notch {self.mains_hz:g} Hz")
         if self.lowpass:
             parts.append(f"low-pass {self.lowpass_hz:g} Hz")
-        return "Display filters: " + (", ".join(parts) if parts else "off (raw signal)")
+        text = "Display filters: " + (", ".join(parts) if parts else "off (raw signal)")
+        return text + ("; baselines centred on their rows" if self.centre else "")
+
+
+def baseline_offsets_mv(x_mv: np.ndarray) -> np.ndarray:
+    """Each lead's baseline for display: the median of its finite samples (0 where it has
+    none). The median ignores the QRS spikes, which are brief, so it is where the isoelectric
+    line is drawn (common practice, no source).
+
+    >>> import numpy as np
+    >>> x = np.full((500, 2), 4.8, np.float32); x[100:110, 0] = 6.0; x[:, 1] = np.nan
+    >>> baseline_offsets_mv(x).round(2).tolist()
+    [4.8, 0.0]
+    """
+    import warnings
+
+    x = np.asarray(x_mv, dtype=np.float64)
+    if x.ndim != 2 or x.shape[0] == 0:
+        return np.zeros(x.shape[1] if x.ndim == 2 else 0)
+    x = np.where(np.isfinite(x), x, np.nan)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)  # an all-gap lead: no baseline
+        out = np.nanmedian(x, axis=0)
+    return np.nan_to_num(out, nan=0.0)
 
 
 def apply_display_filters(x_mv: np.ndarray, fs_hz: float, f: DisplayFilters) -> np.ndarray:

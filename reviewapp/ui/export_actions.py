@@ -17,7 +17,7 @@ from PySide6.QtWidgets import QFileDialog, QMainWindow
 
 from reviewapp.core.errors import ReviewError
 from reviewapp.core.workflow import ReadingWorkflow
-from reviewapp.report.content import ReportContent, build_report_content
+from reviewapp.report.content import ReportContent, build_report_content, own_reading_words
 from reviewapp.report.export import (
     MM_PER_INCH,
     write_image,
@@ -33,12 +33,12 @@ WorkflowGetter = Callable[[], ReadingWorkflow | None]
 def report_content(workflow: ReadingWorkflow) -> ReportContent:
     """The report page's content for the reading on screen (corrections, status, reviewer)."""
     store = workflow.store
-    status, reviewer, signed_at = "unread", None, None
+    status, reviewer, signed_at, role = "unread", None, None, None
     statements: tuple = ()
     if store is not None:
         reading = store.reading
         status, reviewer, signed_at = reading.status, reading.reviewer, reading.signed_off_at
-        statements = reading.statements
+        statements, role = reading.statements, reading.role
     overrides = workflow.engine_overrides
     if overrides and status == "unread":
         status = "in_progress"
@@ -49,6 +49,8 @@ def report_content(workflow: ReadingWorkflow) -> ReportContent:
         reviewer=reviewer,
         signed_off_at=signed_at,
         reader_statements=statements,
+        role=role,
+        printed=own_reading_words(reviewer, role, ", as on screen"),
     )
 
 

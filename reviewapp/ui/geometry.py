@@ -3,12 +3,18 @@
 The paper canvas is drawn in millimetres (y grows downwards). A sample index and a millivolt
 value map to a point through the page start, the cell's row and the ``PaperScale``; calipers
 and marks keep samples and millivolts, and ask this object where to draw.
+
+Each extra-lead group (Frank X, Y, Z ...) starts after a gap of one large square that holds
+its heading. ``offsets_mv`` is the display-only baseline centring: a lead's trace is drawn
+that many millivolts lower (its baseline on its row), and every millivolt the reader reads
+off the paper (an amplitude caliper) is converted back, so the values stay the signal's own.
 """
 
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from collections.abc import Mapping
+from dataclasses import dataclass, field
 
 from reviewapp.ui.layouts import Cell, PageLayout
 from reviewapp.ui.paper import PaperScale
@@ -17,6 +23,7 @@ LEFT_MARGIN_MM = 14.0  # room for the 1 mV pulse before each row's trace
 TOP_MARGIN_MM = 10.0  # room for the speed/gain line
 BOTTOM_MARGIN_MM = 10.0
 RIGHT_MARGIN_MM = 5.0
+GROUP_GAP_MM = 5.0  # one large square above each extra-lead group, for its heading
 
 
 def row_pitch_mm(gain_mm_per_mv: float) -> float:
@@ -33,6 +40,8 @@ class PageGeometry:
     scale: PaperScale
     fs_hz: float
     page_start: int  # record sample index at the page's left edge
+    # Display-only baseline offset of each lead (mV), subtracted where its trace is drawn.
+    offsets_mv: Mapping[str, float] = field(default_factory=dict, compare=False, hash=False)
 
     @property
     def pitch_mm(self) -> float:
@@ -48,7 +57,8 @@ class PageGeometry:
 
     @property
     def height_mm(self) -> float:
-        return TOP_MARGIN_MM + self.layout.n_rows * self.pitch_mm + BOTTOM_MARGIN_MM
+        gaps = GROUP_GAP_MM * len(self.layout.groups)
+        return TOP_MARGIN_MM + self.layout.n_rows * self.pitch_mm + gaps + BOTTOM_MARGIN_MM
 
     def x_of_time(self, t_page_s: float) -> float:
         return LEFT_MARGIN_MM + self.scale.x_mm(t_page_s)
@@ -61,26 +71,48 @@ class PageGeometry:
         t = self.scale.seconds_from_mm(x_mm - LEFT_MARGIN_MM)
         return self.page_start + round(t * self.fs_hz)
 
+    def row_top(self, row: int) -> float:
+        """y (mm) of the top of ``row``: the rows above it and the group gaps above it."""
+        gaps = sum(1 for g in self.layout.groups if g.first_row <= row)
+        return TOP_MARGIN_MM + row * self.pitch_mm + gaps * GROUP_GAP_MM
+
     def baseline_y(self, row: int) -> float:
-        return TOP_MARGIN_MM + (row + 0.5) * self.pitch_mm
+        return self.row_top(row) + 0.5 * self.pitch_mm
 
-    def y_of_mv(self, row: int, mv: float) -> float:
-        return self.baseline_y(row) - self.scale.y_mm(mv)
+    def offset_mv(self, lead: str | None) -> float:
+        return 0.0 if lead is None else float(self.offsets_mv.get(lead, 0.0))
 
-    def mv_of_y(self, row: int, y_mm: float) -> float:
-        return self.scale.mv_from_mm(self.baseline_y(row) - y_mm)
+    def y_of_mv(self, row: int, mv: float, lead: str | None = None) -> float:
+        """y (mm) of ``mv`` of ``lead`` on ``row`` (its display offset taken off)."""
+        return self.baseline_y(row) - self.scale.y_mm(mv - self.offset_mv(lead))
+
+    def mv_of_y(self, row: int, y_mm: float, lead: str | None = None) -> float:
+        return self.scale.mv_from_mm(self.baseline_y(row) - y_mm) + self.offset_mv(lead)
 
     def row_band(self, row: int) -> tuple[float, float]:
-        top = TOP_MARGIN_MM + row * self.pitch_mm
+        top = self.row_top(row)
         return top, top + self.pitch_mm
 
+    def row_at(self, y_mm: float) -> int | None:
+        """The row whose band holds ``y_mm`` (None in a margin or a group's heading gap)."""
+        for row in range(self.layout.n_rows):
+            top, bottom = self.row_band(row)
+            if top <= y_mm < bottom:
+                return row
+        return None
+
     def cell_at(self, x_mm: float, y_mm: float) -> Cell | None:
-        row = math.floor((y_mm - TOP_MARGIN_MM) / self.pitch_mm)
+        row = self.row_at(y_mm)
         t = self.scale.seconds_from_mm(x_mm - LEFT_MARGIN_MM)
         for c in self.layout.cells:
             if c.row == row and c.t0_s <= t <= c.t1_s:
                 return c
         return None
+
+    def cell_of(self, row: int, sample: int) -> Cell | None:
+        """The cell of ``row`` showing ``sample``."""
+        t = (sample - self.page_start) / self.fs_hz
+        return next((c for c in self.layout.cells_at(t) if c.row == row), None)
 
     def sample_range(self, cell: Cell) -> tuple[int, int]:
         return (

@@ -27,6 +27,7 @@ if TYPE_CHECKING:
     from reviewapp.core.marks.model import ReaderStatement
 
 ROLE = QtCore.Qt.ItemDataRole.UserRole
+FOLLOW_PAUSE_MS = 120  # a drag's pause after which the automatic statements follow
 ORIGIN_WORDS = {
     "automatic": "taken over from the automatic statements",
     "catalogue": "picked from the catalogue",
@@ -339,7 +340,14 @@ class InterpretationView(QtCore.QObject):
         self._unsubscribe: Callable[[], None] | None = None
         self.picker: StatementPickerDialog | None = None
         started.connect(self._started)
-        values_changed.connect(lambda _r: self.refresh_automatic())
+        # The automatic statements follow the values: at once for a correction, and when the
+        # movement pauses for a drag or a nudge not yet recorded (rebuilding the lists and
+        # their criteria on every step would slow the drag by several ms).
+        self._pause = QtCore.QTimer(self)
+        self._pause.setSingleShot(True)
+        self._pause.setInterval(FOLLOW_PAUSE_MS)
+        self._pause.timeout.connect(self.refresh_automatic)
+        values_changed.connect(self._values_changed)
         p = panel
         p.add_button.clicked.connect(lambda: self.add_from_catalogue())
         p.free_button.clicked.connect(lambda: self.add_own_words())
@@ -362,8 +370,14 @@ class InterpretationView(QtCore.QObject):
     def _changed(self, ch: WorkflowChange) -> None:
         if ch.stored:
             self.refresh_mine()
-        if ch.values:
-            self.refresh_automatic()
+
+    def _values_changed(self, reading: object) -> None:
+        w = self._workflow()
+        if w is not None and reading is not w.committed_reading:
+            self._pause.start()
+            return
+        self._pause.stop()
+        self.refresh_automatic()
 
     def refresh(self) -> None:
         self.refresh_mine()

@@ -25,6 +25,7 @@ from reviewapp.ui.page_controls import PageControls
 from reviewapp.ui.paper import PaperScale, screen_px_per_mm
 from reviewapp.ui.reading_panel import ReadingPanel
 from reviewapp.ui.records_dock import RecordsDock, list_records
+from reviewapp.ui.selection import SelectionKeys
 from reviewapp.ui.summary import SummaryPanel
 from reviewapp.ui.theme import LIGHT, THEMES
 from reviewapp.ui.workflow_adapter import WorkflowAdapter
@@ -33,6 +34,7 @@ if TYPE_CHECKING:
     from reviewapp.core.engine import Reading
 
 Area = QtCore.Qt.DockWidgetArea
+DOCK_PAUSE_MS = 120  # a median-beat drag's pause after which the Measurements dock follows
 
 
 def default_settings() -> QtCore.QSettings:
@@ -100,9 +102,14 @@ class MainWindow(QtWidgets.QMainWindow):
         self.help_dock = self._dock("Keyboard", HelpPanel(), Area.RightDockWidgetArea)
         self.help_dock.setVisible(False)
 
+        self._dock_timer = QtCore.QTimer(self)
+        self._dock_timer.setSingleShot(True)
+        self._dock_timer.setInterval(DOCK_PAUSE_MS)
+        self._dock_timer.timeout.connect(self._fill_dock)
         self.calipers = CaliperBinding(self.paper, self)
+        self.selection = SelectionKeys(self.paper, self.median, self.calipers, self)
         self.adapter = WorkflowAdapter(
-            self, s, self.acts, self.reading_panel, self.records, self.calipers.flush
+            self, s, self.acts, self.reading_panel, self.records, self._flush_nudges
         )
         self.reader_label = self.adapter.reader_label
         self.interpretation = InterpretationView(
@@ -144,6 +151,8 @@ class MainWindow(QtWidgets.QMainWindow):
         a, c = self.adapter, self.calipers
         self.paper.mark_edit.connect(a.mark_edit)
         self.median.mark_edit.connect(a.mark_edit)
+        self.selection.edit.connect(a.mark_edit)
+        self.selection.report.connect(a.tell)
         a.started.connect(self._reading_started)
         a.values_changed.connect(self._show_values)
         a.marks_changed.connect(self._refresh_marks)
@@ -166,6 +175,11 @@ class MainWindow(QtWidgets.QMainWindow):
             self.resizeDocks([self.summary_dock], [480], QtCore.Qt.Orientation.Horizontal)
             self.resizeDocks([self.records], [190], QtCore.Qt.Orientation.Horizontal)
         self.summary_dock.setMinimumWidth(470)
+
+    def _flush_nudges(self) -> None:
+        """Nudges waiting for the reader's pause become their steps (before any other step)."""
+        self.calipers.flush()
+        self.selection.flush()
 
     @property
     def workflow(self) -> ReadingWorkflow | None:
@@ -222,6 +236,11 @@ class MainWindow(QtWidgets.QMainWindow):
             show_error(self, err)
             self.records.show_page(self.records.page_path)
             return False
+        if self.adapter.ask_lock(record) == "cancel":
+            # Open in another window and the reader cancelled: the page stays as it was.
+            self.records.show_page(self.records.page_path)
+            self.statusBar().showMessage(f"Not opened: {record.name} (open in another window).")
+            return False
         self.settings.setValue("files/last_dir", str(path.parent))
         if self.records.folder != path.parent:
             self.records.show_folder(path.parent, list_records(path.parent))
@@ -270,11 +289,29 @@ class MainWindow(QtWidgets.QMainWindow):
 
     def _show_values(self, reading: Reading) -> None:
         w = self.workflow
-        if w is not None and self.record is not None:
-            fixed = {f for f in FIDUCIALS if w.is_corrected(MarkTarget("representative", f))}
-            self.summary.show_reading(
-                reading, self.record.subject, fixed, hide_automatic=w.hide_automatic
-            )
+        if w is None or self.record is None:
+            return
+        live = reading is not w.committed_reading  # a drag or a nudge not yet recorded
+        if live and self.median.show_values(reading):
+            # The magnified beat shows the values beside the mark being moved; the dock
+            # follows when the movement pauses (its relayout would slow every step).
+            self._dock_timer.start()
+            return
+        self._dock_timer.stop()
+        self._fill_dock()
+        self.median.show_values(reading)
+
+    def _fill_dock(self) -> None:
+        w = self.workflow
+        if w is None or self.record is None:
+            return
+        reading = w.reading
+        # A drag's values (not yet a correction) keep the table's columns still.
+        self.summary.hold_column_widths(reading is not w.committed_reading)
+        fixed = {f for f in FIDUCIALS if w.is_corrected(MarkTarget("representative", f))}
+        self.summary.show_reading(
+            reading, self.record.subject, fixed, hide_automatic=w.hide_automatic
+        )
 
     def _refresh_marks(self) -> None:
         self.paper.rebuild_marks()

@@ -16,8 +16,9 @@ from reviewapp.core.fiducials import FIDUCIAL_LABELS
 from reviewapp.core.workflow import MarkTarget
 from reviewapp.ui.theme import Theme, mark_colour
 
-GRAB_PX = 5.0
-# GRAB_PX: half-width of the grab zone around a mark line, in screen pixels.
+GRAB_PX = 5.0  # half-width of the grab zone around a mark line, in screen pixels
+HALO_PX = 9.0  # width of a selected mark's halo, in screen pixels
+HALO_ALPHA = 0.30
 TICK_MM = 2.0  # automatic marks: firm ticks this long at the top and bottom of each row
 SHORT_LABELS = {
     "p_on": "P on",
@@ -31,10 +32,13 @@ SHORT_LABELS = {
 class FiducialMark(pg.GraphicsObject):
     """One boundary (P onset ... T end) of one beat, drawn across the rows that show it.
 
-    Signals: ``dragging(mark, sample)`` while the reader drags, ``dropped(mark, sample)`` on
-    release (only when it moved), ``reset_requested(mark)`` on double-click.
+    Signals: ``pressed(mark)`` when the reader takes it (it becomes the selection the arrow
+    keys move), ``dragging(mark, sample)`` while the reader drags, ``dropped(mark, sample)``
+    on release (only when it moved), ``reset_requested(mark)`` on double-click. A selected
+    mark is drawn firm with a halo, so the reader sees what the keys will move.
     """
 
+    pressed = QtCore.Signal(object)
     dragging = QtCore.Signal(object, int)
     dropped = QtCore.Signal(object, int)
     reset_requested = QtCore.Signal(object)
@@ -64,6 +68,7 @@ class FiducialMark(pg.GraphicsObject):
         self._fs = fs_hz
         self._start_sample: int | None = None
         self._hover = False
+        self.selected = False
         self._hw: float | None = None
         self._br: QtCore.QRectF | None = None
         self.set_theme(theme)
@@ -88,7 +93,15 @@ class FiducialMark(pg.GraphicsObject):
         )
         self._tick_pen = pg.mkPen(base, width=1.6, cosmetic=True)
         self._hover_pen = pg.mkPen(base, width=2.0, style=style, cosmetic=True)
+        halo = QtGui.QColor(theme.highlight)
+        halo.setAlphaF(HALO_ALPHA)
+        self._halo_pen = pg.mkPen(halo, width=HALO_PX, cosmetic=True)
         self.update()
+
+    def set_selected(self, on: bool) -> None:
+        if on != self.selected:
+            self.selected = on
+            self.update()
 
     def set_corrected(self, corrected: bool, theme: Theme) -> None:
         self.corrected = corrected
@@ -100,10 +113,15 @@ class FiducialMark(pg.GraphicsObject):
         where = "" if self.beat_index is None else f" of the beat at {self.sample / self._fs:.3f} s"
         self.setToolTip(
             f"{FIDUCIAL_LABELS[self.fiducial]}{where} ({state}). Drag to correct; "
-            "arrow keys nudge one sample; double-click resets to automatic."
+            "click, then the arrow keys move it one sample; double-click resets to automatic."
         )
 
     # --- geometry ----------------------------------------------------------------------------
+    @property
+    def time_s(self) -> float:
+        """Where the mark is, in seconds from the record's start."""
+        return self.sample / self._fs
+
     @property
     def line_x(self) -> float:
         return self._x_of_sample(self.sample)
@@ -147,8 +165,12 @@ class FiducialMark(pg.GraphicsObject):
 
     def paint(self, painter: QtGui.QPainter, option, widget=None) -> None:
         painter.setRenderHint(QtGui.QPainter.RenderHint.Antialiasing, True)
-        painter.setPen(self._hover_pen if self._hover else self._pen)
         x = self.line_x
+        if self.selected:
+            painter.setPen(self._halo_pen)
+            for top, bottom in self._bands:
+                painter.drawLine(QtCore.QPointF(x, top), QtCore.QPointF(x, bottom))
+        painter.setPen(self._hover_pen if self._hover or self.selected else self._pen)
         for top, bottom in self._bands:
             painter.drawLine(QtCore.QPointF(x, top), QtCore.QPointF(x, bottom))
         if not self.corrected and not self._hover:
@@ -205,6 +227,7 @@ class FiducialMark(pg.GraphicsObject):
             return
         self._start_sample = self.sample
         ev.accept()
+        self.pressed.emit(self)
 
     def mouseMoveEvent(self, ev) -> None:
         if self._start_sample is None:
@@ -231,7 +254,3 @@ class FiducialMark(pg.GraphicsObject):
             return
         self.reset_requested.emit(self)
         ev.accept()
-
-    def nudge(self, delta: int) -> None:
-        self.set_sample(self.sample + delta)
-        self.dropped.emit(self, self.sample)

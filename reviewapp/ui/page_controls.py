@@ -11,14 +11,21 @@ from PySide6 import QtCore, QtGui, QtWidgets
 from reviewapp.core.record import Record
 from reviewapp.ui.calibration import CalibrationDialog
 from reviewapp.ui.display_filters import DisplayFilters
-from reviewapp.ui.layouts import LAYOUTS
+from reviewapp.ui.layouts import DEFAULT_RHYTHM_LEADS, GRID_MIN_STANDARD, LAYOUTS
 from reviewapp.ui.median_view import MedianBeatView
 from reviewapp.ui.overview import OverviewStrip
 from reviewapp.ui.paper import GAINS_MM_PER_MV, SPEEDS_MM_PER_S, PaperScale
 from reviewapp.ui.paper_view import PaperView
 from reviewapp.ui.theme import DARK, LIGHT, Theme, apply_palette
 
-MEDIAN_MIN_PX = 240  # room below the page that the median beats take by themselves
+MEDIAN_MIN_PX = 300  # the median beats' least height: never squeezed out by the page
+PAPER_MIN_PX = 160  # the paper's least height beside them
+FILTER_KEYS = (
+    ("f_base", "baseline"),
+    ("f_mains", "mains"),
+    ("f_low", "lowpass"),
+    ("f_centre", "centre"),
+)
 
 
 def _nearest(values: tuple[float, ...], v: float) -> int:
@@ -57,15 +64,23 @@ class PageControls(QtCore.QObject):
         self.actions = actions
         self._has_reading = has_reading
         self.record: Record | None = None
-        self.filters = DisplayFilters()
-        # The median beats go below the paper by themselves while there is room for them,
-        # until the reader toggles them (B).
+        self.filters = self._stored_filters()
+        # The median beats go below the paper by themselves, in the height the page leaves
+        # (never less than MEDIAN_MIN_PX), until the reader toggles them (B).
         self.median_auto = True
         self.paper = PaperView(scale, theme)
         self.overview = OverviewStrip(theme)
         self.overview.setVisible(False)
         self.median = MedianBeatView(scale, theme)
-        self.median.setVisible(False)
+        # The median beats with the magnifier's bar above them: one area, shown or hidden.
+        self.median_area = QtWidgets.QWidget()
+        self.median_area.setObjectName("median_area")
+        ml = QtWidgets.QVBoxLayout(self.median_area)
+        ml.setContentsMargins(0, 0, 0, 0)
+        ml.setSpacing(0)
+        ml.addWidget(self.median.bar)
+        ml.addWidget(self.median, 1)
+        self.median_area.setVisible(False)
         paper_box = QtWidgets.QWidget()
         pl = QtWidgets.QVBoxLayout(paper_box)
         pl.setContentsMargins(0, 0, 0, 0)
@@ -77,7 +92,7 @@ class PageControls(QtCore.QObject):
         self.split = QtWidgets.QSplitter(QtCore.Qt.Orientation.Vertical)
         self.split.setObjectName("split_paper_median")
         self.split.addWidget(paper_box)
-        self.split.addWidget(self.median)
+        self.split.addWidget(self.median_area)
         self.split.setChildrenCollapsible(False)
         self.speed_box = _box(
             "Paper speed ([ and ])", [(f"{v:g} mm/s", v) for v in SPEEDS_MM_PER_S]
@@ -95,7 +110,7 @@ class PageControls(QtCore.QObject):
         self.filters_button.setToolTip("Display filters (the signal and the values are unchanged)")
         self.filters_button.setPopupMode(QtWidgets.QToolButton.ToolButtonPopupMode.InstantPopup)
         menu = QtWidgets.QMenu(self.filters_button)
-        for name in ("f_base", "f_mains", "f_low"):
+        for name, _field in FILTER_KEYS:
             menu.addAction(actions[name])
         self.filters_button.setMenu(menu)
         self.scale_label = QtWidgets.QLabel()
@@ -105,6 +120,7 @@ class PageControls(QtCore.QObject):
         self._median_timer.timeout.connect(self.auto_median)
         self.paper.zoom_changed.connect(lambda _z: self.update_status())
         self.overview.page_requested.connect(self.page_from_overview)
+        self.set_filters(self.filters)
 
     def view_group(self) -> QtWidgets.QWidget:
         """Speed, gain, layout and rhythm lead as one toolbar group."""
@@ -128,8 +144,7 @@ class PageControls(QtCore.QObject):
         self.rhythm_box.clear()
         for n in record.lead_names:
             self.rhythm_box.addItem(n, n)
-        want = self.paper.rhythm_leads[0] if self.paper.rhythm_leads else "II"
-        self.rhythm_box.setCurrentIndex(max(0, self.rhythm_box.findData(want)))
+        self._sync_rhythm_box()
         long = record.duration_s > self.paper.page_s + 1e-9
         self.overview.setVisible(long)
         if long:
@@ -177,21 +192,49 @@ class PageControls(QtCore.QObject):
         for k in LAYOUTS:
             self.actions[f"layout_{k}"].setChecked(k == key)
         self.layout_box.setCurrentIndex(max(0, self.layout_box.findData(key)))
-        self.rhythm_box.setEnabled(key.startswith("3x4"))
+        self._sync_rhythm_box()
         self.settings.setValue("view/layout", key)
         self.scale_changed.emit()
         self._page_height_changed()
 
+    def _sync_rhythm_box(self) -> None:
+        """The box names the lead the (first) rhythm strip shows; without a rhythm strip on
+        the page (12 stacked, 6 x 2, or every lead already a full strip) it is off, and says
+        why."""
+        g = self.paper.geom
+        strips = g is not None and g.layout.strips
+        self.layout_box.setToolTip(
+            "Layout (keys 1 to 4)"
+            + (
+                f"; this record has too few of the standard 12 leads for a grid (at least "
+                f"{GRID_MIN_STANDARD}): each lead is a full strip"
+                if strips
+                else ""
+            )
+        )
+        shown = () if g is None else g.layout.rhythm_leads
+        box = self.rhythm_box
+        box.setEnabled(bool(shown))
+        if shown:
+            box.setCurrentIndex(max(0, box.findData(shown[0])))
+            box.setToolTip("Lead of the (first) rhythm strip")
+        elif strips:
+            box.setToolTip("Every lead of this record is a full strip: no rhythm strip")
+        else:
+            box.setToolTip("Lead of the rhythm strip (layouts 3 x 4 with rhythm strips)")
+
     def rhythm_changed(self) -> None:
         lead = self.rhythm_box.currentData()
         if lead:
-            rest = tuple(x for x in ("II", "V1", "V5") if x != lead)
+            rest = tuple(x for x in DEFAULT_RHYTHM_LEADS if x != lead)
             self.paper.set_layout(self.paper.layout_key, rhythm=(lead, *rest))
+            self._sync_rhythm_box()
 
     def set_cabrera(self, on: bool) -> None:
         order = "cabrera" if on else "standard"
         self.paper.set_layout(self.paper.layout_key, order=order)
         self.median.set_lead_order(order)
+        self._sync_rhythm_box()
 
     def set_superimpose(self, on: bool) -> None:
         self.median.set_superimpose(on)
@@ -204,10 +247,12 @@ class PageControls(QtCore.QObject):
         return self.split.height() - (self.paper.page_height_px() + 8)
 
     def auto_median(self) -> None:
-        """Show the median beats below the page while there is room for them and the reader
-        has not toggled them: a tall screen is not left blank."""
+        """Show the median beats below the page, in the height the page leaves and never less
+        than MEDIAN_MIN_PX, until the reader toggles them: a tall screen is not left blank,
+        and a tall page (high gain, three rhythm strips, fifteen leads) scrolls instead of
+        pushing the median beats out."""
         if self.median_auto and self._has_reading():
-            self._place_median(self.median_room_px() >= MEDIAN_MIN_PX)
+            self._place_median(True)
 
     def window_resized(self) -> None:
         if self.median_auto:
@@ -223,38 +268,43 @@ class PageControls(QtCore.QObject):
         self.auto_median()
 
     def _page_height_changed(self) -> None:
-        if self.median_auto and self.median.isVisible():
-            self._place_median(False)  # re-placed for the new page height
         self.auto_median()
 
     def _place_median(self, on: bool) -> None:
         self.actions["median"].setChecked(on)
-        if on == self.median.isVisible():
+        if not on:
+            self.median_area.setVisible(False)
             return
-        self.median.setVisible(on)
-        if on:
-            # Give the paper the height of its page at the current zoom (if it fits in 60 %).
-            total = max(1, self.split.height())
-            want = total // 2 if self.paper.geom is None else self.paper.page_height_px() + 8
-            top = max(160, min(want, int(total * 0.6)))
-            self.split.setSizes([top, total - top])
+        self.median_area.setVisible(True)
+        # The paper gets the height of its page at the current zoom, as far as the median
+        # beats keep their least height.
+        total = max(1, self.split.height())
+        strip = self.overview.sizeHint().height() if self.overview.isVisibleTo(self.window) else 0
+        want = total // 2 if self.paper.geom is None else self.paper.page_height_px() + 8 + strip
+        top = max(PAPER_MIN_PX, min(want, total - MEDIAN_MIN_PX))
+        self.split.setSizes([top, max(0, total - top)])
 
     # --- filters and theme --------------------------------------------------------------------
+    def _stored_filters(self) -> DisplayFilters:
+        """The display filters as the reader last left them (baseline centring on at first)."""
+        default = DisplayFilters()
+        on = {
+            field: self.settings.value(f"view/filters/{field}", getattr(default, field), type=bool)
+            for _name, field in FILTER_KEYS
+        }
+        return DisplayFilters(**{k: bool(v) for k, v in on.items()})
+
     def filters_changed(self, _on: bool = False) -> None:
         a = self.actions
         self.set_filters(
-            DisplayFilters(
-                baseline=a["f_base"].isChecked(),
-                mains=a["f_mains"].isChecked(),
-                lowpass=a["f_low"].isChecked(),
-            )
+            DisplayFilters(**{field: a[name].isChecked() for name, field in FILTER_KEYS})
         )
 
     def set_filters(self, filters: DisplayFilters) -> None:
-        a = self.actions
-        a["f_base"].setChecked(filters.baseline)
-        a["f_mains"].setChecked(filters.mains)
-        a["f_low"].setChecked(filters.lowpass)
+        """Display filters on the page; remembered for the next record and the next start."""
+        for name, field in FILTER_KEYS:
+            self.actions[name].setChecked(getattr(filters, field))
+            self.settings.setValue(f"view/filters/{field}", getattr(filters, field))
         self.filters = filters
         self.paper.set_filters(filters)
         # The button says how many display filters are on: a filtered trace must not pass

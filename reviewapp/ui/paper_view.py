@@ -20,13 +20,17 @@ from reviewapp.core.record import Record
 from reviewapp.core.workflow import MarkAction, MarkEdit, MarkTarget, ReadingWorkflow
 from reviewapp.ui.beat_tags import beat_tag_items
 from reviewapp.ui.calipers import CaliperPair
-from reviewapp.ui.display_filters import DisplayFilters, apply_display_filters
+from reviewapp.ui.display_filters import (
+    DisplayFilters,
+    apply_display_filters,
+    baseline_offsets_mv,
+)
 from reviewapp.ui.geometry import LEFT_MARGIN_MM, TOP_MARGIN_MM, PageGeometry
 from reviewapp.ui.layouts import DEFAULT_RHYTHM_LEADS, build_layout
 from reviewapp.ui.mark_items import FiducialMark
 from reviewapp.ui.paper import PaperGrid, PaperScale
 from reviewapp.ui.theme import LIGHT, Theme
-from reviewapp.ui.traces import CalibrationPulse, LeadTrace, lead_label
+from reviewapp.ui.traces import CalibrationPulse, LeadTrace, group_heading, lead_label
 
 DEFAULT_PAGE_S = 10.0
 FILTER_PAD_S = 1.0  # extra signal each side so display filters settle before the page edge
@@ -40,6 +44,7 @@ class PaperView(pg.GraphicsView):
     caliper_rename = QtCore.Signal(object)
     caliper_drag_finished = QtCore.Signal(object)
     zoom_changed = QtCore.Signal(float)
+    selection_changed = QtCore.Signal(object)  # the selected caliper or beat mark, or None
 
     def __init__(self, scale: PaperScale, theme: Theme = LIGHT, parent=None) -> None:
         super().__init__(parent)
@@ -60,6 +65,7 @@ class PaperView(pg.GraphicsView):
         self.beat_tags: list[pg.TextItem] = []  # words under non-dominant beats (beat_tags)
         self.calipers: list[CaliperPair] = []
         self.selected: CaliperPair | FiducialMark | None = None
+        self.baselines_mv: dict[str, float] = {}  # each lead's median on the page (display)
         self._furniture: list[QtCore.QObject] = []
         self._zoom = 1.0
         self._after_paint: list = []
@@ -193,15 +199,20 @@ class PaperView(pg.GraphicsView):
             order=self.lead_order,
             rhythm_leads=self.rhythm_leads,
         )
-        geom = PageGeometry(layout, self.scale, rec.fs_hz, self.page_start)
-        self.geom = geom
-        self.grid.set_geometry(QtCore.QRectF(0, 0, geom.width_mm, geom.height_mm), 1.0, 1.0)
         fs = rec.fs_hz
+        page_samples = round(layout.page_s * fs)
         pad = round(FILTER_PAD_S * fs) if self.filters.any else 0
         lo = max(0, self.page_start - pad)
-        hi = min(rec.n_samples, self.page_start + geom.page_samples + pad)
+        hi = min(rec.n_samples, self.page_start + page_samples + pad)
         data = rec.window(lo, hi)
         data = apply_display_filters(data, fs, self.filters)
+        on_page = data[self.page_start - lo : self.page_start - lo + page_samples]
+        baselines = dict(zip(rec.lead_names, baseline_offsets_mv(on_page).tolist(), strict=True))
+        self.baselines_mv = baselines
+        offsets = baselines if self.filters.centre else {}
+        geom = PageGeometry(layout, self.scale, fs, self.page_start, offsets)
+        self.geom = geom
+        self.grid.set_geometry(QtCore.QRectF(0, 0, geom.width_mm, geom.height_mm), 1.0, 1.0)
         for cell in layout.cells:
             s0, s1 = geom.sample_range(cell)
             s1 = min(s1 + 1, rec.n_samples)  # join the columns without a gap
@@ -221,12 +232,16 @@ class PaperView(pg.GraphicsView):
             pulse.set_geometry(geom)
             self.vb.addItem(pulse)
             self._furniture.append(pulse)
+        for group in layout.groups:
+            heading = group_heading(group, geom, self.theme)
+            self.vb.addItem(heading)
+            self._furniture.append(heading)
         self._add_column_ticks(geom)
         self.header.setColor(self.theme.text)
         self.footer.setColor(self.theme.text_muted)
         self.header.setText(self._header_text())
         self.header.setPos(LEFT_MARGIN_MM, 1.5)
-        self.footer.setText(self.filters.legend())
+        self.footer.setText(self._footer_text())
         self.footer.setPos(LEFT_MARGIN_MM, geom.height_mm - 8.5)
         for c in self.calipers:
             c.set_geometry(geom, self.scale.gain_mm_per_mv)
@@ -237,9 +252,32 @@ class PaperView(pg.GraphicsView):
         rec = self.record
         assert rec is not None and self.geom is not None
         t0 = self.page_start / rec.fs_hz
+        note = self.geom.layout.note
         return (
             f"{self.scale.speed_mm_per_s:g} mm/s     {self.scale.gain_mm_per_mv:g} mm/mV     "
             f"{rec.name}   {_clock(t0)}–{_clock(t0 + self.page_s)} of {_clock(rec.duration_s)}"
+            + (f"     {note}" if note else "")
+        )
+
+    def off_row_leads(self) -> list[str]:
+        """Leads whose baseline lies outside their row as drawn (centring off)."""
+        g = self.geom
+        if g is None or self.filters.centre:
+            return []
+        half_row_mv = 0.5 * g.pitch_mm / self.scale.gain_mm_per_mv
+        return [n for n, v in self.baselines_mv.items() if abs(v) > half_row_mv]
+
+    def _footer_text(self) -> str:
+        """The display filters, and the leads drawn off their rows when centring is off, so a
+        page is never blank without a word saying why."""
+        off = self.off_row_leads()
+        if not off:
+            return self.filters.legend()
+        shown = ", ".join(f"{n} {self.baselines_mv[n]:+.1f} mV" for n in off[:6])
+        more = f" and {len(off) - 6} more" if len(off) > 6 else ""
+        return (
+            f"{self.filters.legend()}  ·  baseline off its row: {shown}{more} "
+            "(Filters ▸ Centre baselines draws each on its row)"
         )
 
     def _add_column_ticks(self, geom: PageGeometry) -> None:
@@ -270,7 +308,8 @@ class PaperView(pg.GraphicsView):
             self.vb.removeItem(m)
         self.marks.clear()
         self.beat_tags.clear()
-        if isinstance(self.selected, FiducialMark):
+        keep = self.selected.target if isinstance(self.selected, FiducialMark) else None
+        if keep is not None:
             self.selected = None
         geom, workflow = self.geom, self.workflow
         if geom is None or workflow is None:
@@ -306,11 +345,18 @@ class PaperView(pg.GraphicsView):
                     fs_hz=geom.fs_hz,
                 )
                 item.target = target
+                item.pressed.connect(self._select)
                 item.dragging.connect(self._on_mark_dragging)
                 item.dropped.connect(lambda m, k: self._emit_mark(m, "move", k))
                 item.reset_requested.connect(lambda m: self._emit_mark(m, "reset", None))
                 self.vb.addItem(item)
                 self.marks.append(item)
+                if target == keep:
+                    # The same mark, drawn again after its correction: still the selection.
+                    self.selected = item
+                    item.set_selected(True)
+        if keep is not None and self.selected is None:
+            self.selection_changed.emit(None)  # its beat is off the page now
 
     def _on_mark_dragging(self, mark: FiducialMark, sample: int) -> None:
         self._select(mark)
@@ -386,8 +432,9 @@ class PaperView(pg.GraphicsView):
             "a": center_sample - half,
             "b": center_sample + half,
             "at": center_sample,
-            "a_mv": 0.0,
-            "b_mv": 1.0,
+            # At the lead's baseline as drawn (its display offset), 1 mV apart.
+            "a_mv": geom.offset_mv(cell.lead),
+            "b_mv": geom.offset_mv(cell.lead) + 1.0,
             "name": self.next_caliper_name(),
         }
         if restore is not None:
@@ -449,11 +496,16 @@ class PaperView(pg.GraphicsView):
     def _select(self, item: CaliperPair | FiducialMark | None) -> None:
         if self.selected is item:
             return
-        if isinstance(self.selected, CaliperPair):
+        if self.selected is not None:
             self.selected.set_selected(False)
         self.selected = item
-        if isinstance(item, CaliperPair):
+        if item is not None:
             item.set_selected(True)
+        self.selection_changed.emit(item)
+
+    def select_item(self, item: CaliperPair | FiducialMark | None) -> None:
+        """Select a caliper or a beat's mark (None: nothing); the arrow keys move it."""
+        self._select(item)
 
     # --- zoom: true size and back ---------------------------------------------------------
     @property
@@ -633,7 +685,9 @@ class PaperView(pg.GraphicsView):
     def sample_point(self, row: int, sample: int, mv: float = 0.0) -> QtCore.QPoint:
         """Viewport pixel of a sample on a row (for tests and keyboard placement)."""
         assert self.geom is not None
-        p = self.map_to_viewport(self.geom.x_of_sample(sample), self.geom.y_of_mv(row, mv))
+        cell = self.geom.cell_of(row, sample)
+        lead = None if cell is None else cell.lead
+        p = self.map_to_viewport(self.geom.x_of_sample(sample), self.geom.y_of_mv(row, mv, lead))
         return p.toPoint()
 
 

@@ -48,10 +48,13 @@ def write_screenshots(outdir: Path, record_path: Path | None = None) -> list[Pat
     # sidecar, which must not land beside the original record. The whole folder is copied so
     # the worklist shows the folder's records as a reader would see them.
     tmp = tempfile.TemporaryDirectory(prefix="reviewapp-shots-")
+    # The folder keeps its own name: the records dock's title shows it.
+    folder = Path(tmp.name) / record_path.parent.name
+    folder.mkdir()
     for f in record_path.parent.iterdir():
         if f.is_file() and ".marks." not in f.name:
-            shutil.copy(f, Path(tmp.name) / f.name)
-    record_path = Path(tmp.name) / record_path.name
+            shutil.copy(f, folder / f.name)
+    record_path = folder / record_path.name
     w = MainWindow(
         settings, px_per_mm=PX_PER_MM, speed_mm_per_s=25.0, gain_mm_per_mv=10.0, theme="light"
     )
@@ -119,11 +122,54 @@ def write_screenshots(outdir: Path, record_path: Path | None = None) -> list[Pat
     w.median.set_superimpose(False)
     w.view.set_theme("light")
     _sign_off_and_compare(w, app, outdir, shot, written)
+    _shared_record_shots(w, app, Path(tmp.name), shot)
     w.settings.clear()
     w.close()
     ini.unlink(missing_ok=True)
     tmp.cleanup()
     return written
+
+
+# Records of other shapes, from the open reference data beside the checkout (PhysioNet; never
+# copied into the repository): (picture, folder, record, layout).
+SHARED_SHOTS = (
+    ("qtdb_2lead", "qtdb", "sel100", "3x4+1"),
+    ("ptb_15lead", "ptbdb", "s0010_re", "3x4+1"),
+)
+
+
+def shared_data_dir() -> Path:
+    """The open reference records: REVIEWAPP_SHARED_DATA, else ../shared/data beside the
+    checkout (the same place the tests look)."""
+    repo = Path(__file__).resolve().parents[2]
+    return Path(os.environ.get("REVIEWAPP_SHARED_DATA", repo.parent / "shared" / "data"))
+
+
+def _shared_record_shots(w, app, scratch: Path, shot) -> None:
+    """A 2-lead QTDB and a 15-lead PTB record (Frank X/Y/Z in their own group), each only
+    when the reference data are present; each is read from a scratch copy so no marks or lock
+    file lands beside the reference data."""
+    from reviewapp.ui.reader import FIRST
+
+    shared = shared_data_dir()
+    w.settings.setValue("reader/id", "reader1")
+    w.adapter.set_read_mode(FIRST)
+    for name, folder, stem, layout in SHARED_SHOTS:
+        files = sorted((shared / folder).glob(f"{stem}.*"))
+        if not files:
+            continue
+        dst = scratch / "shared" / folder
+        dst.mkdir(parents=True, exist_ok=True)
+        for f in files:
+            if f.suffix in (".hea", ".dat", ".xyz"):
+                shutil.copy(f, dst / f.name)
+        if not w.open_path(dst / f"{stem}.hea", analyse_now=True):
+            continue
+        w.view.set_layout(layout)
+        w.view.set_median_automatic()
+        app.processEvents()
+        w.paper.true_size()
+        shot(name)
 
 
 def _wait_for_worklist(w, app) -> None:

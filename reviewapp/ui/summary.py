@@ -335,6 +335,19 @@ class SummaryPanel(QtWidgets.QWidget):
         inner = self._column.sizeHint()
         return QtCore.QSize(max(inner.width(), MIN_WIDTH_PX), inner.height())
 
+    def hold_column_widths(self, hold: bool) -> None:
+        """While a mark is dragged the values table keeps its column widths: fitting the
+        columns to their contents on every step of the drag costs more than the values."""
+        mode = (
+            QtWidgets.QHeaderView.ResizeMode.Interactive
+            if hold
+            else QtWidgets.QHeaderView.ResizeMode.ResizeToContents
+        )
+        hh = self.table.horizontalHeader()
+        for col in range(self.table.columnCount() - 1):  # the last one stretches
+            if hh.sectionResizeMode(col) != mode:
+                hh.setSectionResizeMode(col, mode)
+
     def value_text(self, quantity: str) -> str:
         """The text shown for ``quantity`` (tests read what the reader reads)."""
         return self._values.get(quantity, "")
@@ -507,6 +520,9 @@ class SummaryPanel(QtWidgets.QWidget):
         self._reasons_shown = texts
         for label in self._reason_labels:
             self.reasons_layout.removeWidget(label)
+            # Hidden now: deleteLater waits for the event loop, and until then the old text
+            # would be painted under the new (a grab or a nested loop shows both).
+            label.hide()
             label.deleteLater()
         self._reason_labels = []
         for text, kind in texts:

@@ -6,8 +6,8 @@ import numpy as np
 import pyqtgraph as pg
 from PySide6 import QtCore, QtGui, QtWidgets
 
-from reviewapp.ui.geometry import LEFT_MARGIN_MM, PageGeometry
-from reviewapp.ui.layouts import Cell
+from reviewapp.ui.geometry import GROUP_GAP_MM, LEFT_MARGIN_MM, PageGeometry
+from reviewapp.ui.layouts import Cell, LeadGroup
 from reviewapp.ui.theme import Theme
 
 
@@ -40,7 +40,8 @@ class LeadTrace(pg.PlotDataItem):
         x_mm = (
             LEFT_MARGIN_MM + (x_samples - geom.page_start) / geom.fs_hz * geom.scale.speed_mm_per_s
         )
-        y_mm = geom.baseline_y(self.cell.row) - sign * mv * geom.scale.gain_mm_per_mv
+        shown = mv - geom.offset_mv(self.cell.lead)  # display-only baseline centring
+        y_mm = geom.baseline_y(self.cell.row) - sign * shown * geom.scale.gain_mm_per_mv
         self.setData(x_mm.astype(np.float64), y_mm.astype(np.float64))
 
     def set_theme(self, theme: Theme) -> None:
@@ -97,5 +98,17 @@ def lead_label(cell: Cell, geom: PageGeometry, theme: Theme) -> pg.TextItem:
     else:
         top, _bottom = geom.row_band(cell.row)
         item.setPos(geom.x_of_time(cell.t0_s) + 1.5, top + 0.3)
+    item.setZValue(20)
+    return item
+
+
+def group_heading(group: LeadGroup, geom: PageGeometry, theme: Theme) -> pg.TextItem:
+    """The heading of an extra-lead group, in the gap above its first row."""
+    item = pg.TextItem(group.title, color=theme.text_muted, anchor=(0, 0.5))
+    f = QtGui.QFont()
+    f.setPointSizeF(9.0)
+    f.setItalic(True)
+    item.setFont(f)
+    item.setPos(LEFT_MARGIN_MM, geom.row_top(group.first_row) - 0.5 * GROUP_GAP_MM)
     item.setZValue(20)
     return item

@@ -20,15 +20,19 @@ from reviewapp.core.workflow import (
     FIRST,
     READ_MODES,
     UNIDENTIFIED,
+    LockHolder,
     MarkEdit,
     MarksOpening,
     Outcome,
     ReadingWorkflow,
     ReadMode,
     WorkflowChange,
+    holder_of,
+    lock_holder,
     open_marks,
+    take_over_marks,
 )
-from reviewapp.ui.conflict_dialog import ConflictDialog
+from reviewapp.ui.conflict_dialog import ConflictDialog, DisplacedDialog, LockDialog
 from reviewapp.ui.errors import show_error
 from reviewapp.ui.reader import ask_reader, stored_reader
 from reviewapp.ui.reading_panel import STATUS_WORDS, ReadingPanel, SignOffDialog
@@ -88,6 +92,9 @@ class WorkflowAdapter(QtCore.QObject):
         self.compare_dialog: CompareDialog | None = None
         self.sign_off_dialog: SignOffDialog | None = None
         self.conflict_dialog: ConflictDialog | None = None
+        self.lock_dialog: LockDialog | None = None
+        self.displaced_dialog: DisplacedDialog | None = None
+        self._lock_choice: str | None = None
         self.reader_label = QtWidgets.QLabel()
         self.reader_label.setObjectName("reader_label")
         panel.sign_off_requested.connect(lambda: self.sign_off())
@@ -136,10 +143,60 @@ class WorkflowAdapter(QtCore.QObject):
         self.panel.show_notice("")
         self.refresh()
 
-    def _open(self, record: Record) -> MarksOpening:
-        opening = open_marks(record, self.reader_id(), self.mode)
+    # --- the record's lock --------------------------------------------------------------------
+    def ask_lock(self, record: Record) -> str | None:
+        """Before a record is opened: if another live window holds it for writing, say who
+        and since when and ask: "read_only", "take_over" or "cancel" (None: nobody holds it,
+        or this window would open it read-only anyway). The answer is used when the record's
+        marks are opened."""
+        self._lock_choice = None
+        same = self.record is not None and self.record.source_path == record.source_path
+        if same or self.reader_id() is None or record.source_path is None:
+            return None
+        holder = lock_holder(record)
+        if holder is None:
+            return None
+        choice = self._ask_lock_dialog(record.name, holder, can_cancel=True)
+        self._lock_choice = choice
+        return choice
+
+    def _ask_lock_dialog(self, name: str, holder: LockHolder, *, can_cancel: bool) -> str:
+        dlg = LockDialog(name, holder, can_cancel=can_cancel, parent=self.window)
+        self.lock_dialog = dlg
+        try:
+            dlg.exec()
+        finally:
+            self.lock_dialog = None
+        if dlg.choice is not None:
+            return dlg.choice
+        return "cancel" if can_cancel else "read_only"
+
+    def _open(self, record: Record, lock_choice: str | None = None) -> MarksOpening:
+        """The record's marks for the reader in the reading mode. A record another window
+        holds: as the reader chose before it was opened (``ask_lock``), else they are asked
+        now (read-only or take over)."""
+        choice = lock_choice or self._lock_choice
+        self._lock_choice = None
+        reader = self.reader_id()
+        if choice == "take_over" and reader is not None:
+            opening = take_over_marks(record, reader, self.mode)
+        else:
+            opening = open_marks(record, reader, self.mode)
+            if opening.locked is not None and choice is None and reader is not None:
+                holder = holder_of(opening.locked.holder)
+                if self._ask_lock_dialog(record.name, holder, can_cancel=False) == "take_over":
+                    if opening.store is not None:
+                        opening.store.close()
+                    opening = take_over_marks(record, reader, self.mode)
+                    choice = "take_over"
+                else:
+                    choice = "read_only"
         for problem in opening.problems:
+            if opening.locked is not None and problem is opening.locked and choice:
+                continue  # the reader chose read-only knowingly: no error box
             show_error(self.window, problem)
+        if opening.warning:
+            self.panel.show_notice("⚠ " + opening.warning)
         return opening
 
     def _changed(self, ch: WorkflowChange) -> None:
@@ -170,13 +227,47 @@ class WorkflowAdapter(QtCore.QObject):
 
     # --- what happened ------------------------------------------------------------------------
     def tell(self, out: Outcome) -> None:
-        """Say what an action did; offer the three ways out of a changed marks file."""
+        """Say what an action did; offer the three ways out of a changed marks file, or the
+        two of a window whose record another window took over."""
         if out.message:
             self.status(out.message)
-        if out.conflict:
+        if out.displaced:
+            self._displaced(out.message)
+        elif out.conflict:
             self._reconcile()
         elif out.problem is not None:
             show_error(self.window, out.problem)
+
+    def _displaced(self, message: str) -> None:
+        """Another window took this record over: this one can no longer save there. The
+        reader keeps the reading as a separate file, or continues read-only."""
+        w = self.workflow
+        if w is None or w.store is None or self.displaced_dialog is not None:
+            return
+        self.panel.show_notice("⚠ " + message)
+        dlg = DisplacedDialog(message, self.window)
+        self.displaced_dialog = dlg
+        try:
+            dlg.exec()
+        finally:
+            self.displaced_dialog = None
+        if dlg.choice is None:
+            self.status(
+                "Not saved: another window holds this record; you are asked again at "
+                "your next change."
+            )
+            return
+        kept = ""
+        if dlg.choice == "keep_aside":
+            out = w.resolve_conflict("keep_aside")
+            if not out.done:
+                show_error(self.window, out.problem or out.message)
+                return
+            kept = out.message.split(";")[0] + "; "
+        self._reopen(carry=False, lock_choice="read_only")
+        text = f"{kept}this window now reads the record read-only (another window holds it)."
+        self.panel.show_notice("⚠ " + text[0].upper() + text[1:])
+        self.status(text[0].upper() + text[1:], 12000)
 
     def _reconcile(self) -> None:
         w = self.workflow
@@ -239,14 +330,14 @@ class WorkflowAdapter(QtCore.QObject):
         st = w.store
         return st is not None and not st.read_only and st.reviewer == rid
 
-    def _reopen(self, *, carry: bool) -> MarksOpening | None:
+    def _reopen(self, *, carry: bool, lock_choice: str | None = None) -> MarksOpening | None:
         """The open record's marks again, for the current reader id and mode."""
         w = self.workflow
         if w is None:
             return None
         self.before_step()
         w.release_marks()  # the record's lock goes before it is taken again
-        opening = self._open(w.record)
+        opening = self._open(w.record, lock_choice)
         out = w.use_marks(opening, self.mode, self.reader_id(), carry_window_calipers=carry)
         if out.problem is not None:
             show_error(self.window, out.problem)

@@ -25,6 +25,7 @@ from reviewapp.core.marks import (
     LockedError,
     MarksStore,
     MergeConflictError,
+    TakenOverError,
     UndoStack,
     UnreadableSidecarError,
     load_sidecar,
@@ -114,8 +115,12 @@ def test_take_over_a_live_window_warns_audits_and_stops_the_old_window(scratch, 
     )
     assert event.old["reviewer"] == "reader1" and event.new["reviewer"] == "reader2"
     disk = a.path.read_bytes()
-    with pytest.raises(ConflictError, match="took over"):
+    with pytest.raises(TakenOverError, match="took over") as refused:
         a.do(a.edits.add_note("refused"))
+    # The refusal names the new holder (read from the lock file, not from the store) and
+    # offers only the way out that keeps the reading: a separate file.
+    assert refused.value.holder["reviewer"] == "reader2" and "reader2" in str(refused.value)
+    assert refused.value.options == ("save_aside",)
     assert a.path.read_bytes() == disk  # the displaced window wrote nothing
     aside = a.resolve_save_aside()  # its unsaved note is kept as a separate file
     assert load_sidecar(aside).reading("reader1").notes[-1].text == "refused"

@@ -252,6 +252,30 @@ def test_adjudication_only_settles_what_it_touched(plain):
     assert pr.value == pytest.approx((m.qrs_on - (m.p_on - 0.010)) * 1000.0, abs=1e-6)
 
 
+def test_the_comparison_final_column_holds_only_what_the_adjudication_settled(plain):
+    """``adjudicated_items``: nothing before an adjudication; then each fiducial the
+    adjudicator set and each interval resting on one, valued as ``resolve_final`` values it
+    (the adjudicator's marks over the chosen reading); the rest absent."""
+    from reviewapp.core.marks.final import adjudicated_items
+
+    m = plain["marks"]
+    first = _reading(
+        "r1", "first", "signed_off", m.t_off + 0.004, p_on=m.p_on - 0.010, at="2026-01-02T10:00:00Z"
+    )
+    second = _reading("r2", "second", "signed_off", m.t_off + 0.030, at="2026-01-02T11:00:00Z")
+    assert adjudicated_items(plain["analysis"], (first, second), None) == {}
+    empty = _reading("adj", "adjudicator", "in_progress")
+    assert adjudicated_items(plain["analysis"], (first, second, empty), empty) == {}
+    adj = _reading("adj", "adjudicator", "signed_off", m.t_off + 0.020, at="2026-01-03T09:00:00Z")
+    items = adjudicated_items(plain["analysis"], (first, second, adj), adj)
+    assert set(items) == {"t_off", "qt_ms", "qtc_bazett_ms", "qtc_fridericia_ms"}
+    assert items["t_off"].value_ms == pytest.approx((m.t_off + 0.020) * 1000.0, abs=1e-6)
+    assert items["qt_ms"].value_ms == pytest.approx(_qt(plain, m.t_off + 0.020), abs=1e-6)
+    assert items["qt_ms"].marks == ("t_off",) and items["qt_ms"].base_reviewer == "r1"
+    final = resolve_final(_sidecar(plain, first, second, adj), plain["analysis"])
+    assert items["qt_ms"].value_ms == pytest.approx(final.value("qt_ms").value, abs=1e-9)
+
+
 def test_unsigned_adjudication_is_not_applied(plain):
     m = plain["marks"]
     first = _reading("r1", "first", "signed_off", m.t_off, at="2026-01-02T10:00:00Z")

@@ -137,3 +137,19 @@ def keep_marks_in_window(monkeypatch) -> None:
     monkeypatch.setattr(
         adapter, "open_marks", lambda rec, reader, mode: MarksOpening(None, "marks kept here")
     )
+
+
+def choose_in_box(qtbot, box, text: str) -> None:
+    """Open a toolbar box with the mouse, move to ``text`` with the arrow keys, take it with
+    Return (a click on an entry right after the list opens is ignored by Qt by design)."""
+    from PySide6 import QtCore
+
+    qtbot.mouseClick(box, QtCore.Qt.MouseButton.LeftButton)
+    view = box.view()
+    qtbot.waitUntil(view.isVisible, timeout=3000)
+    steps = box.findText(text) - box.currentIndex()
+    key = QtCore.Qt.Key.Key_Down if steps > 0 else QtCore.Qt.Key.Key_Up
+    for _ in range(abs(steps)):
+        qtbot.keyClick(view, key)
+    qtbot.keyClick(view, QtCore.Qt.Key.Key_Return)
+    qtbot.waitUntil(lambda: not view.isVisible(), timeout=3000)

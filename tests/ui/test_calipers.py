@@ -104,7 +104,9 @@ def test_amplitude_caliper_reads_mv_and_mm_at_gain(loaded, qtbot):
     c.set_levels(a_mv=0.0, b_mv=0.5)
     vp = w.paper.viewport()
     g = w.paper.geom
-    start = w.paper.map_to_viewport(g.x_of_sample(3000) + 3.0, g.y_of_mv(1, 0.5)).toPoint()
+    # Where 0.5 mV of this lead is drawn (its display baseline centring included).
+    start = w.paper.map_to_viewport(g.x_of_sample(3000) + 3.0, g.y_of_mv(1, 0.5, c.lead))
+    start = start.toPoint()
     # 20 mm/mV at 4 px/mm: 80 px per mV; move up 40 px = +0.5 mV.
     end = QtCore.QPoint(start.x(), start.y() - 40)
     drag(qtbot, vp, start, end)

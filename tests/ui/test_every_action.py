@@ -25,7 +25,7 @@ from PySide6 import QtCore, QtGui, QtWidgets
 from shiboken6 import isValid
 
 from reviewapp.core.workflow import ADJUDICATOR, FIRST, SECOND_BLINDED, SECOND_HIDDEN, MarkTarget
-from tests.ui.conftest import answer_modal
+from tests.ui.conftest import answer_modal, choose_in_box
 from tests.ui.test_marks import _median_drag
 
 L = QtCore.Qt.MouseButton.LeftButton
@@ -238,6 +238,11 @@ def c_export_csv(c: Ctx) -> None:
     text = (c.out / "values.csv").read_text()
     qt = c.wf.reading.measurements.intervals.qt_ms
     assert str(round(qt)) in text
+    # The file says whose reading it is, in which role, and that it is the one on screen.
+    st = c.wf.store
+    if st is not None:
+        role = {"first": "first reader", "second": "second reader"}.get(st.role, st.role)
+        assert f"# Printed: {st.reviewer}'s own reading ({role}), as on screen." in text
 
 
 def c_export_wfdb(c: Ctx) -> None:
@@ -504,8 +509,10 @@ def c_median(c: Ctx) -> None:
 
 
 def c_median_auto(c: Ctx) -> None:
-    menu_action(c.w, "View/Median beat where there is room").trigger()
-    assert c.w.view.median_auto
+    press(c, "B")  # hidden by the reader
+    assert not c.w.median.isVisible()
+    menu_action(c.w, "View/Median beat sized to the page").trigger()
+    assert c.w.view.median_auto and c.w.median.isVisible()
 
 
 def c_superimpose(c: Ctx) -> None:
@@ -621,6 +628,33 @@ def c_f_low(c: Ctx) -> None:
     _filter(c, "Alt+3", "lowpass")
 
 
+def c_f_centre(c: Ctx) -> None:
+    """QTDB sel100 sits about +4.8 mV from zero (a DC offset in the file): centred, every
+    trace is drawn inside its own row; off, the page says which leads are off their rows.
+    Amplitudes read off the paper stay the signal's own either way."""
+    import numpy as np
+
+    def inside_rows() -> bool:
+        g = c.w.paper.geom
+        for t in c.w.paper.traces:
+            _x, y = t.getData()
+            top, bottom = g.row_band(t.cell.row)
+            if not (top - g.pitch_mm <= np.nanmedian(y) <= bottom + g.pitch_mm):
+                return False
+        return True
+
+    assert c.w.view.filters.centre and c.w.acts["f_centre"].isChecked() and inside_rows()
+    raw = c.w.record.window(c.w.paper.page_start, c.w.paper.page_start + 2500)
+    assert abs(float(np.median(raw[:, 0]))) > 2.0  # the offset this check is about
+    press(c, "Alt+4")
+    assert not c.w.view.filters.centre and not inside_rows()
+    assert "baseline off its row: MLII" in c.w.paper.footer.textItem.toPlainText()
+    assert c.w.settings.value("view/filters/centre", type=bool) is False
+    press(c, "Alt+4")
+    assert c.w.view.filters.centre and inside_rows()
+    assert c.w.settings.value("view/filters/centre", type=bool) is True
+
+
 def _dock(c: Ctx, title: str, dock: QtWidgets.QDockWidget) -> None:
     shown = dock.isVisible()
     menu_action(c.w, f"View/{title}").trigger()
@@ -652,16 +686,7 @@ def c_dock_keyboard(c: Ctx) -> None:
 
 
 def _choose(c: Ctx, box: QtWidgets.QComboBox, text: str) -> None:
-    """Open a toolbar box with the mouse, move to an entry with the arrow keys, take it with
-    Return (a click on an entry right after the list opens is ignored by Qt by design)."""
-    c.qtbot.mouseClick(box, L)
-    view = box.view()
-    c.qtbot.waitUntil(view.isVisible, timeout=3000)
-    steps = box.findText(text) - box.currentIndex()
-    for _ in range(abs(steps)):
-        c.qtbot.keyClick(view, QtCore.Qt.Key.Key_Down if steps > 0 else QtCore.Qt.Key.Key_Up)
-    c.qtbot.keyClick(view, QtCore.Qt.Key.Key_Return)
-    c.qtbot.waitUntil(lambda: not view.isVisible(), timeout=3000)
+    choose_in_box(c.qtbot, box, text)
 
 
 def c_widget_toolbar_view_group(c: Ctx) -> None:
@@ -672,6 +697,10 @@ def c_widget_toolbar_view_group(c: Ctx) -> None:
     assert v.scale.gain_mm_per_mv == 5.0
     _choose(c, v.layout_box, v.layout_box.itemText(v.layout_box.findData("3x4+1")))
     assert c.w.paper.layout_key == "3x4+1"
+    if c.w.record.n_leads <= 3:
+        # Every lead is a full strip (no rhythm strip to choose): the box says so, disabled.
+        assert not v.rhythm_box.isEnabled() and "full strip" in v.rhythm_box.toolTip()
+        return
     other = v.rhythm_box.itemText(1)
     _choose(c, v.rhythm_box, other)
     assert c.w.paper.rhythm_leads[0] == other
@@ -801,8 +830,8 @@ EDIT_GROUP = (
 VIEW_GROUP = (
     "layout_12x1 layout_6x2 layout_3x4+1 layout_3x4+3 median median_auto superimpose cabrera "
     "faster slower gain_up gain_down zoom_in zoom_out fit true next prev last first theme "
-    "f_base f_mains f_low dock:reading dock:interpretation dock:measurements dock:records "
-    "dock:keyboard "
+    "f_base f_mains f_low f_centre dock:reading dock:interpretation dock:measurements "
+    "dock:records dock:keyboard "
     "widget:toolbar_view_group widget:toolbar_filters"
 ).split()
 TOOLS_GROUP = "compare calibrate help about tab right left up down".split()

@@ -62,9 +62,12 @@ def test_cabrera_in_window_inverts_avr(loaded):
     g = w.paper.geom
     _x, y = avr.getData()
     raw = w.record.window(0, g.page_samples)[:, w.record.lead_index("aVR")]
-    # Drawn y (mm, down) = baseline + mV * gain when inverted.
+    # Drawn y (mm, down) = baseline + (mV - the lead's display baseline) * gain when inverted;
+    # the display baseline is the lead's median over the page.
+    offset = float(np.median(raw))
+    assert g.offset_mv("aVR") == pytest.approx(offset, abs=1e-4)
     assert np.nanmax(y) == pytest.approx(
-        g.baseline_y(2) + np.nanmax(raw) * w.view.scale.gain_mm_per_mv, abs=0.05
+        g.baseline_y(2) + (np.nanmax(raw) - offset) * w.view.scale.gain_mm_per_mv, abs=0.05
     )
 
 
@@ -73,3 +76,56 @@ def test_extra_leads_are_kept(loaded):
     for key in LAYOUTS:
         lay = build_layout(key, names, 10.0)
         assert lay.leads_shown() == set(names)
+
+
+def test_a_12_lead_grid_keeps_each_lead_in_its_place_when_one_is_missing():
+    # Conventional 3 x 4 places (common practice, no source): a missing V3 leaves its place
+    # empty; V4-V6 do not slide into the third column.
+    names = [n for n in STANDARD_12 if n != "V3"]
+    lay = build_layout("3x4+1", names, 10.0)
+    grid = {(c.row, c.col): c.lead for c in lay.cells if not c.rhythm}
+    assert (2, 2) not in grid and grid[(0, 3)] == "V4" and grid[(2, 3)] == "V6"
+    assert grid[(0, 2)] == "V1" and grid[(1, 2)] == "V2"
+
+
+@pytest.mark.parametrize("key", list(LAYOUTS))
+def test_extra_leads_go_to_their_own_groups_below_the_grid(key):
+    names = (*STANDARD_12, "V4R", "X", "Y", "Z", "V8")
+    lay = build_layout(key, names, 10.0)
+    assert lay.leads_shown() == set(names)
+    main_rows = {c.row for c in lay.cells if c.lead in STANDARD_12 or c.rhythm}
+    kinds = [(g.kind, g.leads) for g in lay.groups]
+    assert kinds == [("right", ("V4R",)), ("posterior", ("V8",)), ("frank", ("X", "Y", "Z"))]
+    for g in lay.groups:
+        rows = {c.row for c in lay.cells if c.lead in g.leads}
+        # Below every row of the twelve and the rhythm strips, in rows of their own.
+        assert min(rows) == g.first_row > max(main_rows)
+        assert rows == set(range(g.first_row, g.first_row + g.n_rows))
+        others = {c.lead for c in lay.cells if c.row in rows}
+        assert others == set(g.leads)
+    if key.startswith("3x4"):
+        # The grid is the standard 3 x 4 whatever else the record holds.
+        assert {c.row for c in lay.cells if c.lead in STANDARD_12 and not c.rhythm} == {0, 1, 2}
+        assert next(c.lead for c in lay.cells if c.rhythm) == "II"
+
+
+def test_a_rhythm_strip_shows_the_lead_its_label_names():
+    lay = build_layout("3x4+1", (*STANDARD_12, "X", "Y", "Z"), 10.0, rhythm_leads=("V5",))
+    (strip,) = [c for c in lay.cells if c.rhythm]
+    assert strip.lead == strip.label == "V5" == lay.rhythm_leads[0]
+    assert (strip.t0_s, strip.t1_s) == (0.0, 10.0)
+
+
+@pytest.mark.parametrize(
+    "names",
+    [("MLII", "V5"), ("X", "Y", "Z"), ("I", "II", "V1"), ("V1",)],
+)
+@pytest.mark.parametrize("key", list(LAYOUTS))
+def test_records_with_few_leads_get_one_full_strip_per_lead(key, names):
+    lay = build_layout(key, names, 10.0)
+    assert lay.strips and not lay.groups and lay.n_cols == 1
+    # In the record's order, each the whole page long; no rhythm strip repeating one of them.
+    assert [c.lead for c in lay.cells] == list(names)
+    assert all((c.t0_s, c.t1_s, c.col) == (0.0, 10.0, 0) for c in lay.cells)
+    assert [c.row for c in lay.cells] == list(range(len(names)))
+    assert lay.rhythm_leads == ()

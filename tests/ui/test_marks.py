@@ -14,16 +14,20 @@ L = QtCore.Qt.MouseButton.LeftButton
 
 
 def _median_drag(w, qtbot, fid: str, dx_px: int) -> tuple[int, int]:
-    """Drag the median-beat line of ``fid`` sideways by ``dx_px`` pixels with the mouse (past
-    pyqtgraph's drag threshold); return (expected window sample under the release point, the
-    sample the mark landed on)."""
+    """Correct the median beat's ``fid`` as a reader does: click its line on a lead's panel
+    (it is selected and the magnified beat centres on it), then drag it in the magnified
+    beat by ``dx_px`` pixels. Returns (the sample the mark landed on, the samples the mouse
+    moved by, from the view's own transform)."""
     w.view.show_median(True)
     qtbot.wait(20)
     mv = w.median
-    start = mv.line_point(fid, plot_index=1, frac_y=0.3)
+    qtbot.mouseClick(mv.viewport(), L, pos=mv.line_point(fid, plot_index=1, frac_y=0.3))
+    qtbot.wait(20)
+    assert mv.selected_fid == fid
+    start = mv.magnifier_point(fid, frac_y=0.3)
     end = QtCore.QPoint(start.x() + dx_px, start.y())
     drag(qtbot, mv.viewport(), start, end, steps=8)
-    vb = mv.plots[1]
+    vb = mv.magnifier.getViewBox()
     x0 = vb.mapSceneToView(mv.mapToScene(start)).x()
     x1 = vb.mapSceneToView(mv.mapToScene(end)).x()
     rep = w.workflow.reading.marked.representative
@@ -50,7 +54,8 @@ def test_dragging_t_end_changes_qt_by_n_over_fs(loaded, qtbot):
     assert w.summary.value_text("qt_ms") == f"{after.qt_ms:.0f} ms"
     assert w.workflow.is_corrected(MarkTarget("representative", "t_off"))
     qtbot.wait(20)
-    line = w.median.lines["t_off"][0]
+    assert w.median.lines["t_off"][0].pen.style() == QtCore.Qt.PenStyle.DashLine
+    line = w.median.mag_lines["t_off"]
     assert line.pen.style() == QtCore.Qt.PenStyle.DashLine
     assert "◆" in line.label.format
     # Undo restores the automatic mark and the automatic QT.

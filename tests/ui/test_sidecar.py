@@ -51,23 +51,6 @@ def test_drag_saves_undo_reverts_and_reopen_restores(window, qtbot, sample_copy,
     assert s2.reading.measurements.intervals.qt_ms == pytest.approx(qt1)
 
 
-def test_second_window_on_same_record_is_read_only(window, qtbot, sample_copy, settings):
-    from reviewapp.ui.main_window import MainWindow
-
-    settings.setValue("reader/id", "reader1")
-    assert window.open_path(sample_copy, analyse_now=True)
-    other = MainWindow(settings, px_per_mm=4.0)
-    qtbot.addWidget(other)
-    other.open_path(sample_copy, analyse_now=True)
-    assert other.workflow is not None and other.workflow.store is not None
-    assert other.workflow.store.read_only
-    assert "read-only" in other.workflow.note
-    box = other.last_error_box
-    assert "lock" in box.text().lower() or "open" in box.text().lower()
-    box.close()
-    other.close()
-
-
 def test_calipers_are_saved_and_restored(window, qtbot, sample_copy, settings):
     w = window
     settings.setValue("reader/id", "reader1")

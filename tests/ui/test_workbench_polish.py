@@ -209,7 +209,7 @@ def test_amplitude_caliper_label_sits_above_the_higher_leg(loaded):
         c.set_levels(a_mv=a_mv, b_mv=b_mv)
         anchor = c._label_anchor()
         # The label is drawn above its anchor: at the higher voltage's leg, not mid-bar.
-        assert anchor.y() == pytest.approx(w.paper.geom.y_of_mv(c.row, max(a_mv, b_mv)))
+        assert anchor.y() == pytest.approx(w.paper.geom.y_of_mv(c.row, max(a_mv, b_mv), c.lead))
 
 
 def test_blinded_second_reader_sees_no_values_in_the_worklist(window, qtbot, tmp_path):
@@ -259,11 +259,20 @@ def test_median_mark_labels_leave_the_lead_names_readable(loaded, qtbot):
     w.view.show_median(True)
 
     def rects():
-        labels = [
-            ln.label.sceneBoundingRect()
+        small = [
+            ln.label
             for lines in w.median.lines.values()
             for ln in lines
             if getattr(ln, "label", None) is not None and ln.label.isVisible()
+        ]
+        assert small == []  # the lead panels carry no labels: the magnified beat does
+        labels = [
+            ln.label.sceneBoundingRect()
+            for ln in w.median.mag_lines.values()
+            if ln.label.isVisible()
+            and w.median.magnifier.sceneBoundingRect().contains(
+                ln.label.sceneBoundingRect().center()
+            )
         ]
         titles = [
             it.sceneBoundingRect()
@@ -273,32 +282,26 @@ def test_median_mark_labels_leave_the_lead_names_readable(loaded, qtbot):
         ]
         return labels, titles
 
-    # Narrow panels: the labels used to cover the lead name, touch each other and push the
-    # right-hand column of beats out of the widget; now they give way to the legend's key.
-    w.resize(1300, 1000)
-    qtbot.wait(50)
-    labels, titles = rects()
-    assert labels == [] and len(titles) == len(w.median.plots)
-    right = max(p.sceneBoundingRect().right() for p in w.median.plots)
-    assert right <= w.median.width() + 1, (right, w.median.width())
-    # Wide panels: the first panel's lines carry labels, clear of the lead names and of
-    # each other.
-    w.resize(2600, 1500)
-    qtbot.wait(50)
-    labels, titles = rects()
-    assert len(labels) == 5
-    for t in titles:
-        for lab in labels:
-            assert not t.intersects(lab), (t, lab)
-    for i, a in enumerate(labels):
-        for b in labels[i + 1 :]:
-            assert not a.intersects(b), (a, b)
-    # A rebuild at the same size (an edit, a theme change) places them apart too: the panels
-    # are sized while they are added, with no resize afterwards.
-    w.median.rebuild()
-    qtbot.wait(20)
-    labels, _titles = rects()
-    assert len(labels) == 5
-    for i, a in enumerate(labels):
-        for b in labels[i + 1 :]:
-            assert not a.intersects(b), (a, b)
+    for size in ((1300, 1000), (2600, 1500)):
+        w.resize(*size)
+        qtbot.wait(50)
+        labels, titles = rects()
+        assert len(titles) == len(w.median.plots)
+        # No lead panel is pushed out of the widget, whatever its width.
+        right = max(p.sceneBoundingRect().right() for p in w.median.plots)
+        assert right <= w.median.width() + 1, (right, w.median.width())
+        # The labels in sight in the magnified beat stay clear of each other.
+        for i, a in enumerate(labels):
+            for b in labels[i + 1 :]:
+                assert not a.intersects(b), (a, b)
+    # The whole beat magnified: every mark's label in sight, apart, also after a rebuild.
+    w.median.set_magnification(None)
+    for rebuild in (False, True):
+        if rebuild:
+            w.median.rebuild()
+        qtbot.wait(20)
+        labels, _titles = rects()
+        assert len(labels) == 5
+        for i, a in enumerate(labels):
+            for b in labels[i + 1 :]:
+                assert not a.intersects(b), (a, b)

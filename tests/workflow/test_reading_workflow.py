@@ -8,6 +8,8 @@ plain JSON.
 
 from __future__ import annotations
 
+import json
+
 import pytest
 
 from reviewapp.core.marks.model import Caliper
@@ -257,3 +259,45 @@ def test_a_failed_save_is_reported_as_not_saved(open_workflow, monkeypatch):
     (saved,) = sidecar_json(w.analysis)["readings"]["reader1"]["overrides"]
     assert saved["fiducial"] == "p_on"  # the T end correction is not in the file
     assert w.is_corrected(T_END)  # ... but kept in the window, saved with the next change
+
+
+def test_a_record_held_by_another_window_names_the_holder_and_can_be_taken_over(
+    open_workflow, analysis
+):
+    """The lock's holder in words, read-only by default, a take-over on purpose (warned and
+    audited); the displaced reading is refused at its next change, said plainly, and kept as
+    a separate file on request. The lock file and the marks file are read back as JSON."""
+    from reviewapp.core.workflow import lock_holder, open_marks, take_over_marks
+
+    assert lock_holder(analysis.record) is None  # nobody holds it
+    first = open_workflow()
+    assert first.notes.add("first window").done
+    lock = json.loads(first.store.path.with_name(first.store.path.name + ".lock").read_text())
+    holder = lock_holder(analysis.record)
+    assert holder is not None and holder.reviewer == "reader1"
+    assert holder.where == f"process {lock['pid']} on {lock['host']}"
+    # "since" is the lock file's ISO time, to the minute, in UTC.
+    assert holder.since == lock["since"][:10] + " " + lock["since"][11:16] + " UTC"
+    assert holder.text.startswith("reader1 (process ")
+
+    seen = open_marks(analysis.record, "reader1", FIRST)
+    assert seen.locked is not None and seen.store is not None and seen.store.read_only
+    assert seen.locked.holder["reviewer"] == "reader1"
+    seen.store.close()
+
+    taken = take_over_marks(analysis.record, "reader1", FIRST)
+    assert taken.store is not None and not taken.store.read_only and taken.locked is None
+    assert "no longer" in taken.warning and "reader1" in taken.warning
+    assert sidecar_json(analysis)["audit"][-1]["action"] == "take_over_lock"
+    disk = first.store.path.read_bytes()
+
+    out = first.notes.add("after the take-over")
+    assert out.displaced and out.conflict and not out.done and out.recorded
+    assert out.message.startswith("Not saved: reader1 took this record over in another window")
+    assert first.store.path.read_bytes() == disk  # nothing written by the displaced window
+    kept = first.resolve_conflict("keep_aside")
+    assert kept.done
+    (aside,) = analysis.record.source_path.parent.glob("*.marks.reader1.*.json")
+    notes = [n["text"] for n in json.loads(aside.read_text())["readings"]["reader1"]["notes"]]
+    assert notes == ["first window", "after the take-over"]
+    taken.store.close()

@@ -114,7 +114,9 @@ Never losing a mark
   (``lock=False`` is for read-only stores), and each save is a compare-and-swap under an OS
   lock. ``MarksStore.take_over(record, reviewer)`` displaces a live lock on purpose (a hung
   window, another computer): ``store.took_over.warning`` is the text to show and a
-  ``take_over_lock`` audit event is saved; the displaced window's next save is refused.
+  ``take_over_lock`` audit event is saved; the displaced window's next save is refused with
+  ``TakenOverError`` (a ``ConflictError`` naming the new holder), whose way out is
+  ``store.resolve_save_aside()``.
 - A corrupt, hostile (wrong types, over-long strings, nesting deeper than 32, NaN/Infinity,
   files over 50 MB), future-version or foreign sidecar raises ``UnreadableSidecarError``
   naming the file and touches nothing. To start a fresh reading beside it, open with
@@ -178,6 +180,7 @@ from reviewapp.core.marks.errors import (
     LockedError,
     MergeConflictError,
     ReadOnlyError,
+    TakenOverError,
     UnreadableSidecarError,
 )
 from reviewapp.core.marks.fingerprint import record_fingerprint, record_source_files
@@ -242,6 +245,7 @@ __all__ = [
     "SetStatus",
     "Sidecar",
     "StatementRow",
+    "TakenOverError",
     "UndoStack",
     "UnreadableSidecarError",
     "automatic_from_analysis",

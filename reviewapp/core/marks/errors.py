@@ -40,6 +40,19 @@ class ConflictError(MarksError):
     options: tuple[str, ...] = ("reload", "save_aside", "merge")
 
 
+class TakenOverError(ConflictError):
+    """Another window took this record's lock over (``MarksStore.take_over``): this store can
+    no longer save to the marks file. Nothing was written; the reading stays in memory. Keep it
+    as a separate file (``store.resolve_save_aside()``) and continue read-only. ``holder``: the
+    new holder's lock fields (empty when they cannot be read)."""
+
+    options: tuple[str, ...] = ("save_aside",)
+
+    def __init__(self, problem: str, path: str | Path | None, holder: dict[str, object]):
+        self.holder = holder
+        super().__init__(problem, path)
+
+
 class MergeConflictError(ConflictError):
     """A merge was asked for but both sides changed the same item; ``conflicts`` names them."""
 

@@ -555,3 +555,59 @@ def sidecar_for(record: Record, identity: RecordIdentity | None = None) -> Sidec
     if not os.path.lexists(path):
         return None
     return load_sidecar(path, identity or record_identity(record))
+
+
+# The comparison's intervals and the marks of the representative beat each is computed from
+# (QT from QRS onset and T end...): the same dependencies as the final values'.
+_ITEM_MARKS: dict[str, tuple[str, ...]] = {name: deps for name, _unit, deps in VALUE_MARKS}
+
+
+@dataclass(frozen=True)
+class AdjudicatedItem:
+    """One comparison item an adjudication settles: its final value (ms), the adjudicator's
+    marks it depends on, and the reader whose reading gives its other marks (None: the
+    automatic marks)."""
+
+    item: str
+    value_ms: float | None
+    marks: tuple[str, ...]
+    base_reviewer: str | None
+
+
+def adjudicated_items(
+    analysis: Analysis,
+    readings: Iterable[ReviewerReading],
+    adjudication: ReviewerReading | None,
+) -> dict[str, AdjudicatedItem]:
+    """The comparison items (``compare_readings``' fiducials and intervals) that
+    ``adjudication`` settles, with their final values; an item it did not touch is absent, so
+    no reader's value is ever shown as final before someone adjudicates.
+
+    A fiducial is settled when the adjudicator set it; an interval when they set one of the
+    marks it is computed from (``VALUE_MARKS``). The value is the one ``resolve_final`` gives:
+    the adjudicator's marks laid over the reading rule 2 to 4 choose (``choose_base``), the
+    marks they did not touch as that reading has them. The adjudication may be one still in
+    progress (the adjudicator's own window shows their picks as they make them);
+    ``resolve_final`` applies only a signed one.
+
+    Example: ``adjudicated_items(an, sidecar.readings, adj).get("qt_ms")`` is None until the
+    adjudicator sets QRS onset or T end.
+    """
+    if adjudication is None:
+        return {}
+    settled = set(_rep_global(adjudication))
+    if not settled:
+        return {}
+    base = choose_base(r for r in readings if r.reviewer != adjudication.reviewer)
+    final = ReviewerReading(adjudication.reviewer, role=adjudication.role)
+    for o in (*(() if base is None else base.overrides), *adjudication.overrides):
+        final = final.with_override(o.key, o)
+    out: dict[str, AdjudicatedItem] = {}
+    for row in compare_readings(analysis, final, final).rows:
+        deps = (row.item,) if row.kind == "fiducial" else _ITEM_MARKS.get(row.item, ())
+        marks = tuple(d for d in deps if d in settled)
+        if marks:
+            out[row.item] = AdjudicatedItem(
+                row.item, row.a_ms, marks, None if base is None else base.reviewer
+            )
+    return out

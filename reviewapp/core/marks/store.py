@@ -40,6 +40,7 @@ from reviewapp.core.marks.errors import (
     ForeignSidecarError,
     LockedError,
     ReadOnlyError,
+    TakenOverError,
     UnreadableSidecarError,
 )
 from reviewapp.core.marks.lock import SidecarLock, describe
@@ -519,10 +520,12 @@ class MarksStore:
         for _ in range(3):
             with self._lock.guard() as state:
                 if state == "taken":
-                    raise ConflictError(
-                        "another window took over this record's lock; nothing was saved. "
-                        "Close this window, or save this reading as a separate file",
+                    holder = self._lock.holder() or {}
+                    raise TakenOverError(
+                        f"another window took over this record: {describe(holder)}; nothing "
+                        "was saved. Close this window, or save this reading as a separate file",
                         self.path,
+                        holder,
                     )
                 if state == "ours":
                     self._swap(data)
@@ -531,10 +534,11 @@ class MarksStore:
             try:
                 self._lock = SidecarLock.acquire(self.path, self.reviewer)
             except LockedError as exc:
-                raise ConflictError(
+                raise TakenOverError(
                     f"another window has this record open ({exc.problem}); nothing was saved. "
                     "Close this window, or save this reading as a separate file",
                     self.path,
+                    exc.holder,
                 ) from None
         raise MarksError("could not keep the record's lock to save; nothing was saved", self.path)
 

@@ -78,6 +78,10 @@ LABELS: dict[str, str] = {
     "jt_ms": "JT (QT - QRS)",
     "jtc_bazett_ms": "JTc (Bazett)",
     "qt_bogossian_ms": "QT adj. (Bogossian)",
+    # Values that have a reason but no row of their own: named in words, never by field.
+    "qrs_t_angle_deg": "QRS-T angle",
+    "peguero_mv": "Peguero-Lo Presti voltage",
+    "cornell_product_mm_ms": "Cornell product",
 }
 
 GLOBAL_CHECKS: tuple[str, ...] = (

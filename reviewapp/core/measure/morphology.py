@@ -353,6 +353,8 @@ def t_part(
 ) -> dict[str, float | bool | str | None]:
     """The T and U fields of ``lead_shapes``: lowest ST-T level from J+80 ms, U wave."""
     out: dict[str, float | bool | str | None] = {}
+    # A QRS end before the window's first sample (a lead mark dragged far left) has no ST-T
+    # segment here: a negative index would wrap to the window's end.
     if off is None or t_off is None or not 0 <= off < t_off < y.shape[0]:
         return out
     j80 = off + round(80.0 * fs_hz / 1000.0)

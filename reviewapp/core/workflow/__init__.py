@@ -7,7 +7,14 @@ for a reader in a ``ReadMode`` (roles.py); the editors of calipers, notes and de
 editors.py, the undo history in history.py, a window-only reading in memory.py.
 """
 
-from reviewapp.core.workflow.opening import MarksOpening, open_marks
+from reviewapp.core.workflow.opening import (
+    LockHolder,
+    MarksOpening,
+    holder_of,
+    lock_holder,
+    open_marks,
+    take_over_marks,
+)
 from reviewapp.core.workflow.outcome import Outcome
 from reviewapp.core.workflow.reading_workflow import ReadingWorkflow, Resolution, WorkflowChange
 from reviewapp.core.workflow.roles import (
@@ -29,6 +36,7 @@ __all__ = [
     "SECOND_BLINDED",
     "SECOND_HIDDEN",
     "UNIDENTIFIED",
+    "LockHolder",
     "MarkAction",
     "MarkEdit",
     "MarkTarget",
@@ -38,6 +46,9 @@ __all__ = [
     "ReadingWorkflow",
     "Resolution",
     "WorkflowChange",
+    "holder_of",
+    "lock_holder",
     "open_marks",
+    "take_over_marks",
     "usable_reader_id",
 ]

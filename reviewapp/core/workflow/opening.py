@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass
 
 from reviewapp.core.errors import ReviewError
@@ -14,11 +15,74 @@ from reviewapp.core.workflow.roles import UNIDENTIFIED, ReadMode
 @dataclass(frozen=True)
 class MarksOpening:
     """The store (None: the reading stays in the window), a one-line note on where the marks
-    are kept, and the problems met (each for a message box)."""
+    are kept, and the problems met (each for a message box). ``locked``: another live window
+    holds the record, so the store was opened read-only (the reader may take it over).
+    ``warning``: what a take-over means for the window displaced (to show the reader)."""
 
     store: MarksStore | None
     note: str
     problems: tuple[ReviewError, ...] = ()
+    locked: LockedError | None = None
+    warning: str = ""
+
+
+@dataclass(frozen=True)
+class LockHolder:
+    """Who holds a record's marks lock in another live window, in words."""
+
+    reviewer: str
+    where: str  # "process 123 on host"
+    since: str  # "2026-12-02 00:52 UTC", or "" when the lock does not say
+
+    @property
+    def text(self) -> str:
+        since = f" since {self.since}" if self.since else ""
+        return f"{self.reviewer} ({self.where}){since}"
+
+
+def holder_of(fields: Mapping[str, object]) -> LockHolder:
+    """A lock file's fields in words."""
+    from reviewapp.core.workflow.editors import when_text
+
+    return LockHolder(
+        str(fields.get("reviewer") or "another reader"),
+        f"process {fields.get('pid', '?')} on {fields.get('host', '?')}",
+        when_text(str(fields.get("since") or "")),
+    )
+
+
+def lock_holder(record: Record) -> LockHolder | None:
+    """The live holder of ``record``'s marks lock (another window or program), or None when
+    nobody holds it or its holder is gone (a stale lock is taken over silently on opening)."""
+    from reviewapp.core.marks.convert import sidecar_path_for
+    from reviewapp.core.marks.lock import is_live, lock_path_for, read_holder
+
+    if record.source_path is None:
+        return None
+    fields = read_holder(lock_path_for(sidecar_path_for(record)))
+    if not fields or not is_live(fields):
+        return None
+    return holder_of(fields)
+
+
+def take_over_marks(record: Record, reader: str, mode: ReadMode) -> MarksOpening:
+    """Open ``record``'s marks for ``reader`` although another window holds them
+    (``MarksStore.take_over``: the store records the take-over in the audit trail). The
+    other window can no longer save there."""
+    try:
+        store = MarksStore.take_over(
+            record,
+            reader,
+            role=mode.role,
+            blinded=mode.blinded,
+            show_automatic=mode.show_automatic,
+        )
+    except ReviewError as err:
+        return MarksOpening(None, "marks kept in this window only: the take-over failed", (err,))
+    warning = "" if store.took_over is None else store.took_over.warning
+    return MarksOpening(
+        store, f"reading as {reader}: took over {store.path.name}", (), None, warning
+    )
 
 
 def open_marks(record: Record, reader: str | None, mode: ReadMode) -> MarksOpening:
@@ -55,7 +119,7 @@ def open_marks(record: Record, reader: str | None, mode: ReadMode) -> MarksOpeni
             store = open_as(reader or UNIDENTIFIED, read_only=True)
         except ReviewError as err2:
             return MarksOpening(None, unusable, (err, err2))
-        return MarksOpening(store, f"marks read-only: {err.problem}", (err,))
+        return MarksOpening(store, f"marks read-only: {err.problem}", (err,), err)
     except ReviewError as err:
         return MarksOpening(None, unusable, (err,))
     where = (

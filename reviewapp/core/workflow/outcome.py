@@ -17,7 +17,9 @@ class Outcome:
     """``done``: the change was made (and, with a marks file, written to ``saved_to``).
     ``recorded``: it is an undo step (also when the save failed). ``problem``: what went
     wrong, for a message box. ``conflict``: the marks file changed on disk since it was read;
-    nothing was written and the reader chooses reload, keep theirs aside or merge."""
+    nothing was written and the reader chooses reload, keep theirs aside or merge.
+    ``displaced``: another window took the record over; this one can no longer save there and
+    the reader may keep the reading as a separate file."""
 
     done: bool
     message: str
@@ -25,6 +27,7 @@ class Outcome:
     recorded: bool = False
     problem: ReviewError | None = None
     conflict: bool = False
+    displaced: bool = False
 
     @classmethod
     def unchanged(cls, message: str) -> Outcome:

@@ -28,7 +28,7 @@ from reviewapp.core.errors import MarksError, ReviewError
 from reviewapp.core.fiducials import MarkOverride, WaveMarks, match_beat
 from reviewapp.core.marks.commands import Command
 from reviewapp.core.marks.convert import automatic_from_analysis, overrides_for
-from reviewapp.core.marks.errors import ConflictError
+from reviewapp.core.marks.errors import ConflictError, TakenOverError
 from reviewapp.core.marks.model import Caliper, Override, ReviewerReading
 from reviewapp.core.marks.store import MarksStore
 from reviewapp.core.workflow.editors import (
@@ -38,6 +38,7 @@ from reviewapp.core.workflow.editors import (
     NoteEditor,
     StatementEditor,
     read_only,
+    when_text,
 )
 from reviewapp.core.workflow.history import CommandPart, History, MarchPart, Part, Step
 from reviewapp.core.workflow.memory import Holder, MemoryMarks
@@ -418,6 +419,20 @@ class ReadingWorkflow:
 
     def _conflict_outcome(self, err: ConflictError, *, recorded: bool) -> Outcome:
         self.conflict = err
+        if isinstance(err, TakenOverError):
+            who = err.holder.get("reviewer") or "another reader"
+            since = when_text(str(err.holder.get("since") or "")) or "a moment ago"
+            file = "the marks file" if self.store is None else self.store.path.name
+            return Outcome(
+                False,
+                f"Not saved: {who} took this record over in another window ({since}); this "
+                f"window can no longer save to {file}. Your change is kept here: save your "
+                "reading as a separate file, or continue read-only.",
+                recorded=recorded,
+                problem=err,
+                conflict=True,
+                displaced=True,
+            )
         return Outcome(
             False,
             "Not saved: the marks file was changed by another window or program since it was "
