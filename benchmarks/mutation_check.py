@@ -97,7 +97,7 @@ def _copy(repo: Path, dest: Path) -> None:
 
 def _run(copy: Path, tests: list[str], env: dict[str, str]) -> bool:
     """True when the tests pass (the mutant survived them)."""
-    cmd = [sys.executable, "-m", "pytest", "-x", "-q", "-p", "no:cacheprovider", *tests]
+    cmd = [sys.executable, "-m", "pytest", "-x", "-q", "-p", "no:cacheprovider", "-n", "0", *tests]
     proc = subprocess.run(cmd, cwd=copy, env=env, capture_output=True, text=True)
     return proc.returncode == 0
 

@@ -1,4 +1,5 @@
-"""Report the fuzz count in the terminal summary (the lead quotes it)."""
+"""Report the fuzz count in the terminal summary (shown when the io tests run in one process,
+`-n 0`: pytest-xdist workers keep their own config)."""
 
 from __future__ import annotations
 
