@@ -35,6 +35,9 @@ if TYPE_CHECKING:
 
 Area = QtCore.Qt.DockWidgetArea
 DOCK_PAUSE_MS = 120  # a median-beat drag's pause after which the Measurements dock follows
+# The docks and their places, as saved by QMainWindow.saveState; raise it when a dock is added,
+# removed or moves, so an older saved layout gives way to the default one.
+DOCK_LAYOUT_VERSION = 2
 
 
 def default_settings() -> QtCore.QSettings:
@@ -169,9 +172,9 @@ class MainWindow(QtWidgets.QMainWindow):
             self.restoreGeometry(geo)
         else:
             self.resize(1500, 980)
-        if state is not None:
-            self.restoreState(state)
-        else:
+        # A layout saved before the docks changed is not restored (Qt would put a new dock
+        # wherever it likes, e.g. the Interpretation dock under Measurements).
+        if state is None or not self.restoreState(state, DOCK_LAYOUT_VERSION):
             self.resizeDocks([self.summary_dock], [480], QtCore.Qt.Orientation.Horizontal)
             self.resizeDocks([self.records], [190], QtCore.Qt.Orientation.Horizontal)
         self.summary_dock.setMinimumWidth(470)
@@ -345,6 +348,6 @@ class MainWindow(QtWidgets.QMainWindow):
     def closeEvent(self, ev: QtGui.QCloseEvent) -> None:
         self.adapter.close()
         self.settings.setValue("window/geometry", self.saveGeometry())
-        self.settings.setValue("window/state", self.saveState())
+        self.settings.setValue("window/state", self.saveState(DOCK_LAYOUT_VERSION))
         self.settings.sync()
         super().closeEvent(ev)

@@ -305,3 +305,36 @@ def test_median_mark_labels_leave_the_lead_names_readable(loaded, qtbot):
         for i, a in enumerate(labels):
             for b in labels[i + 1 :]:
                 assert not a.intersects(b), (a, b)
+
+
+def test_a_layout_saved_before_the_docks_changed_gives_way_to_the_default(qtbot, settings):
+    """A window layout saved by an older release (no layout version, and no Interpretation
+    dock) is not restored: the Interpretation dock stays a tab beside the Reading dock instead
+    of landing wherever Qt puts an unknown dock. A layout saved by this release is restored."""
+    from PySide6 import QtCore
+
+    from reviewapp.ui.main_window import MainWindow
+
+    def make() -> MainWindow:
+        w = MainWindow(settings, px_per_mm=4.0, speed_mm_per_s=25.0, gain_mm_per_mv=10.0)
+        qtbot.addWidget(w)
+        w.show()
+        qtbot.waitExposed(w)
+        return w
+
+    old = make()
+    old.removeDockWidget(old.interpretation_dock)  # the docks of a release before it existed
+    old.addDockWidget(QtCore.Qt.DockWidgetArea.LeftDockWidgetArea, old.summary_dock)
+    state = old.saveState()  # version 0, as older releases saved it
+    old.close()  # (closing saves this release's layout; the older one is put back below)
+    settings.setValue("window/state", state)
+    settings.sync()
+
+    w = make()
+    assert w.interpretation_dock in w.tabifiedDockWidgets(w.reading_dock)
+    assert w.dockWidgetArea(w.summary_dock) == QtCore.Qt.DockWidgetArea.RightDockWidgetArea
+    w.addDockWidget(QtCore.Qt.DockWidgetArea.LeftDockWidgetArea, w.summary_dock)
+    w.close()  # saves this release's layout, with its version
+
+    again = make()
+    assert again.dockWidgetArea(again.summary_dock) == QtCore.Qt.DockWidgetArea.LeftDockWidgetArea
