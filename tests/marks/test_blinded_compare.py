@@ -93,7 +93,9 @@ def test_comparison_recomputes_intervals_and_flags_beyond_tolerance(ludb):
     row = cmp.row("t_off")
     assert (row.source_a, row.source_b) == ("reader", "reader")
     assert row.diff_ms == pytest.approx(-24.0)
-    assert row.tolerance_ms == 30.6 and not row.beyond_tolerance  # CSE T-end tolerance
+    # The CSE T-end tolerance (30.6 ms, CSE Working Party, Eur Heart J 1985) is capped by the
+    # QT's 10 ms: T end is the QT's end, so the two verdicts agree.
+    assert row.tolerance_ms == 10.0 and row.beyond_tolerance
     assert cmp.row("qrs_on").diff_ms == 0.0 and cmp.row("qrs_on").source_a == "automatic"
     # QT runs from QRS onset to T end, so moving T end by -24 ms moves QT by -24 ms
     # (definition: Rautaharju et al., AHA/ACCF/HRS recommendations part IV, Circulation
@@ -155,3 +157,25 @@ def test_second_reader_cannot_unblind_before_signing_off(ludb):
         b.do(b.edits.sign_off())
     with MarksStore.open(rec, "reader2", role="second", blinded=False) as b:
         assert set(b.readings()) == {"reader1", "reader2"}
+
+
+def test_a_boundary_and_the_intervals_it_bounds_get_the_same_verdict():
+    """One boundary moved, the other shared: the interval differs by exactly the boundary's
+    difference (interval definitions: Kligfield et al., Circulation 2007, AHA/ACCF/HRS Part
+    I), so the boundary is beyond tolerance whenever an interval it bounds is, for the default
+    tolerances and for tolerances a study sets."""
+    from reviewapp.core.marks.compare import INTERVAL_BOUNDARIES, comparison_tolerances_ms
+
+    for given in (None, {"qt_ms": 20.0}, {"qrs_ms": 4.0, "pr_ms": 15.0}):
+        tol = comparison_tolerances_ms(given)
+        for interval, bounds in INTERVAL_BOUNDARIES.items():
+            if interval not in tol:
+                continue
+            for fid in bounds:
+                for diff in (tol[interval] - 0.5, tol[interval] + 0.5):
+                    assert (diff > tol[fid]) >= (diff > tol[interval]), (given, interval, fid)
+    # Tolerances the study names for a fiducial are kept as given.
+    assert comparison_tolerances_ms({"t_off": 30.6})["t_off"] == 30.6
+    # CSE tolerances where no interval is tighter (CSE Working Party, Eur Heart J 1985).
+    assert comparison_tolerances_ms()["qrs_on"] == 6.5
+    assert comparison_tolerances_ms()["p_off"] == 12.7

@@ -29,6 +29,17 @@ DEFAULT_FIDUCIAL_TOLERANCES_MS: Mapping[str, float] = {
     "qrs_off": 11.6,
     "t_off": 30.6,
 }
+# The boundaries each compared interval runs between (definitions: Kligfield et al.,
+# Circulation 2007, AHA/ACCF/HRS Part I). A boundary's tolerance is capped by the tightest
+# tolerance of an interval it bounds: with the other boundary shared, the interval differs by
+# exactly the boundary's difference, so a T end "within tolerance" could otherwise make a QT
+# "beyond tolerance" on the same screen.
+INTERVAL_BOUNDARIES: Mapping[str, tuple[str, str]] = {
+    "pr_ms": ("p_on", "qrs_on"),
+    "p_ms": ("p_on", "p_off"),
+    "qrs_ms": ("qrs_on", "qrs_off"),
+    "qt_ms": ("qrs_on", "t_off"),
+}
 COMPARED_INTERVALS: tuple[str, ...] = (
     "pr_ms",
     "p_ms",
@@ -104,6 +115,26 @@ def _row(
     return ComparisonRow(item, kind, a, b, diff, tol, beyond, (a is None) != (b is None), sa, sb)
 
 
+def comparison_tolerances_ms(given_ms: Mapping[str, float] | None = None) -> dict[str, float]:
+    """Every item's tolerance (ms): the defaults updated by ``given_ms``; a fiducial not given
+    explicitly gets the smaller of its CSE tolerance and the tolerance of each interval it
+    bounds (``INTERVAL_BOUNDARIES``).
+
+    Example: ``comparison_tolerances_ms()["t_off"]`` is 10.0 (QT's), not the CSE 30.6;
+    ``comparison_tolerances_ms({"qt_ms": 20})["t_off"]`` is 20.0.
+    """
+    given = {k: float(v) for k, v in (given_ms or {}).items()}
+    tol: dict[str, float] = {**DEFAULT_FIDUCIAL_TOLERANCES_MS, **DEFAULT_INTERVAL_TOLERANCES_MS}
+    tol.update(given)
+    for interval, bounds in INTERVAL_BOUNDARIES.items():
+        if interval not in tol:
+            continue
+        for fid in bounds:
+            if fid not in given:
+                tol[fid] = min(tol.get(fid, tol[interval]), tol[interval])
+    return tol
+
+
 def compare_readings(
     analysis: Analysis,
     reading_a: ReviewerReading,
@@ -113,14 +144,13 @@ def compare_readings(
     """Compare two readers' readings of the record ``analysis`` was made from.
 
     tolerances_ms: per item (interval names such as ``"qt_ms"`` or fiducial names such as
-        ``"qrs_on"``), in ms; defaults: QT, QRS and PR 10 ms and the CSE fiducial tolerances.
+        ``"qrs_on"``), in ms; defaults: QT, QRS and PR 10 ms and the CSE fiducial tolerances,
+        each fiducial's capped by the intervals it bounds (``comparison_tolerances_ms``).
         Items without a tolerance are listed but only flagged when presence differs.
 
     Example: ``compare_readings(an, first, second, {"qt_ms": 10}).row("qt_ms").diff_ms``.
     """
-    tol: dict[str, float] = {**DEFAULT_FIDUCIAL_TOLERANCES_MS, **DEFAULT_INTERVAL_TOLERANCES_MS}
-    if tolerances_ms is not None:
-        tol.update({k: float(v) for k, v in tolerances_ms.items()})
+    tol = comparison_tolerances_ms(tolerances_ms)
     rows: list[ComparisonRow] = []
     for fid in FIDUCIALS:
         a, sa = _fiducial_ms(reading_a, analysis, fid)
