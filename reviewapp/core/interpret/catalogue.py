@@ -22,6 +22,10 @@ from reviewapp.core.interpret.sources import Source
 from reviewapp.core.marks.model import FREE_TEXT_CODE
 from reviewapp.core.measure.limb_consistency import MAX_RELATIVE_RESIDUAL
 
+# The precordial-sequence check's threshold (interpret/lead_checks.py, which explains how it
+# was set); here so that the catalogue's criterion text renders from the value applied.
+SEQUENCE_GAIN = 0.2
+
 CATEGORIES: tuple[tuple[str, str], ...] = (
     ("lead_check", "Lead check"),
     ("rhythm", "Rhythm"),
@@ -83,7 +87,7 @@ ENTRIES: tuple[StatementDef, ...] = (
         "lead_check.precordial_sequence",
         "precordial lead out of sequence",
         "swapping two chest leads makes each chest lead's QRS-T more like its neighbours' "
-        "(correlation along V1-V6 higher by more than 0.4 in sum)",
+        f"(correlation along V1-V6 higher by more than {SEQUENCE_GAIN:g} in sum)",
         S.ENGINE,
         "electrode misplacement chest V1 V2 V3 V4 V5 V6 swap technical",
     ),

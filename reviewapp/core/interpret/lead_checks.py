@@ -34,12 +34,12 @@ import itertools
 
 import numpy as np
 
+from reviewapp.core.interpret.catalogue import SEQUENCE_GAIN
 from reviewapp.core.interpret.context import PRECORDIAL, Context
 from reviewapp.core.interpret.statement import MetValue, Statement, make
 from reviewapp.core.measure.limb_consistency import RELATIONS
 
 WAVE_MV = 0.02  # the smallest wave (measure.amplitudes.MIN_WAVE_MV)
-SEQUENCE_GAIN = 0.2
 
 
 def _net_qrs(ctx: Context, lead: str) -> float | None:
