@@ -25,7 +25,7 @@ neighbours' along V1-V6. For every pair of chest leads, the sum of correlations 
 consecutive leads is computed with the pair exchanged; a gain above ``SEQUENCE_GAIN`` names
 the pair. Set on LUDB's odd-numbered records: their largest gain as recorded is 0.15 (a
 paced record), 0.07 without it; with two chest leads exchanged on purpose the check finds
-the exchanged pair (tests/interpret/test_lead_checks.py gives the rates on both halves).
+the exchanged pair (tests/interpret/test_ludb_statements.py gives the rates on both halves).
 """
 
 from __future__ import annotations
