@@ -4,7 +4,7 @@ Automated measurements must be verified by a qualified clinician. This is not a
 certified medical device; local protocols and licensed practice govern.
 """
 
-__version__ = "0.4.0"
+__version__ = "0.4.1"
 
 CLINICAL_CAUTION = (
     "Automated measurements must be verified by a qualified clinician. "

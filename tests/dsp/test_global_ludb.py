@@ -13,26 +13,58 @@ Tuning split (RULES.md): every threshold of the global rule (``delineate_global`
 ``DelineationParams.glob_*``) was set on the ODD-numbered records only; the EVEN-numbered
 records were held out and are the honest figures (held-back records score worse still).
 
-Measured (this engine; "issue 10": the first standard-definition rule; "before": the median
-lead's marks as global marks, engine 0.1.0):
+Measured (this engine, 0.4.1; "0.4.0": the rule before the lead QRS end was sought at 2 % of
+its last slope lobe (4.5 % before) with a 14 ms agreement (10 before); "issue 10": the first
+standard-definition rule; "before": the median lead's marks as global marks, engine 0.1.0):
 
-| interval | odd (tuning) | even (held out) | issue 10, odd / even | IEC |mean| / SD |
+| interval | odd (tuning) | even (held out) | 0.4.0, odd / even | IEC |mean| / SD |
 |---|---|---|---|---|
-| P | -6.8 +- 12.0 | -6.3 +- 14.5 | -9.4 +- 12.2 / -11.8 +- 18.7 | 10 / 15 |
-| PR | 1.1 +- 8.5 | 1.4 +- 10.2 | -0.0 +- 8.7 / 0.6 +- 10.1 | 10 / 10 |
-| QRS | -5.4 +- 13.7 | -7.5 +- 12.2 | -7.9 +- 13.8 / -8.7 +- 11.7 | 6 / 10 |
-| QT | -9.6 +- 19.4 | -8.5 +- 20.2 | -9.9 +- 19.3 / -8.7 +- 19.9 | 12 / 30 |
+| P | -6.8 +- 12.0 | -6.3 +- 14.5 | -6.8 +- 12.0 / -6.3 +- 14.5 | 10 / 15 |
+| PR | 1.1 +- 8.5 | 1.2 +- 10.4 | 1.1 +- 8.5 / 1.4 +- 10.2 | 10 / 10 |
+| QRS | -2.2 +- 12.0 | -4.0 +- 12.6 | -5.4 +- 13.7 / -7.5 +- 12.2 | 6 / 10 |
+| QT | -9.6 +- 19.4 | -8.3 +- 20.4 | -9.6 +- 19.4 / -8.5 +- 20.2 | 12 / 30 |
+
+Issue 10, odd / even: P -9.4 +- 12.2 / -11.8 +- 18.7, PR -0.0 +- 8.7 / 0.6 +- 10.1, QRS -7.9
++- 13.8 / -8.7 +- 11.7, QT -9.9 +- 19.3 / -8.7 +- 19.9.
+
+0.4.0 -> 0.4.1 on the held-out half: the QRS mean -7.5 -> -4.0 ms (now within 6), its SD
+12.2 -> 12.6, the PR SD 10.2 -> 10.4 and the QT SD 20.2 -> 20.4 (the agreement of 14 ms also
+moves a few onsets); premature beats -7.0 -> -4.8 ms (27 beats).
 
 Before (median lead's marks), odd / even: P -18.6 +- 10.8 / -20.6 +- 17.9, PR 0.9 +- 6.4 /
 0.7 +- 9.4, QRS -20.2 +- 10.8 / -18.3 +- 12.3, QT -29.4 +- 19.3 / -27.0 +- 19.6.
 
 Within the IEC limits: P (mean and SD, both halves), PR (mean both halves, SD on the tuning
-half), QT (mean and SD both halves), the QRS mean on the tuning half. Not reached: the QRS
-mean on the held-out half (-7.5 against 6 ms: the QRS still short of the readers' widest
-leads) and the QRS SD (the readers' own lead marks stray: record 61's V3/V4 QRS ends lie 20 ms
-after the other leads'; in atrial fibrillation records 101 and 109 the inferior leads' QRS
-ends are marked 40-60 ms after the J point), the PR SD on the held-out half (10.2). The limits
+half), QT (mean and SD both halves), the QRS mean on both halves. Not reached: the QRS SD
+(the readers' own lead marks stray: record 61's V3/V4 QRS ends lie 20 ms after the other
+leads'; in atrial fibrillation records 101 and 109 the inferior leads' QRS
+ends are marked 40-60 ms after the J point), the PR SD on the held-out half (10.4). The limits
 below hold the figures reached so they cannot regress.
+
+Why the global QRS read short (engine 0.4.0, odd half, 60 records; each dominant beat's
+global marks against the cardiologists' second-earliest onset / second-latest end of the same
+beat, median per record, then mean over records): onset +4.2 +- 7.0 ms (late), end -0.8 +-
+9.2 ms, so the QRS -5.0 ms (the record medians: -5.4). The onset is the steady part: the
+readers' second-earliest onset lies in V2 (100 of 510 dominant beats), V3 (73) or V1 (64)
+most often, and there the engine's own lead onsets are late by +5.2, +6.0 and +3.1 ms (mean;
+the limb leads -1.6 to +2.4 ms); the global onset is already 5 ms before the earliest lead mark. A
+more sensitive lead onset (``glob_qrs_on_frac`` 0.01 or 0.015: odd QRS -4.3, -1.4 ms) takes
+the synthetic onset 24 ms early at 20 dB noise with baseline wander and mains
+(test_delineate_synthetic), so it was not taken. The end is where the spread is: by
+morphology (ludb.csv labels) the end reads -11.0 ms in atrial fibrillation (5 records; QRS
+-29 ms: 101, 109, 95, 129, 51), -8.5 in left bundle branch block (2), -3.1 with left
+ventricular hypertrophy (34), +0.3 in right bundle branch block (9; the terminal R' is
+found: their QRS -5.0 is the onset's +5.1). The lead's own end sought at 4.5 % of its last
+slope lobe stopped on the slurred, low-amplitude terminal part: at 2 % (``glob_qrs_off_frac``)
+the end moves to +2.5 +- 7.5 ms. The 10 ms agreement of the confirmation rule refused a lone
+early or late lead now and then: 14 ms took the odd QRS SD from 12.7 to 12.0 ms (at 2 %), 18
+ms raised it again (12.6), 6 ms shortened the QRS (-7.3 ms at 4.5 %). Premature beats (17 on
+the odd half, each delineated on its own, not from the median beat): QRS -20.9 +- 15.7 ms, of
+which the onset +14.1 ms (late) and the end -6.8 ms; the global rule does not reach them.
+Engine 0.4.1 takes the 2 % end and the 14 ms agreement (chosen on this half, table above):
+onset +4.2 +- 7.0, end +2.5 +- 7.5 ms; AF QRS -18.6, LBBB -9.0, LVH -3.3, RBBB -0.3 ms;
+premature beats -18.5 +- 15.7 ms (end -4.4; the late onset stays). What is left is mostly
+the onset in V1-V3, bounded by noise, and the premature beats' own onset.
 """
 
 from __future__ import annotations
@@ -60,13 +92,13 @@ HELD = {
     True: {
         "p_ms": (7.5, 13.0),
         "pr_ms": (2.0, 9.5),
-        "qrs_ms": (6.5, 14.5),
+        "qrs_ms": (3.0, 12.5),
         "qt_ms": (10.5, 20.5),
     },
     False: {
         "p_ms": (7.5, 15.5),
-        "pr_ms": (2.5, 11.0),
-        "qrs_ms": (8.5, 13.0),
+        "pr_ms": (2.0, 11.0),
+        "qrs_ms": (4.5, 13.0),
         "qt_ms": (9.5, 21.0),
     },
 }

@@ -45,7 +45,7 @@ from reviewapp.core.measure import compute_measurements
 from reviewapp.core.measure.limb_consistency import MAX_RELATIVE_RESIDUAL
 from tests.interpret.ludb_labels import LABELS, OTHER_CONVENTION, read_labels, score, subject_of
 
-# label -> ((tp, fn, tn, fp) odd half, (tp, fn, tn, fp) even half), measured with engine 0.4.0
+# label -> ((tp, fn, tn, fp) odd half, (tp, fn, tn, fp) even half), measured with engine 0.4.1
 # (global rule retuned on the odd half, issue 10). Against engine 0.3.0 (held-out, even half):
 # first-degree AV block gained a false statement on record 2 (PR 194 -> 204 ms; the
 # cardiologists' own global PR there is 201 ms, rule of tests/dsp/reference_global.py, and the
@@ -54,6 +54,13 @@ from tests.interpret.ludb_labels import LABELS, OTHER_CONVENTION, read_labels, s
 # a premature beat of other origin); left atrial abnormality 23 -> 30 true and 3 -> 5 false
 # statements (P duration longer). Odd half: left atrial 18 -> 19 true, 5 -> 3 false; early
 # repolarization 3 -> 2 false on the odd half, 7 -> 6 on the even half.
+# Engine 0.4.1 (the lead QRS end sought further into a slurred end, issue 10; global QRS on the
+# even half -7.5 -> -4.0 ms against the cardiologists'), even half only: complete LBBB gained a
+# false statement on record 32 (labelled incomplete RBBB; QRS 114 -> 126 ms, the
+# cardiologists' own global QRS 130 ms, so by width it is a complete block; its morphology
+# reads left), ventricular extrasystoles a false one on record 64 (not labelled; its
+# premature beat now reads wide enough to be ventricular, before "other origin"). No count
+# changed on the odd half.
 # With the limb-lead consistency check every record of this LUDB copy is inconsistent (its limb
 # leads are scaled lead by lead), so no axis statement is made here.
 EXPECTED: dict[str, tuple[tuple[int, int, int, int], tuple[int, int, int, int]]] = {
@@ -63,7 +70,7 @@ EXPECTED: dict[str, tuple[tuple[int, int, int, int], tuple[int, int, int, int]]]
     "pacing": ((3, 0, 57, 0), (5, 0, 75, 0)),
     "first-degree AV block": ((0, 3, 55, 2), (2, 0, 75, 3)),
     "complete RBBB": ((0, 0, 60, 0), (1, 1, 76, 2)),
-    "complete LBBB": ((0, 1, 56, 3), (2, 0, 77, 1)),
+    "complete LBBB": ((0, 1, 56, 3), (2, 0, 76, 2)),
     "incomplete RBBB": ((0, 9, 51, 0), (0, 13, 67, 0)),
     "left anterior fascicular block": ((0, 5, 55, 0), (0, 8, 72, 0)),
     # Another convention (reported, never tuned toward):
@@ -74,7 +81,7 @@ EXPECTED: dict[str, tuple[tuple[int, int, int, int], tuple[int, int, int, int]]]
     "left atrial hypertrophy": ((19, 10, 28, 3), (30, 16, 29, 5)),
     "right atrial overload": ((1, 4, 52, 3), (0, 8, 69, 3)),
     "early repolarization": ((0, 4, 54, 2), (0, 2, 72, 6)),
-    "ventricular extrasystoles": ((2, 1, 56, 1), (1, 6, 73, 0)),
+    "ventricular extrasystoles": ((2, 1, 56, 1), (1, 6, 72, 1)),
 }
 
 
