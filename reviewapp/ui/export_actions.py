@@ -10,6 +10,7 @@ from __future__ import annotations
 
 from collections.abc import Callable
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from PySide6.QtCore import QMarginsF, QObject
 from PySide6.QtGui import QPageLayout, QPageSize, QPainter
@@ -17,21 +18,19 @@ from PySide6.QtWidgets import QFileDialog, QMainWindow
 
 from reviewapp.core.errors import ReviewError
 from reviewapp.core.workflow import ReadingWorkflow
-from reviewapp.report.content import ReportContent, build_report_content, own_reading_words
-from reviewapp.report.export import (
-    MM_PER_INCH,
-    write_image,
-    write_measurements_csv,
-    write_pdf,
-    write_wfdb_annotations,
-)
-from reviewapp.report.layout import page_layout
+
+if TYPE_CHECKING:
+    # The report modules are imported when something is exported or printed, not at launch
+    # (the window's first paint does not need them).
+    from reviewapp.report.content import ReportContent
 
 WorkflowGetter = Callable[[], ReadingWorkflow | None]
 
 
 def report_content(workflow: ReadingWorkflow) -> ReportContent:
     """The report page's content for the reading on screen (corrections, status, reviewer)."""
+    from reviewapp.report.content import build_report_content, own_reading_words
+
     store = workflow.store
     status, reviewer, signed_at, role = "unread", None, None, None
     statements: tuple = ()
@@ -113,6 +112,9 @@ class ExportActions(QObject):
         path = path or self._ask("Export report page", ".pdf", "PDF (*.pdf)")
         if path is None:
             return None
+        from reviewapp.report.export import write_pdf
+        from reviewapp.report.layout import page_layout
+
         write_pdf(path, content, page_layout(self._paper()))
         self._done(f"report written to {path}")
         return path
@@ -124,6 +126,9 @@ class ExportActions(QObject):
         path = path or self._ask("Export report image", ".png", "Images (*.png *.jpg *.jpeg)")
         if path is None:
             return None
+        from reviewapp.report.export import write_image
+        from reviewapp.report.layout import page_layout
+
         write_image(path, content, page_layout(self._paper()))
         self._done(f"report image written to {path}")
         return path
@@ -135,6 +140,8 @@ class ExportActions(QObject):
         path = path or self._ask("Export measurements", ".csv", "CSV (*.csv)")
         if path is None:
             return None
+        from reviewapp.report.export import write_measurements_csv
+
         write_measurements_csv(path, content)
         self._done(f"measurements written to {path}")
         return path
@@ -145,6 +152,8 @@ class ExportActions(QObject):
             return None
         if content.record.source_path is None:
             raise ReviewError("the record has no file to write annotations beside")
+        from reviewapp.report.export import write_wfdb_annotations
+
         out = write_wfdb_annotations(content)
         self._done(f"WFDB annotations written to {out}")
         return out
@@ -154,7 +163,9 @@ class ExportActions(QObject):
         the interpretation page."""
         from PySide6.QtPrintSupport import QPrintDialog, QPrinter
 
+        from reviewapp.report.export import MM_PER_INCH
         from reviewapp.report.interpretation_block import paint_interpretation_page
+        from reviewapp.report.layout import page_layout
         from reviewapp.report.page import paint_page
 
         content = self._content()

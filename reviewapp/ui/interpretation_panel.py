@@ -18,12 +18,13 @@ from typing import TYPE_CHECKING
 
 from PySide6 import QtCore, QtGui, QtWidgets
 
-from reviewapp.core.interpret import CATALOGUE, CATEGORY_NAMES, ENTRIES, FREE_TEXT, search
-from reviewapp.core.interpret.catalogue import StatementDef
 from reviewapp.core.workflow import Outcome, ReadingWorkflow, WorkflowChange
 
 if TYPE_CHECKING:
+    # The statement engine and its catalogue are imported where a statement is shown or
+    # picked (after the automatic analysis), not at launch.
     from reviewapp.core.interpret import Interpretation, Statement
+    from reviewapp.core.interpret.catalogue import StatementDef
     from reviewapp.core.marks.model import ReaderStatement
 
 ROLE = QtCore.Qt.ItemDataRole.UserRole
@@ -38,6 +39,8 @@ ORIGIN_WORDS = {
 
 def statement_tooltip(x: Statement) -> str:
     """Criteria, measured values, qualifiers and source of an automatic statement."""
+    from reviewapp.core.interpret import CATEGORY_NAMES
+
     lines = [
         f"{x.line}",
         f"{CATEGORY_NAMES.get(x.category, x.category)}",
@@ -52,6 +55,8 @@ def statement_tooltip(x: Statement) -> str:
 
 def reader_tooltip(x: ReaderStatement) -> str:
     """Where the reader's statement came from, and the catalogue's criteria and source."""
+    from reviewapp.core.interpret import CATALOGUE, CATEGORY_NAMES, FREE_TEXT
+
     origin = ORIGIN_WORDS.get(x.origin, x.origin).format(who=x.from_reader or "another reader")
     lines = [x.text, f"Statement {origin}"]
     d = CATALOGUE.get(x.code)
@@ -103,6 +108,8 @@ class StatementPickerDialog(QtWidgets.QDialog):
 
     def fill(self, query: str) -> None:
         """The catalogue entries matching ``query``, under their category headings."""
+        from reviewapp.core.interpret import CATEGORY_NAMES, ENTRIES, FREE_TEXT, search
+
         self.list.clear()
         last = None
         for d in search(query, [e for e in ENTRIES if e.code != FREE_TEXT]):
@@ -127,6 +134,8 @@ class StatementPickerDialog(QtWidgets.QDialog):
         self._selected()
 
     def chosen(self) -> StatementDef | None:
+        from reviewapp.core.interpret import CATALOGUE
+
         it = self.list.currentItem()
         code = None if it is None else it.data(ROLE)
         return None if code is None else CATALOGUE.get(code)

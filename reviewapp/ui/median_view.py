@@ -964,8 +964,10 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
         rep = None if self.workflow is None else self.workflow.reading.marked.representative
         return k if rep is None else min(max(k, 0), rep.waveform_mv.shape[0] - 1)
 
-    def snap(self, fid: str, sample: int) -> None:
-        """Every line of ``fid`` at window sample ``sample`` (a drag or a nudge in progress)."""
+    def snap(self, fid: str, sample: int, *, position: bool = True) -> None:
+        """Every line of ``fid`` at window sample ``sample`` (a drag or a nudge in progress);
+        ``position``: also write where the selected mark is (a caller about to recompute the
+        values writes it once, afterwards, with them)."""
         pos = self.window_ms(sample)
         self._syncing = True
         try:
@@ -973,7 +975,7 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
                 line.setPos(pos)
         finally:
             self._syncing = False
-        if fid == self.selected_fid:
+        if position and fid == self.selected_fid:
             self._update_position()
 
     _snap = snap  # the name the benchmark has always driven
@@ -988,8 +990,12 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
         k = self._clamp(self.window_sample(t_ms))
         if k != self._drag_sample:
             self._drag_sample = k
-            self.snap(fid, k)
+            # The position text is written once a step, with the new values (show_values on
+            # the preview's values_changed), not also before them with the old ones.
+            self.snap(fid, k, position=False)
             self._emit("preview", fid, k)
+            if fid == self.selected_fid:
+                self._update_position()
         return k
 
     def _on_drag(self, line: MedianMarkLine, t_ms: float) -> None:
