@@ -52,11 +52,19 @@ class MedianMarkLine(pg.InfiniteLine):
         self._moved = False
         self._halo = QtGui.QPen(QtGui.QColor(0, 0, 0, 0), HALO_PX)
         self._halo.setCosmetic(True)
+        # Its moves do not change what the view's auto-range sees (the view adds it with
+        # ignoreBounds), so Qt need not report each one to pyqtgraph's item-change hook.
+        self.setFlag(self.GraphicsItemFlag.ItemSendsGeometryChanges, False)
 
     def setPos(self, pos) -> None:
         """Moving a vertical line sideways leaves its own outline unchanged (it spans the
         view's height): only the position is set, without pyqtgraph recomputing the outline
-        from the view on every step of a drag."""
+        from the view on every step of a drag.
+
+        The value (``value()``) is always the exact one; the drawing moves when the value is
+        half a pixel or more from where the line is drawn. In a small panel at paper scale
+        one pixel is about 10 ms, so a one-sample step of a mark dragged in the magnified
+        beat would otherwise repaint twelve panels for no visible change."""
         if (
             isinstance(pos, int | float)
             and self.angle == 90
@@ -67,10 +75,22 @@ class MedianMarkLine(pg.InfiniteLine):
             if self.getPos() == [x, 0.0]:
                 return
             self.p = [x, 0.0]
-            pg.GraphicsObject.setPos(self, QtCore.QPointF(x, 0.0))
+            if abs(x - self.pos().x()) >= 0.5 * self._px_width():
+                pg.GraphicsObject.setPos(self, QtCore.QPointF(x, 0.0))
             self.sigPositionChanged.emit(self)
             return
         super().setPos(pos)
+
+    def _px_width(self) -> float:
+        """Width of one screen pixel in the line's units (0 when not on screen)."""
+        vb = self.getViewBox()
+        if not isinstance(vb, pg.ViewBox):
+            return 0.0
+        return abs(float(vb.viewPixelSize()[0]))
+
+    def drawn_value(self) -> float:
+        """Where the line is drawn now (within half a pixel of ``value()``)."""
+        return float(self.pos().x())
 
     def set_selected(self, on: bool, colour: QtGui.QColor) -> None:
         halo = QtGui.QColor(colour)

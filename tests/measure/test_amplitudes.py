@@ -115,3 +115,15 @@ def test_compute_is_pure(kit):
     a, b = compute_measurements(marked), compute_measurements(marked)
     assert a == b
     assert np.array_equal(before, marked.representative.waveform_mv)
+
+
+def test_remembered_qrs_waves_follow_the_signal_not_its_place(kit):
+    """The QRS waves are remembered by the slice's content (a P or T drag re-measures every
+    lead with unchanged QRS slices): a beat with the same marks but another R must give the
+    other R, also when measured right after the first (construction values)."""
+    first = compute_measurements(kit.marked({"V5": _beat(kit, r=1.5)})).lead("V5")
+    second = compute_measurements(kit.marked({"V5": _beat(kit, r=0.9)})).lead("V5")
+    again = compute_measurements(kit.marked({"V5": _beat(kit, r=1.5)})).lead("V5")
+    assert first.r_mv == pytest.approx(1.5, abs=1e-6)
+    assert second.r_mv == pytest.approx(0.9, abs=1e-6)
+    assert again == first

@@ -113,6 +113,33 @@ def test_arrow_keys_nudge_the_selected_mark_one_sample_not_a_caliper(median, qtb
     assert mv.shown_sample("t_off") == k0 and w.selection.pending is None
 
 
+def _px_off(line) -> float:
+    """How far (screen pixels, from the panel's own transform) the line is drawn from its
+    value."""
+    vb = line.getViewBox()
+    x_value = vb.mapViewToScene(QtCore.QPointF(line.value(), 0.0)).x()
+    x_drawn = vb.mapViewToScene(QtCore.QPointF(line.drawn_value(), 0.0)).x()
+    return abs(x_drawn - x_value)
+
+
+def test_every_line_follows_the_nudged_mark_within_half_a_pixel(median, qtbot):
+    w, mv = median, median.median
+    _select(w, qtbot, "t_off")
+    k0 = w.workflow.shown_sample(T_END)
+    lines = mv._all_lines("t_off")
+    drawn0 = [ln.drawn_value() for ln in lines]
+    for n in range(1, 26):
+        _key(w, qtbot, Key.Key_Right)
+        want_ms = (k0 + n - w.workflow.rep_r_index) * 1000.0 / w.record.fs_hz
+        for ln in lines:
+            assert ln.value() == pytest.approx(want_ms)  # the value is always exact
+            assert _px_off(ln) < 0.5 + 1e-6  # drawn within half a pixel of it
+    # 25 ms is more than two pixels of a small panel at 25 mm/s: those lines were redrawn.
+    assert all(ln.drawn_value() != d for ln, d in zip(lines, drawn0, strict=True))
+    qtbot.waitUntil(lambda: w.workflow.is_corrected(T_END), timeout=3000)
+    assert w.workflow.shown_sample(T_END) == k0 + 25
+
+
 def test_a_beat_mark_on_the_paper_is_selected_and_nudged(median, qtbot):
     w = median
     w.view.set_layout("12x1")

@@ -12,7 +12,7 @@ earlier than the P end when the PR segment is long enough.
 
 from __future__ import annotations
 
-from collections.abc import Iterable
+from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 from typing import Any
 
@@ -147,6 +147,25 @@ def qrs_waves(y: np.ndarray) -> QRSWaves:
     return QRSWaves(q, r, s, rp, q_end)
 
 
+# Q, R, S and R' of the QRS slices measured lately, by the slice's bytes: dragging a P or T
+# mark recomputes every lead while no QRS slice changes, and the lobe search is the largest
+# part of a lead's measurement. The key is the content itself, so a hit is always right.
+_WAVES_SEEN: dict[bytes, QRSWaves] = {}
+_WAVES_SEEN_MAX = 512
+
+
+def qrs_waves_of_slice(y: np.ndarray) -> QRSWaves:
+    """``qrs_waves`` of a float64 slice, remembered for the slices measured lately."""
+    key = np.ascontiguousarray(y, dtype=np.float64).tobytes()
+    hit = _WAVES_SEEN.get(key)
+    if hit is None:
+        hit = qrs_waves(y)
+        if len(_WAVES_SEEN) >= _WAVES_SEEN_MAX:
+            _WAVES_SEEN.clear()
+        _WAVES_SEEN[key] = hit
+    return hit
+
+
 def _is_junction_offset(y: np.ndarray, lobe: Lobe) -> bool:
     """A last lobe that only runs into an elevated/depressed J point is ST, not S or R'.
 
@@ -179,6 +198,7 @@ def lead_measurements(
     own: WaveMarks | None,
     fs_hz: float,
     base_mv: float | None = None,
+    extra: Mapping[str, Any] | None = None,
 ) -> tuple[LeadMeasurements, list[tuple[str, str]]]:
     """Measure one lead of the representative beat.
 
@@ -190,6 +210,7 @@ def lead_measurements(
             the global one.
         fs_hz: sampling rate, Hz.
         base_mv: the isoelectric level if already known (else computed here).
+        extra: further fields of the result (the wave shapes), set when a level is found.
 
     Returns:
         The measurements and a list of (quantity, reason) for everything left None.
@@ -225,7 +246,7 @@ def lead_measurements(
             values[q] = None
         missing.append((f"{name}.qrs", "QRS onset or end not marked"))
     else:
-        w = qrs_waves(y[qrs_on : qrs_off + 1])
+        w = qrs_waves_of_slice(y[qrs_on : qrs_off + 1])
         values.update(
             q_mv=w.q_mv,
             r_mv=w.r_mv,
@@ -256,7 +277,7 @@ def lead_measurements(
             else:
                 values[key] = None
                 missing.append((f"{name}.{key}", f"J+{off_ms:.0f} ms is beyond the beat window"))
-    return LeadMeasurements(lead=name, **values), missing
+    return LeadMeasurements(lead=name, **values, **(extra or {})), missing
 
 
 def s_depth_mv(m: LeadMeasurements | None) -> float | None:

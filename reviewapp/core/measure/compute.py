@@ -140,9 +140,8 @@ def compute_measurements(marked: MarkedECG) -> Measurements:
                 continue
             own = lead_marks[i] if i < len(lead_marks) else None
             base = None if bases is None else float(bases[i])
-            m, lead_why = lead_measurements(name, wave[:, i], marks, own, fs, base)
-            if base is not None:
-                m = replace(m, **_shapes(wave, i, base, marks, own, rep, fs))  # type: ignore[arg-type]
+            shapes = None if base is None else _shapes(wave, i, base, marks, own, rep, fs)
+            m, lead_why = lead_measurements(name, wave[:, i], marks, own, fs, base, shapes)
             leads.append(m)
             unmeasured += lead_why
         g.update(_axes(marked, wave, marks, bases, unmeasured))
