@@ -315,7 +315,9 @@ class SummaryPanel(QtWidgets.QWidget):
         self.column_scroll = QtWidgets.QScrollArea()
         self.column_scroll.setWidgetResizable(True)
         self.column_scroll.setFrameShape(QtWidgets.QFrame.Shape.NoFrame)
-        self.column_scroll.setHorizontalScrollBarPolicy(QtCore.Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        self.column_scroll.setHorizontalScrollBarPolicy(
+            QtCore.Qt.ScrollBarPolicy.ScrollBarAlwaysOff
+        )
         self.column_scroll.setWidget(inner)
         self._column = inner
         outer = QtWidgets.QVBoxLayout(self)

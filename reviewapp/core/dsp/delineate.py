@@ -566,9 +566,7 @@ def delineate_beats(
         take = ~matched[own]  # (n_own, 5)
         # The global QRS is widened only where a beat's own QRS or P end is used.
         need_qrs = bool(take[:, [P_OFF, QRS_ON, QRS_OFF]].any())
-        g_own, l_own = _delineate_own(
-            filt, fs_hz, r, np.flatnonzero(own), usable, params, need_qrs
-        )
+        g_own, l_own = _delineate_own(filt, fs_hz, r, np.flatnonzero(own), usable, params, need_qrs)
         cols = np.zeros((take.shape[0], N_MARKS), dtype=bool)
         cols[:, :5] = take
         for pk, col in _PEAK_FOLLOWS.items():

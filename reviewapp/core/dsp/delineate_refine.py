@@ -238,4 +238,3 @@ def _corner_step(
         # ``at`` a sharp S wave's last sample would count as ST depression.
         at = np.minimum(at + 1, w - 1)
     return at, ratio
-
