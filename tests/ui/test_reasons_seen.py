@@ -208,26 +208,40 @@ def _check_irregular(window, qtbot, monkeypatch, tmp_path: Path, reading) -> Non
     reasons = window.summary.reason_texts()
     (caution,) = [t for t in reasons if t.startswith("QTc less reliable: irregular rhythm")]
     assert "Darbar et al." in caution and "Musat et al." in caution
-    (st,) = [t for t in reasons if t.startswith("ST not assessed")]
-    assert "Kligfield et al., Circulation 2007" in st
+    # ST without a P wave: referred to the level before QRS onset, with that caution; or, with
+    # flutter waves or an unsteady level, not assessed, each lead saying why.
+    st_measured = {m.lead for m in ms.leads if m.st_j_mv is not None}
+    st_ref = "ST levels referred to the level just before QRS onset: no P wave"
+    if st_measured:
+        assert any(t.startswith(st_ref) for t in reasons)
     qtbot.mouseClick(window.summary.per_lead_button, L)
     grid = window.summary.leads_table
     col = 1 + [k for k, _ in LEAD_COLUMNS].index("st_j_mv")
     for r in range(grid.rowCount()):
-        item = grid.item(r, col)
-        assert item.text() == "—" and "ST not assessed: no P wave" in item.toolTip()
+        lead, item = grid.item(r, 0).text(), grid.item(r, col)
+        if lead in st_measured:
+            assert abs(float(item.text()) - ms.lead(lead).st_j_mv) <= 0.006, lead
+        else:
+            assert item.text() == "—" and "ST not assessed: no P wave" in item.toolTip()
 
     pdf = _squash(
         pdf_text(_export(window, monkeypatch, "export_pdf", tmp_path / "r.pdf").read_bytes())
     )
     assert _squash("QTc less reliable: irregular rhythm") in pdf and "Darbar" in pdf
-    assert _squash("ST not assessed: no P wave") in pdf and "Kligfield" in pdf
+    if st_measured:
+        assert _squash(st_ref) in pdf
+    if len(st_measured) < len(ms.leads):
+        assert _squash("ST not assessed: no P wave") in pdf
     assert _squash("no P wave marked") in pdf
     rows = _csv_rows(_export(window, monkeypatch, "export_csv", tmp_path / "r.csv"))
     assert rows["p_ms"]["value"] == "" and rows["p_ms"]["reason"] == "no P wave marked"
     assert any("caution" in rows[k]["reason_kind"] for k in QTC if rows[k]["value"])
-    lead_st = [r for q, r in rows.items() if q.endswith(".st")]
-    assert lead_st and all("ST not assessed" in r["reason"] for r in lead_st)
+    lead_st = {q.split(".")[0]: r for q, r in rows.items() if q.endswith(".st")}
+    assert set(lead_st) == {m.lead for m in ms.leads} - st_measured
+    assert all("ST not assessed" in r["reason"] for r in lead_st.values())
+    if st_measured:
+        assert "caution" in rows["st_j_mv"]["reason_kind"]
+        assert rows["st_j_mv"]["reason"].startswith(st_ref)
     _no_memory_marker(*reasons, pdf, *(r["reason"] for r in rows.values()))
 
 
@@ -242,12 +256,14 @@ def test_complete_bundle_branch_block_qtc_is_not_comparable_everywhere(
     _check_wide_qrs(window, qtbot, monkeypatch, tmp_path, reading, "QRS >= 120 ms")
 
 
-def test_atrial_fibrillation_qtc_caution_and_st_not_assessed_everywhere(
+def test_atrial_fibrillation_qtc_caution_and_st_referred_to_qrs_onset_everywhere(
     window, qtbot, monkeypatch, tmp_path, shared_data
 ) -> None:
     stem = _ludb_record(shared_data, _af)
     path = _copy(shared_data / "ludb", stem, tmp_path / "rec")
     reading = _open(window, qtbot, monkeypatch, path)
+    # Fibrillation waves average out in the median beat: ST in every lead, with its caution.
+    assert all(m.st_j_mv is not None for m in reading.measurements.leads)
     _check_irregular(window, qtbot, monkeypatch, tmp_path, reading)
 
 

@@ -38,6 +38,8 @@ import itertools
 from reviewapp.core.fiducials import BeatKind
 from reviewapp.core.interpret.context import Context
 from reviewapp.core.interpret.statement import MetValue, Statement, make
+from reviewapp.core.measure.atrial_activity import FLUTTER_RATE_PER_MIN as FLUTTER_RATE_PER_MIN
+from reviewapp.core.measure.atrial_activity import ORGANISED_MIN, flutter_waves
 from reviewapp.core.measure.intervals import dominant_group
 from reviewapp.core.measure.limit_text import shown
 from reviewapp.core.measure.types import ValueReason
@@ -46,8 +48,7 @@ BRADYCARDIA_BPM = 50.0
 TACHYCARDIA_BPM = 100.0
 SINUS_P_AXIS_DEG = (-30.0, 150.0)  # exclusive
 SINUS_ARRHYTHMIA_MS = 120.0
-FLUTTER_RATE_PER_MIN = (240.0, 340.0)
-FLUTTER_ORGANISATION = 0.43
+FLUTTER_ORGANISATION = ORGANISED_MIN
 JUNCTIONAL_MAX_BPM = 100.0
 WIDE_QRS_MS = 120.0
 ATRIAL_STIMULI_MIN = 3
@@ -153,10 +154,9 @@ def _without_p(ctx: Context) -> list[Statement]:
     rate_vals = [] if vr is None else [MetValue("ventricular rate", vr, "bpm")]
     rate_text = "" if vr is None else f"ventricular rate {vr:.0f} bpm"
     if at is not None and at.rate_per_min is not None and at.organisation is not None:
-        lo, hi = FLUTTER_RATE_PER_MIN
         rate = round(at.rate_per_min)
         org = round(at.organisation, 2)
-        if lo <= rate <= hi and org >= FLUTTER_ORGANISATION:
+        if flutter_waves(at):
             vals = [
                 MetValue("atrial rate", rate, "/min"),
                 MetValue("atrial organisation", org * 100.0, "%"),

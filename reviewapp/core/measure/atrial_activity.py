@@ -35,6 +35,13 @@ from reviewapp.core.fiducials import Beat, MarkedECG
 from reviewapp.core.measure.types import AtrialActivity
 
 ATRIAL_LEADS = ("II", "III", "aVF", "V1")
+# Flutter waves: atrial rate 240-340/min (Mason 2007, from memory) and organisation >= 0.43,
+# set midway between the highest fibrillation (0.36) and the flutter (0.50) of LUDB's
+# odd-numbered records. The flutter statement (``interpret.rhythm``) and the ST rule without
+# a P wave (``measure.compute``: flutter waves are locked to the QRS they conduct to and run
+# through the ST segment) both take them (``flutter_waves``).
+FLUTTER_RATE_PER_MIN = (240.0, 340.0)
+ORGANISED_MIN = 0.43
 PRE_R_S = 0.10
 POST_R_MAX_S = 0.45
 POST_R_RR = 0.6
@@ -48,6 +55,22 @@ WELCH_S = 4.0
 ATRIAL_STIMULUS_OFFSETS_MS = (100.0, 170.0, 240.0, 310.0)
 
 _LAST: tuple[tuple[Beat, ...], int, AtrialActivity] | None = None
+
+
+def flutter_waves(at: AtrialActivity | None) -> bool:
+    """The atrial activity is flutter waves: its rate (rounded to a whole number per minute)
+    within ``FLUTTER_RATE_PER_MIN`` and its organisation (to two decimals, as the reader
+    sees it) at least ``ORGANISED_MIN``.
+
+    >>> flutter_waves(AtrialActivity(rate_per_min=290.0, organisation=0.5))
+    True
+    >>> flutter_waves(AtrialActivity(rate_per_min=386.0, organisation=0.53))
+    False
+    """
+    if at is None or at.rate_per_min is None or at.organisation is None:
+        return False
+    lo, hi = FLUTTER_RATE_PER_MIN
+    return lo <= round(at.rate_per_min) <= hi and round(at.organisation, 2) >= ORGANISED_MIN
 
 
 def atrial_activity(marked: MarkedECG) -> AtrialActivity | None:

@@ -19,7 +19,7 @@ from reviewapp.core.measure.amplitudes import (
     peguero_mv,
     sokolow_lyon_mv,
 )
-from reviewapp.core.measure.atrial_activity import atrial_activity
+from reviewapp.core.measure.atrial_activity import atrial_activity, flutter_waves
 from reviewapp.core.measure.axes import LIMB_LEADS, frontal_axis
 from reviewapp.core.measure.findings import (
     WIDE_QRS_MS,
@@ -41,6 +41,7 @@ from reviewapp.core.measure.preexcitation import is_preexcited
 from reviewapp.core.measure.qt_wide_qrs import jt_ms, jtc_bazett, qt_bogossian
 from reviewapp.core.measure.qtc import QTC_FORMULAS
 from reviewapp.core.measure.types import (
+    AtrialActivity,
     GlobalIntervals,
     LeadMeasurements,
     Measurements,
@@ -121,6 +122,7 @@ def compute_measurements(marked: MarkedECG) -> Measurements:
     gated: list[ValueReason] = []
 
     leads: list[LeadMeasurements] = []
+    atrial = atrial_activity(marked)
     if rep is None:
         for key, *_ in _AXIS_WAVES:
             g[key] = None
@@ -146,11 +148,9 @@ def compute_measurements(marked: MarkedECG) -> Measurements:
             unmeasured += lead_why
         g.update(_axes(marked, wave, marks, bases, unmeasured))
         if marks.p_on is None and marks.qrs_on is not None:
-            leads = _st_without_baseline(leads, marked, unmeasured)
-            if any(q.endswith(".st") and t == ST_NO_BASELINE for q, t in unmeasured):
-                # The ST criteria as a whole are not applied either (one statement for the
-                # reader besides each lead's missing values).
-                gated.append(ValueReason("st_j_mv", "gated", ST_NO_BASELINE))
+            leads = _st_without_p_wave(leads, wave, marks.qrs_on, fs, atrial, unmeasured)
+            if any(m.st_j_mv is not None for m in leads):
+                gated.append(ValueReason("st_j_mv", "caution", ST_WITHOUT_P_WAVE))
 
     g["qrs_t_angle_deg"] = qrs_t_angle(g.get("qrs_axis_deg"), g.get("t_axis_deg"))
     if g["qrs_t_angle_deg"] is None:
@@ -200,7 +200,7 @@ def compute_measurements(marked: MarkedECG) -> Measurements:
         rhythm_irregular=rr.irregular,
         paced=paced,
         pre_excitation=pre_excited,
-        atrial=atrial_activity(marked),
+        atrial=atrial,
         reasons=tuple(reasons),
         limb_consistency=limbs,
     )
@@ -227,9 +227,29 @@ QTC_NOT_COMPARABLE_PACED = (
     "JTc and the QRS-adjusted QT (Rautaharju et al., Circulation 2009; Bogossian et al., "
     "Heart Rhythm 2014)"
 )
-ST_NO_BASELINE = (
-    "ST not assessed: no P wave, so no PR segment to serve as the isoelectric baseline of ST "
-    "(Kligfield et al., Circulation 2007)"
+# Without a P wave there is no PR segment. The level just before QRS onset in the median
+# beat still serves where the atrial waves are fibrillatory: they are not locked to the QRS
+# and average out in the median beat. Checked against the TP segment, the classic baseline
+# without a P wave (common practice, no source), on LUDB's atrial fibrillation records
+# (tests/measure/test_ludb_st_without_p.py: ST at J 4.1 ± 15.0 µV from the TP segment's
+# level). Flutter waves (``atrial_activity.flutter_waves``, the flutter statement's
+# criterion) are locked to the QRS and run through the ST segment: no ST there. A lead whose
+# median still moves by PRE_QRS_STEADY_MV or more over the PRE_QRS_STEADY_MS before QRS onset
+# has no level either; 0.1 mV is the step of the ST criteria (Thygesen K et al., Circulation
+# 2018). LUDB's fibrillation records move by at most 0.071 mV there (record 101).
+PRE_QRS_STEADY_MS = 80.0
+PRE_QRS_STEADY_MV = 0.1
+ST_WITHOUT_P_WAVE = (
+    "ST levels referred to the level just before QRS onset: no P wave, so no PR segment; "
+    "in the median beat of an irregular rhythm the atrial waves average out there"
+)
+ST_FLUTTER_WAVES = (
+    "ST not assessed: no P wave, and flutter waves ({rate:.0f}/min) run through the ST "
+    "segment and the level before QRS onset"
+)
+ST_UNSTEADY_BEFORE_QRS = (
+    "ST not assessed: no P wave, and the median beat moves by {ptp:.2f} mV in the "
+    "{ms:.0f} ms before QRS onset (atrial waves), so there is no level to refer ST to"
 )
 # With RR varying beat to beat no single RR corrects the QT it is applied to. Sources, read
 # as abstracts: Darbar D et al., J Cardiovasc Electrophysiol 2007;18:636-641 ("cycle length
@@ -278,17 +298,40 @@ def _qtc_comparability(
     return [ValueReason(k, "not_comparable", text) for k in QTC_QUANTITIES if g.get(k) is not None]
 
 
-def _st_without_baseline(
-    leads: list[LeadMeasurements], marked: MarkedECG, unmeasured: list[tuple[str, str]]
+def _st_without_p_wave(
+    leads: list[LeadMeasurements],
+    wave: np.ndarray,
+    qrs_on: int,
+    fs: float,
+    atrial: AtrialActivity | None,
+    unmeasured: list[tuple[str, str]],
 ) -> list[LeadMeasurements]:
-    """ST levels removed where the rhythm has no P wave (``ST_NO_BASELINE``)."""
+    """In a rhythm without P waves, ST levels removed from every lead when the atrial
+    activity is flutter waves (``ST_FLUTTER_WAVES``), else from each lead whose median beat
+    is not steady before QRS onset (``ST_UNSTEADY_BEFORE_QRS``); the others stay, referred to
+    the level just before QRS onset (``ST_WITHOUT_P_WAVE``)."""
+    flutter = flutter_waves(atrial)
+    n = round(PRE_QRS_STEADY_MS * fs / 1000.0)
+    before = wave[max(0, qrs_on - n) : qrs_on]
     out = []
-    for m in leads:
+    for i, m in enumerate(leads):
         if m.st_j_mv is None and m.st_j60_mv is None and m.st_j80_mv is None:
             out.append(m)
             continue
+        seg = before[:, i] if i < before.shape[1] else before[:, :0]
+        ptp = float(np.ptp(seg)) if seg.size >= n // 2 and seg.size > 0 else None
+        if not flutter and ptp is not None and ptp < PRE_QRS_STEADY_MV:
+            out.append(m)
+            continue
         out.append(replace(m, st_j_mv=None, st_j60_mv=None, st_j80_mv=None))
-        unmeasured.append((f"{m.lead}.st", ST_NO_BASELINE))
+        if flutter:
+            assert atrial is not None and atrial.rate_per_min is not None
+            why = ST_FLUTTER_WAVES.format(rate=atrial.rate_per_min)
+        elif ptp is None:
+            why = "ST not assessed: no P wave, and the beat window starts too close to QRS onset"
+        else:
+            why = ST_UNSTEADY_BEFORE_QRS.format(ptp=ptp, ms=PRE_QRS_STEADY_MS)
+        unmeasured.append((f"{m.lead}.st", why))
     return out
 
 
