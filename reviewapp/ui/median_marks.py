@@ -88,6 +88,12 @@ class MedianMarkLine(pg.InfiniteLine):
             return 0.0
         return abs(float(vb.viewPixelSize()[0]))
 
+    def settle(self) -> None:
+        """Draw the line exactly at its value (a drag or a nudge has ended)."""
+        x = float(self.value())
+        if self.pos().x() != x:
+            pg.GraphicsObject.setPos(self, QtCore.QPointF(x, 0.0))
+
     def drawn_value(self) -> float:
         """Where the line is drawn now (within half a pixel of ``value()``)."""
         return float(self.pos().x())

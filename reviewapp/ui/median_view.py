@@ -653,6 +653,7 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
             try:
                 for line in self._all_lines(fid):
                     line.setPos(pos)
+                    line.settle()
                     line.setPen(pen)
                     line.setHoverPen(hover)
                     if getattr(line, "label", None) is not None:

@@ -138,6 +138,8 @@ def test_every_line_follows_the_nudged_mark_within_half_a_pixel(median, qtbot):
     assert all(ln.drawn_value() != d for ln, d in zip(lines, drawn0, strict=True))
     qtbot.waitUntil(lambda: w.workflow.is_corrected(T_END), timeout=3000)
     assert w.workflow.shown_sample(T_END) == k0 + 25
+    # Once the correction is made, every line is drawn exactly at its value.
+    qtbot.waitUntil(lambda: all(ln.drawn_value() == ln.value() for ln in lines), timeout=2000)
 
 
 def test_a_beat_mark_on_the_paper_is_selected_and_nudged(median, qtbot):
