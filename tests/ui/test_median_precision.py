@@ -139,7 +139,10 @@ def test_every_line_follows_the_nudged_mark_within_half_a_pixel(median, qtbot):
     qtbot.waitUntil(lambda: w.workflow.is_corrected(T_END), timeout=3000)
     assert w.workflow.shown_sample(T_END) == k0 + 25
     # Once the correction is made, every line is drawn exactly at its value.
-    qtbot.waitUntil(lambda: all(ln.drawn_value() == ln.value() for ln in lines), timeout=2000)
+    qtbot.waitUntil(
+        lambda: all(ln.drawn_value() == ln.value() for ln in mv._all_lines("t_off")),
+        timeout=2000,
+    )
 
 
 def test_a_beat_mark_on_the_paper_is_selected_and_nudged(median, qtbot):
