@@ -3,7 +3,8 @@
 Run as a script (``python tests/lock_holder.py RECORD READER``) it opens the record's marks
 with the marks store, under its lock, prints ``held <pid>`` and then obeys one command a line
 on stdin: ``note TEXT`` saves a note (prints ``saved`` or ``refused <ErrorType>``), ``exit``
-(or the end of stdin) closes the store and exits. ``LockHolderProcess`` drives it from a test.
+(or the end of stdin) closes the store and exits, ``vanish`` exits at once without closing it
+(a crash: the lock file stays behind). ``LockHolderProcess`` drives it from a test.
 """
 
 from __future__ import annotations
@@ -48,6 +49,13 @@ class LockHolderProcess:
         self.proc.stdin.flush()
         return self._line()
 
+    def vanish(self) -> int:
+        """End the process as a crash would (its lock file left behind); returns its code."""
+        assert self.proc.stdin is not None
+        self.proc.stdin.write("vanish\n")
+        self.proc.stdin.flush()
+        return self.end()
+
     def end(self) -> int:
         """Close the store and wait for the process to exit; returns its exit code."""
         if self.proc.poll() is None:
@@ -88,6 +96,8 @@ def _main(record_path: str, reader: str) -> int:
             cmd, _, arg = line.strip().partition(" ")
             if cmd == "exit":
                 break
+            if cmd == "vanish":
+                os._exit(0)
             if cmd == "note":
                 try:
                     store.do(store.edits.add_note(arg))
