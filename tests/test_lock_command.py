@@ -172,7 +172,15 @@ def test_a_take_over_that_could_not_write_leaves_the_holder_its_lock(run, hea: P
 def test_bad_options_give_one_line_and_exit_2(run, hea: Path, argv, expected) -> None:
     code, out, err = run("lock", str(hea), *argv)
     assert code == 2 and out == ""
-    assert expected in _one_line(err)
+    assert _one_line(err).startswith(f"reviewapp: {hea}: {expected}")
+
+
+def test_an_unreadable_lock_file_is_said_to_be_one(run, hea: Path) -> None:
+    _lock(hea).write_bytes(b"\x00 not a lock \xff")
+    code, out, _ = run("lock", str(hea))
+    assert code == 0 and "left as an unreadable lock file" in out
+    code, out, _ = run("lock", str(hea), "--take-over", "reader2", "--confirm")
+    assert code == 0 and "stale lock was cleared" in out and not _lock(hea).exists()
 
 
 def test_a_missing_record_names_the_file(run, tmp_path: Path) -> None:

@@ -62,14 +62,17 @@ def run(args: argparse.Namespace) -> int:
     from reviewapp.core.workflow.roles import ReadMode, usable_reader_id
 
     if args.confirm and args.take_over is None:
-        raise ReviewError("--confirm confirms a take-over: give --take-over READER with it")
+        raise ReviewError(
+            "--confirm confirms a take-over: give --take-over READER with it", args.path
+        )
     reader = None
     if args.take_over is not None:
         reader = usable_reader_id(args.take_over)
         if reader is None:
             raise ReviewError(
                 f"reader id {args.take_over!r} is not usable: use 1-64 letters, digits, '.', "
-                "'_', '@' or '-', starting with a letter or digit"
+                "'_', '@' or '-', starting with a letter or digit",
+                args.path,
             )
     record = open_record(args.path, fs_hz=args.fs, units=args.units)
     report = lock_report(record)

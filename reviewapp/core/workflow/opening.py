@@ -85,9 +85,13 @@ class LockReport:
     def text(self) -> str:
         if self.state == "free":
             return "free: no window or program holds this record's marks"
-        who = self.holder.text if self.holder is not None else "an unreadable lock file"
+        if self.holder is None:  # what no working copy of this program writes
+            return (
+                "left as an unreadable lock file: the next reader to open the record takes it "
+                "over without asking"
+            )
         verb = "left by" if self.state == "stale" else "held by"
-        return f"{verb} {who}: {_STATE_WORDS[self.state]}"
+        return f"{verb} {self.holder.text}: {_STATE_WORDS[self.state]}"
 
 
 def lock_report(record: Record) -> LockReport | None:
