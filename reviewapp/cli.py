@@ -29,7 +29,7 @@ from reviewapp import CLINICAL_CAUTION, __version__
 from reviewapp.core.errors import ReviewError, printable
 from reviewapp.core.log import cache_dir, capture_warnings
 
-SUBCOMMANDS = ("open", "info", "measure", "batch", "study", "export", "samples")
+SUBCOMMANDS = ("open", "info", "measure", "batch", "study", "export", "samples", "lock")
 
 EXIT_OK = 0
 EXIT_SOME_FAILED = 1

@@ -5,6 +5,10 @@ fingerprint that produced it, stored in the sidecar's ``listing_cache``. It is n
 window recomputes every value from signal + marks (with the reader's overrides) when a record is
 opened, and a cache made by another engine version is shown as stale. It deliberately holds no
 reviewer's values, so a blinded second reader's worklist shows nothing of the first reading.
+
+``reasons`` are the engine's own reasons of the automatic reading (``Reading.reasons``) of the
+kinds a table row carries (``reason_text.CSV_KINDS``: not comparable, caution), as the panel,
+the report and ``reviewapp measure`` show them; None for a cache written before it kept them.
 """
 
 from __future__ import annotations
@@ -13,6 +17,9 @@ from collections.abc import Mapping
 from dataclasses import asdict, dataclass
 from datetime import UTC, datetime
 from typing import Any
+
+from reviewapp.core.measure.reason_text import CSV_KINDS
+from reviewapp.core.measure.types import ValueReason
 
 CACHE_KIND = "listing cache: values from the automatic marks; never truth, recomputed on open"
 
@@ -31,6 +38,7 @@ class CachedSummary:
     qtc_bazett_ms: float | None = None
     qtc_fridericia_ms: float | None = None
     flags: tuple[str, ...] = ()
+    reasons: tuple[ValueReason, ...] | None = ()
 
     def qtc_ms(self, formula: str = "fridericia") -> float | None:
         return self.qtc_bazett_ms if formula == "bazett" else self.qtc_fridericia_ms
@@ -38,6 +46,12 @@ class CachedSummary:
     def to_json(self) -> dict[str, Any]:
         d = asdict(self)
         d["flags"] = list(self.flags)
+        if self.reasons is None:
+            del d["reasons"]
+        else:
+            d["reasons"] = [
+                {"quantity": r.quantity, "kind": r.kind, "text": r.text} for r in self.reasons
+            ]
         d["kind"] = CACHE_KIND
         return d
 
@@ -59,6 +73,7 @@ class CachedSummary:
             flags = d.get("flags") or []
             if not isinstance(flags, list) or not all(isinstance(f, str) for f in flags):
                 return None
+            reasons = _reasons(d.get("reasons"))
             return cls(
                 engine_version=str(d["engine_version"]),
                 record_fingerprint=str(d["record_fingerprint"]),
@@ -70,9 +85,20 @@ class CachedSummary:
                 qtc_bazett_ms=num("qtc_bazett_ms"),
                 qtc_fridericia_ms=num("qtc_fridericia_ms"),
                 flags=tuple(flags),
+                reasons=reasons,
             )
         except (KeyError, TypeError, ValueError):
             return None
+
+
+def _reasons(items: Any) -> tuple[ValueReason, ...] | None:
+    if items is None:
+        return None
+    return tuple(
+        ValueReason(str(r["quantity"]), r["kind"], str(r["text"]))
+        for r in items
+        if r["kind"] in CSV_KINDS
+    )
 
 
 def summarise(reading: Any, *, engine_version: str, fingerprint: str) -> CachedSummary:
@@ -95,4 +121,5 @@ def summarise(reading: Any, *, engine_version: str, fingerprint: str) -> CachedS
         qtc_bazett_ms=r1(iv.qtc_bazett_ms),
         qtc_fridericia_ms=r1(iv.qtc_fridericia_ms),
         flags=tuple(f.text for f in reading.findings),
+        reasons=tuple(r for r in reading.reasons if r.kind in CSV_KINDS),
     )

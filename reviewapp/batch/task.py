@@ -48,7 +48,7 @@ def engine_version() -> str:
 
 def is_current(view: sidecars.SidecarView | None, fingerprint: str, version: str) -> bool:
     """True when the sidecar's automated marks and cache were made from this record content
-    by this engine version."""
+    by this engine version (a cache from before it kept the reasons is not current)."""
     return (
         view is not None
         and view.fingerprint == fingerprint
@@ -56,6 +56,7 @@ def is_current(view: sidecars.SidecarView | None, fingerprint: str, version: str
         and view.summary is not None
         and view.summary.engine_version == version
         and view.summary.record_fingerprint == fingerprint
+        and view.summary.reasons is not None
     )
 
 

@@ -4,20 +4,27 @@ The page is drawn by ``reviewapp.report`` at true scale; this module only asks f
 (or a printer), gathers the reading on screen from the ``ReadingWorkflow`` and reports what was
 written in the status bar, or the clear error in a dialog. The menu entries are declared with
 the window's other actions (reviewapp/ui/actions.py).
+
+When the record has a signed adjudication (and the reader may see it: not a blinded read),
+each export first asks which reading to print (``WhichReadingDialog``): the record's final
+reading (``report.content.final_report_content``: ``core.marks.final.resolve_final``, the
+rule of `reviewapp export`) or the reading on screen. The page says which it prints.
 """
 
 from __future__ import annotations
 
 from collections.abc import Callable
+from dataclasses import replace
 from pathlib import Path
 from typing import TYPE_CHECKING
 
 from PySide6.QtCore import QMarginsF, QObject
 from PySide6.QtGui import QPageLayout, QPageSize, QPainter
-from PySide6.QtWidgets import QFileDialog, QMainWindow
+from PySide6.QtWidgets import QFileDialog, QMainWindow, QWidget
 
 from reviewapp.core.errors import ReviewError
 from reviewapp.core.workflow import ReadingWorkflow
+from reviewapp.ui.conflict_dialog import ChoiceDialog
 
 if TYPE_CHECKING:
     # The report modules are imported when something is exported or printed, not at launch
@@ -53,6 +60,43 @@ def report_content(workflow: ReadingWorkflow) -> ReportContent:
     )
 
 
+def final_content(workflow: ReadingWorkflow) -> ReportContent | None:
+    """The page of the record's final reading when a signed adjudication decides it and the
+    reader may see the other readings; None otherwise (a blinded read, no marks file, no
+    signed adjudication)."""
+    store = workflow.store
+    if store is None or store.blinded:
+        return None
+    from reviewapp.core.marks.final import choose_adjudication
+    from reviewapp.report.content import final_report_content
+
+    sidecar = store.sidecar
+    if choose_adjudication(sidecar.readings) is None:
+        return None
+    return final_report_content(workflow.analysis, sidecar)
+
+
+class WhichReadingDialog(ChoiceDialog):
+    """The record has an adjudicated final reading: print it, or the reading on screen."""
+
+    def __init__(
+        self, record_name: str, final: str, screen: str, parent: QWidget | None = None
+    ) -> None:
+        super().__init__(
+            "which_reading_dialog",
+            "Which reading to print?",
+            f"{record_name} has an adjudicated final reading. The page says which reading "
+            "it prints.",
+            (
+                ("final", "Final reading", f"Print the record's {final}."),
+                ("screen", "Reading on screen", f"Print {screen}."),
+            ),
+            "Cancel",
+            parent,
+        )
+        self.buttons["final"].setDefault(True)
+
+
 class ExportActions(QObject):
     """One job: turn the reading on screen into files (or a printed page)."""
 
@@ -68,6 +112,7 @@ class ExportActions(QObject):
         self._workflow = workflow
         self._show_error = show_error
         self._paper = paper
+        self.which_dialog: WhichReadingDialog | None = None
 
     def run(self, name: str) -> object:
         """The menu's entry point: ``export_pdf``, ``export_image``, ``export_csv``,
@@ -91,7 +136,24 @@ class ExportActions(QObject):
                 "hidden: the page would show the automatic marks and values."
             )
             return None
-        return report_content(workflow)
+        screen = report_content(workflow)
+        final = final_content(workflow)
+        if final is None:
+            return screen
+        dlg = WhichReadingDialog(
+            workflow.analysis.record.name, final.printed, screen.printed, self._window
+        )
+        self.which_dialog = dlg  # for tests and screenshots while it is open
+        try:
+            dlg.exec()
+        finally:
+            self.which_dialog = None
+        if dlg.choice is None:
+            self._done("nothing exported: no reading chosen")
+            return None
+        if dlg.choice == "final":
+            return final
+        return replace(screen, printed=screen.printed + "; not the record's final reading")
 
     def _ask(self, title: str, suffix: str, filters: str) -> Path | None:
         workflow = self._workflow()

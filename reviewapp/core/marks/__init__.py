@@ -39,8 +39,9 @@ Top-level fields
   ``undo:<action>`` / ``redo:<action>``), ``target`` (what changed), ``old``, ``new``.
 - ``listing_cache`` (optional, written by ``reviewapp batch``): a few global values computed
   from the automatic marks (``hr_bpm``, ``pr_ms``, ``qrs_ms``, ``qt_ms``, ``qtc_*_ms``,
-  ``flags``), labelled with ``kind``, ``engine_version`` and ``record_fingerprint``, so the
-  worklist can list thousands of records fast. A cache, never truth: values are recomputed
+  ``flags``, and ``reasons``: ``quantity``, ``kind`` not_comparable|caution, ``text``),
+  labelled with ``kind``, ``engine_version`` and ``record_fingerprint``, so the worklist can
+  list thousands of records fast. A cache, never truth: values are recomputed
   from signal + marks when the record is opened (see reviewapp/batch/summary.py).
 
 Example (a complete, schema-valid file; a real one has an event for every change)::

@@ -80,8 +80,8 @@ from reviewapp.core.measure.limit_text import (
     value_text,
 )
 from reviewapp.core.measure.limits import normal_range
-from reviewapp.core.measure.reason_text import cause
-from reviewapp.core.measure.types import LeadMeasurements, NormalRange
+from reviewapp.core.measure.reason_text import CSV_KINDS, cause, csv_cells
+from reviewapp.core.measure.types import LeadMeasurements, NormalRange, ValueReason
 from reviewapp.core.record import SubjectFacts
 
 SCHEMA_VERSION = 1
@@ -521,17 +521,14 @@ def csv_row(d: Mapping[str, Any]) -> dict[str, Any]:
     for k in WIDE_QRS_KEYS:
         row[k] = g.get(k)
     # The quantities shown but not to be compared with their limits (e.g. QTc with a wide
-    # QRS), with the first reason: the full texts are in the JSON ``reasons``.
-    nc = [r for r in d.get("reasons", ()) if r.get("kind") == "not_comparable"]
-    if nc:
-        row["not_comparable"] = " ".join(r["quantity"] for r in nc) + ": " + nc[0]["text"]
-    # Shown and compared but less reliable (kind "caution"), each distinct text once.
-    ca = [r for r in d.get("reasons", ()) if r.get("kind") == "caution"]
-    texts = dict.fromkeys(str(r["text"]) for r in ca)
-    if ca:
-        row["less_reliable"] = " | ".join(
-            " ".join(str(r["quantity"]) for r in ca if r["text"] == t) + ": " + t for t in texts
-        )
+    # QRS), with the first reason, and those less reliable: the full texts are in the JSON
+    # ``reasons``.
+    nc, ca = csv_cells(
+        ValueReason(str(r["quantity"]), r["kind"], str(r["text"]))
+        for r in d.get("reasons", ())
+        if r.get("kind") in CSV_KINDS
+    )
+    row["not_comparable"], row["less_reliable"] = nc or None, ca or None
     row["statements"] = "; ".join(statement_line(x) for x in d.get("statements") or ())
     row["engine_version"] = d["engine_version"]
     return row

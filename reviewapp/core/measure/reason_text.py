@@ -14,6 +14,8 @@ two ways:
   applied, not measured.
 - ``brief``: a statement's what, cause and source without the explanation between them,
   where room is scarce (the report page).
+- ``csv_cells``: the two table columns of a whole record's reasons, ``not_comparable`` and
+  ``less_reliable`` (``reviewapp measure`` CSV and the batch summary).
 
 The cause is the part of a text after "<what>: " up to the first " (", ";" or "," (the
 convention of ``ValueReason.text``).
@@ -161,6 +163,39 @@ def cell_parts(
         return "", sep.join(dict.fromkeys(words(r) for r in ordered))
     rest = [cause(first.text)] + [words(r) for r in ordered[1:]]
     return KIND_WORDS[first.kind], sep.join(dict.fromkeys(t for t in rest if t))
+
+
+# The kinds a record's table row carries: a value shown but not to be compared with its
+# limits, and one shown and compared but less reliable. (Not measured is a blank cell's own
+# column; a criterion not applied is a statement's reason.)
+CSV_KINDS: tuple[str, ...] = ("not_comparable", "caution")
+
+
+def csv_cells(reasons: Iterable[ValueReason]) -> tuple[str, str]:
+    """A record's reasons as two table cells: (not comparable, less reliable).
+
+    Not comparable names every quantity with the first reason's full text; less reliable
+    gives each distinct caution text once, after the quantities it concerns, "" when none.
+
+    >>> nc = ValueReason("qtc_bazett_ms", "not_comparable", "QTc not comparable: QRS >= 120 ms")
+    >>> ca = ValueReason("p_axis_deg", "caution", "axis less reliable: limb leads differ")
+    >>> csv_cells([nc, ca])[0]
+    'qtc_bazett_ms: QTc not comparable: QRS >= 120 ms'
+    >>> from dataclasses import replace
+    >>> csv_cells([nc, ca, replace(ca, quantity="t_axis_deg")])[1]
+    'p_axis_deg t_axis_deg: axis less reliable: limb leads differ'
+    >>> csv_cells([])
+    ('', '')
+    """
+    rs = list(reasons)
+    nc = [r for r in rs if r.kind == "not_comparable"]
+    ca = [r for r in rs if r.kind == "caution"]
+    not_comparable = " ".join(r.quantity for r in nc) + ": " + nc[0].text if nc else ""
+    less_reliable = " | ".join(
+        " ".join(r.quantity for r in ca if r.text == t) + ": " + t
+        for t in dict.fromkeys(r.text for r in ca)
+    )
+    return not_comparable, less_reliable
 
 
 def for_quantity(reasons: Iterable[ValueReason], quantity: str) -> tuple[ValueReason, ...]:

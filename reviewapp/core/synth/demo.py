@@ -11,11 +11,13 @@ from __future__ import annotations
 
 import argparse
 import csv
+import io
 from collections.abc import Sequence
 from dataclasses import dataclass
 from datetime import datetime
 from pathlib import Path
 
+from reviewapp.core.marks.durable import atomic_write
 from reviewapp.core.record import SubjectFacts
 from reviewapp.core.synth.generator import generate
 from reviewapp.core.synth.params import SynthParams
@@ -258,12 +260,13 @@ def write_demo(folder: str | Path) -> list[Path]:
     out = Path(folder)
     out.mkdir(parents=True, exist_ok=True)
     paths = [write_demo_record(d, out) for d in DEMO_RECORDS]
-    with (out / "worklist.csv").open("w", newline="", encoding="utf-8") as fh:
-        w = csv.writer(fh, lineterminator="\n")
-        w.writerow(["record", "subject", "sex", "age", "timepoint", "study"])
-        for d in DEMO_RECORDS:
-            w.writerow([f"{d.name}.hea", d.subject_id, d.sex, d.age_years, d.timepoint, STUDY])
-    (out / "README.md").write_text(_readme(), encoding="utf-8")
+    fh = io.StringIO()
+    w = csv.writer(fh, lineterminator="\n")
+    w.writerow(["record", "subject", "sex", "age", "timepoint", "study"])
+    for d in DEMO_RECORDS:
+        w.writerow([f"{d.name}.hea", d.subject_id, d.sex, d.age_years, d.timepoint, STUDY])
+    atomic_write(out / "worklist.csv", fh.getvalue().encode("utf-8"), "cannot write the worklist")
+    atomic_write(out / "README.md", _readme().encode("utf-8"), "cannot write the README")
     return paths
 
 

@@ -33,6 +33,7 @@ from __future__ import annotations
 
 import argparse
 import csv
+import io
 from collections.abc import Sequence
 from dataclasses import dataclass
 from datetime import datetime, timedelta
@@ -40,6 +41,7 @@ from pathlib import Path
 
 import numpy as np
 
+from reviewapp.core.marks.durable import atomic_write
 from reviewapp.core.record import SubjectFacts
 from reviewapp.core.synth.generator import SyntheticECG, generate
 from reviewapp.core.synth.params import SynthParams
@@ -198,8 +200,7 @@ def write_records(folder: Path, ecgs: Sequence[StudyECG]) -> list[Path]:
 
     paths = []
     for ecg in ecgs:
-        hea = write_synthetic(generate_ecg(ecg), folder, ecg.name)
-        (folder / f"{ecg.name}.truth.json").unlink()
+        hea = write_synthetic(generate_ecg(ecg), folder, ecg.name, truth=False)
         paths.append(hea)
     return paths
 
@@ -330,21 +331,23 @@ def write_study(
         write_readings(out, ecgs)
         for bak in out.glob("*.marks.json.bak"):  # the store's backups of its own first saves
             bak.unlink()
-    with (out / "worklist.csv").open("w", newline="", encoding="utf-8") as fh:
-        w = csv.writer(fh, lineterminator="\n")
-        w.writerow(["record", "subject", "timepoint", "replicate", "acquired_at", "study"])
-        for e in ecgs:
-            w.writerow(
-                [
-                    f"{e.name}.hea",
-                    e.subject.subject_id,
-                    e.timepoint.label,
-                    e.replicate,
-                    e.acquired_at.isoformat(sep=" "),
-                    STUDY,
-                ]
-            )
-    (out / "README.md").write_text(_readme(ecgs, subjects), encoding="utf-8")
+    fh = io.StringIO()
+    w = csv.writer(fh, lineterminator="\n")
+    w.writerow(["record", "subject", "timepoint", "replicate", "acquired_at", "study"])
+    for e in ecgs:
+        w.writerow(
+            [
+                f"{e.name}.hea",
+                e.subject.subject_id,
+                e.timepoint.label,
+                e.replicate,
+                e.acquired_at.isoformat(sep=" "),
+                STUDY,
+            ]
+        )
+    atomic_write(out / "worklist.csv", fh.getvalue().encode("utf-8"), "cannot write the worklist")
+    readme = _readme(ecgs, subjects).encode("utf-8")
+    atomic_write(out / "README.md", readme, "cannot write the README")
     return paths
 
 

@@ -33,6 +33,7 @@ import numpy as np
 
 from reviewapp.core.errors import MarksError
 from reviewapp.core.fiducials import Beat, BeatKind, WaveMarks
+from reviewapp.core.marks.durable import atomic_write
 
 TRUTH_FORMAT = "reviewapp-synthetic-truth"
 TRUTH_VERSION = 1
@@ -231,7 +232,8 @@ class GroundTruth:
 
 
 def write_truth_json(truth: GroundTruth, path: Path, params: dict[str, Any] | None = None) -> None:
-    path.write_text(json.dumps(truth.to_json_dict(params), indent=1) + "\n", encoding="utf-8")
+    data = json.dumps(truth.to_json_dict(params), indent=1) + "\n"
+    atomic_write(path, data.encode("utf-8"), "cannot write the truth file")
 
 
 def load_truth(path: str | Path) -> GroundTruth:

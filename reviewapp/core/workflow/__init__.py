@@ -3,15 +3,18 @@
 ``ReadingWorkflow`` (reading_workflow.py) is the model the window's views show and send their
 edits to; ``MarkEdit`` / ``MarkTarget`` (targets.py) the one payload of every mark edit;
 ``Outcome`` (outcome.py) what an action actually did; ``open_marks`` (opening.py) the marks file
-for a reader in a ``ReadMode`` (roles.py); the editors of calipers, notes and decisions live in
-editors.py, the undo history in history.py, a window-only reading in memory.py.
+for a reader in a ``ReadMode`` (roles.py), ``lock_report`` who holds it; the editors of
+calipers, notes and decisions live in editors.py, the undo history in history.py, a
+window-only reading in memory.py.
 """
 
 from reviewapp.core.workflow.opening import (
     LockHolder,
+    LockReport,
     MarksOpening,
     holder_of,
     lock_holder,
+    lock_report,
     open_marks,
     take_over_marks,
 )
@@ -37,6 +40,7 @@ __all__ = [
     "SECOND_HIDDEN",
     "UNIDENTIFIED",
     "LockHolder",
+    "LockReport",
     "MarkAction",
     "MarkEdit",
     "MarkTarget",
@@ -48,6 +52,7 @@ __all__ = [
     "WorkflowChange",
     "holder_of",
     "lock_holder",
+    "lock_report",
     "open_marks",
     "take_over_marks",
     "usable_reader_id",

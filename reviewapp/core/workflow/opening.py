@@ -4,6 +4,8 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 from dataclasses import dataclass
+from pathlib import Path
+from typing import Literal
 
 from reviewapp.core.errors import ReviewError
 from reviewapp.core.marks.errors import LockedError
@@ -51,18 +53,93 @@ def holder_of(fields: Mapping[str, object]) -> LockHolder:
     )
 
 
-def lock_holder(record: Record) -> LockHolder | None:
-    """The live holder of ``record``'s marks lock (another window or program), or None when
-    nobody holds it or its holder is gone (a stale lock is taken over silently on opening)."""
+# Who holds a record's marks lock: nobody ("free"); a process running on this computer
+# ("live"); a process on another computer, which this one cannot check and so counts as
+# holding it ("elsewhere"); or a holder that is gone (its process ended, the computer
+# restarted, its process id reused, or a lock file that cannot be read: "stale").
+LockState = Literal["free", "live", "elsewhere", "stale"]
+_STATE_WORDS: dict[str, str] = {
+    "live": "that program is running on this computer",
+    "elsewhere": "on another computer: whether that window is still open cannot be checked "
+    "from here, so the lock counts as held",
+    "stale": "its program is gone (ended, or the computer restarted): the next reader to open "
+    "the record takes it over without asking",
+}
+
+
+@dataclass(frozen=True)
+class LockReport:
+    """The state of a record's marks lock and its holder in words (None: free, or a lock file
+    that cannot be read)."""
+
+    lock_path: Path
+    state: LockState
+    holder: LockHolder | None
+
+    @property
+    def held(self) -> bool:
+        """Whether opening the record for writing is refused without a take-over."""
+        return self.state in ("live", "elsewhere")
+
+    @property
+    def text(self) -> str:
+        if self.state == "free":
+            return "free: no window or program holds this record's marks"
+        if self.holder is None:  # what no working copy of this program writes
+            return (
+                "left as an unreadable lock file: the next reader to open the record takes it "
+                "over without asking"
+            )
+        verb = "left by" if self.state == "stale" else "held by"
+        return f"{verb} {self.holder.text}: {_STATE_WORDS[self.state]}"
+
+
+def lock_report(record: Record) -> LockReport | None:
+    """Who holds ``record``'s marks lock, and whether they can be checked; None for a record
+    without a file (its marks stay in the window)."""
     from reviewapp.core.marks.convert import sidecar_path_for
+    from reviewapp.core.marks.durable import host_name
     from reviewapp.core.marks.lock import is_live, lock_path_for, read_holder
 
     if record.source_path is None:
         return None
-    fields = read_holder(lock_path_for(sidecar_path_for(record)))
-    if not fields or not is_live(fields):
-        return None
-    return holder_of(fields)
+    path = lock_path_for(sidecar_path_for(record))
+    fields = read_holder(path)
+    if fields is None:
+        return LockReport(path, "free", None)
+    holder = holder_of(fields) if fields else None
+    if not is_live(fields):
+        return LockReport(path, "stale", holder)
+    return LockReport(path, "live" if fields.get("host") == host_name() else "elsewhere", holder)
+
+
+def lock_holder(record: Record) -> LockHolder | None:
+    """The live holder of ``record``'s marks lock (another window or program), or None when
+    nobody holds it or its holder is gone (a stale lock is taken over silently on opening)."""
+    report = lock_report(record)
+    return report.holder if report is not None and report.held else None
+
+
+def _open_in(
+    mode: ReadMode,
+    record: Record,
+    reviewer: str,
+    *,
+    read_only: bool = False,
+    lock: bool = True,
+    force_lock: bool = False,
+) -> MarksStore:
+    """``MarksStore.open`` for ``reviewer`` in the reading mode (``force_lock``: take over)."""
+    return MarksStore.open(
+        record,
+        reviewer,
+        role=mode.role,
+        blinded=mode.blinded,
+        show_automatic=mode.show_automatic,
+        read_only=read_only,
+        lock=lock,
+        force_lock=force_lock,
+    )
 
 
 def take_over_marks(record: Record, reader: str, mode: ReadMode) -> MarksOpening:
@@ -70,13 +147,10 @@ def take_over_marks(record: Record, reader: str, mode: ReadMode) -> MarksOpening
     (``MarksStore.take_over``: the store records the take-over in the audit trail). The
     other window can no longer save there."""
     try:
-        store = MarksStore.take_over(
-            record,
-            reader,
-            role=mode.role,
-            blinded=mode.blinded,
-            show_automatic=mode.show_automatic,
-        )
+        # The marks file must be one this reader can write (this record's, readable, and not
+        # read by them in another role) before the holder loses the lock, not after.
+        _open_in(mode, record, reader, read_only=True, lock=False).close()
+        store = _open_in(mode, record, reader, force_lock=True)
     except ReviewError as err:
         return MarksOpening(None, "marks kept in this window only: the take-over failed", (err,))
     warning = "" if store.took_over is None else store.took_over.warning
@@ -96,15 +170,7 @@ def open_marks(record: Record, reader: str | None, mode: ReadMode) -> MarksOpeni
         return MarksOpening(None, "marks kept in this window only (the record has no file)")
 
     def open_as(reviewer: str, *, read_only: bool = False, lock: bool = True) -> MarksStore:
-        return MarksStore.open(
-            record,
-            reviewer,
-            role=mode.role,
-            blinded=mode.blinded,
-            show_automatic=mode.show_automatic,
-            read_only=read_only,
-            lock=lock,
-        )
+        return _open_in(mode, record, reviewer, read_only=read_only, lock=lock)
 
     unusable = "marks kept in this window only: the marks file could not be used"
     try:
