@@ -72,7 +72,8 @@ DEMO_RECORDS: tuple[DemoRecord, ...] = (
             pr_ms=142,
             qrs_ms=84,
             qt_ms=410,
-            qrs_axis_deg=70,
+            qrs_axis_deg=60,
+            r_amp_mv=1.8,
             t_axis_deg=50,
             seed=201,
         ),
@@ -96,7 +97,7 @@ DEMO_RECORDS: tuple[DemoRecord, ...] = (
         datetime(2026, 3, 3, 9, 55),
         "QT longer than at pre-dose",
         SynthParams(
-            hr_bpm=63, pr_ms=164, qrs_ms=86, qt_ms=442, qrs_axis_deg=40, t_amp_mv=0.31, seed=302
+            hr_bpm=63, pr_ms=164, qrs_ms=86, qt_ms=442, qrs_axis_deg=40, t_amp_mv=0.40, seed=302
         ),
     ),
     DemoRecord(
@@ -113,7 +114,7 @@ DEMO_RECORDS: tuple[DemoRecord, ...] = (
             qrs_ms=88,
             qt_ms=486,
             qrs_axis_deg=40,
-            t_amp_mv=0.26,
+            t_amp_mv=0.33,
             t_axis_deg=35,
             seed=303,
         ),
@@ -132,7 +133,7 @@ DEMO_RECORDS: tuple[DemoRecord, ...] = (
             qrs_ms=92,
             qt_ms=384,
             qrs_axis_deg=30,
-            emg_snr_db=12.0,
+            emg_snr_db=20.0,
             mains_hz=50.0,
             mains_mv=0.06,
             baseline_wander_mv=0.35,
@@ -164,7 +165,7 @@ DEMO_RECORDS: tuple[DemoRecord, ...] = (
             pr_ms=148,
             qrs_ms=86,
             qt_ms=398,
-            qrs_axis_deg=65,
+            qrs_axis_deg=50,
             ectopic_beats=(5,),
             seed=901,
         ),
@@ -176,7 +177,7 @@ DEMO_RECORDS: tuple[DemoRecord, ...] = (
         "male",
         "pre-dose",
         datetime(2026, 3, 6, 7, 50),
-        "wide QRS, left-bundle-branch-like",
+        "complete left bundle branch block",
         SynthParams(
             hr_bpm=70,
             pr_ms=172,
@@ -197,7 +198,7 @@ DEMO_RECORDS: tuple[DemoRecord, ...] = (
         datetime(2026, 3, 6, 10, 5),
         "atrial fibrillation",
         SynthParams(
-            hr_bpm=96, af=True, f_wave_mv=0.05, qrs_ms=90, qt_ms=360, qrs_axis_deg=60, seed=1401
+            hr_bpm=80, af=True, f_wave_mv=0.065, qrs_ms=90, qt_ms=350, qrs_axis_deg=60, seed=1401
         ),
     ),
 )

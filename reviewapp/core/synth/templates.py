@@ -22,26 +22,42 @@ def _vec(angle_deg: float, z: float, size: float) -> tuple[float, float, float]:
     return (size * planar * math.cos(a), size * planar * math.sin(a), size * z)
 
 
-# P: right-atrial lobe (inferior, anterior) then left-atrial lobe (leftward, posterior), which
-# makes V1 biphasic.
+# P: right-atrial lobe (inferior, anterior) then left-atrial lobe (leftward), which makes V1
+# biphasic: positive, then a small negative terminal part. Sized so that a normal P (axis
+# +60 deg) reads about 0.12 mV in II, 0.11 mV in V2 (under 0.15), and its terminal force in V1
+# is about 0.02 mm x s, half the 0.04 mm x s of left atrial abnormality (common practice, no
+# source: a normal terminal P in V1 is under 1 mm deep and 40 ms long).
 P_WAVE: tuple[Lobe, ...] = (
-    Lobe(0.0, 0.62, _vec(20.0, -0.5, 1.0)),
-    Lobe(0.38, 1.0, _vec(-15.0, 0.55, 0.9)),
+    Lobe(0.0, 0.6, _vec(25.0, -0.3, 1.0)),
+    Lobe(0.4, 1.0, _vec(-20.0, 0.0, 0.8)),
 )
 
-# Narrow QRS: septal q, main R, terminal S. Index 1 is the R lobe.
+# Narrow QRS: septal q, early anterior-leftward forces, main R, terminal S; the horizontal
+# loop turns counter-clockwise (viewed from above) from right-anterior through left to
+# posterior. The anterior lobe makes the R grow from V1 to V4/V5 with the transition (R about
+# equal to S) near V3-V4, the posterior main lobe the S in V1-V2. With the default amplitude
+# and a QRS axis of +20 to +60 deg this gives (common practice, no source; typical adult
+# values from memory): rS in V1 (r 0.2-0.3 mV, S 1.1-1.5), rS in V2 (R about 0.6, S 1.2-1.3),
+# R about equal to S in V3, R 0.9-1.5 over a small S in V4, R 1.0-1.7 in V5 (the tallest);
+# every precordial QRS well over 1 mV peak to peak; Sokolow-Lyon, Cornell and Peguero-Lo
+# Presti voltages under their limits. A vertical heart (axis +65 deg and more) turns the main
+# force away from x, so V4-V6 get smaller: raise ``r_amp_mv`` there.
 QRS_NARROW: tuple[Lobe, ...] = (
-    Lobe(0.0, 0.36, _vec(160.0, -0.7, 0.12)),
-    Lobe(0.12, 0.74, _vec(0.0, 0.35, 1.0)),
-    Lobe(0.52, 1.0, _vec(-140.0, 0.8, 0.32)),
+    Lobe(0.0, 0.36, _vec(160.0, -0.7, 0.14)),
+    Lobe(0.08, 0.55, _vec(-5.0, -0.4, 0.45)),
+    Lobe(0.25, 0.78, _vec(0.0, 0.6, 1.05)),
+    Lobe(0.55, 1.0, _vec(-140.0, 0.8, 0.3)),
 )
 
-# Wide, notched QRS of a left-bundle-branch-like pattern: all forces leftward and posterior,
-# two overlapping main lobes give the notched broad R in I/V6 and a QS in V1.
+# Wide, notched QRS of left bundle branch block: all forces leftward and posterior, two
+# overlapping main lobes give the broad notched R in I, aVL, V5, V6 (no septal q) and a QS in
+# V1-V2. The later lobe is the larger, so the R peaks late in V5 and V6 (R-peak time > 60 ms,
+# one of the criteria of Surawicz et al., Circulation 2009); deep QS in V1 (about 1.5 mV),
+# R 1.2-1.6 mV in V5 (common practice, no source).
 QRS_WIDE: tuple[Lobe, ...] = (
-    Lobe(0.0, 0.42, _vec(-15.0, 0.5, 0.55)),
-    Lobe(0.22, 0.62, _vec(10.0, 0.85, 0.8)),
-    Lobe(0.5, 1.0, _vec(0.0, 0.6, 0.8)),
+    Lobe(0.0, 0.42, _vec(-15.0, 0.7, 0.45)),
+    Lobe(0.22, 0.62, _vec(10.0, 0.85, 0.75)),
+    Lobe(0.5, 1.0, _vec(0.0, 0.4, 1.0)),
 )
 
 # Premature ventricular beat: broad, mainly anterior, opposite to the sinus QRS in the frontal
