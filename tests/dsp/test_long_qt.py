@@ -10,7 +10,8 @@ given: the T ends right where the next beat's P begins. A QTc of 450-580 ms (Baz
 Measured (detected - truth, samples at 500 Hz): T end +1 at 75, 100, 130 and 150 bpm, +3 at
 110 bpm, where the T ends on the first sample of the next P (with the earlier synthetic
 shapes, whose chest leads were too small: +1 at 75 bpm, +2 at 100 and 110, 0 at 130 and 150;
-the next P's first samples pull the T end by a sample or two either way); QRS onset 0 at 75-100 bpm, -3 at 110 bpm, -6 at 130 and 150 bpm: with no
+the next P's first samples pull the T end by a sample or two either way); QRS onset 0 at
+75-130 bpm, -1 at 150 bpm (with the earlier shapes -3 at 110 bpm, -6 at 130 and 150): with no
 isoelectric TP segment left, the 0.5 Hz baseline high-pass (filters.HIGHPASS_HZ, within the
 0.67 Hz of Kligfield et al. 2007) leaves a slope before the QRS that the earliest-lead onset
 takes in. Before the median-beat window reached the next P: QT not measured at 75 bpm (QT
