@@ -235,8 +235,10 @@ def _readme() -> str:
         "`study/` holds a second invented study, for `reviewapp study`: triplicate ECGs of",
         "five subjects at drug-free, baseline and post-dose timepoints, with readings; see its",
         "README (regenerate: `reviewapp samples sample_records/study --study`). The window's",
-        "worklist, `reviewapp batch` and `reviewapp study` search subfolders, so on this folder",
-        "they take in the study's 75 records too; open or run them on `study/` for the study",
+        "worklist on this folder lists the 11 records above and names the study's 75 on its",
+        "count line: tick Subfolders to list them too (with a Folder column), or open `study/`",
+        "for the study alone. `reviewapp batch` and `reviewapp study` search subfolders, so on",
+        "this folder they take in the study's records too; run them on `study/` for the study",
         "alone.",
     ]
     return "\n".join(lines) + "\n"
