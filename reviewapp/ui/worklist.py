@@ -424,6 +424,9 @@ class WorklistWidget(QWidget):
         # model's column order is unchanged).
         keys = [k for k, _t in COLUMNS]
         header.moveSection(header.visualIndex(keys.index("status")), 1)
+        # The folder (shown when records come from subfolders) right after them: the grouping
+        # key stays in sight on a slightly wider dock.
+        header.moveSection(header.visualIndex(keys.index("folder")), 2)
         self.table.activated.connect(self._on_activated)
 
         self.unread_box = QCheckBox("Unread only", self)
@@ -455,7 +458,6 @@ class WorklistWidget(QWidget):
         bar = QHBoxLayout()
         bar.addWidget(self.unread_box)
         bar.addWidget(self.flagged_box)
-        bar.addWidget(self.subfolders_box)
         bar.addStretch(1)
         bar2 = QHBoxLayout()
         bar2.addWidget(self.qtc_box)
@@ -465,9 +467,14 @@ class WorklistWidget(QWidget):
         layout.setContentsMargins(2, 2, 2, 2)
         layout.addLayout(bar)
         layout.addLayout(bar2)
+        # Its own row, shown only when the folder has subfolders with records: the dock stays
+        # as narrow as before.
+        layout.addWidget(self.subfolders_box, 0, Qt.AlignmentFlag.AlignLeft)
+        self.subfolders_box.hide()
         # The count on a line of its own: its text grows with the folder and must not widen
         # the dock.
         self.count_label.setSizePolicy(QSizePolicy.Policy.Ignored, QSizePolicy.Policy.Preferred)
+        self.count_label.setWordWrap(True)  # "...; 75 more in subfolder study" on a narrow dock
         layout.addWidget(self.count_label)
         layout.addWidget(self.progress)
         layout.addWidget(self.table, 1)
@@ -640,6 +647,10 @@ class WorklistWidget(QWidget):
         folder_col = [k for k, _t in COLUMNS].index("folder")
         self.table.setColumnHidden(
             folder_col, self.listing is None or not self.listing.from_subfolders
+        )
+        self.subfolders_box.setVisible(
+            self.listing is not None
+            and (bool(self.listing.elsewhere) or self.listing.from_subfolders)
         )
         self._fit_columns()
         self._update_count()

@@ -18,6 +18,13 @@ def _no_sidecar_in_shared_folders(monkeypatch):
     keep_marks_in_window(monkeypatch)
 
 
+def _click_box(qtbot, box) -> None:
+    """Click a check box once it is shown and laid out (it appears with the listing)."""
+    qtbot.waitUntil(lambda: box.isVisible() and box.rect().contains(box.rect().center()))
+    qtbot.wait(20)
+    qtbot.mouseClick(box, QtCore.Qt.MouseButton.LeftButton)
+
+
 def test_launch_without_a_path_shows_the_demo_worklist_and_names_the_study(
     window, sample_records_dir, qtbot
 ):
@@ -45,7 +52,7 @@ def test_launch_without_a_path_shows_the_demo_worklist_and_names_the_study(
 
     # One tick lists the study too, each study record with its folder; the demo stays first.
     with qtbot.waitSignal(wl.scanFinished, timeout=20_000):
-        qtbot.mouseClick(wl.subfolders_box, QtCore.Qt.MouseButton.LeftButton)
+        _click_box(qtbot, wl.subfolders_box)
     listed = wl.visible_paths()
     assert listed[:11] == own and sorted(listed[11:]) == study
     assert not wl.table.isColumnHidden(folder_col)

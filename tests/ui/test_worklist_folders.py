@@ -57,6 +57,13 @@ def _open_folder(window, qtbot, monkeypatch, folder: Path) -> None:
         _menu_action(window, "File/Open folder…").trigger()
 
 
+def _click_box(qtbot, box) -> None:
+    """Click a check box once it is shown and laid out (it appears with the listing)."""
+    qtbot.waitUntil(lambda: box.isVisible() and box.rect().contains(box.rect().center()))
+    qtbot.wait(20)
+    qtbot.mouseClick(box, QtCore.Qt.MouseButton.LeftButton)
+
+
 def test_a_folder_with_its_own_records_lists_them_and_names_the_rest(
     window, qtbot, monkeypatch, tree
 ):
@@ -68,7 +75,7 @@ def test_a_folder_with_its_own_records_lists_them_and_names_the_rest(
     assert wl.count_label.text() == "2 records, 2 unread; 3 more in subfolders site-b, site-c"
 
     with qtbot.waitSignal(wl.scanFinished, timeout=20_000):
-        qtbot.mouseClick(wl.subfolders_box, QtCore.Qt.MouseButton.LeftButton)
+        _click_box(qtbot, wl.subfolders_box)
     expected = [tree[n] for n in ("r1", "r2", "b1", "b2", "c1")]
     assert wl.visible_paths() == expected
     assert not wl.table.isColumnHidden(FOLDER_COL)
@@ -87,7 +94,7 @@ def test_a_folder_with_its_own_records_lists_them_and_names_the_rest(
 
     # Unticked: back to the folder's own records, the subfolders named again.
     with qtbot.waitSignal(wl.scanFinished, timeout=20_000):
-        qtbot.mouseClick(wl.subfolders_box, QtCore.Qt.MouseButton.LeftButton)
+        _click_box(qtbot, wl.subfolders_box)
     assert wl.visible_paths() == [tree["r1"], tree["r2"]]
     assert wl.table.isColumnHidden(FOLDER_COL)
     assert "3 more in subfolders site-b, site-c" in wl.count_label.text()
