@@ -116,3 +116,7 @@ def test_an_empty_folder_says_so_in_words(window, qtbot, monkeypatch, tmp_path):
     assert isinstance(box, QtWidgets.QMessageBox)
     assert "no ECG records in this folder or its subfolders" in box.text()
     assert "Traceback" not in box.text()
+    # The reader answers the box (a modal box left open would take the next tests' keys).
+    ok = box.button(QtWidgets.QMessageBox.StandardButton.Ok)
+    qtbot.mouseClick(ok, QtCore.Qt.MouseButton.LeftButton)
+    qtbot.waitUntil(lambda: not box.isVisible(), timeout=5000)
