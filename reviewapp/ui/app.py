@@ -7,11 +7,15 @@ import logging
 import sys
 import traceback
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from PySide6 import QtCore, QtGui, QtWidgets
 
 import reviewapp
 from reviewapp.core.errors import ReviewError
+
+if TYPE_CHECKING:
+    from reviewapp.ui.main_window import MainWindow
 
 log = logging.getLogger(__name__)
 
@@ -61,6 +65,16 @@ def install_excepthook(get_parent) -> None:
     sys.excepthook = hook
 
 
+def open_at_launch(window: MainWindow, path: Path | None) -> bool:
+    """Open what the command line named, else the bundled demo worklist: the sample folder
+    lists its own 11 records, and its count line names the QT study in ``study/`` (one tick
+    of Subfolders, or File > Open folder on it, lists that study)."""
+    target = path if path is not None else sample_records_dir()
+    if path is None and not target.is_dir():
+        return False
+    return bool(window.open_path(target))
+
+
 def run_app(
     path: Path | None = None,
     *,
@@ -84,9 +98,7 @@ def run_app(
     if second_reader:
         window.adapter.set_read_mode(ReadMode("second", True, not hide_automatic), reopen=False)
     window.show()
-    target = path if path is not None else sample_records_dir()
-    if path is not None or target.is_dir():
-        QtCore.QTimer.singleShot(0, lambda: window.open_path(target))
+    QtCore.QTimer.singleShot(0, lambda: open_at_launch(window, path))
     if median:
         QtCore.QTimer.singleShot(0, lambda: window.view.show_median(True))
     code = int(app.exec())

@@ -24,7 +24,7 @@ from reviewapp.ui.layouts import LAYOUTS
 from reviewapp.ui.page_controls import PageControls
 from reviewapp.ui.paper import PaperScale, screen_px_per_mm
 from reviewapp.ui.reading_panel import ReadingPanel
-from reviewapp.ui.records_dock import RecordsDock, list_records
+from reviewapp.ui.records_dock import RecordsDock, folder_listing, list_records
 from reviewapp.ui.selection import SelectionKeys
 from reviewapp.ui.summary import SummaryPanel
 from reviewapp.ui.theme import LIGHT, THEMES
@@ -227,10 +227,11 @@ class MainWindow(QtWidgets.QMainWindow):
         path = Path(path)
         try:
             if path.is_dir():
-                found = list_records(path)
-                self.records.show_folder(path, found)
+                listing = folder_listing(path)
+                found = list(listing.records)
+                self.records.show_folder(path, found, listing.include_subfolders)
                 if not found:
-                    raise ReviewError("no ECG records in this folder", path)
+                    raise ReviewError("no ECG records in this folder or its subfolders", path)
                 path = found[0]
             from reviewapp.core.io import open_record
 
@@ -245,7 +246,7 @@ class MainWindow(QtWidgets.QMainWindow):
             self.statusBar().showMessage(f"Not opened: {record.name} (open in another window).")
             return False
         self.settings.setValue("files/last_dir", str(path.parent))
-        if self.records.folder != path.parent:
+        if not self.records.covers(path):
             self.records.show_folder(path.parent, list_records(path.parent))
         self.records.show_page(path)
         self.load_record(record, analyse_now=analyse_now)

@@ -11,6 +11,7 @@ from typing import TYPE_CHECKING
 from PySide6 import QtCore, QtWidgets
 
 if TYPE_CHECKING:
+    from reviewapp.core.io.folder_listing import FolderListing
     from reviewapp.ui.worklist import WorklistWidget
 
 
@@ -24,6 +25,18 @@ def list_records(folder: Path) -> list[Path]:
     except ImportError:  # the worklist needs the batch package; the plain list does not
         return find_records(folder, recursive=False)
     return [p for p in find_records(folder, recursive=False) if is_listable(p)]
+
+
+def folder_listing(folder: Path, include_subfolders: bool | None = None) -> FolderListing:
+    """What the records dock lists for ``folder`` (core.io.folder_listing, with the list's own
+    check of each path where the worklist is available)."""
+    from reviewapp.core.io.folder_listing import list_folder
+
+    try:
+        from reviewapp.ui.worklist import is_listable
+    except ImportError:
+        return list_folder(folder, include_subfolders)
+    return list_folder(folder, include_subfolders, keep=is_listable)
 
 
 def _make_worklist() -> WorklistWidget | None:
@@ -73,8 +86,11 @@ class RecordsDock(QtWidgets.QDockWidget):
         if path is not None and path != self.page_path:
             self.open_requested.emit(path)
 
-    def show_folder(self, folder: Path, records: list[Path]) -> None:
-        """List the folder: the worklist (status, cached values, flags) when available."""
+    def show_folder(
+        self, folder: Path, records: list[Path], include_subfolders: bool | None = None
+    ) -> None:
+        """List the folder: the worklist (status, cached values, flags) when available, with
+        or without its subfolders (None: core.io.folder_listing's rule)."""
         self.folder = folder
         self.setWindowTitle(f"Records — {folder.name}")
         was_visible = self.isVisible()
@@ -85,7 +101,7 @@ class RecordsDock(QtWidgets.QDockWidget):
             self._fit_pending = True
             QtCore.QTimer.singleShot(0, self.fit_width)
         if self.worklist is not None:
-            self.worklist.open_folder(folder)
+            self.worklist.open_folder(folder, include_subfolders)
             return
         assert self.records_list is not None
         self.records_list.blockSignals(True)
@@ -117,6 +133,15 @@ class RecordsDock(QtWidgets.QDockWidget):
             it = self.records_list.item(i)
             if Path(it.data(QtCore.Qt.ItemDataRole.UserRole)) == path:
                 self.records_list.setCurrentItem(it)
+
+    def covers(self, path: Path) -> bool:
+        """Whether the record at ``path`` is in the folder listed, so opening it keeps the
+        list (a record of a listed subfolder does not re-list its own folder)."""
+        if self.folder is None:
+            return False
+        if self.worklist is not None:
+            return self.worklist.covers(path)
+        return Path(path).parent == self.folder
 
     def highlighted(self) -> Path | None:
         if self.worklist is not None:

@@ -45,6 +45,7 @@ from PySide6.QtWidgets import (
 )
 
 from reviewapp.batch.listing import ListingRow, listing_row
+from reviewapp.core.io.folder_listing import FolderListing, has_own_records, list_folder
 
 COLUMNS: tuple[tuple[str, str], ...] = (
     ("name", "Record"),
@@ -179,6 +180,9 @@ class WorklistModel(QAbstractTableModel):
             return order.index(status) if status in order else 3
         if key == "flags":
             return len(row.flags)
+        if key == "folder":
+            # The folder's own records first, then each subfolder's together, by name.
+            return (row.folder.lower(), row.name.lower())
         return self._display(row, key).lower()
 
     @staticmethod
@@ -321,25 +325,34 @@ class _ScanTask(QRunnable):
     CHUNK_S = 0.1
     CHUNK_ROWS = 500
 
-    def __init__(self, root: Path, generation: int, engine_version: str | None) -> None:
+    def __init__(
+        self,
+        root: Path,
+        generation: int,
+        engine_version: str | None,
+        include_subfolders: bool | None = None,
+    ) -> None:
         super().__init__()
         self.setAutoDelete(False)
         self.root = root
         self.generation = generation
         self.engine_version = engine_version
+        self.include_subfolders = include_subfolders
+        self.listing: FolderListing | None = None  # what was listed (set before finished)
         self.signals = _ScanSignals()
         self.cancelled = threading.Event()
         self.thread_id: int | None = None
 
     def run(self) -> None:
         from reviewapp.core.errors import ReviewError
-        from reviewapp.core.io import find_records
 
         self.thread_id = threading.get_ident()
         gen = self.generation
         try:
             self.signals.progress.emit(gen, 0, 0)
-            paths = [p for p in find_records(self.root, recursive=True) if is_listable(p)]
+            listing = list_folder(self.root, self.include_subfolders, keep=is_listable)
+            self.listing = listing
+            paths = list(listing.records)
             total = len(paths)
             self.signals.progress.emit(gen, 0, total)
             chunk: list[ListingRow] = []
@@ -379,6 +392,11 @@ class WorklistWidget(QWidget):
         self.proxy = WorklistFilter(self)
         self.proxy.setSourceModel(self.model)
         self.root: Path | None = None
+        # Whether the records in subfolders of ``root`` are listed, and what the last listing
+        # held and left out (core.io.folder_listing: a folder with records of its own lists
+        # those, a folder of folders everything below it).
+        self.include_subfolders = False
+        self.listing: FolderListing | None = None
         self._generation = 0
         self._task: _ScanTask | None = None
         self._pool = QThreadPool.globalInstance()
@@ -406,6 +424,9 @@ class WorklistWidget(QWidget):
         # model's column order is unchanged).
         keys = [k for k, _t in COLUMNS]
         header.moveSection(header.visualIndex(keys.index("status")), 1)
+        # The folder (shown when records come from subfolders) right after them: the grouping
+        # key stays in sight on a slightly wider dock.
+        header.moveSection(header.visualIndex(keys.index("folder")), 2)
         self.table.activated.connect(self._on_activated)
 
         self.unread_box = QCheckBox("Unread only", self)
@@ -421,6 +442,12 @@ class WorklistWidget(QWidget):
         for w in (self.unread_box, self.flagged_box, self.qtc_box):
             w.toggled.connect(self._apply_filters)
         self.qtc_spin.valueChanged.connect(self._apply_filters)
+        self.subfolders_box = QCheckBox("Subfolders", self)
+        self.subfolders_box.setToolTip(
+            "Also list the records in the subfolders of this folder (a Folder column then "
+            "says where each one is)"
+        )
+        self.subfolders_box.toggled.connect(self._subfolders_toggled)
         self.count_label = QLabel("", self)
         self.progress = QProgressBar(self)
         self.progress.setMaximumHeight(14)
@@ -440,9 +467,14 @@ class WorklistWidget(QWidget):
         layout.setContentsMargins(2, 2, 2, 2)
         layout.addLayout(bar)
         layout.addLayout(bar2)
+        # Its own row, shown only when the folder has subfolders with records: the dock stays
+        # as narrow as before.
+        layout.addWidget(self.subfolders_box, 0, Qt.AlignmentFlag.AlignLeft)
+        self.subfolders_box.hide()
         # The count on a line of its own: its text grows with the folder and must not widen
         # the dock.
         self.count_label.setSizePolicy(QSizePolicy.Policy.Ignored, QSizePolicy.Policy.Preferred)
+        self.count_label.setWordWrap(True)  # "...; 75 more in subfolder study" on a narrow dock
         layout.addWidget(self.count_label)
         layout.addWidget(self.progress)
         layout.addWidget(self.table, 1)
@@ -453,8 +485,10 @@ class WorklistWidget(QWidget):
 
     def set_compact(self, compact: bool) -> None:
         """Show only COMPACT_COLUMNS (True) or every column (False)."""
+        from_subfolders = self.listing is not None and self.listing.from_subfolders
         for i, (key, _title) in enumerate(COLUMNS):
-            self.table.setColumnHidden(i, compact and key not in COMPACT_COLUMNS)
+            keep = key in COMPACT_COLUMNS or (key == "folder" and from_subfolders)
+            self.table.setColumnHidden(i, compact and not keep)
 
     def set_blinded(self, on: bool, reviewer: str | None = None) -> None:
         """Blinded second reading: the list keeps names and subjects, shows ``reviewer``'s own
@@ -513,22 +547,53 @@ class WorklistWidget(QWidget):
         return super().eventFilter(obj, event)
 
     # --- folder listing
-    def open_folder(self, folder: str | Path) -> None:
-        """List ``folder`` recursively in the background; previous listing is replaced."""
+    def open_folder(self, folder: str | Path, include_subfolders: bool | None = None) -> None:
+        """List ``folder`` in the background (the previous listing is replaced): its own
+        records, or every record below it with ``include_subfolders``; None decides as
+        ``core.io.folder_listing`` does (subfolders only for a folder with no records of its
+        own)."""
+        from reviewapp.core.errors import ReviewError
+
         self.cancel_scan()
         self.root = Path(folder)
+        if include_subfolders is None:
+            try:
+                include_subfolders = not has_own_records(self.root, keep=is_listable)
+            except ReviewError:
+                include_subfolders = True  # the scan reports the folder's problem
+        self.include_subfolders = include_subfolders
+        self.listing = None
+        # Records from subfolders are grouped by folder (the root's own first); the reader
+        # can sort by any other column.
+        keys = [k for k, _t in COLUMNS]
+        sort_key = "folder" if include_subfolders else "name"
+        self.table.sortByColumn(keys.index(sort_key), Qt.SortOrder.AscendingOrder)
+        self.subfolders_box.blockSignals(True)
+        self.subfolders_box.setChecked(include_subfolders)
+        self.subfolders_box.blockSignals(False)
         self._generation += 1
         self.model.clear()
         self.progress.setRange(0, 0)
         self.progress.setFormat("searching for records ...")
         self.progress.show()
-        task = _ScanTask(self.root, self._generation, self._engine_version)
+        task = _ScanTask(self.root, self._generation, self._engine_version, include_subfolders)
         task.signals.rows.connect(self._on_rows)
         task.signals.progress.connect(self._on_progress)
         task.signals.finished.connect(self._on_finished)
         task.signals.failed.connect(self._on_failed)
         self._task = task
         self._pool.start(task)
+
+    def _subfolders_toggled(self, on: bool) -> None:
+        if self.root is not None:
+            self.open_folder(self.root, include_subfolders=on)
+
+    def covers(self, path: Path) -> bool:
+        """Whether ``path`` belongs to the folder listed (the list then stays as it is when
+        that record opens)."""
+        if self.root is None:
+            return False
+        return FolderListing(self.root, self.include_subfolders, ()).covers(Path(path))
 
     def cancel_scan(self) -> None:
         if self._task is not None:
@@ -573,9 +638,20 @@ class WorklistWidget(QWidget):
     def _on_finished(self, generation: int, n: int) -> None:
         if generation != self._generation:
             return
-        self.last_scan_thread_id = self._task.thread_id if self._task is not None else None
+        task = self._task
+        self.last_scan_thread_id = task.thread_id if task is not None else None
+        self.listing = task.listing if task is not None else None
         self._task = None
         self.progress.hide()
+        # Records from subfolders: the Folder column says where each one is.
+        folder_col = [k for k, _t in COLUMNS].index("folder")
+        self.table.setColumnHidden(
+            folder_col, self.listing is None or not self.listing.from_subfolders
+        )
+        self.subfolders_box.setVisible(
+            self.listing is not None
+            and (bool(self.listing.elsewhere) or self.listing.from_subfolders)
+        )
         self._fit_columns()
         self._update_count()
         self.scanFinished.emit(n)
@@ -596,7 +672,9 @@ class WorklistWidget(QWidget):
         text = f"{total} records, {unread} unread"
         if shown != total:
             text += f" ({shown} shown)"
+        text += elsewhere_text(self.listing)
         self.count_label.setText(text)
+        self.count_label.setToolTip(text)
 
     # --- filters
     def _apply_filters(self) -> None:
@@ -692,6 +770,16 @@ class WorklistWidget(QWidget):
     def closeEvent(self, event) -> None:  # type: ignore[no-untyped-def]
         self.cancel_scan()
         super().closeEvent(event)
+
+
+def elsewhere_text(listing: FolderListing | None) -> str:
+    """What the list leaves out, for the count line: "; 75 more in subfolder study"."""
+    if listing is None or not listing.elsewhere:
+        return ""
+    names = [name for name, _n in listing.elsewhere]
+    shown = ", ".join(names[:3]) + (f" and {len(names) - 3} more" if len(names) > 3 else "")
+    word = "subfolder" if len(names) == 1 else "subfolders"
+    return f"; {listing.n_elsewhere} more in {word} {shown}"
 
 
 def _alert_colour() -> QColor:

@@ -9,12 +9,16 @@ to the corner of a less-filtered copy where one is clearly there (P: two-segment
 delineate_corner; QRS: coarse-to-fine, delineate_refine; T end: trapezium area on the
 conditioned input, delineate_t.refine_t_end).
 
-Measured, noise-free, detected minus truth: P and QRS onset 0 samples at 250 and 500 Hz (0-1
-at 1 kHz, -1..0 at 2 kHz); QRS end and T end +1 sample, the support edge (the first sample
-back on the baseline: the J point, where ST is read, and the T end), at 250-1000 Hz. At 125 Hz
-the conditioned signal is no finer than the 40 Hz copy, so QRS marks are not refined: -2 / +2
-samples. At 20 dB SNR (seeds 1-7): P onset -2..0 ms, P end 0..+4, QRS onset -8, QRS end
-+8..+10, T end +10..+16 ms. The QRS corner test refuses a noisy corner, so the QRS marks stay
+Measured, noise-free, detected minus truth (the generator's default shapes, chest QRS of
+physiological size, 1.4-1.6 mV peak to peak): P onset 0 samples at 250 and 500 Hz, -1 at 1 kHz,
+-2 at 2 kHz; QRS onset 0 at 250-2000 Hz; QRS end +1 sample, the support edge (the first sample
+back on the baseline: the J point, where ST is read), at 250-2000 Hz; T end +1 at 250 and 500
+Hz, +2 at 1 kHz, +3 at 2 kHz. At 125 Hz the conditioned signal is no finer than the 40 Hz
+copy, so QRS marks are not refined: -2 / +2 samples. At 20 dB SNR (seeds 1-7): P onset -2..0
+ms, P end 0..+4, QRS onset -8..-6, QRS end +8..+10, T end +6..+16 ms. Not met: with a larger
+QRS (generator amplitude 1.4 instead of 1.3) the QRS end reads 3 samples late at 500 Hz, and
+11 on a wide QRS whose last lobe is long and shallow (the corner refinement misses the end of
+a large, slowly ending QRS). The QRS corner test refuses a noisy corner, so the QRS marks stay
 near the 40 Hz slope boundary: QRS end within its 11.6 ms tolerance, QRS onset 1.5 ms beyond
 its 6.5 ms (a noise-tolerant corner test was exact here but moved the QTDB/LUDB onsets 8 ms
 away from the cardiologists, who mark a sharp onset before its corner: the readers' marks win;

@@ -1,7 +1,7 @@
 """The limb-lead consistency check never warns on consistent recordings: the real PTB record
 s0010_re (Bousseljot R et al., Biomed Tech 1995; PhysioNet) and the invented demo worklist
 (sample_records/, synthetic). Its largest relative residuals, measured: PTB 0.0016, demo
-0.0017 to 0.0038, against the threshold of 0.08 (``measure.limb_consistency``)."""
+0.0017 to 0.0030, against the threshold of 0.08 (``measure.limb_consistency``)."""
 
 from __future__ import annotations
 

@@ -18,23 +18,60 @@ def _no_sidecar_in_shared_folders(monkeypatch):
     keep_marks_in_window(monkeypatch)
 
 
-def test_open_sample_folder_lists_it_and_opens_first_record(window, sample_records_dir, qtbot):
+def _click_box(qtbot, box) -> None:
+    """Click a check box once it is shown and laid out (it appears with the listing)."""
+    qtbot.waitUntil(lambda: box.isVisible() and box.rect().contains(box.rect().center()))
+    qtbot.wait(20)
+    qtbot.mouseClick(box, QtCore.Qt.MouseButton.LeftButton)
+
+
+def test_launch_without_a_path_shows_the_demo_worklist_and_names_the_study(
+    window, sample_records_dir, qtbot
+):
+    """README command 1 (``reviewapp`` with no argument): the demo worklist's own records, the
+    QT study in study/ named on the count line and one tick away. Demo data, checked as the
+    demo only (what a newcomer sees), not as a reference for any value."""
     if not sample_records_dir.is_dir():
         pytest.skip("no sample_records folder in this checkout")
     from reviewapp.core.io import find_records
-    from reviewapp.ui.records_dock import list_records
+    from reviewapp.ui.app import open_at_launch
+    from reviewapp.ui.worklist import COLUMNS, PathRole
 
-    with qtbot.waitSignal(window.worklist.scanFinished, timeout=20_000):
-        assert window.open_path(sample_records_dir, analyse_now=True)
-    assert window.record is not None and window.workflow is not None
-    listed = window.worklist.visible_paths()
-    # The worklist lists the folder recursively: the demo worklist's own records and the
-    # demo QT study in its subfolder study/; the page opens on the folder's own first record.
-    assert set(listed) == set(find_records(sample_records_dir, recursive=True))
-    assert set(list_records(sample_records_dir)) < set(listed)
-    assert window.record.name == list_records(sample_records_dir)[0].stem
-    qtbot.waitUntil(lambda: window.worklist.current_path() is not None, timeout=5000)
-    assert window.worklist.current_path().stem == window.record.name
+    wl = window.worklist
+    with qtbot.waitSignal(wl.scanFinished, timeout=20_000):
+        assert open_at_launch(window, None)
+    own = find_records(sample_records_dir, recursive=False)
+    study = find_records(sample_records_dir / "study", recursive=True)
+    assert len(own) == 11 and len(study) == 75
+    assert wl.visible_paths() == own
+    assert window.record is not None and window.record.name == own[0].stem
+    assert not wl.subfolders_box.isChecked()
+    assert "; 75 more in subfolder study" in wl.count_label.text()
+    folder_col = [k for k, _t in COLUMNS].index("folder")
+    assert wl.table.isColumnHidden(folder_col)
+
+    # One tick lists the study too, each study record with its folder; the demo stays first.
+    with qtbot.waitSignal(wl.scanFinished, timeout=20_000):
+        _click_box(qtbot, wl.subfolders_box)
+    listed = wl.visible_paths()
+    assert listed[:11] == own and sorted(listed[11:]) == study
+    assert not wl.table.isColumnHidden(folder_col)
+    assert {wl.proxy.index(r, folder_col).data() for r in range(11, len(listed))} == {"study"}
+
+    # Opening a study record from that list keeps the list as it is.
+    row = next(
+        r
+        for r in range(wl.proxy.rowCount())
+        if wl.proxy.index(r, 0).data(PathRole).endswith("s103_3h_1.hea")
+    )
+    rect = wl.table.visualRect(wl.proxy.index(row, 0))
+    wl.table.scrollTo(wl.proxy.index(row, 0))
+    rect = wl.table.visualRect(wl.proxy.index(row, 0))
+    qtbot.mouseClick(wl.table.viewport(), QtCore.Qt.MouseButton.LeftButton, pos=rect.center())
+    qtbot.waitUntil(
+        lambda: window.record is not None and window.record.name == "s103_3h_1", timeout=10_000
+    )
+    assert wl.visible_paths() == listed and wl.subfolders_box.isChecked()
 
 
 def test_open_ptb_by_path_matches_wfdb(window, shared_data, qtbot):

@@ -39,6 +39,10 @@ class DemoRecord:
     params: SynthParams
 
 
+# Each subject's QRS size (``r_amp_mv``, 1.4-1.7): precordial QRS 1.5-1.9 mV peak to peak in
+# V2, R 0.9-1.7 mV in V5, within adult normal limits and under the voltage criteria of left
+# ventricular hypertrophy (common practice, no source; values from memory); larger where the
+# axis is vertical (s002), since V4-V6 then see less of the main force.
 DEMO_RECORDS: tuple[DemoRecord, ...] = (
     DemoRecord(
         "s001_predose",
@@ -48,7 +52,9 @@ DEMO_RECORDS: tuple[DemoRecord, ...] = (
         "pre-dose",
         datetime(2026, 3, 2, 7, 45),
         "normal sinus rhythm",
-        SynthParams(hr_bpm=62, pr_ms=150, qrs_ms=88, qt_ms=392, qrs_axis_deg=55, seed=101),
+        SynthParams(
+            r_amp_mv=1.6, hr_bpm=62, pr_ms=150, qrs_ms=88, qt_ms=392, qrs_axis_deg=55, seed=101
+        ),
     ),
     DemoRecord(
         "s001_post2h",
@@ -58,7 +64,9 @@ DEMO_RECORDS: tuple[DemoRecord, ...] = (
         "post-dose 2 h",
         datetime(2026, 3, 2, 10, 0),
         "normal sinus rhythm, slightly faster",
-        SynthParams(hr_bpm=68, pr_ms=150, qrs_ms=88, qt_ms=388, qrs_axis_deg=55, seed=102),
+        SynthParams(
+            r_amp_mv=1.6, hr_bpm=68, pr_ms=150, qrs_ms=88, qt_ms=388, qrs_axis_deg=55, seed=102
+        ),
     ),
     DemoRecord(
         "s002_predose",
@@ -69,12 +77,13 @@ DEMO_RECORDS: tuple[DemoRecord, ...] = (
         datetime(2026, 3, 2, 7, 55),
         "sinus rhythm with mild sinus arrhythmia",
         SynthParams(
+            r_amp_mv=1.7,
             hr_bpm=58,
             rr_sd_ms=45,
             pr_ms=142,
             qrs_ms=84,
             qt_ms=410,
-            qrs_axis_deg=70,
+            qrs_axis_deg=60,
             t_axis_deg=50,
             seed=201,
         ),
@@ -87,7 +96,9 @@ DEMO_RECORDS: tuple[DemoRecord, ...] = (
         "pre-dose",
         datetime(2026, 3, 3, 7, 40),
         "normal sinus rhythm (baseline of a QT prolongation series)",
-        SynthParams(hr_bpm=64, pr_ms=164, qrs_ms=86, qt_ms=404, qrs_axis_deg=40, seed=301),
+        SynthParams(
+            r_amp_mv=1.5, hr_bpm=64, pr_ms=164, qrs_ms=86, qt_ms=404, qrs_axis_deg=40, seed=301
+        ),
     ),
     DemoRecord(
         "s003_post2h",
@@ -98,7 +109,14 @@ DEMO_RECORDS: tuple[DemoRecord, ...] = (
         datetime(2026, 3, 3, 9, 55),
         "QT longer than at pre-dose",
         SynthParams(
-            hr_bpm=63, pr_ms=164, qrs_ms=86, qt_ms=442, qrs_axis_deg=40, t_amp_mv=0.31, seed=302
+            r_amp_mv=1.5,
+            hr_bpm=63,
+            pr_ms=164,
+            qrs_ms=86,
+            qt_ms=442,
+            qrs_axis_deg=40,
+            t_amp_mv=0.40,
+            seed=302,
         ),
     ),
     DemoRecord(
@@ -110,12 +128,13 @@ DEMO_RECORDS: tuple[DemoRecord, ...] = (
         datetime(2026, 3, 3, 13, 50),
         "marked QT prolongation",
         SynthParams(
+            r_amp_mv=1.5,
             hr_bpm=64,
             pr_ms=166,
             qrs_ms=88,
             qt_ms=486,
             qrs_axis_deg=40,
-            t_amp_mv=0.26,
+            t_amp_mv=0.33,
             t_axis_deg=35,
             seed=303,
         ),
@@ -129,12 +148,13 @@ DEMO_RECORDS: tuple[DemoRecord, ...] = (
         datetime(2026, 3, 4, 8, 55),
         "noisy tracing: muscle noise, mains interference, baseline wander",
         SynthParams(
+            r_amp_mv=1.5,
             hr_bpm=74,
             pr_ms=156,
             qrs_ms=92,
             qt_ms=384,
             qrs_axis_deg=30,
-            emg_snr_db=12.0,
+            emg_snr_db=20.0,
             mains_hz=50.0,
             mains_mv=0.06,
             baseline_wander_mv=0.35,
@@ -150,7 +170,14 @@ DEMO_RECORDS: tuple[DemoRecord, ...] = (
         datetime(2026, 3, 5, 7, 35),
         "first-degree AV block",
         SynthParams(
-            hr_bpm=58, pr_ms=236, p_ms=108, qrs_ms=94, qt_ms=412, qrs_axis_deg=20, seed=701
+            r_amp_mv=1.4,
+            hr_bpm=58,
+            pr_ms=236,
+            p_ms=108,
+            qrs_ms=90,
+            qt_ms=412,
+            qrs_axis_deg=20,
+            seed=701,
         ),
     ),
     DemoRecord(
@@ -162,11 +189,12 @@ DEMO_RECORDS: tuple[DemoRecord, ...] = (
         datetime(2026, 3, 5, 11, 50),
         "a premature ventricular beat",
         SynthParams(
+            r_amp_mv=1.6,
             hr_bpm=66,
             pr_ms=148,
             qrs_ms=86,
             qt_ms=398,
-            qrs_axis_deg=65,
+            qrs_axis_deg=50,
             ectopic_beats=(5,),
             seed=901,
         ),
@@ -178,8 +206,9 @@ DEMO_RECORDS: tuple[DemoRecord, ...] = (
         "male",
         "pre-dose",
         datetime(2026, 3, 6, 7, 50),
-        "wide QRS, left-bundle-branch-like",
+        "complete left bundle branch block",
         SynthParams(
+            r_amp_mv=1.6,
             hr_bpm=70,
             pr_ms=172,
             qrs_ms=148,
@@ -199,7 +228,14 @@ DEMO_RECORDS: tuple[DemoRecord, ...] = (
         datetime(2026, 3, 6, 10, 5),
         "atrial fibrillation",
         SynthParams(
-            hr_bpm=96, af=True, f_wave_mv=0.05, qrs_ms=90, qt_ms=360, qrs_axis_deg=60, seed=1401
+            r_amp_mv=1.5,
+            hr_bpm=80,
+            af=True,
+            f_wave_mv=0.065,
+            qrs_ms=90,
+            qt_ms=380,
+            qrs_axis_deg=60,
+            seed=1401,
         ),
     ),
 )
@@ -236,8 +272,10 @@ def _readme() -> str:
         "`study/` holds a second invented study, for `reviewapp study`: triplicate ECGs of",
         "five subjects at drug-free, baseline and post-dose timepoints, with readings; see its",
         "README (regenerate: `reviewapp samples sample_records/study --study`). The window's",
-        "worklist, `reviewapp batch` and `reviewapp study` search subfolders, so on this folder",
-        "they take in the study's 75 records too; open or run them on `study/` for the study",
+        "worklist on this folder lists the 11 records above and names the study's 75 on its",
+        "count line: tick Subfolders to list them too (with a Folder column), or open `study/`",
+        "for the study alone. `reviewapp batch` and `reviewapp study` search subfolders, so on",
+        "this folder they take in the study's records too; run them on `study/` for the study",
         "alone.",
     ]
     return "\n".join(lines) + "\n"

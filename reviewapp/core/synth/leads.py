@@ -21,7 +21,7 @@ Example:
     >>> import numpy as np
     >>> leads = project_leads(np.array([[1.0, 0.0, 0.0]]))
     >>> round(float(leads[0, 0]), 3), round(float(leads[0, 2]), 3)  # I and III for a pure +x dipole
-    (0.9, -0.45)
+    (0.7, -0.35)
 """
 
 from __future__ import annotations
@@ -36,9 +36,13 @@ INDEPENDENT_LEADS: tuple[str, ...] = ("I", "II", "V1", "V2", "V3", "V4", "V5", "
 FRANK_LEADS: tuple[str, ...] = ("X", "Y", "Z")
 AVAILABLE_LEADS: tuple[str, ...] = STANDARD_12 + FRANK_LEADS
 
-# Gain of the limb leads (mV per dipole unit): about the size of Dower's lead II row
-# (|(0.235, 1.066)| = 1.09) and lead I row (0.67) averaged, so limb amplitudes stay realistic.
-LIMB_GAIN = 0.9
+# Gain of the limb leads (mV per dipole unit): near Dower's lead I row (|(0.632, -0.235)| =
+# 0.67; his lead II row is |(0.235, 1.066)| = 1.09), so that the lateral chest leads are
+# about 1.6 times lead I, as in Dower's transform (V5 row 1.13 on x). With a gain as large as
+# the average of the two rows (0.9, the earlier choice) a dipole giving a normal lead II left
+# every chest lead under 1 mV: low precordial voltage on a normal record. The limb-lead size
+# is set by the dipole amplitudes (``SynthParams``) instead.
+LIMB_GAIN = 0.7
 _C60, _S60 = math.cos(math.radians(60.0)), math.sin(math.radians(60.0))
 
 # Rows I, II (Einthoven, frontal only), V1..V6 (Dower et al. 1980, from memory); columns X, Y, Z.

@@ -26,7 +26,7 @@ class SynthParams:
     ``ectopic_beats`` indices (0-based, in beat order, >= 1) of beats replaced by premature
     wide ventricular beats with a full compensatory pause; ``af`` atrial fibrillation: no P
     waves, irregular RR (coefficient of variation ``af_rr_cv`` unless ``rr_sd_ms`` is given),
-    optional fibrillatory waves of amplitude ``f_wave_mv``; ``wide_qrs`` bundle-branch-block-like
+    optional fibrillatory waves of amplitude ``f_wave_mv``; ``wide_qrs`` left bundle branch block
     wide notched QRS (needs qrs_ms >= 120); ``qt_rate_adapt`` makes each beat's QT follow the
     preceding RR as qt_ms * RR_s ** (1/3) (Fridericia 1920), i.e. qt_ms is then the QTcF.
 
@@ -46,9 +46,13 @@ class SynthParams:
     qrs_axis_deg: float = 60.0
     p_axis_deg: float = 60.0
     t_axis_deg: float = 45.0
-    r_amp_mv: float = 1.2
-    p_amp_mv: float = 0.15
-    t_amp_mv: float = 0.35
+    # Defaults give a normal adult tracing (common practice, no source; values from memory):
+    # R about 1 mV and P about 0.11 mV in lead II, precordial QRS up to 1.4-1.6 mV peak to
+    # peak (V2), T 0.2-0.5 mV. The delineator's QRS end on these shapes reads 3 samples
+    # (6 ms) late from r_amp_mv = 1.4 on (tests/dsp/test_delineate_synthetic.py).
+    r_amp_mv: float = 1.3
+    p_amp_mv: float = 0.17
+    t_amp_mv: float = 0.45
     duration_s: float = 10.0
     fs_hz: float = 500.0
     ectopic_beats: tuple[int, ...] = ()
