@@ -187,11 +187,14 @@ def _wait_for_worklist(w, app) -> None:
 
 
 def _demo_calipers_and_correction(w) -> None:
-    from reviewapp.core.workflow import MarkTarget
-
     """One time caliper over an RR interval, one amplitude caliper on an R wave, one corrected
     T end, so the images show what a reading looks like mid-review (once: a second call leaves
-    the calipers already on the paper)."""
+    the calipers already on the paper). The T ends are moved a little earlier, where a reader
+    using the tangent method puts them (the steepest downslope of the T meets the baseline
+    just before the wave is fully back on it): on a demo record the automatic mark is already
+    where the generator ends the wave, so a later mark would sit on flat baseline."""
+    from reviewapp.core.workflow import MarkTarget
+
     s = w.workflow
     if s is None or len(s.analysis.beats) < 3:
         return
@@ -213,14 +216,14 @@ def _demo_calipers_and_correction(w) -> None:
     rep = s.reading.marked.representative
     t_end = MarkTarget("representative", "t_off")
     if rep is not None and rep.marks.t_off is not None and not s.is_corrected(t_end):
-        s.move_mark(t_end, rep.marks.t_off + round(0.02 * s.fs_hz))
+        s.move_mark(t_end, rep.marks.t_off - round(0.008 * s.fs_hz))
     mid = on_page[len(on_page) // 2] if on_page else None
     if mid is not None:
         i = beats.index(mid)
         wm = s.beat_marks()[i]
         beat_t_end = MarkTarget("beat", "t_off", beat_r=mid.r)
         if wm.t_off is not None and not s.is_corrected(beat_t_end):
-            s.move_mark(beat_t_end, wm.t_off + round(0.03 * s.fs_hz))
+            s.move_mark(beat_t_end, wm.t_off - round(0.012 * s.fs_hz))
     w._refresh_marks()
 
 
