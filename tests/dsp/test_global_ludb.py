@@ -266,9 +266,9 @@ def test_halves_are_disjoint_and_cover_the_records(ludb_global) -> None:
 #   premature beats of the dominant QRS shape given the median beat's QRS (carried by the
 #     dominant beats' template match): -20.8 +- 13.0 / -13.1 +- 16.8 (their onsets 8-13 ms
 #     late: the readers mark these beats' onsets earlier than the median beat's).
-# The held-out half's per-beat error fell with none (mean |error| 13.7 ms; 14.1-14.7 with the
-# vote rules, whose mean moved toward 0, RMS 17.9 -> 18.2-18.4; 15.3 carried, 18.1 and 25.5
-# with the envelope), and with the vote rules the count of ventricular-labelled premature
+# The held-out half's per-beat error fell with none of them (mean |error| 13.7 ms; with the
+# vote rules 14.1-14.7 and RMS 17.9 -> 18.2-18.4, though the mean moved toward 0; carried
+# 15.3; envelope 18.1 and 25.5), and with the vote rules the ventricular-labelled premature
 # beats read >= 120 ms stayed 6 of 8 (record 38 unchanged), so none was taken.
 # The limits hold the measured figures.
 PREMATURE_HELD = {True: (20.0, 17.0, 15), False: (6.5, 18.5, 24)}  # |mean|, SD, n min
