@@ -50,14 +50,11 @@ def _second(values: np.ndarray, earliest: bool) -> int:
     return int(v[1] if earliest else v[-2])
 
 
-def ludb_global_reference(ludb_dir: Path, name: str, fs_hz: float = 500.0) -> dict[str, float]:
-    """The cardiologists' global P, PR, QRS and QT of one LUDB record (ms; absent keys where
-    no beat had enough leads marked). See the module docstring for the rule."""
+def _lead_marks_by_beat(ludb_dir: Path, name: str, fs_hz: float) -> tuple[np.ndarray, np.ndarray]:
+    """(anchor QRS peaks (B,), marks[beat, lead, fid] (B, 12, 5), -1 = not marked): each
+    lead's marks of the beat whose QRS peak lies within 150 ms of the anchor lead's."""
     leads = [load_ludb_lead(ludb_dir / name, ext) for ext in LUDB_LEADS]
     anchor = max(leads, key=lambda rb: rb.r.size)
-    if anchor.r.size == 0:
-        return {}
-    # marks[beat, lead, fid]
     marks = np.full((anchor.r.size, len(leads), 5), -1, dtype=np.int64)
     for j, rb in enumerate(leads):
         if rb.r.size == 0:
@@ -70,6 +67,15 @@ def ludb_global_reference(ludb_dir: Path, name: str, fs_hz: float = 500.0) -> di
             c = min(cand, key=lambda c: abs(int(rb.r[c]) - int(ar)))
             if abs(int(rb.r[c]) - int(ar)) <= MATCH_S * fs_hz:
                 marks[bi, j] = rb.marks[c]
+    return anchor.r, marks
+
+
+def ludb_global_reference(ludb_dir: Path, name: str, fs_hz: float = 500.0) -> dict[str, float]:
+    """The cardiologists' global P, PR, QRS and QT of one LUDB record (ms; absent keys where
+    no beat had enough leads marked). See the module docstring for the rule."""
+    anchor_r, marks = _lead_marks_by_beat(ludb_dir, name, fs_hz)
+    if anchor_r.size == 0:
+        return {}
     per_beat: dict[str, list[float]] = {k: [] for k in GLOBAL_INTERVALS}
     to_ms = 1000.0 / fs_hz
     for b in range(marks.shape[0]):
@@ -87,6 +93,17 @@ def ludb_global_reference(ludb_dir: Path, name: str, fs_hz: float = 500.0) -> di
         if q_on >= 0 and t_off > q_on:
             per_beat["qt_ms"].append((t_off - q_on) * to_ms)
     return {k: float(np.median(v)) for k, v in per_beat.items() if v}
+
+
+def ludb_beat_qrs_reference(ludb_dir: Path, name: str, fs_hz: float = 500.0) -> np.ndarray:
+    """The cardiologists' global QRS onset and end of every annotated beat of one LUDB
+    record: (B, 3) samples (anchor QRS peak, second-earliest lead onset, second-latest lead
+    end), -1 where fewer than ``MIN_LEADS`` leads marked the boundary (module docstring)."""
+    anchor_r, marks = _lead_marks_by_beat(ludb_dir, name, fs_hz)
+    out = np.full((anchor_r.size, 3), -1, dtype=np.int64)
+    for b in range(anchor_r.size):
+        out[b] = (anchor_r[b], _second(marks[b, :, 2], True), _second(marks[b, :, 3], False))
+    return out
 
 
 def ludb_labels(ludb_dir: Path) -> dict[str, dict[str, str]]:

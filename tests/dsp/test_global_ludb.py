@@ -64,7 +64,9 @@ which the onset +14.1 ms (late) and the end -6.8 ms; the global rule does not re
 Engine 0.4.1 takes the 2 % end and the 14 ms agreement (chosen on this half, table above):
 onset +4.2 +- 7.0, end +2.5 +- 7.5 ms; AF QRS -18.6, LBBB -9.0, LVH -3.3, RBBB -0.3 ms;
 premature beats -18.5 +- 15.7 ms (end -4.4; the late onset stays). What is left is mostly
-the onset in V1-V3, bounded by noise, and the premature beats' own onset.
+the onset in V1-V3, bounded by noise, and the premature beats' own onset (held, with what
+was tried, by ``test_premature_beat_qrs_against_ludb_cardiologists`` below: even half -4.8
++- 17.2 ms per beat).
 """
 
 from __future__ import annotations
@@ -75,14 +77,18 @@ from pathlib import Path
 import numpy as np
 import pytest
 
+from reviewapp.core.fiducials import BeatKind
+
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 from reference_global import (
     GLOBAL_INTERVALS,
     IEC_GLOBAL_LIMITS_MS,
     GlobalComparison,
     has_label,
+    ludb_beat_qrs_reference,
     ludb_global_reference,
     ludb_labels,
+    tuning_half,
 )
 
 pytestmark = pytest.mark.slow  # 140 records (shared cached analyses)
@@ -223,3 +229,100 @@ def test_halves_are_disjoint_and_cover_the_records(ludb_global) -> None:
     assert np.isfinite(comp.stats(True)["qrs_ms"][0]) and np.isfinite(
         comp.stats(False)["qrs_ms"][0]
     )
+
+
+# Premature beats (``BeatKind.PREMATURE``; each delineated on its own signal, not from the
+# median beat) against the cardiologists' global QRS of the same beat (second-earliest lead
+# onset, second-latest lead end, at least 4 leads; ``ludb_beat_qrs_reference``). Measured,
+# engine 0.4.1, engine - reference per beat, mean +- SD ms (n beats):
+#   odd (tuning):     QRS -18.5 +- 15.7 (17), onset +14.1 +- 14.1, end -4.4 +- 7.5;
+#                     mean |error| 21.1, RMS 24.2
+#   even (held out):  QRS  -4.8 +- 17.2 (27), onset  +4.4 +- 12.4, end -0.4 +- 12.1;
+#                     mean |error| 13.7, RMS 17.9
+# Of another QRS shape than the dominant beats (the ventricular-looking ones): odd QRS -30.2
+# +- 10.4 (8; onset +24.8), even -5.3 +- 23.2 (3); of the dominant shape: odd -8.0 +- 11.7
+# (9), even -4.8 +- 16.3 (24).
+# Why the onset is late: the global rule (``_widen_qrs``) widens the spatial onset only to a
+# lead onset that another voting lead confirms within 14 ms, and only where at least three
+# voting leads have a candidate outside the spatial mark that moves the lead's own signal
+# (``confirmed_extreme``'s ``min_votes`` counts those candidates). On a single noisy beat
+# fewer candidates pass the movement test than on the median beat: record 105's premature
+# beat has V2 and V3 agreeing 2 samples apart, record 109's aVR and V6, and no widening
+# follows; record 109's beat at 4.4 s has V4 and V6 at the readers' onset but V4's QRS slope
+# is under 0.3 x the largest lead's, so it does not vote. Record 38's premature beat (QRS 112
+# ms, the readers' 148 ms; the one ventricular-labelled premature beat read under 120 ms)
+# starts with a 30 ms ramp of about 1.5 mV/s in the limb leads, below both the lead onset's
+# noise floor (1.5 x the window's median slope, 1.7 mV/s in lead I) and the 5 % slope
+# envelope, so no lead finds it.
+# Tried on the odd half, beats delineated on their own only (the median beat and the
+# dominant-beat table above unchanged in each), per-beat QRS odd / even:
+#   three VOTING leads (not three candidates) needed:  -10.1 +- 16.0 / +1.6 +- 18.1 (RMS
+#     18.9 / 18.2);
+#   the same with leads voting from 0.15 x the largest slope: -4.7 +- 14.2 / +1.9 +- 18.3
+#     (RMS 15.0 / 18.4); the onset only: -8.1 +- 15.1 / -1.3 +- 18.1 (RMS 17.2 / 18.2);
+#   a lead onset's envelope at 2.5 % (and noise floor 0.75 x): -4.0 +- 19.0 / +8.1 +- 21.7
+#     (+12.1 +- 22.8 / +19.4 +- 25.5, mean |error| 19.4 / 25.5: record 38 then 144 ms and all
+#     8 ventricular-labelled premature beats >= 120 ms, but 64 and 106 read 16-34 ms wide);
+#   premature beats of the dominant QRS shape given the median beat's QRS (carried by the
+#     dominant beats' template match): -20.8 +- 13.0 / -13.1 +- 16.8 (their onsets 8-13 ms
+#     late: the readers mark these beats' onsets earlier than the median beat's).
+# The held-out half's per-beat error fell with none of them (mean |error| 13.7 ms; with the
+# vote rules 14.1-14.7 and RMS 17.9 -> 18.2-18.4, though the mean moved toward 0; carried
+# 15.3; envelope 18.1 and 25.5), and with the vote rules the ventricular-labelled premature
+# beats read >= 120 ms stayed 6 of 8 (record 38 unchanged), so none was taken.
+# The limits hold the measured figures.
+PREMATURE_HELD = {True: (20.0, 17.0, 15), False: (6.5, 18.5, 24)}  # |mean|, SD, n min
+
+
+@pytest.fixture(scope="module")
+def premature_errors(shared_data: Path, ludb_analyses, ludb_global) -> dict[bool, np.ndarray]:
+    """Engine - reference QRS duration (ms) of each matched premature beat, by half."""
+    root = shared_data / "ludb"
+    out: dict[bool, list[float]] = {True: [], False: []}
+    for name in ludb_analyses.names():
+        an = ludb_analyses[name]
+        prem = [i for i, b in enumerate(an.beats) if b.kind is BeatKind.PREMATURE]
+        if not prem:
+            continue
+        ref = ludb_beat_qrs_reference(root, name, an.fs_hz)
+        to_ms = 1000.0 / an.fs_hz
+        for i in prem:
+            m = an.beat_marks[i]
+            k = np.flatnonzero(np.abs(ref[:, 0] - an.beats[i].r) <= 0.150 * an.fs_hz)
+            if m.qrs_on is None or m.qrs_off is None or k.size == 0:
+                continue
+            _, on, off = ref[k[0]]
+            if on >= 0 and off > on:
+                out[tuning_half(name)].append(((m.qrs_off - m.qrs_on) - (off - on)) * to_ms)
+    return {h: np.array(v) for h, v in out.items()}
+
+
+@pytest.mark.parametrize("tuning", [True, False], ids=["odd-tuning", "even-held-out"])
+def test_premature_beat_qrs_against_ludb_cardiologists(premature_errors, tuning) -> None:
+    # Reference: LUDB cardiologists' lead marks (Kalyakulina et al., IEEE Access 2020), rule
+    # of reference_global; figures in the comment above PREMATURE_HELD.
+    err = premature_errors[tuning]
+    mean_max, sd_max, n_min = PREMATURE_HELD[tuning]
+    assert err.size >= n_min, f"only {err.size} premature beats compared"
+    assert abs(err.mean()) <= mean_max, f"QRS mean {err.mean():.1f} ms"
+    assert err.std() <= sd_max, f"QRS SD {err.std():.1f} ms"
+
+
+def test_ventricular_premature_beats_read_wide(shared_data: Path, ludb_analyses) -> None:
+    # ludb.csv "Extrasystolies": "Ventricular extrasystole" on records 38, 45, 105, 106, 125
+    # (the cardiologists' reading). A ventricular premature complex is wide, QRS >= 120 ms
+    # (Mason et al., Circulation 2007 statement list; from memory). Measured with engine
+    # 0.4.1: 6 of 8 premature beats on those records read >= 120 ms; the two that do not are
+    # on record 38 (112 ms against the readers' 148 ms, see above; and a narrow one, 88 ms
+    # against 102 ms, of the dominant QRS shape).
+    labels = ludb_labels(shared_data / "ludb")
+    wide = total = 0
+    for name, row in labels.items():
+        if not has_label(row, "Extrasystolies", "ventricular extrasystole"):
+            continue
+        reading = ludb_analyses[name].reading()
+        for b, iv in zip(reading.marked.beats, reading.measurements.beats, strict=False):
+            if b.kind is BeatKind.PREMATURE:
+                total += 1
+                wide += iv.qrs_ms is not None and iv.qrs_ms >= 120.0
+    assert total >= 6 and wide >= 6, (wide, total)
