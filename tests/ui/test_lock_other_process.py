@@ -14,25 +14,17 @@ import json
 import socket
 from pathlib import Path
 
-from PySide6 import QtCore, QtWidgets
+from PySide6 import QtCore
 
 from tests.lock_holder import LockHolderProcess
 from tests.ui.conftest import answer_modal
+from tests.ui.test_lock_takeover import _file_open
 
 L = QtCore.Qt.MouseButton.LeftButton
 
 
 def _lock(hea: Path) -> dict:
     return json.loads(hea.with_name(hea.stem + ".marks.json.lock").read_text())
-
-
-def _file_open(w, monkeypatch, path: Path) -> None:
-    monkeypatch.setattr(
-        QtWidgets.QFileDialog,
-        "getOpenFileName",
-        staticmethod(lambda *a, **k: (str(path), "")),
-    )
-    w.act_open.trigger()
 
 
 def test_read_only_beside_another_process_then_its_lock_is_stale(
