@@ -84,8 +84,8 @@ class MedianMarkLine(pg.InfiniteLine):
     def _px_width(self) -> float:
         """Width of one screen pixel in the line's units (0 when not on screen)."""
         vb = self.getViewBox()
-        if not isinstance(vb, pg.ViewBox):
-            return 0.0
+        if not isinstance(vb, pg.ViewBox) or vb.pixelVectors()[0] is None:
+            return 0.0  # not on a screen yet: there is no pixel, so the drawing always moves
         return abs(float(vb.viewPixelSize()[0]))
 
     def settle(self) -> None:

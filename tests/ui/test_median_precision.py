@@ -202,3 +202,18 @@ def test_clicking_a_lead_shows_it_magnified(median, qtbot):
         it for it in mv.magnifier.getViewBox().addedItems if type(it).__name__ == "PlotCurveItem"
     ]
     assert len(curves) == len(median.record.lead_names) and mv.mag_j is None
+
+
+def test_a_mark_line_off_screen_moves_with_its_value(qapp) -> None:
+    # A line whose view has never been on a screen has no pixel size: it must still move (and
+    # not fail) when the mark changes, e.g. while the median panel is built.
+    import pyqtgraph as pg
+
+    from reviewapp.ui.median_marks import MedianMarkLine
+
+    vb = pg.ViewBox()
+    line = MedianMarkLine("t_off", 0.0, pg.mkPen("k"), pg.mkPen("k"))
+    vb.addItem(line, ignoreBounds=True)
+    line.boundingRect()
+    line.setPos(5.0)
+    assert line.value() == 5.0 and line.drawn_value() == 5.0
