@@ -23,6 +23,7 @@ from PySide6 import QtCore, QtGui, QtWidgets
 
 from reviewapp.core.fiducials import FIDUCIALS
 from reviewapp.core.measure import limit_text
+from reviewapp.core.measure.amplitudes import isoelectric_levels
 from reviewapp.core.workflow import MarkAction, MarkEdit, MarkTarget, ReadingWorkflow
 from reviewapp.ui.layouts import ordered_leads
 from reviewapp.ui.mark_items import SHORT_LABELS
@@ -161,6 +162,12 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
         self.magnifier: pg.PlotItem | None = None
         self.mag_lines: dict[str, MedianMarkLine] = {}
         self.mag_j: pg.TargetItem | None = None
+        # The magnified beat's curves (curve, lead index), its superimposed beats (curve, x,
+        # y) and the levels they are drawn from (``_levels``).
+        self._mag_curves: list[tuple[pg.PlotCurveItem, int]] = []
+        self._mag_over: tuple[pg.PlotCurveItem, np.ndarray, np.ndarray] | None = None
+        self._mag_level: np.ndarray = np.zeros(0)
+        self._mag_shown: list[int] = []
         self.mag_lead: str | None = None  # None until a record: lead II, else the first
         self.mag_ms_per_px: float | None = DEFAULT_MS_PER_PX
         self.selected_fid: str | None = None
@@ -271,6 +278,8 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
         self.mag_lines.clear()
         self.magnifier = None
         self.mag_j = None
+        self._mag_curves = []
+        self._mag_over = None
         self.mag_position: QtWidgets.QGraphicsSimpleTextItem | None = None
         s = self.workflow
         if s is None or s.reading.marked.representative is None:
@@ -365,7 +374,7 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
         plot = self.addPlot(row=0, col=0, enableMenu=False)
         plot.setMouseEnabled(x=False, y=False)
         plot.hideButtons()
-        for name, text in (("bottom", "ms from R"), ("left", "mV")):
+        for name, text in (("bottom", "ms from R"), ("left", "mV from the isoelectric level")):
             ax = plot.getAxis(name)
             ax.enableAutoSIPrefix(False)  # millivolts stay millivolts (no "x0.001")
             ax.setPen(axis_pen)
@@ -381,25 +390,38 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
         else:
             shown = [names.index(self.mag_lead)] if self.mag_lead in names else [0]
             pen = pg.mkPen(self.theme.trace, width=2.0, cosmetic=True)
+        # The magnified beat is drawn from the level ST is measured from, so its mV axis reads
+        # ST and wave amplitudes as the Measurements dock gives them.
+        self._mag_shown = shown
+        self._mag_level = self._levels(s, wave)
+        self._mag_over = None
+        self._mag_curves = []
         if overlay is not None and len(shown) == 1:
             ox, oy = overlay
             over_pen = pg.mkPen(self.theme.superimposed, width=0.8, cosmetic=True)
-            over = pg.PlotCurveItem(ox, oy[:, shown[0]], pen=over_pen, connect="finite")
+            over_y = oy[:, shown[0]]
+            over = pg.PlotCurveItem(
+                ox, over_y - self._mag_level[shown[0]], pen=over_pen, connect="finite"
+            )
             over.setCacheMode(_CACHE)
             vb.addItem(over)
+            self._mag_over = (over, ox, over_y)
         for idx in shown:
-            curve = pg.PlotCurveItem(t_ms, wave[:, idx], pen=pen, antialias=True)
+            curve = pg.PlotCurveItem(
+                t_ms, wave[:, idx] - self._mag_level[idx], pen=pen, antialias=True
+            )
             curve.setSegmentedLineMode("on")
             curve.setCacheMode(_CACHE)
             vb.addItem(curve)
-        self._mag_wave = wave[:, shown]
+            self._mag_curves.append((curve, idx))
+        self._mag_wave = wave[:, shown] - self._mag_level[shown]
         self._mag_t = t_ms
         for fid in FIDUCIALS:
             line = self._new_line(fid, vb, labelled=True)
             if line is not None:
                 self.mag_lines[fid] = line
         if len(shown) == 1:
-            self.mag_j = self._add_j_mark(vb, names[shown[0]], shown[0], 1.0)
+            self.mag_j = self._add_j_mark(vb, names[shown[0]], shown[0], 1.0, magnified=True)
         vb.sigResized.connect(self._fit_magnifier)
         vb.sigResized.connect(self._place_labels)
         # The selected mark's position, pinned to the panel's top-left corner (pixels).
@@ -545,6 +567,40 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
 
         return clicked
 
+    @staticmethod
+    def _levels(s: ReadingWorkflow, wave: np.ndarray) -> np.ndarray:
+        """Each lead's isoelectric level (mV) as the measurements take it (``isoelectric_levels``
+        at the reading's QRS onset and P end); zeros where there is none."""
+        rep = s.reading.marked.representative
+        marks = None if rep is None else rep.marks
+        levels = None
+        if marks is not None and marks.qrs_on is not None and 0 < marks.qrs_on <= wave.shape[0]:
+            levels = isoelectric_levels(wave, marks.qrs_on, marks.p_off, s.fs_hz)
+        return np.zeros(wave.shape[1]) if levels is None else np.asarray(levels, np.float64)
+
+    def _follow_level(self) -> None:
+        """Redraw the magnified beat from the level after a correction moved it (a QRS onset
+        or P end changes the segment the level is read from)."""
+        s = self.workflow
+        rep = None if s is None else s.reading.marked.representative
+        if s is None or rep is None or not getattr(self, "_mag_curves", None):
+            return
+        wave = rep.waveform_mv
+        level = self._levels(s, wave)
+        if np.array_equal(level, self._mag_level):
+            return
+        self._mag_level = level
+        for curve, idx in self._mag_curves:
+            curve.setData(self._mag_t, wave[:, idx] - level[idx])
+        if self._mag_over is not None:
+            over, ox, over_y = self._mag_over
+            over.setData(ox, over_y - level[self._mag_shown[0]], connect="finite")
+        self._mag_wave = wave[:, self._mag_shown] - level[self._mag_shown]
+
+    def magnified_level_mv(self, lead_index: int) -> float:
+        """The level (mV) the magnified beat of lead ``lead_index`` is drawn from."""
+        return float(self._mag_level[lead_index])
+
     def _superimposed(
         self, s: ReadingWorkflow, r_index: int, n: int
     ) -> tuple[np.ndarray, np.ndarray]:
@@ -662,6 +718,7 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
                     line.setToolTip(self._line_tip(fid, corrected))
             finally:
                 self._syncing = False
+        self._follow_level()
         self._place_j_marks()
         self._show_selection()
 
@@ -856,13 +913,16 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
             item.setText(text)
 
     # --- each lead's own J point ---------------------------------------------------------
-    def _add_j_mark(self, p: pg.ViewBox, lead: str, idx: int, sign: float) -> pg.TargetItem:
+    def _add_j_mark(
+        self, p: pg.ViewBox, lead: str, idx: int, sign: float, *, magnified: bool = False
+    ) -> pg.TargetItem:
         """A dot on the lead's median beat at its own J point (its QRS end), where its ST
         levels are measured; dragging it corrects this lead only."""
         item = pg.TargetItem(pos=(0.0, 0.0), size=9, symbol="o", movable=True)
         item.lead = lead
         item.lead_index = idx
         item.sign = sign
+        item.magnified = magnified  # drawn from the isoelectric level, as its curve
         item.setZValue(40)
         item.sigPositionChanged.connect(self._on_j_drag)
         item.sigPositionChangeFinished.connect(self._on_j_drop)
@@ -890,7 +950,10 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
         assert rep is not None
         self._syncing = True
         try:
-            item.setPos(self.window_ms(k), item.sign * float(rep.waveform_mv[k, item.lead_index]))
+            y = float(rep.waveform_mv[k, item.lead_index])
+            if item.magnified:
+                y -= self.magnified_level_mv(item.lead_index)
+            item.setPos(self.window_ms(k), item.sign * y)
         finally:
             self._syncing = False
 

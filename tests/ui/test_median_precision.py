@@ -136,8 +136,11 @@ def test_every_line_follows_the_nudged_mark_within_half_a_pixel(median, qtbot):
             assert _px_off(ln) < 0.5 + 1e-6  # drawn within half a pixel of it
     # 25 ms is more than two pixels of a small panel at 25 mm/s: those lines were redrawn.
     assert all(ln.drawn_value() != d for ln, d in zip(lines, drawn0, strict=True))
-    qtbot.waitUntil(lambda: w.workflow.is_corrected(T_END), timeout=3000)
-    assert w.workflow.shown_sample(T_END) == k0 + 25
+    wf = w.workflow
+    qtbot.waitUntil(  # the last sample committed (a slow key on a loaded machine is a pause)
+        lambda: wf.shown_sample(T_END) == k0 + 25 and wf.reading is wf.committed_reading,
+        timeout=3000,
+    )
     # Once the correction is made, every line is drawn exactly at its value.
     qtbot.waitUntil(
         lambda: all(ln.drawn_value() == ln.value() for ln in mv._all_lines("t_off")),
@@ -217,3 +220,48 @@ def test_a_mark_line_off_screen_moves_with_its_value(qapp) -> None:
     line.boundingRect()
     line.setPos(5.0)
     assert line.value() == 5.0 and line.drawn_value() == 5.0
+
+
+def _magnified_at(mv, sample: int) -> float:
+    curve, _idx = mv._mag_curves[0]
+    _x, y = curve.getData()
+    return float(y[sample])
+
+
+def test_the_magnified_beat_reads_st_from_the_isoelectric_level(median, qtbot):
+    # The magnified beat's mV axis starts at the level the ST levels are measured from, so the
+    # curve at a lead's J point reads that lead's ST at J as the Measurements dock gives it
+    # (the measurement's own level: Kligfield et al., Circulation 2007, ST referred to the
+    # isoelectric PR segment). It follows a corrected QRS onset (the level moves with it).
+    w, mv = median, median.median
+    rep = w.workflow.reading.marked.representative
+    idx = w.record.lead_index(mv.mag_lead)
+    axis = mv.magnifier.getAxis("left").labelText
+    assert "isoelectric" in axis
+
+    def st_j_shown_and_measured() -> tuple[float, float]:
+        reading = w.workflow.reading
+        lead = reading.measurements.lead(mv.mag_lead)
+        j = reading.marked.representative.lead_marks[idx].qrs_off
+        return _magnified_at(mv, j), lead.st_j_mv
+
+    shown, measured = st_j_shown_and_measured()
+    assert shown == pytest.approx(measured, abs=1e-6)
+    # The J dot sits on the curve there.
+    assert mv.mag_j.pos().y() == pytest.approx(measured, abs=1e-6)
+    _select(w, qtbot, "qrs_on")
+    k0 = rep.marks.qrs_on
+    for _ in range(8):
+        _key(w, qtbot, Key.Key_Left)
+    on = MarkTarget("representative", "qrs_on")
+    wf = w.workflow
+    # The burst is one correction once the reader pauses (on a loaded machine a slow key can
+    # be a pause too): wait for the last sample to be the committed one.
+    qtbot.waitUntil(
+        lambda: wf.shown_sample(on) == k0 - 8 and wf.reading is wf.committed_reading,
+        timeout=3000,
+    )
+    assert wf.is_corrected(on)
+    shown2, measured2 = st_j_shown_and_measured()
+    assert measured2 != pytest.approx(measured, abs=1e-9)  # the level did move
+    assert shown2 == pytest.approx(measured2, abs=1e-6)
