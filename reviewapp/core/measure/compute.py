@@ -247,6 +247,9 @@ ST_FLUTTER_WAVES = (
     "ST not assessed: no P wave, and flutter waves ({rate:.0f}/min) run through the ST "
     "segment and the level before QRS onset"
 )
+ST_NO_LEVEL_IN_WINDOW = (
+    "ST not assessed: no P wave, and the beat window starts too close to QRS onset"
+)
 ST_UNSTEADY_BEFORE_QRS = (
     "ST not assessed: no P wave, and the median beat moves by {ptp:.2f} mV in the "
     "{ms:.0f} ms before QRS onset (atrial waves), so there is no level to refer ST to"
@@ -318,8 +321,8 @@ def _st_without_p_wave(
         if m.st_j_mv is None and m.st_j60_mv is None and m.st_j80_mv is None:
             out.append(m)
             continue
-        seg = before[:, i] if i < before.shape[1] else before[:, :0]
-        ptp = float(np.ptp(seg)) if seg.size >= n // 2 and seg.size > 0 else None
+        seg = before[:, i]  # leads and the window's columns are the record's leads, in order
+        ptp = float(np.ptp(seg)) if seg.size >= max(1, n // 2) else None
         if not flutter and ptp is not None and ptp < PRE_QRS_STEADY_MV:
             out.append(m)
             continue
@@ -328,7 +331,7 @@ def _st_without_p_wave(
             assert atrial is not None and atrial.rate_per_min is not None
             why = ST_FLUTTER_WAVES.format(rate=atrial.rate_per_min)
         elif ptp is None:
-            why = "ST not assessed: no P wave, and the beat window starts too close to QRS onset"
+            why = ST_NO_LEVEL_IN_WINDOW
         else:
             why = ST_UNSTEADY_BEFORE_QRS.format(ptp=ptp, ms=PRE_QRS_STEADY_MS)
         unmeasured.append((f"{m.lead}.st", why))
