@@ -390,32 +390,24 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
         else:
             shown = [names.index(self.mag_lead)] if self.mag_lead in names else [0]
             pen = pg.mkPen(self.theme.trace, width=2.0, cosmetic=True)
-        # The magnified beat is drawn from the level ST is measured from, so its mV axis reads
-        # ST and wave amplitudes as the Measurements dock gives them.
         self._mag_shown = shown
-        self._mag_level = self._levels(s, wave)
+        self._mag_t = t_ms
         self._mag_over = None
         self._mag_curves = []
         if overlay is not None and len(shown) == 1:
             ox, oy = overlay
             over_pen = pg.mkPen(self.theme.superimposed, width=0.8, cosmetic=True)
-            over_y = oy[:, shown[0]]
-            over = pg.PlotCurveItem(
-                ox, over_y - self._mag_level[shown[0]], pen=over_pen, connect="finite"
-            )
+            over = pg.PlotCurveItem(pen=over_pen, connect="finite")
             over.setCacheMode(_CACHE)
             vb.addItem(over)
-            self._mag_over = (over, ox, over_y)
+            self._mag_over = (over, ox, oy[:, shown[0]])
         for idx in shown:
-            curve = pg.PlotCurveItem(
-                t_ms, wave[:, idx] - self._mag_level[idx], pen=pen, antialias=True
-            )
+            curve = pg.PlotCurveItem(pen=pen, antialias=True)
             curve.setSegmentedLineMode("on")
             curve.setCacheMode(_CACHE)
             vb.addItem(curve)
             self._mag_curves.append((curve, idx))
-        self._mag_wave = wave[:, shown] - self._mag_level[shown]
-        self._mag_t = t_ms
+        self._draw_magnified(wave, self._levels(s, wave))
         for fid in FIDUCIALS:
             line = self._new_line(fid, vb, labelled=True)
             if line is not None:
@@ -578,17 +570,10 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
             levels = isoelectric_levels(wave, marks.qrs_on, marks.p_off, s.fs_hz)
         return np.zeros(wave.shape[1]) if levels is None else np.asarray(levels, np.float64)
 
-    def _follow_level(self) -> None:
-        """Redraw the magnified beat from the level after a correction moved it (a QRS onset
-        or P end changes the segment the level is read from)."""
-        s = self.workflow
-        rep = None if s is None else s.reading.marked.representative
-        if s is None or rep is None or not getattr(self, "_mag_curves", None):
-            return
-        wave = rep.waveform_mv
-        level = self._levels(s, wave)
-        if np.array_equal(level, self._mag_level):
-            return
+    def _draw_magnified(self, wave: np.ndarray, level: np.ndarray) -> None:
+        """The magnified beat (and its superimposed beats) drawn from ``level``, the level ST
+        is measured from, so its mV axis reads ST and wave amplitudes as the Measurements dock
+        gives them."""
         self._mag_level = level
         for curve, idx in self._mag_curves:
             curve.setData(self._mag_t, wave[:, idx] - level[idx])
@@ -597,9 +582,16 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
             over.setData(ox, over_y - level[self._mag_shown[0]], connect="finite")
         self._mag_wave = wave[:, self._mag_shown] - level[self._mag_shown]
 
-    def magnified_level_mv(self, lead_index: int) -> float:
-        """The level (mV) the magnified beat of lead ``lead_index`` is drawn from."""
-        return float(self._mag_level[lead_index])
+    def _follow_level(self) -> None:
+        """Redraw the magnified beat from the level after a correction moved it (a QRS onset
+        or P end changes the segment the level is read from)."""
+        s = self.workflow
+        rep = None if s is None else s.reading.marked.representative
+        if s is None or rep is None or not self._mag_curves:
+            return
+        level = self._levels(s, rep.waveform_mv)
+        if not np.array_equal(level, self._mag_level):
+            self._draw_magnified(rep.waveform_mv, level)
 
     def _superimposed(
         self, s: ReadingWorkflow, r_index: int, n: int
@@ -952,7 +944,7 @@ class MedianBeatView(pg.GraphicsLayoutWidget):
         try:
             y = float(rep.waveform_mv[k, item.lead_index])
             if item.magnified:
-                y -= self.magnified_level_mv(item.lead_index)
+                y -= float(self._mag_level[item.lead_index])
             item.setPos(self.window_ms(k), item.sign * y)
         finally:
             self._syncing = False
