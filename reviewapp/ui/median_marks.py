@@ -55,6 +55,7 @@ class MedianMarkLine(pg.InfiniteLine):
         # Its moves do not change what the view's auto-range sees (the view adds it with
         # ignoreBounds), so Qt need not report each one to pyqtgraph's item-change hook.
         self.setFlag(self.GraphicsItemFlag.ItemSendsGeometryChanges, False)
+        self._px: float | None = None  # one screen pixel in view units, until the view changes
 
     def setPos(self, pos) -> None:
         """Moving a vertical line sideways leaves its own outline unchanged (it spans the
@@ -81,12 +82,20 @@ class MedianMarkLine(pg.InfiniteLine):
             return
         super().setPos(pos)
 
+    def viewTransformChanged(self) -> None:
+        """The view's range or size changed (pyqtgraph calls this, as it does to renew the
+        line's outline): the pixel width is measured again at the next move."""
+        self._px = None
+        super().viewTransformChanged()
+
     def _px_width(self) -> float:
         """Width of one screen pixel in the line's units (0 when not on screen)."""
-        vb = self.getViewBox()
-        if not isinstance(vb, pg.ViewBox) or vb.pixelVectors()[0] is None:
-            return 0.0  # not on a screen yet: there is no pixel, so the drawing always moves
-        return abs(float(vb.viewPixelSize()[0]))
+        if self._px is None:
+            vb = self.getViewBox()
+            if not isinstance(vb, pg.ViewBox) or vb.pixelVectors()[0] is None:
+                return 0.0  # not on a screen yet: there is no pixel, so the drawing always moves
+            self._px = abs(float(vb.viewPixelSize()[0]))
+        return self._px
 
     def settle(self) -> None:
         """Draw the line exactly at its value (a drag or a nudge has ended)."""

@@ -148,6 +148,33 @@ def test_every_line_follows_the_nudged_mark_within_half_a_pixel(median, qtbot):
     )
 
 
+def _drag_in_magnifier(w, qtbot, mv, px: int) -> None:
+    """Press T end's line in the magnified beat and move the mouse ``px`` pixels right, one
+    pixel a step (a drag in progress: each step a preview, nothing committed), checking that
+    every T end line is drawn within half a pixel of its value at each step; then release."""
+    start = mv.magnifier_point("t_off", frac_y=0.4)
+    qtbot.mousePress(mv.viewport(), L, pos=start)
+    for dx in range(1, px + 1):
+        qtbot.mouseMove(mv.viewport(), QtCore.QPoint(start.x() + dx, start.y()))
+        assert w.workflow.reading is not w.workflow.committed_reading  # still a drag
+        assert all(_px_off(ln) < 0.5 + 1e-6 for ln in mv._all_lines("t_off")), dx
+    qtbot.mouseRelease(mv.viewport(), L, pos=QtCore.QPoint(start.x() + px, start.y()))
+
+
+def test_the_lines_stay_within_half_a_pixel_after_the_panels_grow(median, qtbot):
+    # Each line remembers its panel's pixel width between moves; the panels growing (a larger
+    # window) must renew it, or a small panel's line could lag by more than half a new pixel.
+    w, mv = median, median.median
+    _select(w, qtbot, "t_off")
+    _drag_in_magnifier(w, qtbot, mv, 12)  # the pixel widths are measured while it moves
+    small = mv.lines["t_off"][0]
+    before = small.getViewBox().viewPixelSize()[0]
+    w.resize(int(w.width() * 1.6), int(w.height() * 1.6))
+    qtbot.waitUntil(lambda: small.getViewBox().viewPixelSize()[0] < 0.8 * before, timeout=3000)
+    _select(w, qtbot, "t_off")
+    _drag_in_magnifier(w, qtbot, mv, 12)
+
+
 def test_a_beat_mark_on_the_paper_is_selected_and_nudged(median, qtbot):
     w = median
     w.view.set_layout("12x1")
